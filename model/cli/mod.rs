@@ -1,0 +1,217 @@
+//! Command-line interface: parse, load, call the library, report. Exit codes:
+//! 0 success, 2 configuration or usage error, 1 runtime failure.
+
+use crate::config::{template, DEMO_TOML};
+use crate::error::{ConfigError, ConfigIssue, RunError};
+use crate::experiment::Experiment;
+use crate::output::netcdf_writer::{read_stored_configuration, NetcdfWriter};
+use crate::output::Observer;
+use crate::timeloop;
+use clap::{Parser, Subcommand};
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+
+#[derive(Parser, Debug)]
+#[command(
+    name = "stormcharge",
+    version,
+    about = "One-dimensional thunderstorm electrification column model (research and teaching use; \
+             not a lightning-safety or forecasting tool)"
+)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Run an experiment (the built-in demo when no CONFIG is given) and write NetCDF output.
+    Run {
+        /// Experiment configuration (TOML).
+        config: Option<PathBuf>,
+        /// Output file (overrides output.file).
+        #[arg(short = 'o', long = "output")]
+        output: Option<PathBuf>,
+        /// Override one key, e.g. --set grid.spacing=50 (repeatable).
+        #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
+        set: Vec<String>,
+        /// Re-run the configuration stored in an earlier output file.
+        #[arg(long = "replay", value_name = "OUTPUT.nc", conflicts_with_all = ["config", "set"])]
+        replay: Option<PathBuf>,
+        /// No progress bar, no summary.
+        #[arg(short, long)]
+        quiet: bool,
+    },
+    /// Validate a configuration and print it fully resolved (defaults filled in) as TOML.
+    Check {
+        config: PathBuf,
+        /// Override one key, as for `run`.
+        #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
+        set: Vec<String>,
+    },
+    /// Write a complete, commented configuration listing every key.
+    Init {
+        /// Where to write it.
+        #[arg(default_value = "stormcharge.toml")]
+        path: PathBuf,
+        /// Overwrite an existing file.
+        #[arg(long)]
+        force: bool,
+    },
+}
+
+/// Runs the parsed command line; returns the process exit code.
+pub fn main_with(cli: Cli, command_line: &str) -> i32 {
+    let result = match cli.command {
+        Command::Run {
+            config,
+            output,
+            set,
+            replay,
+            quiet,
+        } => cmd_run(config, output, &set, replay, quiet, command_line),
+        Command::Check { config, set } => cmd_check(&config, &set),
+        Command::Init { path, force } => cmd_init(&path, force),
+    };
+    match result {
+        Ok(()) => 0,
+        Err(e) => {
+            eprintln!("stormcharge: error: {e}");
+            e.exit_code()
+        }
+    }
+}
+
+/// Reads a configuration file; a missing or unreadable file is a configuration error.
+fn read_config(path: &Path) -> Result<String, RunError> {
+    std::fs::read_to_string(path).map_err(|err| {
+        RunError::Config(ConfigError::single(
+            path.display().to_string(),
+            ConfigIssue::new("(file)", format!("cannot read configuration file: {err}")),
+        ))
+    })
+}
+
+fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
+    Ok(match config {
+        Some(path) => {
+            let text = read_config(path)?;
+            let dir = path.parent().unwrap_or(Path::new("."));
+            Experiment::from_text(&text, &path.display().to_string(), set, dir)?
+        }
+        None => Experiment::from_text(DEMO_TOML, "<embedded demo>", set, Path::new("."))?,
+    })
+}
+
+fn cmd_run(
+    config: Option<PathBuf>,
+    output: Option<PathBuf>,
+    set: &[String],
+    replay: Option<PathBuf>,
+    quiet: bool,
+    command_line: &str,
+) -> Result<(), RunError> {
+    let (exp, default_out) = match &replay {
+        Some(nc) => {
+            let (text, status) = read_stored_configuration(nc)?;
+            if status != "complete" && !quiet {
+                eprintln!(
+                    "stormcharge: note: {} is marked {status}; replaying its configuration anyway",
+                    nc.display()
+                );
+            }
+            let exp = Experiment::from_text(
+                &text,
+                &format!("stored in {}", nc.display()),
+                &[],
+                Path::new("."),
+            )?;
+            let mut stem = nc.with_extension("").into_os_string();
+            stem.push(".replay.nc");
+            (exp, PathBuf::from(stem))
+        }
+        None => {
+            let exp = load(config.as_deref(), set)?;
+            let out = PathBuf::from(&exp.config.output.file);
+            (exp, out)
+        }
+    };
+    let target = output.unwrap_or(default_out);
+    if replay.as_deref() == Some(target.as_path()) {
+        return Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new(
+                "--output",
+                "replay would overwrite the file it replays; give -o",
+            )
+            .value(target.display().to_string()),
+        )));
+    }
+
+    let show_bar = !quiet && std::io::stderr().is_terminal();
+    let bar = show_bar.then(|| {
+        let b = indicatif::ProgressBar::new(exp.schedule.steps);
+        b.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{bar:40} {pos}/{len} steps, {elapsed} elapsed, {eta} left",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        );
+        b
+    });
+    let mut writer = NetcdfWriter::new(&target, command_line);
+    let started = std::time::Instant::now();
+    let mut observers: [&mut dyn Observer; 1] = [&mut writer];
+    let summary = timeloop::run(&exp, &mut observers, &mut |step| {
+        if let Some(b) = &bar {
+            if step % 50 == 0 || step == exp.schedule.steps {
+                b.set_position(step);
+            }
+        }
+    })?;
+    if let Some(b) = bar {
+        b.finish_and_clear();
+    }
+    if !quiet {
+        let g = &exp.grid;
+        println!("stormcharge: wrote {}", target.display());
+        println!(
+            "  column 0-{} m in {} cells of {} m; base state: {:?}",
+            g.top(),
+            g.len(),
+            g.dz,
+            exp.config.atmosphere.profile
+        );
+        println!(
+            "  {} steps of {} s ({} s model time), {} output records, {:.2} s wall clock",
+            summary.steps,
+            exp.schedule.dt,
+            summary.model_time,
+            summary.records,
+            started.elapsed().as_secs_f64()
+        );
+    }
+    Ok(())
+}
+
+fn cmd_check(config: &Path, set: &[String]) -> Result<(), RunError> {
+    let exp = load(Some(config), set)?;
+    print!("{}", exp.config.to_toml());
+    Ok(())
+}
+
+fn cmd_init(path: &Path, force: bool) -> Result<(), RunError> {
+    if path.exists() && !force {
+        return Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("PATH", "file exists; use --force to overwrite")
+                .value(path.display().to_string()),
+        )));
+    }
+    std::fs::write(path, template::init_text()).map_err(|source| RunError::Io {
+        context: format!("writing {}", path.display()),
+        source,
+    })?;
+    println!("stormcharge: wrote {}", path.display());
+    Ok(())
+}

@@ -1,0 +1,387 @@
+//! Parsing, key and range checking, overrides and defaults.
+
+use super::schema::{self, KeySpec, Kind};
+use super::Config;
+use crate::error::{ConfigError, ConfigIssue};
+use toml::{Table, Value};
+
+/// Parses configuration text (`origin` names it in errors: a file name or
+/// `<embedded demo>`).
+pub fn parse(text: &str, origin: &str) -> Result<Config, ConfigError> {
+    parse_with_overrides(text, origin, &[])
+}
+
+/// Parses configuration text and applies `--set section.key=value` overrides.
+pub fn parse_with_overrides(
+    text: &str,
+    origin: &str,
+    overrides: &[String],
+) -> Result<Config, ConfigError> {
+    let doc = toml_edit::ImDocument::parse(text).map_err(|e| {
+        let line = e.span().map(|s| line_of_offset(text, s.start));
+        ConfigError::single(
+            origin,
+            ConfigIssue::new(
+                "(syntax)",
+                format!("not valid TOML: {}", e.message().trim()),
+            )
+            .line(line),
+        )
+    })?;
+    let mut table: Table = toml::from_str(text).map_err(|e| {
+        let line = e.span().map(|s| line_of_offset(text, s.start));
+        ConfigError::single(
+            origin,
+            ConfigIssue::new("(syntax)", e.message().trim().to_string()).line(line),
+        )
+    })?;
+
+    let mut issues = Vec::new();
+    let mut overridden: Vec<String> = Vec::new();
+    for o in overrides {
+        match parse_override(o) {
+            Ok((path, value)) => {
+                if let Err(issue) = insert(&mut table, &path, value) {
+                    issues.push(issue);
+                }
+                overridden.push(path);
+            }
+            Err(issue) => issues.push(issue),
+        }
+    }
+
+    let locate = |path: &str| -> Option<usize> {
+        if overridden.iter().any(|o| o == path) {
+            return None;
+        }
+        key_line(&doc, text, path)
+    };
+    check_table(&mut table, "", &locate, &overridden, &mut issues);
+    if !issues.is_empty() {
+        return Err(ConfigError {
+            origin: origin.to_string(),
+            issues,
+        });
+    }
+
+    let mut merged = defaults();
+    merge(&mut merged, table);
+    Value::Table(merged).try_into::<Config>().map_err(|e| {
+        ConfigError::single(
+            origin,
+            ConfigIssue::new(
+                "(structure)",
+                format!("configuration does not fit the schema: {e}"),
+            ),
+        )
+    })
+}
+
+/// Splits `a.b.c=value`; the value is read as a TOML value, or as a bare
+/// string when it is not one (so `--set atmosphere.profile=sounding` works).
+fn parse_override(text: &str) -> Result<(String, Value), ConfigIssue> {
+    let Some((path, raw)) = text.split_once('=') else {
+        return Err(
+            ConfigIssue::new(text, "a --set override must look like section.key=value")
+                .value(format!("\"{text}\""))
+                .allowed("section.key=value"),
+        );
+    };
+    let path = path.trim().to_string();
+    let raw = raw.trim();
+    let value = match toml::from_str::<Table>(&format!("v = {raw}")) {
+        Ok(mut t) => t.remove("v").unwrap_or(Value::String(raw.to_string())),
+        Err(_) => Value::String(raw.to_string()),
+    };
+    if schema::find(&path).is_none() {
+        return Err(unknown_key(&path, None, " (from --set)"));
+    }
+    Ok((path, value))
+}
+
+fn insert(table: &mut Table, path: &str, value: Value) -> Result<(), ConfigIssue> {
+    let parts: Vec<&str> = path.split('.').collect();
+    let mut t = table;
+    for part in &parts[..parts.len() - 1] {
+        let entry = t
+            .entry(part.to_string())
+            .or_insert_with(|| Value::Table(Table::new()));
+        t = match entry {
+            Value::Table(inner) => inner,
+            other => {
+                return Err(ConfigIssue::new(
+                    path,
+                    format!("`{part}` is a value ({other}), not a section"),
+                ));
+            }
+        };
+    }
+    t.insert(parts[parts.len() - 1].to_string(), value);
+    Ok(())
+}
+
+fn unknown_key(path: &str, line: Option<usize>, suffix: &str) -> ConfigIssue {
+    let section = path.rsplit_once('.').map_or("", |(s, _)| s);
+    let valid = if schema::is_section(section) || section.is_empty() {
+        schema::children(section).join(", ")
+    } else {
+        format!("sections {}", schema::children("").join(", "))
+    };
+    ConfigIssue::new(path, format!("unknown key{suffix}"))
+        .allowed(format!("keys here: {valid}"))
+        .line(line)
+}
+
+fn check_table(
+    table: &mut Table,
+    prefix: &str,
+    locate: &dyn Fn(&str) -> Option<usize>,
+    overridden: &[String],
+    issues: &mut Vec<ConfigIssue>,
+) {
+    for (key, value) in table.iter_mut() {
+        let path = if prefix.is_empty() {
+            key.clone()
+        } else {
+            format!("{prefix}.{key}")
+        };
+        if schema::is_section(&path) {
+            match value {
+                Value::Table(inner) => check_table(inner, &path, locate, overridden, issues),
+                other => issues.push(
+                    ConfigIssue::new(&path, "this is a section and must be a table")
+                        .value(other.to_string())
+                        .line(locate(&path)),
+                ),
+            }
+            continue;
+        }
+        let Some(spec) = schema::find(&path) else {
+            issues.push(unknown_key(&path, locate(&path), ""));
+            continue;
+        };
+        if let Err(mut issue) = check_value(spec, value) {
+            issue.line = locate(&path);
+            if overridden.iter().any(|o| o == &path) {
+                issue.message.push_str(" (from --set)");
+            }
+            issues.push(issue);
+        }
+    }
+}
+
+/// Type- and range-checks one value, turning integers into floats for float keys.
+fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
+    let shown = value.to_string();
+    let err = |msg: String| {
+        ConfigIssue::new(spec.path, msg)
+            .value(shown.clone())
+            .unit(spec.unit)
+            .allowed(spec.kind.allowed())
+    };
+    match spec.kind {
+        Kind::Float { .. } => {
+            let x = match value {
+                Value::Float(x) => *x,
+                Value::Integer(i) => *i as f64,
+                other => {
+                    return Err(err(format!(
+                        "expected a number, found {}",
+                        other.type_str()
+                    )))
+                }
+            };
+            if !x.is_finite() || !spec.kind.contains(x) {
+                return Err(err("value out of range".into()));
+            }
+            *value = Value::Float(x);
+        }
+        Kind::Choice(choices) => match value {
+            Value::String(s) if choices.contains(&s.as_str()) => {}
+            Value::String(_) => return Err(err("not one of the allowed names".into())),
+            other => {
+                return Err(err(format!(
+                    "expected a name in quotes, found {}",
+                    other.type_str()
+                )))
+            }
+        },
+        Kind::Text | Kind::Path => {
+            let Value::String(s) = value else {
+                return Err(err(format!(
+                    "expected a string, found {}",
+                    value.type_str()
+                )));
+            };
+            if matches!(spec.kind, Kind::Path) && s.trim().is_empty() {
+                return Err(err("the path is empty".into()));
+            }
+        }
+        Kind::Timestamp => {
+            let Value::String(s) = value else {
+                return Err(err(format!(
+                    "expected a quoted time string, found {}",
+                    value.type_str()
+                )));
+            };
+            if let Err(why) = parse_timestamp(s) {
+                return Err(err(why));
+            }
+        }
+        Kind::Names => {
+            let ok = matches!(value, Value::Array(a) if a.iter().all(|v| v.is_str()));
+            if !ok {
+                return Err(err("expected a list of quoted names".into()));
+            }
+        }
+        Kind::Rows => {
+            let Value::Array(rows) = value else {
+                return Err(err(format!(
+                    "expected a list of rows, found {}",
+                    value.type_str()
+                )));
+            };
+            for (i, row) in rows.iter_mut().enumerate() {
+                let Value::Array(cells) = row else {
+                    return Err(err(format!("row {} is not a list of numbers", i + 1)));
+                };
+                for cell in cells.iter_mut() {
+                    match cell {
+                        Value::Float(_) => {}
+                        Value::Integer(n) => *cell = Value::Float(*n as f64),
+                        other => {
+                            return Err(err(format!(
+                                "row {} holds {} where a number belongs",
+                                i + 1,
+                                other.type_str()
+                            )))
+                        }
+                    }
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Checks `YYYY-MM-DDTHH:MM:SSZ` and returns (year, month, day, hour, minute, second).
+pub fn parse_timestamp(s: &str) -> Result<(i32, u32, u32, u32, u32, u32), String> {
+    let b = s.as_bytes();
+    let shape_ok = b.len() == 20
+        && b[4] == b'-'
+        && b[7] == b'-'
+        && b[10] == b'T'
+        && b[13] == b':'
+        && b[16] == b':'
+        && b[19] == b'Z'
+        && [0, 1, 2, 3, 5, 6, 8, 9, 11, 12, 14, 15, 17, 18]
+            .iter()
+            .all(|&i| b[i].is_ascii_digit());
+    if !shape_ok {
+        return Err("not of the form YYYY-MM-DDTHH:MM:SSZ".into());
+    }
+    let num = |r: std::ops::Range<usize>| s[r].parse::<u32>().unwrap_or(u32::MAX);
+    let (y, mo, d, h, mi, se) = (
+        num(0..4),
+        num(5..7),
+        num(8..10),
+        num(11..13),
+        num(14..16),
+        num(17..19),
+    );
+    let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+    let days = match mo {
+        1 | 3 | 5 | 7 | 8 | 10 | 12 => 31,
+        4 | 6 | 9 | 11 => 30,
+        2 if leap => 29,
+        2 => 28,
+        _ => return Err(format!("month {mo} does not exist")),
+    };
+    if d == 0 || d > days {
+        return Err(format!("day {d} does not exist in month {mo} of {y}"));
+    }
+    if h > 23 || mi > 59 || se > 59 {
+        return Err("time of day out of range".into());
+    }
+    Ok((y as i32, mo, d, h, mi, se))
+}
+
+fn defaults() -> Table {
+    let mut t = Table::new();
+    for spec in schema::KEYS {
+        if let Some(text) = spec.default {
+            let value = toml::from_str::<Table>(&format!("v = {text}"))
+                .ok()
+                .and_then(|mut v| v.remove("v"))
+                .unwrap_or(Value::String(text.to_string()));
+            // Paths in the schema never collide with values, so this cannot fail.
+            let _ = insert(&mut t, spec.path, value);
+        }
+    }
+    t
+}
+
+fn merge(base: &mut Table, over: Table) {
+    for (k, v) in over {
+        match (base.get_mut(&k), v) {
+            (Some(Value::Table(b)), Value::Table(o)) => merge(b, o),
+            (_, v) => {
+                base.insert(k, v);
+            }
+        }
+    }
+}
+
+fn line_of_offset(text: &str, offset: usize) -> usize {
+    text[..offset.min(text.len())]
+        .bytes()
+        .filter(|&c| c == b'\n')
+        .count()
+        + 1
+}
+
+/// Line of a key in the source, found through toml_edit's spans.
+fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option<usize> {
+    let mut item: Option<&toml_edit::Item> = None;
+    let mut span = None;
+    for part in path.split('.') {
+        let (key, next) = match item {
+            None => doc.as_table().get_key_value(part)?,
+            Some(toml_edit::Item::Table(t)) => t.get_key_value(part)?,
+            Some(toml_edit::Item::Value(toml_edit::Value::InlineTable(t))) => {
+                t.get_key_value(part)?
+            }
+            _ => return None,
+        };
+        span = key.span().or_else(|| next.span());
+        item = Some(next);
+    }
+    span.map(|s| line_of_offset(text, s.start))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn timestamps() {
+        assert!(parse_timestamp("2024-02-29T12:00:00Z").is_ok());
+        assert!(parse_timestamp("2023-02-29T12:00:00Z").is_err());
+        assert!(parse_timestamp("2023-13-01T00:00:00Z").is_err());
+        assert!(parse_timestamp("2023-01-01 00:00:00").is_err());
+    }
+
+    #[test]
+    fn defaults_alone_make_a_valid_config() {
+        let c = parse("", "empty").expect("defaults are valid");
+        assert_eq!(c.grid.top, 20_000.0);
+        assert_eq!(c.grid.spacing, 100.0);
+    }
+
+    #[test]
+    fn line_numbers_come_from_the_source() {
+        let e = parse("[grid]\n\nspacing = -3\n", "t").unwrap_err();
+        assert_eq!(e.issues[0].key, "grid.spacing");
+        assert_eq!(e.issues[0].line, Some(3));
+    }
+}

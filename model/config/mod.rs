@@ -1,0 +1,113 @@
+//! Experiment configuration: one TOML file describes a whole run.
+//!
+//! Two stages. [`load`] parses the text, rejects unknown keys, type- and
+//! range-checks every value against the key table in [`schema`], applies
+//! `--set` overrides the same way and fills in defaults, giving a [`Config`].
+//! [`crate::experiment::Experiment`] then checks the relations between keys
+//! and builds the grid and base state. The resolved [`Config`] (defaults filled
+//! in, sounding files inlined) is what `check` prints and what every output
+//! file stores, so a run is reproduced from its output alone.
+
+pub mod load;
+pub mod schema;
+pub mod template;
+
+use serde::{Deserialize, Serialize};
+
+pub use load::{parse, parse_with_overrides};
+
+/// The resolved configuration. Field docs give units; the full reference with
+/// ranges and defaults is [`schema::KEYS`] and docs/configuration.md.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Config {
+    pub grid: GridConfig,
+    pub time: TimeConfig,
+    pub atmosphere: AtmosphereConfig,
+    pub output: OutputConfig,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct GridConfig {
+    /// Model top (m).
+    pub top: f64,
+    /// Cell thickness (m).
+    pub spacing: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TimeConfig {
+    /// Time step (s).
+    pub step: f64,
+    /// Simulated duration (s).
+    pub duration: f64,
+    /// Output interval (s).
+    pub output_interval: f64,
+    /// Model time zero, `YYYY-MM-DDTHH:MM:SSZ`.
+    pub start: String,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum ProfileKind {
+    #[serde(rename = "standard_1976")]
+    Standard1976,
+    Analytic,
+    Sounding,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AtmosphereConfig {
+    pub profile: ProfileKind,
+    pub analytic: AnalyticConfig,
+    #[serde(default)]
+    pub sounding: SoundingConfig,
+}
+
+/// Input units as in the key table: K, Pa, %, K km-1, m.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AnalyticConfig {
+    pub surface_temperature: f64,
+    pub surface_pressure: f64,
+    pub surface_relative_humidity: f64,
+    pub tropopause_relative_humidity: f64,
+    pub lapse_rate: f64,
+    pub tropopause_height: f64,
+    pub stratosphere_lapse_rate: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SoundingConfig {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub columns: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rows: Option<Vec<Vec<f64>>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// Ground pressure (Pa) for height soundings.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub surface_pressure: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct OutputConfig {
+    pub file: String,
+    pub title: String,
+}
+
+impl Config {
+    /// The configuration as TOML text (what `check` prints and outputs store).
+    pub fn to_toml(&self) -> String {
+        // Serialising plain structs of numbers, strings and lists cannot fail.
+        toml::to_string(self).unwrap_or_else(|e| format!("# serialisation failed: {e}\n"))
+    }
+}
+
+/// The demo configuration, embedded in the binary; identical to configs/demo.toml.
+pub const DEMO_TOML: &str = include_str!("../../configs/demo.toml");

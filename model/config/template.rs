@@ -1,0 +1,95 @@
+//! Generated documents: the commented configuration written by `init` and the
+//! key reference in docs/configuration.md. Both come from [`super::schema::KEYS`].
+
+use super::schema::{self, KeySpec};
+
+fn unit_text(k: &KeySpec) -> &str {
+    if k.unit.is_empty() {
+        "-"
+    } else {
+        k.unit
+    }
+}
+
+/// Example values for keys without a default, shown commented out.
+fn example(k: &KeySpec) -> &'static str {
+    match k.path {
+        "atmosphere.sounding.columns" => "[\"height\", \"temperature\", \"dew_point\"]",
+        "atmosphere.sounding.rows" => "[[0.0, 27.0, 21.0], [20000.0, -60.0, -75.0]]",
+        "atmosphere.sounding.file" => "\"sounding.csv\"",
+        "atmosphere.sounding.surface_pressure" => "100000.0",
+        _ => "",
+    }
+}
+
+/// A complete configuration with every key, its unit, default and allowed
+/// range as comments. Parsing it gives the defaults.
+pub fn init_text() -> String {
+    let mut out = String::new();
+    out.push_str(
+        "# stormcharge experiment configuration (written by `stormcharge init`).\n\
+         # Every key is listed with its unit, allowed values and default.\n\
+         # Keys without a default are commented out; remove the '#' to use them.\n\
+         # stormcharge is a research and teaching model, not a lightning-safety or\n\
+         # forecasting tool.\n",
+    );
+    for section in schema::sections() {
+        out.push_str(&format!("\n[{section}]\n"));
+        for k in schema::KEYS.iter().filter(|k| k.section() == section) {
+            out.push('\n');
+            for line in wrap(k.doc, 76) {
+                out.push_str(&format!("# {line}\n"));
+            }
+            let default = k.default.unwrap_or("none");
+            out.push_str(&format!(
+                "# unit: {}; allowed: {}; default: {}\n",
+                unit_text(k),
+                k.kind.allowed(),
+                default
+            ));
+            match k.default {
+                Some(d) => out.push_str(&format!("{} = {}\n", k.name(), d)),
+                None => out.push_str(&format!("# {} = {}\n", k.name(), example(k))),
+            }
+        }
+    }
+    out
+}
+
+/// The key reference as Markdown tables, one per section.
+pub fn reference_markdown() -> String {
+    let mut out = String::new();
+    for section in schema::sections() {
+        out.push_str(&format!("\n### `[{section}]`\n\n"));
+        out.push_str("| key | unit | default | allowed | meaning |\n|---|---|---|---|---|\n");
+        for k in schema::KEYS.iter().filter(|k| k.section() == section) {
+            out.push_str(&format!(
+                "| `{}` | {} | {} | {} | {} |\n",
+                k.name(),
+                unit_text(k),
+                k.default.map_or("(none)".to_string(), |d| format!("`{d}`")),
+                k.kind.allowed().replace('|', "\\|"),
+                k.doc.replace('|', "\\|")
+            ));
+        }
+    }
+    out
+}
+
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.len() + 1 + word.len() > width {
+            lines.push(std::mem::take(&mut line));
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        lines.push(line);
+    }
+    lines
+}

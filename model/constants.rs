@@ -1,0 +1,49 @@
+//! Physical constants, each with its value, unit and source.
+//!
+//! Everything inside the model is SI. The dry-air gas constant is derived from
+//! the U.S. Standard Atmosphere 1976 values of the universal gas constant and
+//! the mean molar mass of air, so the standard-atmosphere base state and the
+//! gas law used elsewhere agree exactly.
+
+/// Standard gravitational acceleration g0 (m s-2). U.S. Standard Atmosphere
+/// 1976 (NOAA/NASA/USAF, 1976), Table 2; also the CGPM 1901 conventional value.
+pub const G0: f64 = 9.80665;
+
+/// Universal gas constant R* (J K-1 mol-1) as adopted by the U.S. Standard
+/// Atmosphere 1976 (its value, not CODATA's 8.314462618), Table 2.
+pub const R_STAR_1976: f64 = 8.31432;
+
+/// Mean molar mass of dry air M0 (kg mol-1). U.S. Standard Atmosphere 1976, Table 2.
+pub const M0_AIR: f64 = 28.9644e-3;
+
+/// Specific gas constant of dry air R_d = R*/M0 (J kg-1 K-1), derived
+/// from the two constants above (287.053).
+pub const R_DRY: f64 = R_STAR_1976 / M0_AIR;
+
+/// Specific gas constant of water vapour R_v (J kg-1 K-1): R*/M_w with
+/// M_w = 18.01528 g mol-1 (CODATA molar mass of H2O), 461.52 to four figures.
+pub const R_VAPOUR: f64 = 461.52;
+
+/// Ratio of gas constants epsilon = R_d/R_v (dimensionless), about 0.622.
+pub const EPSILON: f64 = R_DRY / R_VAPOUR;
+
+/// Specific heat of dry air at constant pressure c_p = 7/2 R_d (J kg-1 K-1):
+/// ideal diatomic gas, derived (1004.69).
+pub const CP_DRY: f64 = 3.5 * R_DRY;
+
+/// Reference pressure for potential temperature (Pa), 1000 hPa (common practice).
+pub const P_REF_THETA: f64 = 1.0e5;
+
+/// Melting point of ice at standard pressure T0 (K), SI conventional value.
+pub const T_MELT: f64 = 273.15;
+
+/// Vacuum permittivity eps0 (F m-1). CODATA 2022 recommended value.
+pub const EPSILON_0: f64 = 8.854_187_818_8e-12;
+
+/// Elementary charge e (C), exact by the 2019 SI definition.
+pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
+
+/// Sea-level air density of the U.S. Standard Atmosphere 1976 (kg m-3),
+/// Table I; used for the relative air density delta = rho/rho0 that scales
+/// breakdown thresholds.
+pub const RHO_AIR_SEA_LEVEL: f64 = 1.2250;

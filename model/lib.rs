@@ -1,0 +1,42 @@
+//! # stormcharge
+//!
+//! A one-dimensional (vertical column) time-stepping model of thunderstorm
+//! electrification for storm modellers, atmospheric-electricity researchers
+//! and instructors. It is a research and teaching model, not a
+//! lightning-safety or forecasting tool.
+//!
+//! ## One step, in order (operator splitting)
+//! 1. [`kinematics::apply_forcing`]: the prescribed updraft w(z, t);
+//! 2. [`kinematics::transport`]: advection by w, then sedimentation (charge rides along);
+//! 3. [`microphysics::step`]: mass conversions, charge moved in proportion to mass;
+//! 4. [`charging::step`]: non-inductive and inductive charge separation;
+//! 5. [`electrostatics::solve`]: potential and field;
+//! 6. [`breakdown::evaluate`]: breakdown and inception criteria;
+//! 7. [`discharge::step`]: flashes while the trigger holds;
+//! 8. output through [`output::Observer`]s at the output interval.
+//!
+//! See [`timeloop::step`], which reads like this list.
+//!
+//! ## Conventions
+//! - SI units everywhere inside; conversion only at input (configuration) and output.
+//! - Heights are geometric, in m above ground, positive up; the grid is uniform
+//!   ([`grid::Grid`]): scalars at cell centres, fluxes and the vertical field on faces.
+//! - The vertical electric field E_z is positive when it points up.
+//! - Charge densities in C m-3, per-area charges in C m-2.
+
+pub mod atmosphere;
+pub mod breakdown;
+pub mod charging;
+pub mod cli;
+pub mod config;
+pub mod constants;
+pub mod discharge;
+pub mod electrostatics;
+pub mod error;
+pub mod experiment;
+pub mod grid;
+pub mod kinematics;
+pub mod microphysics;
+pub mod output;
+pub mod state;
+pub mod timeloop;
