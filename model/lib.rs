@@ -24,6 +24,10 @@
 //! - The vertical electric field E_z is positive when it points up.
 //! - Charge densities in C m-3, per-area charges in C m-2.
 
+// Configuration errors carry key, value, unit, range and line for the user;
+// they are built once on a cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
 pub mod atmosphere;
 pub mod breakdown;
 pub mod charging;

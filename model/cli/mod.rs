@@ -57,6 +57,9 @@ pub enum Command {
         /// Overwrite an existing file.
         #[arg(long)]
         force: bool,
+        /// Print the key reference as Markdown (for docs/configuration.md) instead.
+        #[arg(long, conflicts_with = "force")]
+        reference: bool,
     },
 }
 
@@ -71,7 +74,13 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             quiet,
         } => cmd_run(config, output, &set, replay, quiet, command_line),
         Command::Check { config, set } => cmd_check(&config, &set),
-        Command::Init { path, force } => cmd_init(&path, force),
+        Command::Init {
+            reference: true, ..
+        } => {
+            print!("{}", template::reference_markdown());
+            Ok(())
+        }
+        Command::Init { path, force, .. } => cmd_init(&path, force),
     };
     match result {
         Ok(()) => 0,

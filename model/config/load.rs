@@ -58,6 +58,8 @@ pub fn parse_with_overrides(
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
     if !issues.is_empty() {
+        // File order reads best; --set problems (no line) come last.
+        issues.sort_by_key(|i| i.line.unwrap_or(usize::MAX));
         return Err(ConfigError {
             origin: origin.to_string(),
             issues,

@@ -144,7 +144,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(0.0, true, 600.0, false),
         unit: "s",
         default: Some("2.0"),
-        doc: "Model time step. Transport sub-steps automatically when the CFL condition needs it.",
+        doc: "Model time step: every process advances by this much per step (operator splitting).",
     },
     KeySpec {
         path: "time.duration",

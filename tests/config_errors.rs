@@ -1,0 +1,186 @@
+//! Configuration errors through the command line: exit code 2, a message that
+//! names the key, never a panic. (Exit-code convention: common practice for
+//! command-line tools, usage errors = 2, as clap itself does.)
+
+use std::path::PathBuf;
+use std::process::{Command, Output};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_stormcharge"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("stormcharge-cfgtest-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+fn write(name: &str, text: &str) -> PathBuf {
+    let p = scratch(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+fn assert_config_error(o: &Output, must_contain: &[&str]) {
+    let err = stderr(o);
+    assert_eq!(o.status.code(), Some(2), "exit code; stderr: {err}");
+    assert!(!err.contains("panicked"), "panic: {err}");
+    for m in must_contain {
+        assert!(err.contains(m), "missing {m:?} in: {err}");
+    }
+}
+
+#[test]
+fn unknown_key() {
+    let p = write("unknown.toml", "[grid]\ntop = 20000.0\nspacings = 100.0\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["grid.spacings", "unknown key", "line 3", "spacing"]);
+}
+
+#[test]
+fn unknown_section() {
+    let p = write("unknown_section.toml", "[grids]\ntop = 20000.0\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["grids", "unknown key"]);
+}
+
+#[test]
+fn value_out_of_range() {
+    let p = write("range.toml", "[time]\nstep = -2.0\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "time.step",
+            "-2.0",
+            "out of range",
+            "(0, 600]",
+            "s",
+            "line 2",
+        ],
+    );
+}
+
+#[test]
+fn wrong_type() {
+    let p = write("type.toml", "[grid]\ntop = \"twenty km\"\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["grid.top", "expected a number", "twenty km", "m"]);
+}
+
+#[test]
+fn bad_choice_lists_the_valid_names() {
+    let p = write("choice.toml", "[atmosphere]\nprofile = \"tropical\"\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "atmosphere.profile",
+            "tropical",
+            "standard_1976",
+            "analytic",
+            "sounding",
+        ],
+    );
+}
+
+#[test]
+fn bad_set_overrides() {
+    // Wrong type through --set.
+    let o = bin()
+        .args(["run", "--set", "grid.spacing=fifty", "-o"])
+        .arg(scratch("never.nc"))
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["grid.spacing", "fifty", "--set"]);
+    assert!(!scratch("never.nc").exists());
+    // Unknown key through --set.
+    let o = bin()
+        .args(["run", "--set", "grid.spcing=50"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["grid.spcing", "unknown key"]);
+    // Not of the form key=value.
+    let o = bin()
+        .args(["run", "--set", "grid.spacing"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["grid.spacing", "section.key=value"]);
+    // Out of range through --set.
+    let o = bin()
+        .args(["run", "--set", "time.output_interval=0"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["time.output_interval", "out of range"]);
+}
+
+#[test]
+fn good_set_override_is_applied() {
+    let p = write("ok.toml", "[grid]\ntop = 10000.0\n");
+    let o = bin()
+        .args(["check"])
+        .arg(&p)
+        .args(["--set", "grid.spacing=250"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let text = String::from_utf8(o.stdout).unwrap();
+    assert!(text.contains("spacing = 250.0"), "{text}");
+    assert!(text.contains("top = 10000.0"), "{text}");
+}
+
+#[test]
+fn missing_sounding_file() {
+    let p = write(
+        "nofile.toml",
+        "[atmosphere]\nprofile = \"sounding\"\n[atmosphere.sounding]\nfile = \"does_not_exist.csv\"\nsurface_pressure = 100000.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["atmosphere.sounding.file", "does_not_exist.csv"]);
+}
+
+#[test]
+fn sounding_not_spanning_the_grid() {
+    let p = write(
+        "short.toml",
+        "[atmosphere]\nprofile = \"sounding\"\n[atmosphere.sounding]\ncolumns = [\"height\", \"temperature\", \"dew_point\"]\n\
+         rows = [[0, 25, 20], [5000, -5, -10]]\nsurface_pressure = 100000.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["atmosphere.sounding.rows", "spans", "20000"]);
+}
+
+#[test]
+fn missing_config_file_and_syntax_error() {
+    let o = bin()
+        .args(["check", "/nonexistent/stormcharge.toml"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["cannot read"]);
+    let p = write("syntax.toml", "[grid\ntop = 1\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["not valid TOML", "line 1"]);
+}
+
+#[test]
+fn relations_between_keys() {
+    let p = write("ratio.toml", "[grid]\ntop = 20050.0\nspacing = 100.0\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["grid.top", "whole number"]);
+    let p = write(
+        "interval.toml",
+        "[time]\nstep = 3.0\noutput_interval = 10.0\nduration = 30.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["time.output_interval", "whole number"]);
+}
+
+#[test]
+fn usage_error_is_exit_2() {
+    let o = bin().args(["frobnicate"]).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+}

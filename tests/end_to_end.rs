@@ -1,0 +1,276 @@
+//! End to end: the demo run, its NetCDF file read back by the netcdf crate, a
+//! bit-for-bit replay from the configuration stored in the output, the `init`
+//! template, the documentation reference and every shipped config.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use stormcharge::config::{self, template, DEMO_TOML};
+use stormcharge::error::RunError;
+use stormcharge::experiment::Experiment;
+use stormcharge::output::netcdf_writer::{
+    partial_path, NetcdfWriter, CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE,
+};
+use stormcharge::output::{Observer, VARIABLES};
+use stormcharge::state::State;
+use stormcharge::timeloop::{self, RunSummary};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_stormcharge"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("stormcharge-e2e-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+fn repo(rel: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
+}
+
+fn text_attr(f: &netcdf::File, name: &str) -> String {
+    match f
+        .attribute(name)
+        .unwrap_or_else(|| panic!("attribute {name}"))
+        .value()
+        .unwrap()
+    {
+        netcdf::AttributeValue::Str(s) => s,
+        other => panic!("{name} is not text: {other:?}"),
+    }
+}
+
+fn var_text_attr(v: &netcdf::Variable, name: &str) -> String {
+    match v
+        .attribute(name)
+        .unwrap_or_else(|| panic!("attribute {name}"))
+        .value()
+        .unwrap()
+    {
+        netcdf::AttributeValue::Str(s) => s,
+        other => panic!("{name} is not text: {other:?}"),
+    }
+}
+
+#[test]
+fn embedded_demo_is_configs_demo_toml() {
+    let on_disk = std::fs::read_to_string(repo("configs/demo.toml")).unwrap();
+    assert_eq!(DEMO_TOML, on_disk);
+}
+
+#[test]
+fn demo_run_writes_a_complete_cf_file_and_replays_bit_for_bit() {
+    let out = scratch("demo.nc");
+    let o = bin()
+        .args(["run", "--quiet", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert!(out.exists());
+    assert!(!partial_path(&out).exists(), "temporary file left behind");
+
+    let resolved = Experiment::from_text(DEMO_TOML, "demo", &[], Path::new(".")).unwrap();
+    let f = netcdf::open(&out).unwrap();
+    // Global attributes (CF-1.10 section 2.6).
+    assert_eq!(text_attr(&f, "Conventions"), "CF-1.10");
+    assert_eq!(text_attr(&f, "title"), resolved.config.output.title);
+    assert!(text_attr(&f, "source").starts_with("stormcharge "));
+    assert!(text_attr(&f, "history").contains("run"));
+    assert_eq!(text_attr(&f, STATUS_ATTRIBUTE), "complete");
+    let stored = text_attr(&f, CONFIG_ATTRIBUTE);
+    assert_eq!(stored, resolved.config.to_toml());
+    assert_eq!(config::parse(&stored, "stored").unwrap(), resolved.config);
+
+    // Dimensions and coordinates.
+    let n = resolved.grid.len();
+    let records = (resolved.schedule.steps / resolved.schedule.output_every + 1) as usize;
+    assert_eq!(f.dimension_len("z"), Some(n));
+    assert_eq!(f.dimension_len("z_face"), Some(n + 1));
+    assert_eq!(f.dimension_len("time"), Some(records));
+    assert!(f.dimension("time").unwrap().is_unlimited());
+    for (name, expect) in [("z", &resolved.grid.z), ("z_face", &resolved.grid.z_face)] {
+        let v = f.variable(name).unwrap();
+        assert_eq!(var_text_attr(&v, "units"), "m");
+        assert_eq!(var_text_attr(&v, "positive"), "up");
+        assert_eq!(var_text_attr(&v, "axis"), "Z");
+        assert_eq!(&v.get_values::<f64, _>(..).unwrap(), expect);
+    }
+    let time = f.variable("time").unwrap();
+    assert_eq!(
+        var_text_attr(&time, "units"),
+        "seconds since 2026-07-14 15:00:00"
+    );
+    let t: Vec<f64> = time.get_values(..).unwrap();
+    assert_eq!(t[0], 0.0);
+    assert_eq!(t[records - 1], resolved.config.time.duration);
+
+    // Data variables with CF metadata, and the base state they must hold.
+    for (name, sn, units) in [
+        ("air_pressure", "air_pressure", "Pa"),
+        ("air_temperature", "air_temperature", "K"),
+        ("air_density", "air_density", "kg m-3"),
+    ] {
+        let v = f.variable(name).unwrap_or_else(|| panic!("{name}"));
+        assert_eq!(var_text_attr(&v, "standard_name"), sn);
+        assert_eq!(var_text_attr(&v, "units"), units);
+        assert!(!var_text_attr(&v, "long_name").is_empty());
+        let dims: Vec<String> = v.dimensions().iter().map(|d| d.name()).collect();
+        assert_eq!(dims, ["time", "z"]);
+        let last: Vec<f64> = v.get_values((records - 1, ..)).unwrap();
+        assert!(last.iter().all(|x| x.is_finite() && *x > 0.0));
+    }
+    let p: Vec<f64> = f
+        .variable("air_pressure")
+        .unwrap()
+        .get_values((0, ..))
+        .unwrap();
+    assert_eq!(p, resolved.base.centre.pressure);
+    let temp: Vec<f64> = f
+        .variable("air_temperature")
+        .unwrap()
+        .get_values((0, ..))
+        .unwrap();
+    for (a, b) in temp.iter().zip(&resolved.base.centre.temperature) {
+        // theta -> T round trip through Poisson's equation: round-off only.
+        assert!((a - b).abs() < 1e-9 * b);
+    }
+
+    // Replay from the stored configuration reproduces the data bit for bit.
+    let again = scratch("demo_again.nc");
+    let o = bin()
+        .args(["run", "--quiet", "--replay"])
+        .arg(&out)
+        .arg("-o")
+        .arg(&again)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let g = netcdf::open(&again).unwrap();
+    assert_eq!(text_attr(&g, CONFIG_ATTRIBUTE), stored);
+    for name in ["time", "z", "z_face"]
+        .into_iter()
+        .chain(VARIABLES.iter().map(|v| v.name))
+    {
+        let a: Vec<f64> = f.variable(name).unwrap().get_values(..).unwrap();
+        let b: Vec<f64> = g.variable(name).unwrap().get_values(..).unwrap();
+        assert_eq!(a.len(), b.len(), "{name}");
+        assert!(
+            a.iter().zip(&b).all(|(x, y)| x.to_bits() == y.to_bits()),
+            "{name} differs"
+        );
+    }
+}
+
+/// An observer that fails at a given record, to simulate a crash mid-run.
+struct FailAt(usize, usize);
+
+impl Observer for FailAt {
+    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+        Ok(())
+    }
+    fn record(&mut self, _: &Experiment, s: &State) -> Result<(), RunError> {
+        self.1 += 1;
+        if self.1 > self.0 {
+            return Err(RunError::Numerics {
+                time: s.time,
+                message: "injected failure".into(),
+            });
+        }
+        Ok(())
+    }
+    fn finish(&mut self, _: &Experiment, _: &RunSummary) -> Result<(), RunError> {
+        Ok(())
+    }
+}
+
+#[test]
+fn failed_run_never_looks_complete() {
+    let exp = Experiment::from_text(DEMO_TOML, "demo", &[], Path::new(".")).unwrap();
+    let out = scratch("failed.nc");
+    // A complete file from an earlier run must not survive under the target name.
+    std::fs::write(&out, b"stale").unwrap();
+    let mut writer = NetcdfWriter::new(&out, "test");
+    let mut fail = FailAt(3, 0);
+    let mut observers: [&mut dyn Observer; 2] = [&mut writer, &mut fail];
+    let r = timeloop::run(&exp, &mut observers, &mut |_| {});
+    assert!(r.is_err());
+    drop(writer);
+    assert!(
+        !out.exists(),
+        "a failed run left a file under the final name"
+    );
+    let partial = partial_path(&out);
+    let f = netcdf::open(&partial).unwrap();
+    assert_eq!(text_attr(&f, STATUS_ATTRIBUTE), "incomplete");
+    // Records written before the failure were synced and are readable.
+    assert_eq!(f.dimension_len("time"), Some(4));
+}
+
+#[test]
+fn init_writes_a_template_that_resolves_to_the_defaults() {
+    let p = scratch("init.toml");
+    let _ = std::fs::remove_file(&p);
+    let o = bin().arg("init").arg(&p).output().unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    let text = std::fs::read_to_string(&p).unwrap();
+    assert_eq!(text, template::init_text());
+    assert_eq!(
+        config::parse(&text, "init").unwrap(),
+        config::parse("", "empty").unwrap()
+    );
+    for spec in config::schema::KEYS {
+        assert!(
+            text.contains(&format!("{} = ", spec.name())),
+            "{} missing",
+            spec.path
+        );
+    }
+    // Refuses to overwrite without --force.
+    let o = bin().arg("init").arg(&p).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    let o = bin().arg("init").arg(&p).arg("--force").output().unwrap();
+    assert_eq!(o.status.code(), Some(0));
+}
+
+#[test]
+fn configuration_reference_is_current() {
+    // docs/configuration.md carries the generated key reference between
+    // markers; `stormcharge init --reference` prints it (DEVELOPERS.md,
+    // "Adding a configuration key").
+    let doc = std::fs::read_to_string(repo("docs/configuration.md")).unwrap();
+    let start =
+        doc.find("<!-- keys:start -->").expect("start marker") + "<!-- keys:start -->".len();
+    let end = doc.find("<!-- keys:end -->").expect("end marker");
+    assert_eq!(
+        doc[start..end].trim(),
+        template::reference_markdown().trim()
+    );
+}
+
+#[test]
+fn every_shipped_config_resolves() {
+    for entry in std::fs::read_dir(repo("configs")).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "toml") {
+            let o = bin().arg("check").arg(&path).output().unwrap();
+            assert_eq!(
+                o.status.code(),
+                Some(0),
+                "{}: {}",
+                path.display(),
+                String::from_utf8_lossy(&o.stderr)
+            );
+        }
+    }
+}

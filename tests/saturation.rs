@@ -1,0 +1,82 @@
+//! Saturation vapour pressure against Murphy & Koop (2005).
+
+use stormcharge::atmosphere::saturation::{murphy_koop_2005_ice, murphy_koop_2005_liquid};
+
+/// Values at t (degC): (t, e_w Pa, e_i Pa or NaN). Source: Murphy & Koop 2005,
+/// QJRMS 131, Eqs. (7) and (10), as tabulated in ../shared/design/check-values.md
+/// ("Saturation vapour pressure").
+const TABLE: [(f64, f64, f64); 8] = [
+    (30.0, 4246.81, f64::NAN),
+    (20.0, 2339.40, f64::NAN),
+    (10.0, 1228.26, f64::NAN),
+    (0.0, 611.213, 611.154),
+    (-10.0, 286.453, 259.892),
+    (-20.0, 125.504, 103.252),
+    (-30.0, 50.936, 38.012),
+    (-40.0, 18.912, 12.844),
+];
+
+fn rel(a: f64, b: f64) -> f64 {
+    (a - b).abs() / b.abs()
+}
+
+#[test]
+fn murphy_koop_2005_tabulated_values() {
+    // Tolerance 1e-5 relative: the table gives 6 significant figures, except
+    // 50.936/38.012/18.912/12.844 (5 figures: half a unit in the last place is
+    // up to 4e-5 relative, so those rows are checked to that rounding).
+    for (t, ew, ei) in TABLE {
+        let tk = t + 273.15;
+        let tol_w = if ew < 100.0 { 0.5e-3 / ew } else { 1e-5 };
+        let got = murphy_koop_2005_liquid(tk);
+        assert!(
+            rel(got, ew) <= tol_w.max(1e-5),
+            "liquid at {t} C: {got} vs {ew}"
+        );
+        if ei.is_finite() {
+            let tol_i = if ei < 100.0 { 0.5e-3 / ei } else { 1e-5 };
+            let got = murphy_koop_2005_ice(tk);
+            assert!(
+                rel(got, ei) <= tol_i.max(1e-5),
+                "ice at {t} C: {got} vs {ei}"
+            );
+        }
+    }
+}
+
+#[test]
+fn triple_point_pressure() {
+    // 611.657 Pa at 273.16 K (Guildner, Johnson & Jones 1976), reproduced by
+    // both Murphy & Koop (2005) formulas; the quoted value has 6 figures.
+    assert!(rel(murphy_koop_2005_liquid(273.16), 611.657) < 1e-5);
+    assert!(rel(murphy_koop_2005_ice(273.16), 611.657) < 1e-5);
+}
+
+#[test]
+fn ice_below_liquid_below_freezing() {
+    // Below 0 degC the ice saturation pressure is lower than the liquid one
+    // (a thermodynamic necessity: ice is the stable phase), checked every 0.1 K
+    // down to the validity limit of the liquid formula (123 K).
+    let mut t = 273.15 - 0.1;
+    while t > 123.0 {
+        assert!(
+            murphy_koop_2005_ice(t) < murphy_koop_2005_liquid(t),
+            "at {t} K"
+        );
+        t -= 0.1;
+    }
+}
+
+#[test]
+fn bolton_1980_agreement() {
+    // Bolton (1980, MWR 108) e = 611.2 exp(17.67 t/(t + 243.5)) Pa, accurate to
+    // 0.1 % for -30..35 degC; it and Murphy & Koop differ by at most 0.25 %
+    // (check-values.md), so agreement within 0.3 % is an independent check.
+    for t in [-30.0, -15.0, 0.0, 15.0, 35.0_f64] {
+        let bolton = 611.2 * (17.67 * t / (t + 243.5)).exp();
+        assert!(
+            rel(murphy_koop_2005_liquid(t + 273.15), bolton) < 3e-3,
+            "{t} C"
+        );
+    }
+}
