@@ -5,7 +5,12 @@
 use crate::atmosphere::analytic::AnalyticProfile;
 use crate::atmosphere::sounding::{self, Sounding};
 use crate::atmosphere::{BaseSource, BaseState};
+use crate::breakdown::avalanche::AvalancheParams;
+use crate::breakdown::thresholds::ThresholdParams;
+use crate::breakdown::Criteria;
+use crate::charging::prescribed::PrescribedCharge;
 use crate::config::{schema, Config, ProfileKind};
+use crate::electrostatics::FieldSolver;
 use crate::error::{ConfigError, ConfigIssue};
 use crate::grid::Grid;
 use std::path::Path;
@@ -37,6 +42,12 @@ pub struct Experiment {
     pub grid: Grid,
     pub base: BaseState,
     pub schedule: Schedule,
+    /// Prescribed charge layers on the grid.
+    pub prescribed: PrescribedCharge,
+    /// Poisson solver with its precomputed parts.
+    pub field_solver: FieldSolver,
+    /// Breakdown threshold profiles.
+    pub criteria: Criteria,
 }
 
 /// `a / b` as a whole number when it is one to within 1e-9 relative.
@@ -130,11 +141,36 @@ impl Experiment {
             };
             err(ConfigIssue::new(key, why))
         })?;
+        let prescribed =
+            PrescribedCharge::new(&config.prescribed_charge.layers, &grid).map_err(err)?;
+        let field_solver = FieldSolver::new(&grid, &config.electrostatics);
+        let b = &config.breakdown;
+        let params = ThresholdParams {
+            conventional: b.conventional_field,
+            enhancement: b.hydrometeor_enhancement,
+            positive_streamer: b.positive_streamer_field,
+            negative_streamer: b.negative_streamer_field,
+            runaway: b.runaway_field,
+            breakeven_coefficient: b.breakeven_coefficient,
+            avalanche: AvalancheParams {
+                energy_scale: b.avalanche_energy_scale,
+                friction_field: b.avalanche_friction_field,
+            },
+        };
+        let criteria = Criteria::new(
+            &params,
+            &base.face.density,
+            b.avalanche_required_efolds,
+            b.trigger,
+        );
         Ok(Experiment {
             config,
             grid,
             base,
             schedule,
+            prescribed,
+            field_solver,
+            criteria,
         })
     }
 

@@ -30,6 +30,7 @@
 
 pub mod atmosphere;
 pub mod breakdown;
+pub mod carriers;
 pub mod charging;
 pub mod cli;
 pub mod config;

@@ -30,6 +30,24 @@ pub struct RunSummary {
     pub records: u64,
     /// Model time reached (s).
     pub model_time: f64,
+    /// Largest |E_z| seen at any step (V m-1), its height (m) and time (s).
+    pub peak_field: (f64, f64, f64),
+    /// Largest ratio (or e-folding count) of each criterion over the run,
+    /// in `Criterion::ALL` order.
+    pub peak_ratio: [f64; 7],
+}
+
+impl RunSummary {
+    fn watch(&mut self, exp: &Experiment, state: &State) {
+        for (k, e) in state.field.iter().enumerate() {
+            if e.abs() > self.peak_field.0 {
+                self.peak_field = (e.abs(), exp.grid.z_face[k], state.time);
+            }
+        }
+        for (p, c) in self.peak_ratio.iter_mut().zip(&state.criteria) {
+            *p = p.max(c.ratio);
+        }
+    }
 }
 
 /// Runs the experiment from its initial state. `on_step` is called after each
@@ -40,6 +58,14 @@ pub fn run(
     on_step: &mut dyn FnMut(u64),
 ) -> Result<RunSummary, RunError> {
     let mut state = State::initial(exp);
+    let mut summary = RunSummary {
+        steps: 0,
+        records: 0,
+        model_time: 0.0,
+        peak_field: (0.0, f64::NAN, 0.0),
+        peak_ratio: [0.0; 7],
+    };
+    summary.watch(exp, &state);
     for o in observers.iter_mut() {
         o.begin(exp)?;
     }
@@ -55,16 +81,15 @@ pub fn run(
     let dt = exp.schedule.dt;
     for _ in 0..exp.schedule.steps {
         step(exp, &mut state, dt);
+        summary.watch(exp, &state);
         if state.step % exp.schedule.output_every == 0 {
             emit(&state, observers)?;
         }
         on_step(state.step);
     }
-    let summary = RunSummary {
-        steps: state.step,
-        records,
-        model_time: state.time,
-    };
+    summary.steps = state.step;
+    summary.records = records;
+    summary.model_time = state.time;
     for o in observers.iter_mut() {
         o.finish(exp, &summary)?;
     }

@@ -1,12 +1,18 @@
-//! Non-inductive and inductive charge separation between hydrometeors, one
-//! file per published scheme. Arrives with the charging-schemes issue.
+//! Charge sources: prescribed charge growth (implemented, [`prescribed`]) and
+//! non-inductive and inductive charge separation between hydrometeors.
 //!
-//! STUB: not implemented yet. This step leaves the state unchanged; the issue
-//! named above replaces it with the real process, and no later issue may
-//! leave it empty.
+//! STUB (hydrometeor charging): the published charging schemes arrive with the
+//! issue "Charging schemes on hydrometeors"; until then only prescribed charge
+//! changes here.
 
+pub mod prescribed;
+
+use crate::carriers::Carrier;
 use crate::experiment::Experiment;
 use crate::state::State;
 
-/// Charge separation over one step of \`_dt\` s (stub).
-pub fn step(_exp: &Experiment, _state: &mut State, _dt: f64) {}
+/// Charge sources over one step of `dt` s.
+pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
+    exp.prescribed
+        .grow(&mut state.charge[Carrier::Prescribed.index()], dt);
+}

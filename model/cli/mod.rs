@@ -185,11 +185,11 @@ fn cmd_run(
         let g = &exp.grid;
         println!("stormcharge: wrote {}", target.display());
         println!(
-            "  column 0-{} m in {} cells of {} m; base state: {:?}",
+            "  column 0-{} m in {} cells of {} m; base state: {}",
             g.top(),
             g.len(),
             g.dz,
-            exp.config.atmosphere.profile
+            exp.config.atmosphere.profile.name()
         );
         println!(
             "  {} steps of {} s ({} s model time), {} output records, {:.2} s wall clock",
@@ -199,6 +199,28 @@ fn cmd_run(
             summary.records,
             started.elapsed().as_secs_f64()
         );
+        let (e, z, t) = summary.peak_field;
+        if e > 0.0 {
+            println!(
+                "  peak |E_z| {:.1} kV/m at {:.0} m, t = {} s",
+                e / 1e3,
+                z,
+                t
+            );
+            println!("  largest ratio |E|/threshold over the run (avalanche: e-folding count):");
+            for c in crate::breakdown::Criterion::ALL {
+                let trigger = if c == exp.criteria.trigger {
+                    "  (flash trigger)"
+                } else {
+                    ""
+                };
+                println!(
+                    "    {:<26} {:>9.3}{trigger}",
+                    c.name(),
+                    summary.peak_ratio[c as usize]
+                );
+            }
+        }
     }
     Ok(())
 }

@@ -147,6 +147,14 @@ fn check_table(
         } else {
             format!("{prefix}.{key}")
         };
+        if let Some(KeySpec {
+            kind: Kind::TableArray(elements),
+            ..
+        }) = schema::find(&path)
+        {
+            check_table_array(value, &path, elements, locate, issues);
+            continue;
+        }
         if schema::is_section(&path) {
             match value {
                 Value::Table(inner) => check_table(inner, &path, locate, overridden, issues),
@@ -170,6 +178,74 @@ fn check_table(
             issues.push(issue);
         }
     }
+}
+
+/// Checks every element of a list of tables against its element keys and
+/// fills in the element defaults. Elements are numbered from 1 in messages.
+fn check_table_array(
+    value: &mut Value,
+    path: &str,
+    elements: &'static [KeySpec],
+    locate: &dyn Fn(&str) -> Option<usize>,
+    issues: &mut Vec<ConfigIssue>,
+) {
+    let Value::Array(items) = value else {
+        issues.push(
+            ConfigIssue::new(
+                path,
+                format!("expected a list of tables, found {}", value.type_str()),
+            )
+            .value(value.to_string())
+            .allowed(format!("[[{path}]] blocks"))
+            .line(locate(path)),
+        );
+        return;
+    };
+    for (i, item) in items.iter_mut().enumerate() {
+        let here = format!("{path}[{}]", i + 1);
+        let Value::Table(t) = item else {
+            issues.push(ConfigIssue::new(&here, "expected a table").line(locate(path)));
+            continue;
+        };
+        for (key, v) in t.iter_mut() {
+            let full = format!("{here}.{key}");
+            match elements.iter().find(|e| e.name() == key) {
+                None => issues.push(
+                    ConfigIssue::new(&full, "unknown key")
+                        .allowed(format!(
+                            "keys here: {}",
+                            elements
+                                .iter()
+                                .map(|e| e.name())
+                                .collect::<Vec<_>>()
+                                .join(", ")
+                        ))
+                        .line(locate(&full)),
+                ),
+                Some(spec) => {
+                    if let Err(mut issue) = check_value(spec, v) {
+                        issue.key = full.clone();
+                        issue.line = locate(&full);
+                        issues.push(issue);
+                    }
+                }
+            }
+        }
+        for spec in elements {
+            if let Some(text) = spec.default {
+                if !t.contains_key(spec.name()) {
+                    t.insert(spec.name().to_string(), default_value(text));
+                }
+            }
+        }
+    }
+}
+
+fn default_value(text: &str) -> Value {
+    toml::from_str::<Table>(&format!("v = {text}"))
+        .ok()
+        .and_then(|mut v| v.remove("v"))
+        .unwrap_or(Value::String(text.to_string()))
 }
 
 /// Type- and range-checks one value, turning integers into floats for float keys.
@@ -235,6 +311,9 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
             if !ok {
                 return Err(err("expected a list of quoted names".into()));
             }
+        }
+        Kind::TableArray(_) => {
+            // Checked element by element in check_table_array.
         }
         Kind::Rows => {
             let Value::Array(rows) = value else {
@@ -312,12 +391,8 @@ fn defaults() -> Table {
     let mut t = Table::new();
     for spec in schema::KEYS {
         if let Some(text) = spec.default {
-            let value = toml::from_str::<Table>(&format!("v = {text}"))
-                .ok()
-                .and_then(|mut v| v.remove("v"))
-                .unwrap_or(Value::String(text.to_string()));
             // Paths in the schema never collide with values, so this cannot fail.
-            let _ = insert(&mut t, spec.path, value);
+            let _ = insert(&mut t, spec.path, default_value(text));
         }
     }
     t
@@ -342,21 +417,43 @@ fn line_of_offset(text: &str, offset: usize) -> usize {
         + 1
 }
 
-/// Line of a key in the source, found through toml_edit's spans.
+/// Line of a key in the source, found through toml_edit's spans. Path parts
+/// may carry a 1-based element index, `layers[2]`, for lists of tables.
 fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option<usize> {
-    let mut item: Option<&toml_edit::Item> = None;
+    use toml_edit::{Item, Value as V};
+    enum Node<'a> {
+        Table(&'a toml_edit::Table),
+        Inline(&'a toml_edit::InlineTable),
+    }
+    let mut node = Node::Table(doc.as_table());
     let mut span = None;
     for part in path.split('.') {
-        let (key, next) = match item {
-            None => doc.as_table().get_key_value(part)?,
-            Some(toml_edit::Item::Table(t)) => t.get_key_value(part)?,
-            Some(toml_edit::Item::Value(toml_edit::Value::InlineTable(t))) => {
-                t.get_key_value(part)?
-            }
-            _ => return None,
+        let (name, index) = match part.split_once('[') {
+            Some((n, rest)) => (n, rest.trim_end_matches(']').parse::<usize>().ok()),
+            None => (part, None),
         };
-        span = key.span().or_else(|| next.span());
-        item = Some(next);
+        let (key, item) = match node {
+            Node::Table(t) => t.get_key_value(name)?,
+            Node::Inline(t) => t.get_key_value(name)?,
+        };
+        span = key.span().or_else(|| item.span()).or(span);
+        node = match (item, index) {
+            (Item::Table(t), None) => Node::Table(t),
+            (Item::Value(V::InlineTable(t)), None) => Node::Inline(t),
+            (Item::ArrayOfTables(a), Some(i)) => {
+                let t = a.get(i.checked_sub(1)?)?;
+                span = t.span().or(span);
+                Node::Table(t)
+            }
+            (Item::Value(V::Array(a)), Some(i)) => match a.get(i.checked_sub(1)?)? {
+                V::InlineTable(t) => {
+                    span = t.span().or(span);
+                    Node::Inline(t)
+                }
+                _ => break,
+            },
+            _ => break,
+        };
     }
     span.map(|s| line_of_offset(text, s.start))
 }

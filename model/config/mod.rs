@@ -24,6 +24,10 @@ pub struct Config {
     pub grid: GridConfig,
     pub time: TimeConfig,
     pub atmosphere: AtmosphereConfig,
+    #[serde(default)]
+    pub prescribed_charge: PrescribedChargeConfig,
+    pub electrostatics: ElectrostaticsConfig,
+    pub breakdown: BreakdownConfig,
     pub output: OutputConfig,
 }
 
@@ -56,6 +60,17 @@ pub enum ProfileKind {
     Standard1976,
     Analytic,
     Sounding,
+}
+
+impl ProfileKind {
+    /// The configuration name.
+    pub fn name(self) -> &'static str {
+        match self {
+            ProfileKind::Standard1976 => "standard_1976",
+            ProfileKind::Analytic => "analytic",
+            ProfileKind::Sounding => "sounding",
+        }
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -92,6 +107,79 @@ pub struct SoundingConfig {
     /// Ground pressure (Pa) for height soundings.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub surface_pressure: Option<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PrescribedChargeConfig {
+    #[serde(default)]
+    pub layers: Vec<LayerConfig>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LayerShape {
+    TopHat,
+    Gaussian,
+    Table,
+}
+
+/// One prescribed layer; input units m, nC m-3, nC m-3 s-1.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LayerConfig {
+    pub shape: LayerShape,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub center: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub thickness: Option<f64>,
+    pub density: f64,
+    pub growth_rate: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub points: Option<Vec<Vec<f64>>>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Geometry {
+    Planar,
+    Column,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum TopBoundary {
+    FieldFree,
+    Conductor,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ElectrostaticsConfig {
+    pub geometry: Geometry,
+    pub top_boundary: TopBoundary,
+    /// V.
+    pub top_potential: f64,
+    /// m.
+    pub column_radius: f64,
+}
+
+/// Threshold fields in V m-1 at sea-level air density unless noted.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct BreakdownConfig {
+    pub trigger: crate::breakdown::Criterion,
+    pub conventional_field: f64,
+    pub hydrometeor_enhancement: f64,
+    pub positive_streamer_field: f64,
+    pub negative_streamer_field: f64,
+    pub runaway_field: f64,
+    /// V m-1 per kg m-3.
+    pub breakeven_coefficient: f64,
+    /// V (energy per elementary charge).
+    pub avalanche_energy_scale: f64,
+    pub avalanche_friction_field: f64,
+    pub avalanche_required_efolds: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -25,6 +25,9 @@ pub enum Kind {
     Names,
     /// A table of numbers: a list of rows, each a list of numbers.
     Rows,
+    /// A list of tables (TOML `[[section.key]]`), each checked against the
+    /// given element keys (whose paths are `section.key.element_key`).
+    TableArray(&'static [KeySpec]),
 }
 
 impl Kind {
@@ -53,6 +56,7 @@ impl Kind {
             Kind::Path => "a file path".into(),
             Kind::Names => "a list of names".into(),
             Kind::Rows => "a list of rows of numbers".into(),
+            Kind::TableArray(_) => "a list of tables ([[...]] blocks)".into(),
         }
     }
 
@@ -252,6 +256,114 @@ pub const KEYS: &[KeySpec] = &[
         default: None,
         doc: "Pressure at the ground; required for a height sounding, not allowed for a pressure sounding (whose first level is the ground).",
     },
+    // --- prescribed charge
+    KeySpec {
+        path: "prescribed_charge.layers",
+        kind: Kind::TableArray(LAYER_KEYS),
+        unit: "",
+        default: None,
+        doc: "Charge layers put into the column by prescription (no microphysics needed), one [[prescribed_charge.layers]] block each. None by default.",
+    },
+    // --- electrostatics
+    KeySpec {
+        path: "electrostatics.geometry",
+        kind: Kind::Choice(GEOMETRIES),
+        unit: "",
+        default: Some("\"planar\""),
+        doc: "\"planar\": horizontally infinite layers over a conducting ground. \"column\": charge confined to a vertical cylinder of radius column_radius over a conducting ground (image charges); field and potential on the axis.",
+    },
+    KeySpec {
+        path: "electrostatics.top_boundary",
+        kind: Kind::Choice(TOP_BOUNDARIES),
+        unit: "",
+        default: Some("\"field_free\""),
+        doc: "Planar geometry only. \"field_free\": no field above the model top (all flux ends on the ground). \"conductor\": the top is a conductor at top_potential.",
+    },
+    KeySpec {
+        path: "electrostatics.top_potential",
+        kind: float(-1.0e10, false, 1.0e10, false),
+        unit: "V",
+        default: Some("0.0"),
+        doc: "Potential of the top conductor (planar geometry, top_boundary = \"conductor\").",
+    },
+    KeySpec {
+        path: "electrostatics.column_radius",
+        kind: float(10.0, false, 1.0e7, false),
+        unit: "m",
+        default: Some("5000.0"),
+        doc: "Radius of the charged cylinder (column geometry only).",
+    },
+    // --- breakdown and inception criteria
+    KeySpec {
+        path: "breakdown.trigger",
+        kind: Kind::Choice(crate::breakdown::CRITERIA),
+        unit: "",
+        default: Some("\"runaway_avalanche\""),
+        doc: "The criterion that starts a flash (used by the discharge component).",
+    },
+    KeySpec {
+        path: "breakdown.conventional_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("3.0e6"),
+        doc: "Conventional breakdown field at sea-level air density; scaled by relative air density delta. Default: AMS Glossary of Meteorology, \"electrical breakdown\".",
+    },
+    KeySpec {
+        path: "breakdown.hydrometeor_enhancement",
+        kind: float(1.0, false, 1.0e4, false),
+        unit: "1",
+        default: Some("3.0"),
+        doc: "Factor by which a hydrometeor enhances the ambient field at its surface; breakdown at the surface needs conventional_field * delta / factor ambient. Default 3: conducting sphere (textbook electrostatics).",
+    },
+    KeySpec {
+        path: "breakdown.positive_streamer_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("4.5e5"),
+        doc: "Positive streamer propagation (stability) field at sea-level density. Default: Allen & Ghaffar (1995), Griffiths & Phelps (1976).",
+    },
+    KeySpec {
+        path: "breakdown.negative_streamer_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("1.25e6"),
+        doc: "Negative streamer propagation field at sea-level density. Default: upper value in Raizer, Gas Discharge Physics (1991).",
+    },
+    KeySpec {
+        path: "breakdown.runaway_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("2.84e5"),
+        doc: "Relativistic runaway electron avalanche threshold at sea-level density. Default: Dwyer (2003), GRL 30, 2055 (from memory; secondary sources agree).",
+    },
+    KeySpec {
+        path: "breakdown.breakeven_coefficient",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m2 kg-1",
+        default: Some("1.67e5"),
+        doc: "Runaway breakeven field per unit air density: E_be = coefficient * rho_air. Default 167 kV/m per kg m-3: Marshall, McCarthy & Rust (1995), JGR 100 (from memory).",
+    },
+    KeySpec {
+        path: "breakdown.avalanche_energy_scale",
+        kind: float(0.0, true, 1.0e9, false),
+        unit: "V",
+        default: Some("7.3e6"),
+        doc: "Numerator of the avalanche e-folding length lambda = scale / (|E| - friction_field * delta), i.e. 7.3 MeV per elementary charge. Coleman & Dwyer (2006), GRL 33 (from memory).",
+    },
+    KeySpec {
+        path: "breakdown.avalanche_friction_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("2.76e5"),
+        doc: "Effective friction field in the avalanche length (0.276 MeV/m per elementary charge at sea-level density). Coleman & Dwyer (2006) (from memory).",
+    },
+    KeySpec {
+        path: "breakdown.avalanche_required_efolds",
+        kind: float(0.0, true, 1.0e4, false),
+        unit: "1",
+        default: Some("10.0"),
+        doc: "Number of avalanche e-foldings (integral of dz/lambda over a stretch above the runaway threshold) for the avalanche_multiplication criterion to hold. A modelling choice, not a published constant.",
+    },
     // --- output
     KeySpec {
         path: "output.file",
@@ -266,6 +378,59 @@ pub const KEYS: &[KeySpec] = &[
         unit: "",
         default: Some("\"stormcharge column experiment\""),
         doc: "Free-text title stored in the output's global attribute `title`.",
+    },
+];
+
+/// Geometries accepted by `electrostatics.geometry`.
+pub const GEOMETRIES: &[&str] = &["planar", "column"];
+/// Top boundaries accepted by `electrostatics.top_boundary`.
+pub const TOP_BOUNDARIES: &[&str] = &["field_free", "conductor"];
+/// Shapes accepted by `prescribed_charge.layers.shape`.
+pub const LAYER_SHAPES: &[&str] = &["top_hat", "gaussian", "table"];
+
+/// Keys of one `[[prescribed_charge.layers]]` block.
+pub const LAYER_KEYS: &[KeySpec] = &[
+    KeySpec {
+        path: "prescribed_charge.layers.shape",
+        kind: Kind::Choice(LAYER_SHAPES),
+        unit: "",
+        default: Some("\"top_hat\""),
+        doc: "\"top_hat\": uniform between center -/+ thickness/2. \"gaussian\": exp(-(z-center)^2/(2 s^2)) with s = thickness/sqrt(2 pi), so it holds the same charge as the top hat. \"table\": a dimensionless shape factor against height from `points`.",
+    },
+    KeySpec {
+        path: "prescribed_charge.layers.center",
+        kind: float(0.0, false, 1.0e5, false),
+        unit: "m",
+        default: None,
+        doc: "Height of the layer centre above ground (top_hat and gaussian).",
+    },
+    KeySpec {
+        path: "prescribed_charge.layers.thickness",
+        kind: float(0.0, true, 1.0e5, false),
+        unit: "m",
+        default: None,
+        doc: "Layer thickness (top_hat and gaussian).",
+    },
+    KeySpec {
+        path: "prescribed_charge.layers.density",
+        kind: float(-1.0e4, false, 1.0e4, false),
+        unit: "nC m-3",
+        default: Some("0.0"),
+        doc: "Initial charge density where the shape factor is 1.",
+    },
+    KeySpec {
+        path: "prescribed_charge.layers.growth_rate",
+        kind: float(-1.0e3, false, 1.0e3, false),
+        unit: "nC m-3 s-1",
+        default: Some("0.0"),
+        doc: "Rate at which the density grows where the shape factor is 1 (charge keeps being added at this rate; discharges remove charge).",
+    },
+    KeySpec {
+        path: "prescribed_charge.layers.points",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "For shape = \"table\": rows [height (m), shape factor (1)], increasing in height; linear between points, zero outside.",
     },
 ];
 

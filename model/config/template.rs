@@ -1,7 +1,7 @@
 //! Generated documents: the commented configuration written by `init` and the
 //! key reference in docs/configuration.md. Both come from [`super::schema::KEYS`].
 
-use super::schema::{self, KeySpec};
+use super::schema::{self, KeySpec, Kind};
 
 fn unit_text(k: &KeySpec) -> &str {
     if k.unit.is_empty() {
@@ -18,6 +18,9 @@ fn example(k: &KeySpec) -> &'static str {
         "atmosphere.sounding.rows" => "[[0.0, 27.0, 21.0], [20000.0, -60.0, -75.0]]",
         "atmosphere.sounding.file" => "\"sounding.csv\"",
         "atmosphere.sounding.surface_pressure" => "100000.0",
+        "prescribed_charge.layers.center" => "6000.0",
+        "prescribed_charge.layers.thickness" => "2000.0",
+        "prescribed_charge.layers.points" => "[[4000.0, 0.0], [6000.0, 1.0], [8000.0, 0.0]]",
         _ => "",
     }
 }
@@ -47,9 +50,38 @@ pub fn init_text() -> String {
                 k.kind.allowed(),
                 default
             ));
-            match k.default {
-                Some(d) => out.push_str(&format!("{} = {}\n", k.name(), d)),
-                None => out.push_str(&format!("# {} = {}\n", k.name(), example(k))),
+            match (k.kind, k.default) {
+                (Kind::TableArray(elements), _) => {
+                    out.push_str(&format!(
+                        "# One block per element; an example (remove the '#'s):\n# [[{}]]\n",
+                        k.path
+                    ));
+                    for e in elements
+                        .iter()
+                        .filter(|e| e.default.is_some() || !matches!(e.kind, Kind::Rows))
+                    {
+                        out.push_str(&format!(
+                            "#   {} = {}    # unit: {}; allowed: {}; default: {}\n",
+                            e.name(),
+                            e.default.unwrap_or_else(|| example(e)),
+                            unit_text(e),
+                            e.kind.allowed(),
+                            e.default.unwrap_or("none")
+                        ));
+                    }
+                    for e in elements
+                        .iter()
+                        .filter(|e| e.default.is_none() && matches!(e.kind, Kind::Rows))
+                    {
+                        out.push_str(&format!(
+                            "#   (shape = \"table\" takes {} = {} instead of center and thickness)\n",
+                            e.name(),
+                            example(e)
+                        ));
+                    }
+                }
+                (_, Some(d)) => out.push_str(&format!("{} = {}\n", k.name(), d)),
+                (_, None) => out.push_str(&format!("# {} = {}\n", k.name(), example(k))),
             }
         }
     }
@@ -62,18 +94,33 @@ pub fn reference_markdown() -> String {
     for section in schema::sections() {
         out.push_str(&format!("\n### `[{section}]`\n\n"));
         out.push_str("| key | unit | default | allowed | meaning |\n|---|---|---|---|---|\n");
+        let mut element_tables = Vec::new();
         for k in schema::KEYS.iter().filter(|k| k.section() == section) {
-            out.push_str(&format!(
-                "| `{}` | {} | {} | {} | {} |\n",
-                k.name(),
-                unit_text(k),
-                k.default.map_or("(none)".to_string(), |d| format!("`{d}`")),
-                k.kind.allowed().replace('|', "\\|"),
-                k.doc.replace('|', "\\|")
-            ));
+            out.push_str(&table_row(k));
+            if let Kind::TableArray(elements) = k.kind {
+                element_tables.push((k.path, elements));
+            }
+        }
+        for (path, elements) in element_tables {
+            out.push_str(&format!("\nKeys of each `[[{path}]]` block:\n\n"));
+            out.push_str("| key | unit | default | allowed | meaning |\n|---|---|---|---|---|\n");
+            for e in elements {
+                out.push_str(&table_row(e));
+            }
         }
     }
     out
+}
+
+fn table_row(k: &KeySpec) -> String {
+    format!(
+        "| `{}` | {} | {} | {} | {} |\n",
+        k.name(),
+        unit_text(k),
+        k.default.map_or("(none)".to_string(), |d| format!("`{d}`")),
+        k.kind.allowed().replace('|', "\\|"),
+        k.doc.replace('|', "\\|")
+    )
 }
 
 fn wrap(text: &str, width: usize) -> Vec<String> {

@@ -1,13 +1,91 @@
-//! Poisson solve for potential and vertical field (planar layers or a
-//! finite-radius column over conducting ground). Arrives with the
-//! electrostatics issue.
+//! Electrostatics of the column: potential and vertical field from the total
+//! charge density, every step.
 //!
-//! STUB: not implemented yet. This step leaves the state unchanged; the issue
-//! named above replaces it with the real process, and no later issue may
-//! leave it empty.
+//! Conventions: charge density rho (C m-3) is a cell average at centres; the
+//! potential phi (V) is at centres; the vertical field E_z = -dphi/dz (V m-1)
+//! is on faces and positive when it points up. The ground (z = 0) is a
+//! conductor at 0 V. Two geometries:
+//!
+//! - [`planar`]: horizontally infinite layers, Poisson's equation
+//!   d2phi/dz2 = -rho/eps0 in second-order finite differences;
+//! - [`column`]: charge confined to a vertical cylinder over conducting ground
+//!   (image charges), exact on-axis field and potential of uniformly charged
+//!   cylinder segments, precomputed as matrices.
+//!
+//! Diagnostics: column charge per area (C m-2), for the finite column the
+//! total charge (C), and the field energy per area (eps0/2) integral E_z^2 dz
+//! (J m-2; for the finite column it uses the axial field and is an axial
+//! measure, not the total energy, which the axial field does not determine).
 
+pub mod column;
+pub mod planar;
+
+use crate::config::{ElectrostaticsConfig, Geometry, TopBoundary};
+use crate::constants::EPSILON_0;
 use crate::experiment::Experiment;
+use crate::grid::Grid;
 use crate::state::State;
 
-/// Solves for potential and field from the current charge (stub).
-pub fn solve(_exp: &Experiment, _state: &mut State) {}
+/// The field solver chosen in the configuration, with its precomputed parts.
+#[derive(Debug, Clone)]
+pub enum FieldSolver {
+    Planar(planar::PlanarSolver),
+    Column(column::ColumnSolver),
+}
+
+impl FieldSolver {
+    pub fn new(grid: &Grid, cfg: &ElectrostaticsConfig) -> Self {
+        match cfg.geometry {
+            Geometry::Planar => FieldSolver::Planar(planar::PlanarSolver::new(
+                grid,
+                match cfg.top_boundary {
+                    TopBoundary::FieldFree => planar::Top::FieldFree,
+                    TopBoundary::Conductor => planar::Top::Conductor(cfg.top_potential),
+                },
+            )),
+            Geometry::Column => {
+                FieldSolver::Column(column::ColumnSolver::new(grid, cfg.column_radius))
+            }
+        }
+    }
+
+    /// Potential at centres and field on faces from the charge density at centres.
+    pub fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        match self {
+            FieldSolver::Planar(s) => s.solve(rho, phi, e),
+            FieldSolver::Column(s) => s.solve(rho, phi, e),
+        }
+    }
+
+    /// Horizontal area of the charged column (m2), when finite.
+    pub fn column_area(&self) -> Option<f64> {
+        match self {
+            FieldSolver::Planar(_) => None,
+            FieldSolver::Column(s) => Some(std::f64::consts::PI * s.radius * s.radius),
+        }
+    }
+}
+
+/// Column-integrated charge per area, sum of rho dz (C m-2).
+pub fn column_charge(rho: &[f64], dz: f64) -> f64 {
+    rho.iter().sum::<f64>() * dz
+}
+
+/// Field energy per unit area W = (eps0/2) integral E_z^2 dz (J m-2), trapezoid
+/// rule over the faces (Gauss-law energy density u = eps0 E^2/2, e.g.
+/// Griffiths, Introduction to Electrodynamics, Eq. 2.45; equation number from memory).
+pub fn field_energy(e: &[f64], dz: f64) -> f64 {
+    let n = e.len();
+    let inner: f64 = e[1..n - 1].iter().map(|x| x * x).sum();
+    0.5 * EPSILON_0 * dz * (inner + 0.5 * (e[0] * e[0] + e[n - 1] * e[n - 1]))
+}
+
+/// Sums the carriers into the total charge, solves for potential and field,
+/// and updates the charge and energy diagnostics.
+pub fn solve(exp: &Experiment, state: &mut State) {
+    state.sum_charge();
+    exp.field_solver
+        .solve(&state.charge_total, &mut state.potential, &mut state.field);
+    state.column_charge = column_charge(&state.charge_total, exp.grid.dz);
+    state.field_energy = field_energy(&state.field, exp.grid.dz);
+}

@@ -1,6 +1,6 @@
 //! An in-memory observer: keeps every record, for tests and analysis.
 
-use super::{record_len, Observer, VARIABLES};
+use super::{record_len, variables, Observer, OutputVar};
 use crate::error::RunError;
 use crate::experiment::Experiment;
 use crate::state::State;
@@ -8,24 +8,43 @@ use crate::timeloop::RunSummary;
 use std::collections::BTreeMap;
 
 /// Records of every registered variable, by name, plus the record times (s).
-#[derive(Debug, Default, Clone)]
+/// Time-independent variables hold a single record.
+#[derive(Default)]
 pub struct MemoryRecorder {
     pub times: Vec<f64>,
-    pub data: BTreeMap<&'static str, Vec<Vec<f64>>>,
+    pub data: BTreeMap<String, Vec<Vec<f64>>>,
     pub finished: bool,
+    vars: Vec<OutputVar>,
+}
+
+impl MemoryRecorder {
+    /// All records of one variable.
+    pub fn get(&self, name: &str) -> &[Vec<f64>] {
+        self.data.get(name).map_or(&[], |v| v.as_slice())
+    }
+
+    /// One value per record of a time-series variable.
+    pub fn series(&self, name: &str) -> Vec<f64> {
+        self.get(name).iter().map(|r| r[0]).collect()
+    }
 }
 
 impl Observer for MemoryRecorder {
-    fn begin(&mut self, _exp: &Experiment) -> Result<(), RunError> {
+    fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
+        self.vars = variables(exp);
         Ok(())
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        let first = self.times.is_empty();
         self.times.push(state.time);
-        for var in VARIABLES {
+        for var in &self.vars {
+            if var.is_static() && !first {
+                continue;
+            }
             let mut buf = vec![0.0; record_len(exp, var)];
             (var.fill)(exp, state, &mut buf);
-            self.data.entry(var.name).or_default().push(buf);
+            self.data.entry(var.name.clone()).or_default().push(buf);
         }
         Ok(())
     }

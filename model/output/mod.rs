@@ -1,11 +1,13 @@
 //! Output as observers. The NetCDF writer is one implementation, the in-memory
 //! recorder used by tests another. Every output variable (name, CF standard
-//! name, units, long name, dimensions, how to fill it) is registered once, in
-//! [`VARIABLES`].
+//! name, units, long name, dimensions, how to fill it) is registered in one
+//! place, [`variables`].
 
 pub mod memory;
 pub mod netcdf_writer;
 
+use crate::breakdown::Criterion;
+use crate::carriers::Carrier;
 use crate::constants::{CP_DRY, P_REF_THETA, R_DRY};
 use crate::error::RunError;
 use crate::experiment::Experiment;
@@ -22,100 +24,247 @@ pub trait Observer {
     fn finish(&mut self, exp: &Experiment, summary: &RunSummary) -> Result<(), RunError>;
 }
 
-/// Dimensions of an output variable (besides the unlimited `time`).
+/// Dimensions of an output variable.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Placement {
     /// (time, z): cell centres.
     Centre,
     /// (time, z_face): cell faces.
     Face,
+    /// (time): one value per record.
+    Series,
+    /// (z_face), written once: time-independent profiles.
+    StaticFace,
 }
+
+/// Fills one record of a variable.
+pub type Fill = Box<dyn Fn(&Experiment, &State, &mut [f64]) + Send + Sync>;
 
 /// One output variable.
 pub struct OutputVar {
-    pub name: &'static str,
+    pub name: String,
     /// CF standard name, when the CF table has one.
     pub standard_name: Option<&'static str>,
-    pub long_name: &'static str,
+    pub long_name: String,
     /// UDUNITS units.
     pub units: &'static str,
     pub placement: Placement,
-    /// Writes the values into `out` (length n or n + 1 by placement).
-    pub fill: fn(&Experiment, &State, &mut [f64]),
+    /// Extra explanation written as the `comment` attribute (may be empty).
+    pub comment: &'static str,
+    /// Writes the values into `out` (length by placement).
+    pub fill: Fill,
 }
 
-fn fill_pressure(exp: &Experiment, _s: &State, out: &mut [f64]) {
-    out.copy_from_slice(&exp.base.centre.pressure);
-}
+impl OutputVar {
+    fn new(
+        name: impl Into<String>,
+        long_name: impl Into<String>,
+        units: &'static str,
+        placement: Placement,
+        fill: Fill,
+    ) -> Self {
+        OutputVar {
+            name: name.into(),
+            standard_name: None,
+            long_name: long_name.into(),
+            units,
+            placement,
+            comment: "",
+            fill,
+        }
+    }
 
-/// T = theta (p/p_ref)^(R_d/c_p), the inverse of Poisson's equation.
-fn fill_temperature(exp: &Experiment, s: &State, out: &mut [f64]) {
-    for (k, o) in out.iter_mut().enumerate() {
-        *o = s.potential_temperature[k]
-            * (exp.base.centre.pressure[k] / P_REF_THETA).powf(R_DRY / CP_DRY);
+    fn standard(mut self, sn: &'static str) -> Self {
+        self.standard_name = Some(sn);
+        self
+    }
+
+    fn comment(mut self, c: &'static str) -> Self {
+        self.comment = c;
+        self
+    }
+
+    /// Whether the variable has a time dimension.
+    pub fn is_static(&self) -> bool {
+        self.placement == Placement::StaticFace
     }
 }
-
-fn fill_density(exp: &Experiment, _s: &State, out: &mut [f64]) {
-    out.copy_from_slice(&exp.base.centre.density);
-}
-
-fn fill_vapour(_exp: &Experiment, s: &State, out: &mut [f64]) {
-    out.copy_from_slice(&s.vapour);
-}
-
-fn fill_theta(_exp: &Experiment, s: &State, out: &mut [f64]) {
-    out.copy_from_slice(&s.potential_temperature);
-}
-
-/// Every output variable, in file order.
-pub const VARIABLES: &[OutputVar] = &[
-    OutputVar {
-        name: "air_pressure",
-        standard_name: Some("air_pressure"),
-        long_name: "air pressure (hydrostatic base state)",
-        units: "Pa",
-        placement: Placement::Centre,
-        fill: fill_pressure,
-    },
-    OutputVar {
-        name: "air_temperature",
-        standard_name: Some("air_temperature"),
-        long_name: "air temperature",
-        units: "K",
-        placement: Placement::Centre,
-        fill: fill_temperature,
-    },
-    OutputVar {
-        name: "air_density",
-        standard_name: Some("air_density"),
-        long_name: "moist air density (base state)",
-        units: "kg m-3",
-        placement: Placement::Centre,
-        fill: fill_density,
-    },
-    OutputVar {
-        name: "humidity_mixing_ratio",
-        standard_name: Some("humidity_mixing_ratio"),
-        long_name: "water vapour mixing ratio",
-        units: "kg kg-1",
-        placement: Placement::Centre,
-        fill: fill_vapour,
-    },
-    OutputVar {
-        name: "air_potential_temperature",
-        standard_name: Some("air_potential_temperature"),
-        long_name: "dry potential temperature referred to 1000 hPa",
-        units: "K",
-        placement: Placement::Centre,
-        fill: fill_theta,
-    },
-];
 
 /// Number of values a variable holds per record.
 pub fn record_len(exp: &Experiment, var: &OutputVar) -> usize {
     match var.placement {
         Placement::Centre => exp.grid.len(),
-        Placement::Face => exp.grid.len() + 1,
+        Placement::Face | Placement::StaticFace => exp.grid.len() + 1,
+        Placement::Series => 1,
     }
+}
+
+/// Every output variable for this experiment, in file order.
+pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
+    use Placement::*;
+    let mut v = vec![
+        OutputVar::new(
+            "air_pressure",
+            "air pressure (hydrostatic base state)",
+            "Pa",
+            Centre,
+            Box::new(|e, _, o| o.copy_from_slice(&e.base.centre.pressure)),
+        )
+        .standard("air_pressure"),
+        OutputVar::new(
+            "air_temperature",
+            "air temperature",
+            "K",
+            Centre,
+            // T = theta (p/p_ref)^(R_d/c_p), the inverse of Poisson's equation.
+            Box::new(|e, s, o| {
+                for (k, x) in o.iter_mut().enumerate() {
+                    *x = s.potential_temperature[k]
+                        * (e.base.centre.pressure[k] / P_REF_THETA).powf(R_DRY / CP_DRY);
+                }
+            }),
+        )
+        .standard("air_temperature"),
+        OutputVar::new(
+            "air_density",
+            "moist air density (base state)",
+            "kg m-3",
+            Centre,
+            Box::new(|e, _, o| o.copy_from_slice(&e.base.centre.density)),
+        )
+        .standard("air_density"),
+        OutputVar::new(
+            "humidity_mixing_ratio",
+            "water vapour mixing ratio",
+            "kg kg-1",
+            Centre,
+            Box::new(|_, s, o| o.copy_from_slice(&s.vapour)),
+        )
+        .standard("humidity_mixing_ratio"),
+        OutputVar::new(
+            "air_potential_temperature",
+            "dry potential temperature referred to 1000 hPa",
+            "K",
+            Centre,
+            Box::new(|_, s, o| o.copy_from_slice(&s.potential_temperature)),
+        )
+        .standard("air_potential_temperature"),
+        OutputVar::new(
+            "charge_density",
+            "total electric charge density (sum over carriers)",
+            "C m-3",
+            Centre,
+            Box::new(|_, s, o| o.copy_from_slice(&s.charge_total)),
+        ),
+    ];
+    for c in Carrier::ALL {
+        v.push(OutputVar::new(
+            format!("charge_density_{}", c.name()),
+            format!("electric charge density carried by {}", c.name()),
+            "C m-3",
+            Centre,
+            Box::new(move |_, s, o| o.copy_from_slice(&s.charge[c.index()])),
+        ));
+    }
+    let geometry = if exp.field_solver.column_area().is_some() {
+        "on the axis of the finite charged column"
+    } else {
+        "planar (horizontally infinite layers)"
+    };
+    v.push(
+        OutputVar::new(
+            "electric_potential",
+            format!("electric potential, {geometry}"),
+            "V",
+            Centre,
+            Box::new(|_, s, o| o.copy_from_slice(&s.potential)),
+        )
+        .comment("ground is a conductor at 0 V"),
+    );
+    v.push(
+        OutputVar::new(
+            "electric_field",
+            format!("vertical electric field E_z, {geometry}"),
+            "V m-1",
+            Face,
+            Box::new(|_, s, o| o.copy_from_slice(&s.field)),
+        )
+        .comment("positive when the field points upward (E_z = -dphi/dz)"),
+    );
+    v.push(OutputVar::new(
+        "column_charge",
+        "column-integrated electric charge per unit area",
+        "C m-2",
+        Series,
+        Box::new(|_, s, o| o[0] = s.column_charge),
+    ));
+    if let Some(area) = exp.field_solver.column_area() {
+        v.push(OutputVar::new(
+            "column_total_charge",
+            "total electric charge in the finite column",
+            "C",
+            Series,
+            Box::new(move |_, s, o| o[0] = s.column_charge * area),
+        ));
+    }
+    v.push(
+        OutputVar::new(
+            "field_energy",
+            format!("electrostatic field energy per unit area, {geometry}"),
+            "J m-2",
+            Series,
+            Box::new(|_, s, o| o[0] = s.field_energy),
+        )
+        .comment("(eps0/2) times the integral of E_z squared over the column"),
+    );
+    for c in Criterion::ALL {
+        let i = c as usize;
+        let threshold_name = if c == Criterion::AvalancheMultiplication {
+            format!(
+                "stretch threshold of {}: runaway avalanche threshold",
+                c.description()
+            )
+        } else {
+            format!("threshold field for {}", c.description())
+        };
+        v.push(OutputVar::new(
+            format!("threshold_{}", c.name()),
+            threshold_name,
+            "V m-1",
+            StaticFace,
+            Box::new(move |e, _, o| o.copy_from_slice(&e.criteria.thresholds[i])),
+        ));
+        let (ratio_long, ratio_comment) = if c == Criterion::AvalancheMultiplication {
+            (
+                format!("largest {}", c.description()),
+                "integral of dz/lambda over contiguous stretches above the runaway threshold",
+            )
+        } else {
+            (
+                format!(
+                    "largest ratio of |E_z| to the threshold for {}",
+                    c.description()
+                ),
+                "the criterion holds where the ratio reaches 1",
+            )
+        };
+        v.push(
+            OutputVar::new(
+                format!("field_ratio_{}", c.name()),
+                ratio_long,
+                "1",
+                Series,
+                Box::new(move |_, s, o| o[0] = s.criteria[i].ratio),
+            )
+            .comment(ratio_comment),
+        );
+        v.push(OutputVar::new(
+            format!("field_ratio_height_{}", c.name()),
+            format!("height of the largest field_ratio_{}", c.name()),
+            "m",
+            Series,
+            Box::new(move |_, s, o| o[0] = s.criteria[i].height),
+        ));
+    }
+    v
 }

@@ -6,7 +6,7 @@
 //! `run_status = "complete"` and renamed to `<name>`. A failed run therefore
 //! never leaves a file that looks complete.
 
-use super::{record_len, Observer, Placement, VARIABLES};
+use super::{record_len, variables, Observer, OutputVar, Placement};
 use crate::error::RunError;
 use crate::experiment::Experiment;
 use crate::state::State;
@@ -24,6 +24,7 @@ pub struct NetcdfWriter {
     partial: PathBuf,
     history: String,
     file: Option<netcdf::FileMut>,
+    vars: Vec<OutputVar>,
     record: usize,
     buffer: Vec<f64>,
 }
@@ -50,6 +51,7 @@ impl NetcdfWriter {
             partial: partial_path(target),
             history: format!("{}: {}", utc_now(), command_line),
             file: None,
+            vars: Vec::new(),
             record: 0,
             buffer: Vec::new(),
         }
@@ -65,7 +67,7 @@ impl NetcdfWriter {
 
         let cfg = &exp.config;
         let start = cfg.time.start.replace('T', " ").replace('Z', "");
-        let globals: [(&str, String); 8] = [
+        let globals: [(&str, String); 9] = [
             ("Conventions", "CF-1.10".into()),
             ("title", cfg.output.title.clone()),
             ("source", format!("stormcharge {}", env!("CARGO_PKG_VERSION"))),
@@ -80,6 +82,7 @@ impl NetcdfWriter {
             ("featureType", "profile".into()),
             (CONFIG_ATTRIBUTE, cfg.to_toml()),
             (STATUS_ATTRIBUTE, "incomplete".into()),
+            ("flash_trigger_criterion", cfg.breakdown.trigger.name().into()),
         ];
         for (k, v) in globals {
             f.add_attribute(k, v).map_err(&e)?;
@@ -110,19 +113,23 @@ impl NetcdfWriter {
             v.put_values(values, ..).map_err(&e)?;
         }
 
-        for var in VARIABLES {
-            let dim = match var.placement {
-                Placement::Centre => "z",
-                Placement::Face => "z_face",
+        for var in &self.vars {
+            let dims: &[&str] = match var.placement {
+                Placement::Centre => &["time", "z"],
+                Placement::Face => &["time", "z_face"],
+                Placement::Series => &["time"],
+                Placement::StaticFace => &["z_face"],
             };
-            let mut v = f
-                .add_variable::<f64>(var.name, &["time", dim])
-                .map_err(&e)?;
+            let mut v = f.add_variable::<f64>(&var.name, dims).map_err(&e)?;
             if let Some(sn) = var.standard_name {
                 v.put_attribute("standard_name", sn).map_err(&e)?;
             }
-            v.put_attribute("long_name", var.long_name).map_err(&e)?;
+            v.put_attribute("long_name", var.long_name.as_str())
+                .map_err(&e)?;
             v.put_attribute("units", var.units).map_err(&e)?;
+            if !var.comment.is_empty() {
+                v.put_attribute("comment", var.comment).map_err(&e)?;
+            }
         }
         f.sync().map_err(&e)?;
         Ok(f)
@@ -139,6 +146,7 @@ impl Observer for NetcdfWriter {
                 source,
             })?;
         }
+        self.vars = variables(exp);
         self.file = Some(self.define(exp)?);
         Ok(())
     }
@@ -157,15 +165,23 @@ impl Observer for NetcdfWriter {
             })?
             .put_value(state.time, [t])
             .map_err(&e)?;
-        for var in VARIABLES {
+        for var in &self.vars {
+            if var.is_static() && t > 0 {
+                continue;
+            }
             let len = record_len(exp, var);
             self.buffer.resize(len, 0.0);
             (var.fill)(exp, state, &mut self.buffer[..len]);
-            let mut v = f.variable_mut(var.name).ok_or_else(|| RunError::Output {
+            let mut v = f.variable_mut(&var.name).ok_or_else(|| RunError::Output {
                 context: "record".into(),
                 message: format!("variable {} missing", var.name),
             })?;
-            v.put_values(&self.buffer[..len], (t, ..)).map_err(&e)?;
+            match var.placement {
+                Placement::Series => v.put_value(self.buffer[0], [t]),
+                Placement::StaticFace => v.put_values(&self.buffer[..len], ..),
+                Placement::Centre | Placement::Face => v.put_values(&self.buffer[..len], (t, ..)),
+            }
+            .map_err(&e)?;
         }
         f.sync().map_err(&e)?;
         self.record += 1;

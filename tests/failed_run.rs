@@ -1,0 +1,77 @@
+//! A run that fails part-way never leaves a file that looks complete.
+//!
+//! Kept in its own test binary: HDF5 holds a file lock on open files, and a
+//! child process spawned by another test in the same process would inherit
+//! the descriptor (HDF5 does not open with O_CLOEXEC) and with it the lock.
+
+use std::path::{Path, PathBuf};
+use stormcharge::config::DEMO_TOML;
+use stormcharge::error::RunError;
+use stormcharge::experiment::Experiment;
+use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter, STATUS_ATTRIBUTE};
+use stormcharge::output::Observer;
+use stormcharge::state::State;
+use stormcharge::timeloop::{self, RunSummary};
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("stormcharge-fail-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir.join(name)
+}
+
+fn text_attr(f: &netcdf::File, name: &str) -> String {
+    match f
+        .attribute(name)
+        .unwrap_or_else(|| panic!("attribute {name}"))
+        .value()
+        .unwrap()
+    {
+        netcdf::AttributeValue::Str(s) => s,
+        other => panic!("{name} is not text: {other:?}"),
+    }
+}
+
+/// An observer that fails at a given record, to simulate a crash mid-run.
+struct FailAt(usize, usize);
+
+impl Observer for FailAt {
+    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+        Ok(())
+    }
+    fn record(&mut self, _: &Experiment, s: &State) -> Result<(), RunError> {
+        self.1 += 1;
+        if self.1 > self.0 {
+            return Err(RunError::Numerics {
+                time: s.time,
+                message: "injected failure".into(),
+            });
+        }
+        Ok(())
+    }
+    fn finish(&mut self, _: &Experiment, _: &RunSummary) -> Result<(), RunError> {
+        Ok(())
+    }
+}
+
+#[test]
+fn failed_run_never_looks_complete() {
+    let exp = Experiment::from_text(DEMO_TOML, "demo", &[], Path::new(".")).unwrap();
+    let out = scratch("failed.nc");
+    // A complete file from an earlier run must not survive under the target name.
+    std::fs::write(&out, b"stale").unwrap();
+    let mut writer = NetcdfWriter::new(&out, "test");
+    let mut fail = FailAt(3, 0);
+    let mut observers: [&mut dyn Observer; 2] = [&mut writer, &mut fail];
+    let r = timeloop::run(&exp, &mut observers, &mut |_| {});
+    assert!(r.is_err());
+    drop(writer);
+    assert!(
+        !out.exists(),
+        "a failed run left a file under the final name"
+    );
+    let partial = partial_path(&out);
+    let f = netcdf::open(&partial).unwrap();
+    assert_eq!(text_attr(&f, STATUS_ATTRIBUTE), "incomplete");
+    // Records written before the failure were synced and are readable.
+    assert_eq!(f.dimension_len("time"), Some(4));
+}
