@@ -184,3 +184,57 @@ fn usage_error_is_exit_2() {
     let o = bin().args(["frobnicate"]).output().unwrap();
     assert_eq!(o.status.code(), Some(2));
 }
+
+#[test]
+fn layer_errors_name_the_layer_and_line() {
+    let p = write(
+        "layers.toml",
+        "[[prescribed_charge.layers]]\ncenter = 5000.0\nthickness = 1000.0\ndensity = 1.0\n\n\
+         [[prescribed_charge.layers]]\ncenter = 8000.0\nthickness = 1000.0\ndensty = 1.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "prescribed_charge.layers[2].densty",
+            "unknown key",
+            "line 9",
+            "density",
+        ],
+    );
+
+    let p = write(
+        "layers_range.toml",
+        "[[prescribed_charge.layers]]\ncenter = 5000.0\nthickness = -1.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "prescribed_charge.layers[1].thickness",
+            "-1.0",
+            "out of range",
+            "line 3",
+            "m",
+        ],
+    );
+
+    let p = write(
+        "layers_missing.toml",
+        "[[prescribed_charge.layers]]\ndensity = 1.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["prescribed_charge.layers[1].center", "needs"]);
+
+    let p = write("trigger.toml", "[breakdown]\ntrigger = \"lightning\"\n");
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "breakdown.trigger",
+            "lightning",
+            "runaway_avalanche",
+            "avalanche_multiplication",
+        ],
+    );
+}

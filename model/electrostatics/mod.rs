@@ -71,13 +71,17 @@ pub fn column_charge(rho: &[f64], dz: f64) -> f64 {
     rho.iter().sum::<f64>() * dz
 }
 
-/// Field energy per unit area W = (eps0/2) integral E_z^2 dz (J m-2), trapezoid
-/// rule over the faces (Gauss-law energy density u = eps0 E^2/2, e.g.
-/// Griffiths, Introduction to Electrodynamics, Eq. 2.45; equation number from memory).
+/// Field energy per unit area W = (eps0/2) integral E_z^2 dz (J m-2), from the
+/// energy density u = eps0 E^2/2 (e.g. Griffiths, Introduction to
+/// Electrodynamics, Eq. 2.45; equation number from memory). Within a cell of
+/// uniform charge E_z is linear between its face values, for which
+/// integral E^2 dz = dz (E_a^2 + E_a E_b + E_b^2)/3 exactly.
 pub fn field_energy(e: &[f64], dz: f64) -> f64 {
-    let n = e.len();
-    let inner: f64 = e[1..n - 1].iter().map(|x| x * x).sum();
-    0.5 * EPSILON_0 * dz * (inner + 0.5 * (e[0] * e[0] + e[n - 1] * e[n - 1]))
+    let sum: f64 = e
+        .windows(2)
+        .map(|w| w[0] * w[0] + w[0] * w[1] + w[1] * w[1])
+        .sum();
+    0.5 * EPSILON_0 * dz * sum / 3.0
 }
 
 /// Sums the carriers into the total charge, solves for potential and field,
