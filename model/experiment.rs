@@ -9,6 +9,7 @@ use crate::breakdown::avalanche::AvalancheParams;
 use crate::breakdown::thresholds::ThresholdParams;
 use crate::breakdown::Criteria;
 use crate::charging::prescribed::PrescribedCharge;
+use crate::discharge::DischargeParams;
 use crate::config::{schema, Config, ProfileKind};
 use crate::electrostatics::FieldSolver;
 use crate::error::{ConfigError, ConfigIssue};
@@ -48,6 +49,8 @@ pub struct Experiment {
     pub field_solver: FieldSolver,
     /// Breakdown threshold profiles.
     pub criteria: Criteria,
+    /// Discharge parameters on the grid.
+    pub discharge: DischargeParams,
 }
 
 /// `a / b` as a whole number when it is one to within 1e-9 relative.
@@ -163,6 +166,7 @@ impl Experiment {
             b.avalanche_required_efolds,
             b.trigger,
         );
+        let discharge = DischargeParams::new(&config.discharge, &criteria, &base.face.density);
         Ok(Experiment {
             config,
             grid,
@@ -171,6 +175,7 @@ impl Experiment {
             prescribed,
             field_solver,
             criteria,
+            discharge,
         })
     }
 

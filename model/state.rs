@@ -3,6 +3,7 @@
 
 use crate::breakdown::CriterionStatus;
 use crate::carriers::Carrier;
+use crate::discharge::{FlashLedger, Scratch};
 use crate::experiment::Experiment;
 
 /// Everything that changes during a run. Units SI.
@@ -31,6 +32,10 @@ pub struct State {
     pub field_energy: f64,
     /// Status of every breakdown criterion, in `Criterion::ALL` order.
     pub criteria: [CriterionStatus; 7],
+    /// Flashes so far and their running totals.
+    pub ledger: FlashLedger,
+    /// Work arrays for flashes (allocated once).
+    pub scratch: Scratch,
 }
 
 impl State {
@@ -52,6 +57,8 @@ impl State {
             column_charge: 0.0,
             field_energy: 0.0,
             criteria: [CriterionStatus::default(); 7],
+            ledger: FlashLedger::default(),
+            scratch: Scratch::new(n),
         };
         crate::electrostatics::solve(exp, &mut s);
         crate::breakdown::evaluate(exp, &mut s);

@@ -16,7 +16,7 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     charging::step(exp, state, dt);
     electrostatics::solve(exp, state);
     breakdown::evaluate(exp, state);
-    discharge::step(exp, state);
+    discharge::step(exp, state, exp.schedule.time(state.step + 1));
     state.step += 1;
     state.time = exp.schedule.time(state.step);
 }
@@ -35,6 +35,15 @@ pub struct RunSummary {
     /// Largest ratio (or e-folding count) of each criterion over the run,
     /// in `Criterion::ALL` order.
     pub peak_ratio: [f64; 7],
+    /// Flash counts by kind, in `FlashKind::ALL` order.
+    pub flash_counts: [u64; 3],
+    /// Time of the first flash (s).
+    pub first_flash: Option<f64>,
+    /// Charge lowered to ground (C m-2), signed.
+    pub ground_charge: f64,
+    /// Steps that ended with the trigger still met after the per-step flash
+    /// bound, and the first such time (s).
+    pub flash_bound_hits: (u64, Option<f64>),
 }
 
 impl RunSummary {
@@ -64,6 +73,10 @@ pub fn run(
         model_time: 0.0,
         peak_field: (0.0, f64::NAN, 0.0),
         peak_ratio: [0.0; 7],
+        flash_counts: [0; 3],
+        first_flash: None,
+        ground_charge: 0.0,
+        flash_bound_hits: (0, None),
     };
     summary.watch(exp, &state);
     for o in observers.iter_mut() {
@@ -90,8 +103,12 @@ pub fn run(
     summary.steps = state.step;
     summary.records = records;
     summary.model_time = state.time;
+    summary.flash_counts = state.ledger.counts;
+    summary.first_flash = state.ledger.flashes.first().map(|f| f.time);
+    summary.ground_charge = state.ledger.ground_charge;
+    summary.flash_bound_hits = (state.ledger.bound_hits, state.ledger.first_bound_hit);
     for o in observers.iter_mut() {
-        o.finish(exp, &summary)?;
+        o.finish(exp, &state, &summary)?;
     }
     Ok(summary)
 }

@@ -68,8 +68,9 @@ fn uniform_slab_with_field_free_top() {
 #[test]
 fn uniform_charge_between_conductors_is_exact() {
     // phi = rho z (L - z)/(2 eps0) solves d2phi/dz2 = -rho/eps0 with phi = 0 at
-    // both ends; the three-point Laplacian and the quadratic boundary closures
-    // are exact for quadratics, so the match is to round-off (check-values.md).
+    // both ends. The solver is exact for cell-uniform charge (and the
+    // three-point Laplacian is exact for quadratics), so the match is to
+    // round-off (check-values.md).
     let l = 1000.0;
     let exact = |z: f64| NC * z * (l - z) / (2.0 * EPSILON_0);
     // The oracle's own values: 14.1176 MV at L/2 and 10.5882 MV at 250 m.

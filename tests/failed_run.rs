@@ -48,7 +48,7 @@ impl Observer for FailAt {
         }
         Ok(())
     }
-    fn finish(&mut self, _: &Experiment, _: &RunSummary) -> Result<(), RunError> {
+    fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
         Ok(())
     }
 }

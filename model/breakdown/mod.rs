@@ -89,6 +89,9 @@ pub struct CriterionStatus {
     pub height: f64,
     /// Whether the criterion holds (ratio >= 1, or count >= the required count).
     pub met: bool,
+    /// Face index of that maximum (the face nearest the middle of the
+    /// stretch for avalanche multiplication); 0 when the field is zero.
+    pub face: usize,
 }
 
 /// Threshold profiles on faces (V m-1), one per criterion, and the avalanche
@@ -139,10 +142,17 @@ impl Criteria {
                     &self.thresholds[Criterion::RunawayAvalanche as usize],
                     &self.avalanche,
                 );
+                let dz = z_face[1] - z_face[0];
+                let face = if height.is_finite() {
+                    ((height - z_face[0]) / dz).round() as usize
+                } else {
+                    0
+                };
                 CriterionStatus {
                     ratio: count,
                     height,
                     met: count >= self.required_efolds,
+                    face,
                 }
             }
             _ => {
@@ -151,12 +161,14 @@ impl Criteria {
                     ratio: 0.0,
                     height: f64::NAN,
                     met: false,
+                    face: 0,
                 };
                 for k in 0..e.len() {
                     let r = e[k].abs() / thr[k];
                     if r > best.ratio {
                         best.ratio = r;
                         best.height = z_face[k];
+                        best.face = k;
                     }
                 }
                 best.met = best.ratio >= 1.0;

@@ -181,6 +181,12 @@ fn cmd_run(
     if let Some(b) = bar {
         b.finish_and_clear();
     }
+    if let (hits @ 1.., Some(first)) = summary.flash_bound_hits {
+        eprintln!(
+            "stormcharge: warning: the limit of {} flashes per step was reached with the trigger still met in {hits} steps (first at t = {first} s); shorten time.step or revisit the thresholds",
+            exp.discharge.max_per_step
+        );
+    }
     if !quiet {
         let g = &exp.grid;
         println!("stormcharge: wrote {}", target.display());
@@ -199,6 +205,22 @@ fn cmd_run(
             summary.records,
             started.elapsed().as_secs_f64()
         );
+        if exp.discharge.enabled {
+            let [ic, ng, pg] = summary.flash_counts;
+            println!("  flashes: {ic} intracloud, {ng} negative ground, {pg} positive ground");
+            if let Some(t) = summary.first_flash {
+                println!("  first flash at t = {t} s");
+            }
+            let area = exp.field_solver.column_area();
+            match area {
+                Some(a) => println!(
+                    "  charge lowered to ground: {:.4e} C m-2 ({:.2} C in the column)",
+                    summary.ground_charge,
+                    summary.ground_charge * a
+                ),
+                None => println!("  charge lowered to ground: {:.4e} C m-2", summary.ground_charge),
+            }
+        }
         let (e, z, t) = summary.peak_field;
         if e > 0.0 {
             println!(

@@ -295,6 +295,19 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
                 return Err(err("the path is empty".into()));
             }
         }
+        Kind::Integer { lo, hi } => {
+            let Value::Integer(i) = value else {
+                return Err(err(format!("expected a whole number, found {}", value.type_str())));
+            };
+            if *i < lo || *i > hi {
+                return Err(err("value out of range".into()));
+            }
+        }
+        Kind::Bool => {
+            if !value.is_bool() {
+                return Err(err(format!("expected true or false, found {}", value.type_str())));
+            }
+        }
         Kind::Timestamp => {
             let Value::String(s) = value else {
                 return Err(err(format!(

@@ -28,6 +28,7 @@ pub struct Config {
     pub prescribed_charge: PrescribedChargeConfig,
     pub electrostatics: ElectrostaticsConfig,
     pub breakdown: BreakdownConfig,
+    pub discharge: DischargeConfig,
     pub output: OutputConfig,
 }
 
@@ -180,6 +181,40 @@ pub struct BreakdownConfig {
     pub avalanche_energy_scale: f64,
     pub avalanche_friction_field: f64,
     pub avalanche_required_efolds: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PropagationMode {
+    FractionOfTrigger,
+    Absolute,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum NeutralizationMode {
+    TargetField,
+    Fraction,
+}
+
+/// Input units: s, V m-1, nC m-3, m; fractions dimensionless.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct DischargeConfig {
+    pub enabled: bool,
+    pub max_flashes_per_step: u32,
+    pub min_interval: f64,
+    pub require_hydrometeor_breakdown: bool,
+    pub propagation: PropagationMode,
+    pub propagation_fraction: f64,
+    pub propagation_field: f64,
+    pub propagation_density_scaled: bool,
+    pub follow_charge: bool,
+    pub min_charge_density: f64,
+    pub neutralization: NeutralizationMode,
+    pub target_fraction: f64,
+    pub neutralization_fraction: f64,
+    pub ground_connection_height: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

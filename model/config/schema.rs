@@ -13,6 +13,10 @@ pub enum Kind {
         hi: f64,
         hi_open: bool,
     },
+    /// A whole number in an inclusive range.
+    Integer { lo: i64, hi: i64 },
+    /// true or false.
+    Bool,
     /// One of a fixed list of names.
     Choice(&'static [&'static str]),
     /// Free text.
@@ -51,6 +55,8 @@ impl Kind {
                 .map(|s| format!("\"{s}\""))
                 .collect::<Vec<_>>()
                 .join(", "),
+            Kind::Integer { lo, hi } => format!("whole numbers {lo} to {hi}"),
+            Kind::Bool => "true, false".into(),
             Kind::Text => "any text".into(),
             Kind::Timestamp => "a UTC time written YYYY-MM-DDTHH:MM:SSZ".into(),
             Kind::Path => "a file path".into(),
@@ -364,6 +370,105 @@ pub const KEYS: &[KeySpec] = &[
         default: Some("10.0"),
         doc: "Number of avalanche e-foldings (integral of dz/lambda over a stretch above the runaway threshold) for the avalanche_multiplication criterion to hold. A modelling choice, not a published constant.",
     },
+    // --- discharge
+    KeySpec {
+        path: "discharge.enabled",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Whether flashes happen. With false the field builds without limit (useful to study the criteria alone).",
+    },
+    KeySpec {
+        path: "discharge.max_flashes_per_step",
+        kind: Kind::Integer { lo: 1, hi: 1000 },
+        unit: "1",
+        default: Some("10"),
+        doc: "Upper bound on flashes in one time step; reaching it is reported as a warning (the step or thresholds need attention).",
+    },
+    KeySpec {
+        path: "discharge.min_interval",
+        kind: float(0.0, false, 1.0e5, false),
+        unit: "s",
+        default: Some("0.0"),
+        doc: "Optional gate: no flash within this time of the previous one.",
+    },
+    KeySpec {
+        path: "discharge.require_hydrometeor_breakdown",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("false"),
+        doc: "Optional gate: a flash starts only where the hydrometeor_breakdown criterion also holds.",
+    },
+    KeySpec {
+        path: "discharge.propagation",
+        kind: Kind::Choice(PROPAGATION_MODES),
+        unit: "",
+        default: Some("\"fraction_of_trigger\""),
+        doc: "How the propagation field is set: \"fraction_of_trigger\" (propagation_fraction times the local trigger threshold) or \"absolute\" (propagation_field, optionally scaled with air density).",
+    },
+    KeySpec {
+        path: "discharge.propagation_fraction",
+        kind: float(0.0, true, 1.0, false),
+        unit: "1",
+        default: Some("0.375"),
+        doc: "Propagation field as a fraction of the local trigger threshold. Default: the ratio 150/400 kV/m of propagation to initiation fields used in published schemes (from memory, low confidence).",
+    },
+    KeySpec {
+        path: "discharge.propagation_field",
+        kind: float(0.0, true, 1.0e8, false),
+        unit: "V m-1",
+        default: Some("1.5e5"),
+        doc: "Absolute propagation field (at sea-level density when propagation_density_scaled). Default 150 kV/m, from published schemes (from memory, low confidence).",
+    },
+    KeySpec {
+        path: "discharge.propagation_density_scaled",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Scale the absolute propagation field with the relative air density delta.",
+    },
+    KeySpec {
+        path: "discharge.follow_charge",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Let each channel end also keep going through charge of the polarity it seeks while its density exceeds min_charge_density, even where the field has fallen below the propagation field.",
+    },
+    KeySpec {
+        path: "discharge.min_charge_density",
+        kind: float(0.0, false, 1.0e3, false),
+        unit: "nC m-3",
+        default: Some("0.1"),
+        doc: "Charge density below which a channel does not follow charge and which neutralisation leaves in place. Default 0.1 nC m-3, recalled from published schemes (from memory).",
+    },
+    KeySpec {
+        path: "discharge.neutralization",
+        kind: Kind::Choice(NEUTRALIZATION_MODES),
+        unit: "",
+        default: Some("\"target_field\""),
+        doc: "\"target_field\": remove the amount that brings the largest |E|/threshold in the channel down to target_fraction. \"fraction\": remove neutralization_fraction of the excess charge.",
+    },
+    KeySpec {
+        path: "discharge.target_fraction",
+        kind: float(0.0, false, 1.0, true),
+        unit: "1",
+        default: Some("0.5"),
+        doc: "Largest |E|/trigger threshold left in the channel after a flash (target_field mode). A modelling choice.",
+    },
+    KeySpec {
+        path: "discharge.neutralization_fraction",
+        kind: float(0.0, true, 1.0, false),
+        unit: "1",
+        default: Some("0.5"),
+        doc: "Fraction of the excess charge (above min_charge_density) removed in the channel (fraction mode). A modelling choice.",
+    },
+    KeySpec {
+        path: "discharge.ground_connection_height",
+        kind: float(0.0, false, 1.0e5, false),
+        unit: "m",
+        default: Some("1000.0"),
+        doc: "A channel whose lower end reaches this height above ground connects to ground: a ground flash. A modelling choice.",
+    },
     // --- output
     KeySpec {
         path: "output.file",
@@ -385,6 +490,10 @@ pub const KEYS: &[KeySpec] = &[
 pub const GEOMETRIES: &[&str] = &["planar", "column"];
 /// Top boundaries accepted by `electrostatics.top_boundary`.
 pub const TOP_BOUNDARIES: &[&str] = &["field_free", "conductor"];
+/// Propagation-field modes accepted by `discharge.propagation`.
+pub const PROPAGATION_MODES: &[&str] = &["fraction_of_trigger", "absolute"];
+/// Neutralisation modes accepted by `discharge.neutralization`.
+pub const NEUTRALIZATION_MODES: &[&str] = &["target_field", "fraction"];
 /// Shapes accepted by `prescribed_charge.layers.shape`.
 pub const LAYER_SHAPES: &[&str] = &["top_hat", "gaussian", "table"];
 

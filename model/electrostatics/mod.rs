@@ -7,15 +7,16 @@
 //! conductor at 0 V. Two geometries:
 //!
 //! - [`planar`]: horizontally infinite layers, Poisson's equation
-//!   d2phi/dz2 = -rho/eps0 in second-order finite differences;
+//!   d2phi/dz2 = -rho/eps0 in flux (finite-volume) form, exact for
+//!   cell-uniform charge;
 //! - [`column`]: charge confined to a vertical cylinder over conducting ground
 //!   (image charges), exact on-axis field and potential of uniformly charged
 //!   cylinder segments, precomputed as matrices.
 //!
 //! Diagnostics: column charge per area (C m-2), for the finite column the
-//! total charge (C), and the field energy per area (eps0/2) integral E_z^2 dz
-//! (J m-2; for the finite column it uses the axial field and is an axial
-//! measure, not the total energy, which the axial field does not determine).
+//! total charge (C), and the electrostatic energy per area (J m-2): the field
+//! energy for planar layers, the charge-potential energy with the axial
+//! potential for the finite column (see [`FieldSolver::energy`]).
 
 pub mod column;
 pub mod planar;
@@ -64,6 +65,31 @@ impl FieldSolver {
             FieldSolver::Column(s) => Some(std::f64::consts::PI * s.radius * s.radius),
         }
     }
+
+    /// Potential (V) to pair with the charge of cell `k` in charge-potential
+    /// energy sums: the exact cell mean for the planar solution, the axial
+    /// centre value for the finite column (its stand-in for the mean over the
+    /// cylinder, see [`column`]).
+    pub fn pairing_potential(&self, phi: &[f64], rho: &[f64], k: usize) -> f64 {
+        match self {
+            FieldSolver::Planar(s) => s.cell_mean_potential(phi[k], rho[k]),
+            FieldSolver::Column(_) => phi[k],
+        }
+    }
+
+    /// Electrostatic energy per unit horizontal area (J m-2). Planar: the
+    /// field energy (eps0/2) integral E_z^2 dz, exact for the discrete field.
+    /// Finite column: (1/2) sum rho phi dz with the axial potential, the
+    /// charge-potential form of the energy (Jackson, Classical
+    /// Electrodynamics, Eq. 1.53; equation number from memory) with the axial
+    /// potential standing in for the mean over the cross-section, which it
+    /// overestimates.
+    pub fn energy(&self, rho: &[f64], phi: &[f64], e: &[f64], dz: f64) -> f64 {
+        match self {
+            FieldSolver::Planar(_) => field_energy(e, dz),
+            FieldSolver::Column(_) => 0.5 * dz * rho.iter().zip(phi).map(|(r, p)| r * p).sum::<f64>(),
+        }
+    }
 }
 
 /// Column-integrated charge per area, sum of rho dz (C m-2).
@@ -91,5 +117,7 @@ pub fn solve(exp: &Experiment, state: &mut State) {
     exp.field_solver
         .solve(&state.charge_total, &mut state.potential, &mut state.field);
     state.column_charge = column_charge(&state.charge_total, exp.grid.dz);
-    state.field_energy = field_energy(&state.field, exp.grid.dz);
+    state.field_energy = exp
+        .field_solver
+        .energy(&state.charge_total, &state.potential, &state.field, exp.grid.dz);
 }

@@ -1,19 +1,23 @@
-//! Planar (horizontally infinite) Poisson solve.
+//! Planar (horizontally infinite layers) electrostatics.
 //!
-//! d2phi/dz2 = -rho/eps0 (Gauss's law with E_z = -dphi/dz), discretised with
-//! the second-order three-point Laplacian at cell centres:
-//! (phi[k+1] - 2 phi[k] + phi[k-1]) / dz^2 = -rho[k] / eps0.
-//! The boundaries lie half a cell from the first and last centre. There the
-//! boundary derivative comes from the quadratic through the boundary value and
-//! the two nearest centres (a one-sided second-order formula, exact for
-//! quadratics), so a uniform charge between conductors is solved exactly:
-//!   ground (z = 0, phi = 0):   dphi/dz = (-8/3 phi_b + 3 phi[0] - phi[1]/3) / dz
-//!   top conductor (phi = V):   dphi/dz = ( 8/3 V - 3 phi[n-1] + phi[n-2]/3) / dz
-//!   field-free top:            E_z(top) = 0 (all flux ends on the ground).
-//! Cell equations are written in flux form, E[k+1] - E[k] = rho[k] dz/eps0,
-//! so Gauss's law holds cell by cell to round-off. The tridiagonal matrix is
-//! constant: its Thomas-algorithm factors are computed once, and each solve is
-//! one forward and one backward sweep (O(n), no allocation).
+//! Gauss's law dE_z/dz = rho/eps0 with E_z = -dphi/dz (Poisson's equation
+//! d2phi/dz2 = -rho/eps0) over a conducting ground at 0 V. The charge
+//! density is a cell average, taken uniform within each cell. The field is
+//! found in flux form, integrating Gauss's law over each cell,
+//!   E[k+1] - E[k] = rho[k] dz / eps0            (faces k, k+1 of cell k),
+//! the second-order finite-volume form of Poisson's equation, which gives the
+//! balloon-sounding inversion rho = eps0 dE/dz back exactly (Marshall & Rust
+//! 1991). Inside a cell E_z is then linear, so the potential follows by exact
+//! integration of -E_z: at the centre of cell k
+//!   phi_c[k] = phi_f[k] - dz (3 E[k] + E[k+1]) / 8,
+//! and at the next face phi_f[k+1] = phi_f[k] - dz (E[k] + E[k+1]) / 2.
+//! The one free constant, E at the ground, comes from the top boundary:
+//! - field-free top: E(top) = 0, so all flux ends on the ground;
+//! - conductor at potential V: the integral of E_z from ground to top is -V
+//!   (trapezoid rule, exact for the piecewise-linear field).
+//! The result is the exact solution for cell-uniform charge: a uniform charge
+//! between conductors (quadratic potential) is reproduced to round-off. Each
+//! solve is two O(n) sweeps without allocation.
 
 use crate::constants::EPSILON_0;
 use crate::grid::Grid;
@@ -26,90 +30,49 @@ pub enum Top {
     Conductor(f64),
 }
 
-/// Precomputed planar solver.
+/// Planar solver (nothing to precompute beyond the spacing).
 #[derive(Debug, Clone)]
 pub struct PlanarSolver {
     dz: f64,
     top: Top,
-    /// Sub-diagonal a[k] (coefficient of phi[k-1]) and super-diagonal c[k].
-    a: Vec<f64>,
-    c: Vec<f64>,
-    /// Thomas factors: modified super-diagonal and inverse pivots.
-    c_star: Vec<f64>,
-    inv_pivot: Vec<f64>,
 }
 
 impl PlanarSolver {
     pub fn new(grid: &Grid, top: Top) -> Self {
-        let n = grid.len();
-        assert!(n >= 2, "planar solver needs at least two cells");
-        // Row k: a[k] phi[k-1] + b[k] phi[k] + c[k] phi[k+1] = rhs[k], from
-        // E[k+1] - E[k] = rho[k] dz / eps0 multiplied by dz.
-        let mut a = vec![-1.0; n];
-        let mut b = vec![2.0; n];
-        let mut c = vec![-1.0; n];
-        a[0] = 0.0;
-        b[0] = 4.0;
-        c[0] = -4.0 / 3.0;
-        c[n - 1] = 0.0;
-        match top {
-            Top::Conductor(_) => {
-                b[n - 1] = 4.0;
-                a[n - 1] = -4.0 / 3.0;
-            }
-            Top::FieldFree => {
-                b[n - 1] = 1.0;
-                a[n - 1] = -1.0;
-            }
-        }
-        let mut c_star = vec![0.0; n];
-        let mut inv_pivot = vec![0.0; n];
-        inv_pivot[0] = 1.0 / b[0];
-        c_star[0] = c[0] * inv_pivot[0];
-        for k in 1..n {
-            let pivot = b[k] - a[k] * c_star[k - 1];
-            inv_pivot[k] = 1.0 / pivot;
-            c_star[k] = c[k] * inv_pivot[k];
-        }
-        PlanarSolver {
-            dz: grid.dz,
-            top,
-            a,
-            c,
-            c_star,
-            inv_pivot,
-        }
+        PlanarSolver { dz: grid.dz, top }
     }
 
     /// Solves for `phi` (V, centres) and `e` (V m-1, faces) given `rho` (C m-3, centres).
     pub fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
         let n = rho.len();
         let h = self.dz;
-        let s = h * h / EPSILON_0;
-        // Forward sweep (phi holds the modified right-hand side).
+        // Gauss's law upward from a provisional E = 0 at the ground.
+        e[0] = 0.0;
         for k in 0..n {
-            let mut rhs = rho[k] * s;
-            if k == n - 1 {
-                if let Top::Conductor(v) = self.top {
-                    rhs += 8.0 / 3.0 * v;
-                }
+            e[k + 1] = e[k] + rho[k] * h / EPSILON_0;
+        }
+        let e0 = match self.top {
+            Top::FieldFree => -e[n],
+            Top::Conductor(v) => {
+                // h * sum over cells of (E_k + E_k+1)/2 = -V with E = e0 + provisional.
+                let trapezoid: f64 = e.windows(2).map(|w| 0.5 * (w[0] + w[1])).sum();
+                (-v / h - trapezoid) / n as f64
             }
-            let prev = if k > 0 { self.a[k] * phi[k - 1] } else { 0.0 };
-            phi[k] = (rhs - prev) * self.inv_pivot[k];
-        }
-        // Back substitution.
-        for k in (0..n - 1).rev() {
-            phi[k] -= self.c_star[k] * phi[k + 1];
-        }
-        debug_assert!(self.c[n - 1] == 0.0);
-        // Field on faces, E = -dphi/dz, with the same boundary formulas.
-        e[0] = -(3.0 * phi[0] - phi[1] / 3.0) / h;
-        for k in 1..n {
-            e[k] = -(phi[k] - phi[k - 1]) / h;
-        }
-        e[n] = match self.top {
-            Top::FieldFree => 0.0,
-            Top::Conductor(v) => -(8.0 / 3.0 * v - 3.0 * phi[n - 1] + phi[n - 2] / 3.0) / h,
         };
+        for x in e.iter_mut() {
+            *x += e0;
+        }
+        let mut phi_face = 0.0;
+        for k in 0..n {
+            phi[k] = phi_face - h * (3.0 * e[k] + e[k + 1]) / 8.0;
+            phi_face -= h * 0.5 * (e[k] + e[k + 1]);
+        }
+    }
+
+    /// Cell-average potential (V) of cell k from its centre value: with E
+    /// linear in the cell, the average lies rho dz^2 / (24 eps0) below the
+    /// centre value.
+    pub fn cell_mean_potential(&self, phi_centre: f64, rho: f64) -> f64 {
+        phi_centre - rho * self.dz * self.dz / (24.0 * EPSILON_0)
     }
 }

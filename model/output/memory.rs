@@ -14,6 +14,8 @@ pub struct MemoryRecorder {
     pub times: Vec<f64>,
     pub data: BTreeMap<String, Vec<Vec<f64>>>,
     pub finished: bool,
+    /// Every flash of the run (complete after `finish`).
+    pub flashes: Vec<crate::discharge::record::FlashRecord>,
     vars: Vec<OutputVar>,
 }
 
@@ -37,6 +39,8 @@ impl Observer for MemoryRecorder {
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let first = self.times.is_empty();
+        let new = &state.ledger.flashes[self.flashes.len()..];
+        self.flashes.extend_from_slice(new);
         self.times.push(state.time);
         for var in &self.vars {
             if var.is_static() && !first {
@@ -49,7 +53,9 @@ impl Observer for MemoryRecorder {
         Ok(())
     }
 
-    fn finish(&mut self, _exp: &Experiment, _summary: &RunSummary) -> Result<(), RunError> {
+    fn finish(&mut self, _exp: &Experiment, state: &State, _summary: &RunSummary) -> Result<(), RunError> {
+        let new = &state.ledger.flashes[self.flashes.len()..];
+        self.flashes.extend_from_slice(new);
         self.finished = true;
         Ok(())
     }

@@ -8,6 +8,7 @@ pub mod netcdf_writer;
 
 use crate::breakdown::Criterion;
 use crate::carriers::Carrier;
+use crate::discharge::record::{FlashKind, FlashRecord};
 use crate::constants::{CP_DRY, P_REF_THETA, R_DRY};
 use crate::error::RunError;
 use crate::experiment::Experiment;
@@ -20,8 +21,9 @@ pub trait Observer {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError>;
     /// Called at t = 0 and every output interval.
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError>;
-    /// Called once after a successful run.
-    fn finish(&mut self, exp: &Experiment, summary: &RunSummary) -> Result<(), RunError>;
+    /// Called once after a successful run with the final state (which may
+    /// hold flashes after the last output record).
+    fn finish(&mut self, exp: &Experiment, state: &State, summary: &RunSummary) -> Result<(), RunError>;
 }
 
 /// Dimensions of an output variable.
@@ -207,16 +209,49 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Box::new(move |_, s, o| o[0] = s.column_charge * area),
         ));
     }
+    let energy_comment = if exp.field_solver.column_area().is_some() {
+        "(1/2) sum of rho phi dz with the axial potential, per unit cross-section of the column"
+    } else {
+        "(eps0/2) times the integral of E_z squared over the column"
+    };
     v.push(
         OutputVar::new(
             "field_energy",
-            format!("electrostatic field energy per unit area, {geometry}"),
+            "electrostatic energy per unit area",
             "J m-2",
             Series,
             Box::new(|_, s, o| o[0] = s.field_energy),
         )
-        .comment("(eps0/2) times the integral of E_z squared over the column"),
+        .comment(energy_comment),
     );
+    if let Some(area) = exp.field_solver.column_area() {
+        v.push(OutputVar::new(
+            "field_energy_total",
+            "electrostatic energy of the finite column",
+            "J",
+            Series,
+            Box::new(move |_, s, o| o[0] = s.field_energy * area),
+        ));
+    }
+    v.push(
+        OutputVar::new(
+            "ground_charge",
+            "cumulative charge lowered to ground by ground flashes, per unit area",
+            "C m-2",
+            Series,
+            Box::new(|_, s, o| o[0] = s.ledger.ground_charge),
+        )
+        .comment("signed: negative ground flashes lower negative charge"),
+    );
+    for kind in FlashKind::ALL {
+        v.push(OutputVar::new(
+            format!("flash_count_{}", kind.name()),
+            format!("cumulative number of {} flashes since the start", kind.name().replace('_', " ")),
+            "1",
+            Series,
+            Box::new(move |_, s, o| o[0] = s.ledger.counts[kind.index()] as f64),
+        ));
+    }
     for c in Criterion::ALL {
         let i = c as usize;
         let threshold_name = if c == Criterion::AvalancheMultiplication {
@@ -265,6 +300,113 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Series,
             Box::new(move |_, s, o| o[0] = s.criteria[i].height),
         ));
+    }
+    v
+}
+
+/// How a flash variable is stored.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FlashValue {
+    /// 64-bit float.
+    Real,
+    /// 32-bit integer flag with CF `flag_values` and `flag_meanings`.
+    Flag(&'static [i32], &'static str),
+}
+
+/// One variable on the `flash` dimension.
+pub struct FlashVar {
+    pub name: String,
+    pub long_name: String,
+    pub units: &'static str,
+    pub value: FlashValue,
+    pub get: Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>,
+}
+
+const KIND_VALUES: &[i32] = &[1, 2, 3];
+const KIND_MEANINGS: &str = "intracloud negative_ground positive_ground";
+const MET_VALUES: &[i32] = &[0, 1];
+const MET_MEANINGS: &str = "not_met met";
+
+/// Every flash variable for this experiment (totals in C and J for the finite column).
+pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
+    let real = |name: &str, long: &str, units: &'static str, get: Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>| FlashVar {
+        name: name.into(),
+        long_name: long.into(),
+        units,
+        value: FlashValue::Real,
+        get,
+    };
+    let mut v = vec![
+        real("flash_z_init", "height of flash initiation", "m", Box::new(|f| f.z_init)),
+        real("flash_z_bottom", "lower end of the flash channel", "m", Box::new(|f| f.z_bottom)),
+        real("flash_z_top", "upper end of the flash channel", "m", Box::new(|f| f.z_top)),
+        real(
+            "flash_charge_neutralized",
+            "charge neutralised of each polarity per unit area (intracloud: equal positive and negative amount; ground: the larger)",
+            "C m-2",
+            Box::new(|f| f.charge_neutralized),
+        ),
+        real(
+            "flash_charge_to_ground",
+            "net charge lowered to ground per unit area, signed",
+            "C m-2",
+            Box::new(|f| f.charge_to_ground),
+        ),
+        real(
+            "flash_energy",
+            "energy released per unit area (drop in electrostatic energy)",
+            "J m-2",
+            Box::new(|f| f.energy),
+        ),
+        real(
+            "flash_field_before",
+            "largest |E_z| on the channel before the flash",
+            "V m-1",
+            Box::new(|f| f.field_before),
+        ),
+        real(
+            "flash_field_after",
+            "largest |E_z| on the channel after the flash",
+            "V m-1",
+            Box::new(|f| f.field_after),
+        ),
+    ];
+    if let Some(area) = exp.field_solver.column_area() {
+        v.push(real(
+            "flash_charge_neutralized_total",
+            "charge neutralised of each polarity in the finite column",
+            "C",
+            Box::new(move |f| f.charge_neutralized * area),
+        ));
+        v.push(real(
+            "flash_charge_to_ground_total",
+            "net charge lowered to ground in the finite column, signed",
+            "C",
+            Box::new(move |f| f.charge_to_ground * area),
+        ));
+        v.push(real(
+            "flash_energy_total",
+            "energy released by the flash in the finite column",
+            "J",
+            Box::new(move |f| f.energy * area),
+        ));
+    }
+    v.push(FlashVar {
+        name: "flash_kind".into(),
+        long_name: "kind of flash".into(),
+        units: "",
+        value: FlashValue::Flag(KIND_VALUES, KIND_MEANINGS),
+        get: Box::new(|f| f.kind as i32 as f64),
+    });
+    for c in Criterion::ALL {
+        let i = c as usize;
+        v.push(FlashVar {
+            name: format!("flash_criterion_{}", c.name()),
+            long_name: format!("whether the {} criterion held at initiation", c.description()),
+            units: "",
+            value: FlashValue::Flag(MET_VALUES, MET_MEANINGS),
+            get: Box::new(move |f| f64::from(u8::from(f.criteria_met[i]))),
+        });
     }
     v
 }

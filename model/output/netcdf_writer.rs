@@ -6,7 +6,8 @@
 //! `run_status = "complete"` and renamed to `<name>`. A failed run therefore
 //! never leaves a file that looks complete.
 
-use super::{record_len, variables, Observer, OutputVar, Placement};
+use super::{flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement};
+use crate::discharge::record::FlashRecord;
 use crate::error::RunError;
 use crate::experiment::Experiment;
 use crate::state::State;
@@ -25,6 +26,8 @@ pub struct NetcdfWriter {
     history: String,
     file: Option<netcdf::FileMut>,
     vars: Vec<OutputVar>,
+    flash_vars: Vec<FlashVar>,
+    flashes_written: usize,
     record: usize,
     buffer: Vec<f64>,
 }
@@ -52,6 +55,8 @@ impl NetcdfWriter {
             history: format!("{}: {}", utc_now(), command_line),
             file: None,
             vars: Vec::new(),
+            flash_vars: Vec::new(),
+            flashes_written: 0,
             record: 0,
             buffer: Vec::new(),
         }
@@ -64,6 +69,7 @@ impl NetcdfWriter {
         f.add_unlimited_dimension("time").map_err(&e)?;
         f.add_dimension("z", n).map_err(&e)?;
         f.add_dimension("z_face", n + 1).map_err(&e)?;
+        f.add_unlimited_dimension("flash").map_err(&e)?;
 
         let cfg = &exp.config;
         let start = cfg.time.start.replace('T', " ").replace('Z', "");
@@ -131,6 +137,25 @@ impl NetcdfWriter {
                 v.put_attribute("comment", var.comment).map_err(&e)?;
             }
         }
+        let mut ft = f.add_variable::<f64>("flash_time", &["flash"]).map_err(&e)?;
+        ft.put_attribute("long_name", "model time of the flash (end of its time step)").map_err(&e)?;
+        ft.put_attribute("units", format!("seconds since {start}")).map_err(&e)?;
+        ft.put_attribute("calendar", "standard").map_err(&e)?;
+        for var in &self.flash_vars {
+            match var.value {
+                FlashValue::Real => {
+                    let mut v = f.add_variable::<f64>(&var.name, &["flash"]).map_err(&e)?;
+                    v.put_attribute("long_name", var.long_name.as_str()).map_err(&e)?;
+                    v.put_attribute("units", var.units).map_err(&e)?;
+                }
+                FlashValue::Flag(values, meanings) => {
+                    let mut v = f.add_variable::<i32>(&var.name, &["flash"]).map_err(&e)?;
+                    v.put_attribute("long_name", var.long_name.as_str()).map_err(&e)?;
+                    v.put_attribute("flag_values", values.to_vec()).map_err(&e)?;
+                    v.put_attribute("flag_meanings", meanings).map_err(&e)?;
+                }
+            }
+        }
         f.sync().map_err(&e)?;
         Ok(f)
     }
@@ -147,6 +172,7 @@ impl Observer for NetcdfWriter {
             })?;
         }
         self.vars = variables(exp);
+        self.flash_vars = flash_variables(exp);
         self.file = Some(self.define(exp)?);
         Ok(())
     }
@@ -183,17 +209,21 @@ impl Observer for NetcdfWriter {
             }
             .map_err(&e)?;
         }
+        write_flashes(f, &self.flash_vars, &state.ledger.flashes, self.flashes_written)?;
+        self.flashes_written = state.ledger.flashes.len();
         f.sync().map_err(&e)?;
         self.record += 1;
         Ok(())
     }
 
-    fn finish(&mut self, _exp: &Experiment, _summary: &RunSummary) -> Result<(), RunError> {
+    fn finish(&mut self, _exp: &Experiment, state: &State, _summary: &RunSummary) -> Result<(), RunError> {
         let e = nc_err("closing");
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
             context: "closing".into(),
             message: "file not open".into(),
         })?;
+        write_flashes(&mut f, &self.flash_vars, &state.ledger.flashes, self.flashes_written)?;
+        self.flashes_written = state.ledger.flashes.len();
         f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
         f.close().map_err(&e)?;
         std::fs::rename(&self.partial, &self.target).map_err(|source| RunError::Io {
@@ -205,6 +235,31 @@ impl Observer for NetcdfWriter {
             source,
         })
     }
+}
+
+/// Appends `flashes[from..]` on the `flash` dimension.
+fn write_flashes(f: &mut netcdf::FileMut, vars: &[FlashVar], flashes: &[FlashRecord], from: usize) -> Result<(), RunError> {
+    let e = nc_err("flash records");
+    let missing = |name: &str| RunError::Output {
+        context: "flash records".into(),
+        message: format!("variable {name} missing"),
+    };
+    for (i, rec) in flashes.iter().enumerate().skip(from) {
+        f.variable_mut("flash_time")
+            .ok_or_else(|| missing("flash_time"))?
+            .put_value(rec.time, [i])
+            .map_err(&e)?;
+        for var in vars {
+            let mut v = f.variable_mut(&var.name).ok_or_else(|| missing(&var.name))?;
+            let x = (var.get)(rec);
+            match var.value {
+                FlashValue::Real => v.put_value(x, [i]),
+                FlashValue::Flag(..) => v.put_value(x as i32, [i]),
+            }
+            .map_err(&e)?;
+        }
+    }
+    Ok(())
 }
 
 /// Current UTC time as `YYYY-MM-DDTHH:MM:SSZ`, from the system clock.
