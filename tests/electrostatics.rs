@@ -209,6 +209,8 @@ spacing = 70.0
 step = 10.0
 duration = 100.0
 output_interval = 100.0
+[discharge]
+enabled = false
 [[prescribed_charge.layers]]
 center = 5123.0
 thickness = 777.0
