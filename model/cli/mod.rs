@@ -218,7 +218,10 @@ fn cmd_run(
                     summary.ground_charge,
                     summary.ground_charge * a
                 ),
-                None => println!("  charge lowered to ground: {:.4e} C m-2", summary.ground_charge),
+                None => println!(
+                    "  charge lowered to ground: {:.4e} C m-2",
+                    summary.ground_charge
+                ),
             }
         }
         let (e, z, t) = summary.peak_field;

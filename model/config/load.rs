@@ -297,7 +297,10 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
         }
         Kind::Integer { lo, hi } => {
             let Value::Integer(i) = value else {
-                return Err(err(format!("expected a whole number, found {}", value.type_str())));
+                return Err(err(format!(
+                    "expected a whole number, found {}",
+                    value.type_str()
+                )));
             };
             if *i < lo || *i > hi {
                 return Err(err("value out of range".into()));
@@ -305,7 +308,10 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
         }
         Kind::Bool => {
             if !value.is_bool() {
-                return Err(err(format!("expected true or false, found {}", value.type_str())));
+                return Err(err(format!(
+                    "expected true or false, found {}",
+                    value.type_str()
+                )));
             }
         }
         Kind::Timestamp => {

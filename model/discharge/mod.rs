@@ -19,7 +19,7 @@ pub mod channel;
 pub mod neutralization;
 pub mod record;
 
-use crate::breakdown::{Criterion, Criteria};
+use crate::breakdown::{Criteria, Criterion};
 use crate::config::{DischargeConfig, NeutralizationMode, PropagationMode};
 use crate::experiment::Experiment;
 use crate::state::State;
@@ -68,7 +68,9 @@ impl DischargeParams {
     pub fn new(cfg: &DischargeConfig, criteria: &Criteria, face_density: &[f64]) -> Self {
         let thr = &criteria.thresholds[trigger_threshold(criteria.trigger)];
         let propagation = match cfg.propagation {
-            PropagationMode::FractionOfTrigger => thr.iter().map(|t| cfg.propagation_fraction * t).collect(),
+            PropagationMode::FractionOfTrigger => {
+                thr.iter().map(|t| cfg.propagation_fraction * t).collect()
+            }
             PropagationMode::Absolute => face_density
                 .iter()
                 .map(|&rho| {
@@ -90,7 +92,9 @@ impl DischargeParams {
             min_charge_density: cfg.min_charge_density * NANO,
             follow_charge: cfg.follow_charge,
             neutralization: match cfg.neutralization {
-                NeutralizationMode::Fraction => Neutralization::Fraction(cfg.neutralization_fraction),
+                NeutralizationMode::Fraction => {
+                    Neutralization::Fraction(cfg.neutralization_fraction)
+                }
                 NeutralizationMode::TargetField => Neutralization::TargetField(cfg.target_fraction),
             },
             ground_height: cfg.ground_connection_height,
@@ -200,7 +204,13 @@ pub fn flash(exp: &Experiment, state: &mut State, start: usize, time: f64) -> Op
     rec
 }
 
-fn flash_with(exp: &Experiment, state: &mut State, sc: &mut Scratch, start: usize, time: f64) -> Option<FlashRecord> {
+fn flash_with(
+    exp: &Experiment,
+    state: &mut State,
+    sc: &mut Scratch,
+    start: usize,
+    time: f64,
+) -> Option<FlashRecord> {
     let p = &exp.discharge;
     let grid = &exp.grid;
     let dz = grid.dz;
@@ -222,7 +232,14 @@ fn flash_with(exp: &Experiment, state: &mut State, sc: &mut Scratch, start: usiz
         return None;
     }
     let faces = bottom..=top;
-    let (pos, neg) = neutralization::excess_pattern(&state.charge_total, bottom..top, p.min_charge_density, !ground, dz, &mut sc.w);
+    let (pos, neg) = neutralization::excess_pattern(
+        &state.charge_total,
+        bottom..top,
+        p.min_charge_density,
+        !ground,
+        dz,
+        &mut sc.w,
+    );
     if pos + neg == 0.0 {
         return None;
     }
@@ -259,8 +276,12 @@ fn flash_with(exp: &Experiment, state: &mut State, sc: &mut Scratch, start: usiz
     for k in bottom..top {
         let d = state.charge_total[k] - sc.rho_before[k];
         net_change += d * dz;
-        let before = exp.field_solver.pairing_potential(&sc.phi_before, &sc.rho_before, k);
-        let after = exp.field_solver.pairing_potential(&state.potential, &state.charge_total, k);
+        let before = exp
+            .field_solver
+            .pairing_potential(&sc.phi_before, &sc.rho_before, k);
+        let after = exp
+            .field_solver
+            .pairing_potential(&state.potential, &state.charge_total, k);
         energy_from_charges -= 0.5 * d * (before + after) * dz;
     }
     let charge_to_ground = if ground { -net_change } else { 0.0 };

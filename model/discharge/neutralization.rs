@@ -18,7 +18,14 @@
 /// Fills `w` (C m-3, length n) with the removal pattern for `cells`; returns
 /// (positive, negative) amounts per area (C m-2) after balancing. `balance`
 /// is true for intracloud flashes.
-pub fn excess_pattern(rho: &[f64], cells: std::ops::Range<usize>, rho_min: f64, balance: bool, dz: f64, w: &mut [f64]) -> (f64, f64) {
+pub fn excess_pattern(
+    rho: &[f64],
+    cells: std::ops::Range<usize>,
+    rho_min: f64,
+    balance: bool,
+    dz: f64,
+    w: &mut [f64],
+) -> (f64, f64) {
     w.fill(0.0);
     let (mut pos, mut neg) = (0.0, 0.0);
     for k in cells.clone() {
@@ -46,12 +53,27 @@ pub fn excess_pattern(rho: &[f64], cells: std::ops::Range<usize>, rho_min: f64, 
 }
 
 /// Largest |e_k - s g_k| / thr_k over `faces`.
-fn worst(e: &[f64], g: &[f64], thr: &[f64], faces: &std::ops::RangeInclusive<usize>, s: f64) -> f64 {
-    faces.clone().map(|k| (e[k] - s * g[k]).abs() / thr[k]).fold(0.0, f64::max)
+fn worst(
+    e: &[f64],
+    g: &[f64],
+    thr: &[f64],
+    faces: &std::ops::RangeInclusive<usize>,
+    s: f64,
+) -> f64 {
+    faces
+        .clone()
+        .map(|k| (e[k] - s * g[k]).abs() / thr[k])
+        .fold(0.0, f64::max)
 }
 
 /// The scale s in [0, 1] of the target-field mode (see module docs).
-pub fn target_scale(e: &[f64], g: &[f64], thr: &[f64], faces: std::ops::RangeInclusive<usize>, target: f64) -> f64 {
+pub fn target_scale(
+    e: &[f64],
+    g: &[f64],
+    thr: &[f64],
+    faces: std::ops::RangeInclusive<usize>,
+    target: f64,
+) -> f64 {
     let (mut lo, mut hi) = (0.0_f64, 1.0_f64);
     let mut feasible = true;
     for k in faces.clone() {

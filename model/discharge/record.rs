@@ -9,7 +9,11 @@ pub enum FlashKind {
 }
 
 impl FlashKind {
-    pub const ALL: [FlashKind; 3] = [FlashKind::Intracloud, FlashKind::NegativeGround, FlashKind::PositiveGround];
+    pub const ALL: [FlashKind; 3] = [
+        FlashKind::Intracloud,
+        FlashKind::NegativeGround,
+        FlashKind::PositiveGround,
+    ];
 
     /// Name used in CF `flag_meanings` and output variable names.
     pub fn name(self) -> &'static str {

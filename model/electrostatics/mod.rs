@@ -87,7 +87,9 @@ impl FieldSolver {
     pub fn energy(&self, rho: &[f64], phi: &[f64], e: &[f64], dz: f64) -> f64 {
         match self {
             FieldSolver::Planar(_) => field_energy(e, dz),
-            FieldSolver::Column(_) => 0.5 * dz * rho.iter().zip(phi).map(|(r, p)| r * p).sum::<f64>(),
+            FieldSolver::Column(_) => {
+                0.5 * dz * rho.iter().zip(phi).map(|(r, p)| r * p).sum::<f64>()
+            }
         }
     }
 }
@@ -117,7 +119,10 @@ pub fn solve(exp: &Experiment, state: &mut State) {
     exp.field_solver
         .solve(&state.charge_total, &mut state.potential, &mut state.field);
     state.column_charge = column_charge(&state.charge_total, exp.grid.dz);
-    state.field_energy = exp
-        .field_solver
-        .energy(&state.charge_total, &state.potential, &state.field, exp.grid.dz);
+    state.field_energy = exp.field_solver.energy(
+        &state.charge_total,
+        &state.potential,
+        &state.field,
+        exp.grid.dz,
+    );
 }

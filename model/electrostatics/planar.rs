@@ -15,6 +15,7 @@
 //! - field-free top: E(top) = 0, so all flux ends on the ground;
 //! - conductor at potential V: the integral of E_z from ground to top is -V
 //!   (trapezoid rule, exact for the piecewise-linear field).
+//!
 //! The result is the exact solution for cell-uniform charge: a uniform charge
 //! between conductors (quadratic potential) is reproduced to round-off. Each
 //! solve is two O(n) sweeps without allocation.

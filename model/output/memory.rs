@@ -53,7 +53,12 @@ impl Observer for MemoryRecorder {
         Ok(())
     }
 
-    fn finish(&mut self, _exp: &Experiment, state: &State, _summary: &RunSummary) -> Result<(), RunError> {
+    fn finish(
+        &mut self,
+        _exp: &Experiment,
+        state: &State,
+        _summary: &RunSummary,
+    ) -> Result<(), RunError> {
         let new = &state.ledger.flashes[self.flashes.len()..];
         self.flashes.extend_from_slice(new);
         self.finished = true;

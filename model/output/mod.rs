@@ -8,8 +8,8 @@ pub mod netcdf_writer;
 
 use crate::breakdown::Criterion;
 use crate::carriers::Carrier;
-use crate::discharge::record::{FlashKind, FlashRecord};
 use crate::constants::{CP_DRY, P_REF_THETA, R_DRY};
+use crate::discharge::record::{FlashKind, FlashRecord};
 use crate::error::RunError;
 use crate::experiment::Experiment;
 use crate::state::State;
@@ -23,7 +23,12 @@ pub trait Observer {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError>;
     /// Called once after a successful run with the final state (which may
     /// hold flashes after the last output record).
-    fn finish(&mut self, exp: &Experiment, state: &State, summary: &RunSummary) -> Result<(), RunError>;
+    fn finish(
+        &mut self,
+        exp: &Experiment,
+        state: &State,
+        summary: &RunSummary,
+    ) -> Result<(), RunError>;
 }
 
 /// Dimensions of an output variable.
@@ -246,7 +251,10 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
     for kind in FlashKind::ALL {
         v.push(OutputVar::new(
             format!("flash_count_{}", kind.name()),
-            format!("cumulative number of {} flashes since the start", kind.name().replace('_', " ")),
+            format!(
+                "cumulative number of {} flashes since the start",
+                kind.name().replace('_', " ")
+            ),
             "1",
             Series,
             Box::new(move |_, s, o| o[0] = s.ledger.counts[kind.index()] as f64),
@@ -329,7 +337,10 @@ const MET_MEANINGS: &str = "not_met met";
 
 /// Every flash variable for this experiment (totals in C and J for the finite column).
 pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
-    let real = |name: &str, long: &str, units: &'static str, get: Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>| FlashVar {
+    let real = |name: &str,
+                long: &str,
+                units: &'static str,
+                get: Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>| FlashVar {
         name: name.into(),
         long_name: long.into(),
         units,
@@ -402,7 +413,10 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         let i = c as usize;
         v.push(FlashVar {
             name: format!("flash_criterion_{}", c.name()),
-            long_name: format!("whether the {} criterion held at initiation", c.description()),
+            long_name: format!(
+                "whether the {} criterion held at initiation",
+                c.description()
+            ),
             units: "",
             value: FlashValue::Flag(MET_VALUES, MET_MEANINGS),
             get: Box::new(move |f| f64::from(u8::from(f.criteria_met[i]))),

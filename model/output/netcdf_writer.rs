@@ -6,7 +6,9 @@
 //! `run_status = "complete"` and renamed to `<name>`. A failed run therefore
 //! never leaves a file that looks complete.
 
-use super::{flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement};
+use super::{
+    flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement,
+};
 use crate::discharge::record::FlashRecord;
 use crate::error::RunError;
 use crate::experiment::Experiment;
@@ -137,21 +139,31 @@ impl NetcdfWriter {
                 v.put_attribute("comment", var.comment).map_err(&e)?;
             }
         }
-        let mut ft = f.add_variable::<f64>("flash_time", &["flash"]).map_err(&e)?;
-        ft.put_attribute("long_name", "model time of the flash (end of its time step)").map_err(&e)?;
-        ft.put_attribute("units", format!("seconds since {start}")).map_err(&e)?;
+        let mut ft = f
+            .add_variable::<f64>("flash_time", &["flash"])
+            .map_err(&e)?;
+        ft.put_attribute(
+            "long_name",
+            "model time of the flash (end of its time step)",
+        )
+        .map_err(&e)?;
+        ft.put_attribute("units", format!("seconds since {start}"))
+            .map_err(&e)?;
         ft.put_attribute("calendar", "standard").map_err(&e)?;
         for var in &self.flash_vars {
             match var.value {
                 FlashValue::Real => {
                     let mut v = f.add_variable::<f64>(&var.name, &["flash"]).map_err(&e)?;
-                    v.put_attribute("long_name", var.long_name.as_str()).map_err(&e)?;
+                    v.put_attribute("long_name", var.long_name.as_str())
+                        .map_err(&e)?;
                     v.put_attribute("units", var.units).map_err(&e)?;
                 }
                 FlashValue::Flag(values, meanings) => {
                     let mut v = f.add_variable::<i32>(&var.name, &["flash"]).map_err(&e)?;
-                    v.put_attribute("long_name", var.long_name.as_str()).map_err(&e)?;
-                    v.put_attribute("flag_values", values.to_vec()).map_err(&e)?;
+                    v.put_attribute("long_name", var.long_name.as_str())
+                        .map_err(&e)?;
+                    v.put_attribute("flag_values", values.to_vec())
+                        .map_err(&e)?;
                     v.put_attribute("flag_meanings", meanings).map_err(&e)?;
                 }
             }
@@ -209,20 +221,35 @@ impl Observer for NetcdfWriter {
             }
             .map_err(&e)?;
         }
-        write_flashes(f, &self.flash_vars, &state.ledger.flashes, self.flashes_written)?;
+        write_flashes(
+            f,
+            &self.flash_vars,
+            &state.ledger.flashes,
+            self.flashes_written,
+        )?;
         self.flashes_written = state.ledger.flashes.len();
         f.sync().map_err(&e)?;
         self.record += 1;
         Ok(())
     }
 
-    fn finish(&mut self, _exp: &Experiment, state: &State, _summary: &RunSummary) -> Result<(), RunError> {
+    fn finish(
+        &mut self,
+        _exp: &Experiment,
+        state: &State,
+        _summary: &RunSummary,
+    ) -> Result<(), RunError> {
         let e = nc_err("closing");
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
             context: "closing".into(),
             message: "file not open".into(),
         })?;
-        write_flashes(&mut f, &self.flash_vars, &state.ledger.flashes, self.flashes_written)?;
+        write_flashes(
+            &mut f,
+            &self.flash_vars,
+            &state.ledger.flashes,
+            self.flashes_written,
+        )?;
         self.flashes_written = state.ledger.flashes.len();
         f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
         f.close().map_err(&e)?;
@@ -238,7 +265,12 @@ impl Observer for NetcdfWriter {
 }
 
 /// Appends `flashes[from..]` on the `flash` dimension.
-fn write_flashes(f: &mut netcdf::FileMut, vars: &[FlashVar], flashes: &[FlashRecord], from: usize) -> Result<(), RunError> {
+fn write_flashes(
+    f: &mut netcdf::FileMut,
+    vars: &[FlashVar],
+    flashes: &[FlashRecord],
+    from: usize,
+) -> Result<(), RunError> {
     let e = nc_err("flash records");
     let missing = |name: &str| RunError::Output {
         context: "flash records".into(),
@@ -250,7 +282,9 @@ fn write_flashes(f: &mut netcdf::FileMut, vars: &[FlashVar], flashes: &[FlashRec
             .put_value(rec.time, [i])
             .map_err(&e)?;
         for var in vars {
-            let mut v = f.variable_mut(&var.name).ok_or_else(|| missing(&var.name))?;
+            let mut v = f
+                .variable_mut(&var.name)
+                .ok_or_else(|| missing(&var.name))?;
             let x = (var.get)(rec);
             match var.value {
                 FlashValue::Real => v.put_value(x, [i]),
