@@ -47,3 +47,19 @@ pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
 /// Table I; used for the relative air density delta = rho/rho0 that scales
 /// breakdown thresholds.
 pub const RHO_AIR_SEA_LEVEL: f64 = 1.2250;
+
+/// Latent heat of vaporisation at 0 degC L_v (J kg-1); approximately
+/// constant over the troposphere (check-values.md, [verified approx]).
+pub const L_VAPORISATION: f64 = 2.501e6;
+
+/// Latent heat of fusion at 0 degC L_f (J kg-1) (check-values.md).
+pub const L_FUSION: f64 = 3.337e5;
+
+/// Latent heat of sublimation at 0 degC L_s = L_v + L_f (J kg-1), 2.834e6.
+pub const L_SUBLIMATION: f64 = L_VAPORISATION + L_FUSION;
+
+/// Density of liquid water (kg m-3), common practice.
+pub const RHO_WATER: f64 = 1000.0;
+
+/// Density of solid ice (kg m-3), 916.7 at 0 degC (check-values.md, from memory).
+pub const RHO_ICE: f64 = 916.7;

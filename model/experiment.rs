@@ -51,6 +51,20 @@ pub struct Experiment {
     pub criteria: Criteria,
     /// Discharge parameters on the grid.
     pub discharge: DischargeParams,
+    /// The prescribed updraft.
+    pub updraft: crate::kinematics::updraft::Updraft,
+    /// The microphysics that runs.
+    pub microphysics: crate::microphysics::Scheme,
+    /// Size distributions and fall laws (bulk parameters; used for fall
+    /// speeds in every mode).
+    pub fall: crate::microphysics::params::MicroParams,
+}
+
+impl Experiment {
+    /// Size distributions and fall laws of the precipitating species.
+    pub fn fall_laws(&self) -> &crate::microphysics::params::MicroParams {
+        &self.fall
+    }
 }
 
 /// `a / b` as a whole number when it is one to within 1e-9 relative.
@@ -167,6 +181,11 @@ impl Experiment {
             b.trigger,
         );
         let discharge = DischargeParams::new(&config.discharge, &criteria, &base.face.density);
+        let updraft = crate::experiment_physics::updraft(&config.updraft).map_err(err)?;
+        let microphysics =
+            crate::experiment_physics::scheme(&config.microphysics, &config.hydrometeors.layers)
+                .map_err(err)?;
+        let fall = crate::experiment_physics::micro_params(&config.microphysics);
         Ok(Experiment {
             config,
             grid,
@@ -176,6 +195,9 @@ impl Experiment {
             field_solver,
             criteria,
             discharge,
+            updraft,
+            microphysics,
+            fall,
         })
     }
 

@@ -39,6 +39,7 @@ pub mod discharge;
 pub mod electrostatics;
 pub mod error;
 pub mod experiment;
+pub mod experiment_physics;
 pub mod grid;
 pub mod kinematics;
 pub mod microphysics;

@@ -16,8 +16,26 @@ pub struct State {
     /// Potential temperature at cell centres (K): the thermodynamic variable
     /// that is conserved under dry adiabatic transport.
     pub potential_temperature: Vec<f64>,
-    /// Water-vapour mixing ratio at cell centres (kg kg-1).
-    pub vapour: Vec<f64>,
+    /// Mixing ratios at cell centres (kg kg-1), indexed by `Species::index`
+    /// (vapour, cloud, rain, ice, snow, graupel).
+    pub q: [Vec<f64>; 6],
+    /// Cloud-ice number at cell centres (kg-1).
+    pub n_ice: Vec<f64>,
+    /// Vertical air velocity on faces (m s-1), positive up.
+    pub w: Vec<f64>,
+    /// Mass-weighted fall speeds at centres (m s-1, positive down) of rain,
+    /// ice, snow and graupel (`Species::FALLING` order).
+    pub fall_speed: [Vec<f64>; 4],
+    /// Surface precipitation rate over the last step (kg m-2 s-1).
+    pub precip_rate: f64,
+    /// Water budget terms accumulated since the start.
+    pub water: WaterLedger,
+    /// Charge moved by transport since the start.
+    pub charge_transport: ChargeLedger,
+    /// Steps in which transport had to sub-step, and the largest number of sub-steps.
+    pub substeps: (u64, usize),
+    /// Work arrays of the transport (allocated once).
+    pub kin_scratch: crate::kinematics::Scratch,
     /// Charge density of each carrier at centres (C m-3), indexed by [`Carrier::index`].
     pub charge: Vec<Vec<f64>>,
     /// Total charge density at centres (C m-3): the sum over carriers.
@@ -38,18 +56,57 @@ pub struct State {
     pub scratch: Scratch,
 }
 
+/// Water entering and leaving the column (kg m-2, accumulated).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct WaterLedger {
+    /// Total water entered through the ground face by advection.
+    pub advected_in_bottom: f64,
+    /// Total water left through the model top by advection.
+    pub advected_out_top: f64,
+    /// Total water gained through the column's sides (the exchange implied by
+    /// a height-dependent mass flux; negative: lost).
+    pub lateral: f64,
+    /// Precipitation that reached the ground.
+    pub precipitation: f64,
+    /// Mass created by removing negative values that the vapour could not
+    /// pay for (normally zero).
+    pub clip_created: f64,
+}
+
+/// Charge moved by transport (C m-2, accumulated).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct ChargeLedger {
+    /// Net charge gained through the column boundaries and sides by advection.
+    pub advected_in: f64,
+    /// Charge carried to the ground by precipitation.
+    pub precipitated: f64,
+}
+
 impl State {
     /// The initial state: the base state at rest, prescribed charge in place,
     /// and the field it makes.
     pub fn initial(exp: &Experiment) -> Self {
         let n = exp.grid.len();
         let mut charge = vec![vec![0.0; n]; Carrier::ALL.len()];
+
         charge[Carrier::Prescribed.index()].copy_from_slice(&exp.prescribed.initial);
         let mut s = State {
             step: 0,
             time: 0.0,
             potential_temperature: exp.base.centre.potential_temperature.clone(),
-            vapour: exp.base.centre.vapour.clone(),
+            q: {
+                let mut q: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; n]);
+                q[0].copy_from_slice(&exp.base.centre.vapour);
+                q
+            },
+            n_ice: vec![0.0; n],
+            w: vec![0.0; n + 1],
+            fall_speed: std::array::from_fn(|_| vec![0.0; n]),
+            precip_rate: 0.0,
+            water: WaterLedger::default(),
+            charge_transport: ChargeLedger::default(),
+            substeps: (0, 1),
+            kin_scratch: crate::kinematics::Scratch::new(n),
             charge,
             charge_total: vec![0.0; n],
             potential: vec![0.0; n],
@@ -60,6 +117,12 @@ impl State {
             ledger: FlashLedger::default(),
             scratch: Scratch::new(n),
         };
+        if let crate::microphysics::Scheme::Prescribed(p) = &exp.microphysics {
+            // Imposed hydrometeors are present from the start.
+            p.impose(exp, &mut s, 0.0);
+        }
+        crate::kinematics::apply_forcing(exp, &mut s);
+        crate::kinematics::update_fall_speeds(exp, &mut s);
         crate::electrostatics::solve(exp, &mut s);
         crate::breakdown::evaluate(exp, &mut s);
         s

@@ -9,16 +9,17 @@ use crate::state::State;
 use crate::{breakdown, charging, discharge, electrostatics, kinematics, microphysics};
 
 /// Advances the state by one step of `dt` seconds.
-pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
+pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
     kinematics::apply_forcing(exp, state);
     kinematics::transport(exp, state, dt);
-    microphysics::step(exp, state, dt);
+    microphysics::step(exp, state, dt)?;
     charging::step(exp, state, dt);
     electrostatics::solve(exp, state);
     breakdown::evaluate(exp, state);
     discharge::step(exp, state, exp.schedule.time(state.step + 1));
     state.step += 1;
     state.time = exp.schedule.time(state.step);
+    Ok(())
 }
 
 /// What a finished run reports.
@@ -93,7 +94,7 @@ pub fn run(
     emit(&state, observers)?;
     let dt = exp.schedule.dt;
     for _ in 0..exp.schedule.steps {
-        step(exp, &mut state, dt);
+        step(exp, &mut state, dt)?;
         summary.watch(exp, &state);
         if state.step % exp.schedule.output_every == 0 {
             emit(&state, observers)?;

@@ -15,6 +15,14 @@ use stormcharge::output::Observer;
 use stormcharge::state::State;
 use stormcharge::timeloop;
 
+/// The flash-sequence demo: a growing prescribed tripole (configs/tripole_flashes.toml).
+fn flash_config() -> String {
+    std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/tripole_flashes.toml"),
+    )
+    .unwrap()
+}
+
 fn experiment(text: &str, overrides: &[&str]) -> Experiment {
     let o: Vec<String> = overrides.iter().map(|s| s.to_string()).collect();
     Experiment::from_text(text, "test", &o, Path::new(".")).unwrap()
@@ -32,7 +40,7 @@ fn first_flash(exp: &Experiment) -> (State, State, FlashRecord) {
     let mut s = State::initial(exp);
     for _ in 0..exp.schedule.steps {
         let before = s.clone();
-        timeloop::step(exp, &mut s, exp.schedule.dt);
+        timeloop::step(exp, &mut s, exp.schedule.dt).unwrap();
         if let Some(f) = s.ledger.flashes.first() {
             return (before, s.clone(), *f);
         }
@@ -50,6 +58,10 @@ duration = 3000.0
 output_interval = 100.0
 [atmosphere]
 profile = "standard_1976"
+[updraft]
+peak_speed = 0.0
+[microphysics]
+scheme = "off"
 [electrostatics]
 geometry = "column"
 column_radius = 3000.0
@@ -75,6 +87,10 @@ duration = 1200.0
 output_interval = 60.0
 [atmosphere]
 profile = "standard_1976"
+[updraft]
+peak_speed = 0.0
+[microphysics]
+scheme = "off"
 [electrostatics]
 geometry = "column"
 column_radius = 2000.0
@@ -160,7 +176,7 @@ fn negative_ground_flash_from_a_low_negative_layer() {
 fn budget_closes_over_a_whole_run() {
     // Charge conservation: everything added by the prescribed growth, minus
     // everything lowered to ground, is what the column holds (round-off).
-    let exp = experiment(stormcharge::config::DEMO_TOML, &[]);
+    let exp = experiment(&flash_config(), &[]);
     let rec = run(&exp);
     let initial: f64 = exp.prescribed.initial.iter().sum::<f64>() * exp.grid.dz;
     let added: f64 =
@@ -182,12 +198,10 @@ fn two_energy_computations_agree() {
     // The energy released is the drop in electrostatic energy; by Green's
     // reciprocity it also equals -1/2 sum dq (phi_before + phi_after). The two
     // are computed independently and must agree to 1e-9, and be positive.
+    let flash = flash_config();
     let cases: [(&str, &[&str]); 5] = [
-        (stormcharge::config::DEMO_TOML, &[]),
-        (
-            stormcharge::config::DEMO_TOML,
-            &["electrostatics.geometry=planar"],
-        ),
+        (&flash, &[]),
+        (&flash, &["electrostatics.geometry=planar"]),
         (
             DIPOLE,
             &[
@@ -273,9 +287,9 @@ fn fraction_mode_removes_that_fraction_of_the_excess() {
 
 #[test]
 fn same_configuration_same_flashes() {
-    let exp = experiment(stormcharge::config::DEMO_TOML, &[]);
+    let exp = experiment(&flash_config(), &[]);
     let a = run(&exp).flashes;
-    let b = run(&experiment(stormcharge::config::DEMO_TOML, &[])).flashes;
+    let b = run(&experiment(&flash_config(), &[])).flashes;
     assert!(!a.is_empty());
     assert_eq!(a.len(), b.len());
     for (x, y) in a.iter().zip(&b) {
@@ -306,7 +320,7 @@ fn demo_flashes_have_published_magnitudes() {
     // Berger et al. 1975), energy 1e9-1e10 J; about 3/4 of flashes stay in the
     // cloud (Rakov & Uman 2003, ch. 9). "Within a factor of a few" is checked
     // as a factor of 3 outside each range.
-    let exp = experiment(stormcharge::config::DEMO_TOML, &[]);
+    let exp = experiment(&flash_config(), &[]);
     let area = exp.field_solver.column_area().unwrap();
     let flashes = run(&exp).flashes;
     let ic: Vec<_> = flashes
@@ -349,16 +363,13 @@ fn demo_flashes_have_published_magnitudes() {
 #[test]
 fn gates_and_bound() {
     // min_interval keeps flashes apart; the per-step bound is reported.
-    let exp = experiment(
-        stormcharge::config::DEMO_TOML,
-        &["discharge.min_interval=1500"],
-    );
+    let exp = experiment(&flash_config(), &["discharge.min_interval=1500"]);
     let f = run(&exp).flashes;
     assert!(f.windows(2).all(|w| w[1].time - w[0].time >= 1500.0));
     // A tiny target-independent fraction cannot relieve the field in one
     // flash, so one flash per step leaves the trigger met: bound reported.
     let exp = experiment(
-        stormcharge::config::DEMO_TOML,
+        &flash_config(),
         &[
             "discharge.neutralization=fraction",
             "discharge.neutralization_fraction=0.001",
@@ -367,7 +378,7 @@ fn gates_and_bound() {
     );
     let mut s = State::initial(&exp);
     for _ in 0..exp.schedule.steps {
-        timeloop::step(&exp, &mut s, exp.schedule.dt);
+        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
     assert!(s.ledger.bound_hits > 0 && s.ledger.first_bound_hit.is_some());
 }

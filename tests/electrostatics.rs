@@ -211,6 +211,10 @@ duration = 100.0
 output_interval = 100.0
 [discharge]
 enabled = false
+[microphysics]
+scheme = "off"
+[updraft]
+peak_speed = 0.0
 [[prescribed_charge.layers]]
 center = 5123.0
 thickness = 777.0
@@ -235,7 +239,7 @@ density = 1.0
         s.column_charge
     );
     for _ in 0..10 {
-        stormcharge::timeloop::step(&exp, &mut s, 10.0);
+        stormcharge::timeloop::step(&exp, &mut s, 10.0).unwrap();
     }
     let expect = expect0 + 0.01 * 100.0 * 777.0 * NC;
     assert!(rel(s.column_charge, expect) < 1e-6);

@@ -24,6 +24,10 @@ pub struct Config {
     pub grid: GridConfig,
     pub time: TimeConfig,
     pub atmosphere: AtmosphereConfig,
+    pub updraft: UpdraftConfig,
+    pub microphysics: MicrophysicsConfig,
+    #[serde(default)]
+    pub hydrometeors: HydrometeorsConfig,
     #[serde(default)]
     pub prescribed_charge: PrescribedChargeConfig,
     pub electrostatics: ElectrostaticsConfig,
@@ -108,6 +112,127 @@ pub struct SoundingConfig {
     /// Ground pressure (Pa) for height soundings.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub surface_pressure: Option<f64>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum UpdraftShape {
+    Sine,
+    Table,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum EnvelopeKind {
+    Constant,
+    Pulse,
+    Table,
+}
+
+/// Input units m, m s-1, s.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct UpdraftConfig {
+    pub shape: UpdraftShape,
+    pub bottom: f64,
+    pub top: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub profile_points: Option<Vec<Vec<f64>>>,
+    pub peak_speed: f64,
+    pub envelope: EnvelopeKind,
+    pub start: f64,
+    pub growth: f64,
+    pub mature: f64,
+    pub decay: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub envelope_points: Option<Vec<Vec<f64>>>,
+    pub background: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MicroScheme {
+    Bulk,
+    Prescribed,
+    Off,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum NucleationKind {
+    #[serde(rename = "cooper_1986")]
+    Cooper1986,
+    #[serde(rename = "meyers_1992")]
+    Meyers1992,
+    #[serde(rename = "fletcher_1962")]
+    Fletcher1962,
+}
+
+/// Input units as in the key table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MicrophysicsConfig {
+    pub scheme: MicroScheme,
+    pub ice_nucleation: NucleationKind,
+    pub max_ice_nuclei: f64,
+    pub rime_splintering: bool,
+    pub autoconversion_rate: f64,
+    pub autoconversion_threshold: f64,
+    pub rain_intercept: f64,
+    pub snow_intercept: f64,
+    pub snow_density: f64,
+    pub graupel_intercept: f64,
+    pub graupel_density: f64,
+    pub relative_tolerance: f64,
+    pub absolute_tolerance: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum HydroName {
+    Cloud,
+    Rain,
+    Ice,
+    Snow,
+    Graupel,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum HydroShape {
+    Gaussian,
+    Table,
+}
+
+/// One imposed hydrometeor layer (m, kg kg-1, kg-1, s).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HydroLayerConfig {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub species: Option<HydroName>,
+    pub shape: HydroShape,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub center: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub thickness: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub points: Option<Vec<Vec<f64>>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mixing_ratio: Option<f64>,
+    pub number: f64,
+    pub envelope: EnvelopeKind,
+    pub start: f64,
+    pub growth: f64,
+    pub mature: f64,
+    pub decay: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub envelope_points: Option<Vec<Vec<f64>>>,
+}
+
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HydrometeorsConfig {
+    #[serde(default)]
+    pub layers: Vec<HydroLayerConfig>,
 }
 
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]

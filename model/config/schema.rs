@@ -262,6 +262,190 @@ pub const KEYS: &[KeySpec] = &[
         default: None,
         doc: "Pressure at the ground; required for a height sounding, not allowed for a pressure sounding (whose first level is the ground).",
     },
+    // --- updraft
+    KeySpec {
+        path: "updraft.shape",
+        kind: Kind::Choice(UPDRAFT_SHAPES),
+        unit: "",
+        default: Some("\"sine\""),
+        doc: "Vertical shape: \"sine\" (half sine between bottom and top) or \"table\" (profile_points).",
+    },
+    KeySpec {
+        path: "updraft.bottom",
+        kind: float(0.0, false, 1.0e5, false),
+        unit: "m",
+        default: Some("0.0"),
+        doc: "Lower end of the sine shape.",
+    },
+    KeySpec {
+        path: "updraft.top",
+        kind: float(0.0, true, 1.0e5, false),
+        unit: "m",
+        default: Some("12000.0"),
+        doc: "Upper end of the sine shape.",
+    },
+    KeySpec {
+        path: "updraft.profile_points",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "For shape = \"table\": rows [height (m), factor (1)], linear between, zero outside.",
+    },
+    KeySpec {
+        path: "updraft.peak_speed",
+        kind: float(0.0, false, 100.0, false),
+        unit: "m s-1",
+        default: Some("15.0"),
+        doc: "Peak updraft speed w_peak (the default gives a storm in the 10-20 m/s class).",
+    },
+    KeySpec {
+        path: "updraft.envelope",
+        kind: Kind::Choice(ENVELOPES),
+        unit: "",
+        default: Some("\"pulse\""),
+        doc: "Time envelope: \"constant\", \"pulse\" (sin^2 rise over growth, mature plateau, cos^2 decay) or \"table\" (envelope_points).",
+    },
+    KeySpec {
+        path: "updraft.start",
+        kind: float(0.0, false, 1.0e6, false),
+        unit: "s",
+        default: Some("0.0"),
+        doc: "Start of the pulse.",
+    },
+    KeySpec {
+        path: "updraft.growth",
+        kind: float(0.0, true, 1.0e6, false),
+        unit: "s",
+        default: Some("600.0"),
+        doc: "Rise time of the pulse.",
+    },
+    KeySpec {
+        path: "updraft.mature",
+        kind: float(0.0, false, 1.0e6, false),
+        unit: "s",
+        default: Some("1800.0"),
+        doc: "Plateau time of the pulse.",
+    },
+    KeySpec {
+        path: "updraft.decay",
+        kind: float(0.0, true, 1.0e6, false),
+        unit: "s",
+        default: Some("900.0"),
+        doc: "Decay time of the pulse.",
+    },
+    KeySpec {
+        path: "updraft.envelope_points",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "For envelope = \"table\": rows [time (s), factor (1)], linear between, end values held outside.",
+    },
+    KeySpec {
+        path: "updraft.background",
+        kind: float(-10.0, false, 10.0, false),
+        unit: "m s-1",
+        default: Some("0.0"),
+        doc: "Constant background vertical velocity added everywhere (negative: subsidence).",
+    },
+    // --- microphysics
+    KeySpec {
+        path: "microphysics.scheme",
+        kind: Kind::Choice(MICRO_SCHEMES),
+        unit: "",
+        default: Some("\"bulk\""),
+        doc: "\"bulk\": the mixed-phase bulk scheme; \"prescribed\": hydrometeor profiles imposed from [[hydrometeors.layers]]; \"off\": no hydrometeors.",
+    },
+    KeySpec {
+        path: "microphysics.ice_nucleation",
+        kind: Kind::Choice(NUCLEATION_SCHEMES),
+        unit: "",
+        default: Some("\"cooper_1986\""),
+        doc: "Ice-nucleation parameterisation: Cooper (1986), Meyers et al. (1992) or Fletcher (1962).",
+    },
+    KeySpec {
+        path: "microphysics.max_ice_nuclei",
+        kind: float(0.0, true, 1.0e9, false),
+        unit: "m-3",
+        default: Some("1.0e5"),
+        doc: "Upper bound on active ice nuclei (100 per litre by default; common practice).",
+    },
+    KeySpec {
+        path: "microphysics.rime_splintering",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Secondary ice production by rime splintering (Hallett & Mossop 1974) between -3 and -8 degC.",
+    },
+    KeySpec {
+        path: "microphysics.autoconversion_rate",
+        kind: float(0.0, false, 1.0, false),
+        unit: "s-1",
+        default: Some("1.0e-3"),
+        doc: "Kessler (1969) autoconversion rate k1.",
+    },
+    KeySpec {
+        path: "microphysics.autoconversion_threshold",
+        kind: float(0.0, false, 0.01, false),
+        unit: "kg kg-1",
+        default: Some("1.0e-3"),
+        doc: "Kessler (1969) autoconversion threshold q_c0.",
+    },
+    KeySpec {
+        path: "microphysics.rain_intercept",
+        kind: float(0.0, true, 1.0e10, false),
+        unit: "m-4",
+        default: Some("8.0e6"),
+        doc: "Intercept N0 of the rain size distribution (Marshall & Palmer 1948; Lin et al. 1983).",
+    },
+    KeySpec {
+        path: "microphysics.snow_intercept",
+        kind: float(0.0, true, 1.0e10, false),
+        unit: "m-4",
+        default: Some("3.0e6"),
+        doc: "Intercept N0 of the snow size distribution (Lin et al. 1983).",
+    },
+    KeySpec {
+        path: "microphysics.snow_density",
+        kind: float(10.0, false, 917.0, false),
+        unit: "kg m-3",
+        default: Some("100.0"),
+        doc: "Bulk density of snow particles (Lin et al. 1983).",
+    },
+    KeySpec {
+        path: "microphysics.graupel_intercept",
+        kind: float(0.0, true, 1.0e10, false),
+        unit: "m-4",
+        default: Some("4.0e6"),
+        doc: "Intercept N0 of the graupel size distribution (common in later bulk schemes).",
+    },
+    KeySpec {
+        path: "microphysics.graupel_density",
+        kind: float(50.0, false, 917.0, false),
+        unit: "kg m-3",
+        default: Some("400.0"),
+        doc: "Bulk density of graupel (common in later bulk schemes).",
+    },
+    KeySpec {
+        path: "microphysics.relative_tolerance",
+        kind: float(0.0, true, 0.1, false),
+        unit: "1",
+        default: Some("1.0e-6"),
+        doc: "Relative error tolerance of the adaptive integration of the process rates.",
+    },
+    KeySpec {
+        path: "microphysics.absolute_tolerance",
+        kind: float(0.0, true, 1.0e-3, false),
+        unit: "1",
+        default: Some("1.0e-12"),
+        doc: "Absolute error tolerance of the adaptive integration (mixing ratios in kg kg-1).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers",
+        kind: Kind::TableArray(HYDRO_LAYER_KEYS),
+        unit: "",
+        default: None,
+        doc: "Imposed hydrometeor layers for microphysics.scheme = \"prescribed\", one [[hydrometeors.layers]] block each.",
+    },
     // --- prescribed charge
     KeySpec {
         path: "prescribed_charge.layers",
@@ -540,6 +724,114 @@ pub const LAYER_KEYS: &[KeySpec] = &[
         unit: "",
         default: None,
         doc: "For shape = \"table\": rows [height (m), shape factor (1)], increasing in height; linear between points, zero outside.",
+    },
+];
+
+/// Updraft shapes.
+pub const UPDRAFT_SHAPES: &[&str] = &["sine", "table"];
+/// Time envelopes (updraft and imposed hydrometeors).
+pub const ENVELOPES: &[&str] = &["constant", "pulse", "table"];
+/// Microphysics schemes.
+pub const MICRO_SCHEMES: &[&str] = &["bulk", "prescribed", "off"];
+/// Ice-nucleation parameterisations.
+pub const NUCLEATION_SCHEMES: &[&str] = &["cooper_1986", "meyers_1992", "fletcher_1962"];
+/// Hydrometeor species names.
+pub const HYDROMETEOR_NAMES: &[&str] = &["cloud", "rain", "ice", "snow", "graupel"];
+/// Shapes of imposed hydrometeor layers.
+pub const HYDRO_SHAPES: &[&str] = &["gaussian", "table"];
+
+/// Keys of one `[[hydrometeors.layers]]` block.
+pub const HYDRO_LAYER_KEYS: &[KeySpec] = &[
+    KeySpec {
+        path: "hydrometeors.layers.species",
+        kind: Kind::Choice(HYDROMETEOR_NAMES),
+        unit: "",
+        default: None,
+        doc: "Which species this layer imposes (required).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.shape",
+        kind: Kind::Choice(HYDRO_SHAPES),
+        unit: "",
+        default: Some("\"gaussian\""),
+        doc: "\"gaussian\": exp(-(z-center)^2/(2 s^2)), s = thickness/sqrt(2 pi); \"table\": factor against height from points.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.center",
+        kind: float(0.0, false, 1.0e5, false),
+        unit: "m",
+        default: None,
+        doc: "Centre height (gaussian).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.thickness",
+        kind: float(0.0, true, 1.0e5, false),
+        unit: "m",
+        default: None,
+        doc: "Thickness (gaussian).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.points",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "For shape = \"table\": rows [height (m), factor (1)].",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.mixing_ratio",
+        kind: float(0.0, false, 0.05, false),
+        unit: "kg kg-1",
+        default: None,
+        doc: "Peak mixing ratio (required).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.number",
+        kind: float(0.0, false, 1.0e12, false),
+        unit: "kg-1",
+        default: Some("0.0"),
+        doc: "Peak crystal number (cloud ice only; needed there).",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.envelope",
+        kind: Kind::Choice(ENVELOPES),
+        unit: "",
+        default: Some("\"constant\""),
+        doc: "Time envelope, as for the updraft.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.start",
+        kind: float(0.0, false, 1.0e6, false),
+        unit: "s",
+        default: Some("0.0"),
+        doc: "Start of the pulse envelope.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.growth",
+        kind: float(0.0, true, 1.0e6, false),
+        unit: "s",
+        default: Some("600.0"),
+        doc: "Rise time of the pulse envelope.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.mature",
+        kind: float(0.0, false, 1.0e6, false),
+        unit: "s",
+        default: Some("1800.0"),
+        doc: "Plateau of the pulse envelope.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.decay",
+        kind: float(0.0, true, 1.0e6, false),
+        unit: "s",
+        default: Some("900.0"),
+        doc: "Decay time of the pulse envelope.",
+    },
+    KeySpec {
+        path: "hydrometeors.layers.envelope_points",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "For envelope = \"table\": rows [time (s), factor (1)].",
     },
 ];
 

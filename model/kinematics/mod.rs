@@ -1,17 +1,220 @@
-//! Kinematics: the prescribed updraft w(z, t), advection of every advected
-//! field by it, and sedimentation of hydrometeors with their fall speeds.
-//! Arrives with the issue "Kinematic column: prescribed updraft, transport
-//! and sedimentation, bulk mixed-phase microphysics".
+//! Kinematics: the prescribed updraft w(z, t) ([`updraft`]), advection of
+//! every advected field by it ([`advection`]) and sedimentation of the
+//! falling species with their fall speeds ([`sedimentation`]).
 //!
-//! STUB: not implemented yet. This step leaves the state unchanged; the issue
-//! named above replaces it with the real process, and no later issue may
-//! leave it empty.
+//! Advected: potential temperature, every mixing ratio, the cloud-ice number
+//! and the charge of every hydrometeor carrier as specific charge (C kg-1,
+//! charge density / air density), so that advection conserves it. Inflow
+//! through the ground (when w > 0 there) and the top (when w < 0 there)
+//! brings base-state air: base potential temperature and vapour, no
+//! hydrometeors, no charge. Prescribed charge stays in place.
+//!
+//! Sedimentation uses each species' mass-weighted fall speed for its mass and
+//! for its charge (the number of cloud ice falls with the same speed:
+//! monodisperse crystals). Charge rides with the mass-weighted speed so that
+//! pure sedimentation keeps the specific charge of a falling population,
+//! consistent with the charge-follows-mass rule of the charge transfers
+//! (physics.md section 5); a number-weighted speed would let charge lag
+//! behind the mass that carries it.
 
+// The transport loops walk several parallel arrays (densities, fluxes,
+// fields) by cell index; iterator zips would obscure the stencils.
+#![allow(clippy::needless_range_loop)]
+
+pub mod advection;
+pub mod sedimentation;
+pub mod updraft;
+
+use crate::carriers::Carrier;
 use crate::experiment::Experiment;
+use crate::microphysics::dsd;
+use crate::microphysics::species::Species;
+use crate::microphysics::Scheme;
 use crate::state::State;
 
-/// Forcing: sets the prescribed updraft for time \`_state.time\` (stub).
-pub fn apply_forcing(_exp: &Experiment, _state: &mut State) {}
+/// Work arrays, allocated once with the state.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scratch {
+    mass_flux: Vec<f64>,
+    faces: Vec<f64>,
+    field: Vec<f64>,
+}
 
-/// Transport: advection, then sedimentation, over one step of \`_dt\` s (stub).
-pub fn transport(_exp: &Experiment, _state: &mut State, _dt: f64) {}
+impl Scratch {
+    pub fn new(n: usize) -> Self {
+        Scratch {
+            mass_flux: vec![0.0; n + 1],
+            faces: vec![0.0; n + 1],
+            field: vec![0.0; n],
+        }
+    }
+}
+
+/// Sets the prescribed updraft on the faces for the state's time.
+pub fn apply_forcing(exp: &Experiment, state: &mut State) {
+    for (w, &z) in state.w.iter_mut().zip(&exp.grid.z_face) {
+        *w = exp.updraft.w(z, state.time);
+    }
+}
+
+/// Mass-weighted fall speeds (m s-1) of the falling species at every cell.
+pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
+    let rho = &exp.base.centre.density;
+    let p = exp.fall_laws();
+    for (i, sp) in Species::FALLING.iter().enumerate() {
+        let q = &state.q[sp.index()];
+        for k in 0..rho.len() {
+            state.fall_speed[i][k] = match sp {
+                Species::Rain => p.rain.mass_weighted_speed(rho[k], q[k]),
+                Species::Snow => p.snow.mass_weighted_speed(rho[k], q[k]),
+                Species::Graupel => p.graupel.mass_weighted_speed(rho[k], q[k]),
+                _ => dsd::ice::speed(rho[k], q[k]),
+            };
+        }
+    }
+}
+
+/// Advection, then sedimentation, over one step of `dt` s.
+pub fn transport(exp: &Experiment, state: &mut State, dt: f64) {
+    advect_all(exp, state, dt);
+    if !matches!(exp.microphysics, Scheme::Off) {
+        sediment_all(exp, state, dt);
+    }
+}
+
+fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
+    let rho = &exp.base.centre.density;
+    let rho_face = &exp.base.face.density;
+    let dz = exp.grid.dz;
+    let n = rho.len();
+    let sc = &mut state.kin_scratch;
+    let mut moving = false;
+    for j in 0..=n {
+        sc.mass_flux[j] = rho_face[j] * state.w[j];
+        moving |= sc.mass_flux[j] != 0.0;
+    }
+    if !moving {
+        return;
+    }
+    let nsub = advection::substeps(&sc.mass_flux, rho, dz, dt);
+    if nsub > 1 {
+        state.substeps.0 += 1;
+        state.substeps.1 = state.substeps.1.max(nsub);
+    }
+    let h = dt / nsub as f64;
+    let base_face = &exp.base.face;
+    for _ in 0..nsub {
+        let theta_in = (
+            base_face.potential_temperature[0],
+            base_face.potential_temperature[n],
+        );
+        advection::advect(
+            &mut state.potential_temperature,
+            &sc.mass_flux,
+            rho,
+            dz,
+            h,
+            theta_in,
+            &mut sc.faces,
+        );
+        for sp in Species::ALL {
+            let inflow = if sp == Species::Vapour {
+                (base_face.vapour[0], base_face.vapour[n])
+            } else {
+                (0.0, 0.0)
+            };
+            let b = advection::advect(
+                &mut state.q[sp.index()],
+                &sc.mass_flux,
+                rho,
+                dz,
+                h,
+                inflow,
+                &mut sc.faces,
+            );
+            state.water.advected_in_bottom += b.bottom;
+            state.water.advected_out_top += b.top;
+            state.water.lateral += b.lateral;
+        }
+        advection::advect(
+            &mut state.n_ice,
+            &sc.mass_flux,
+            rho,
+            dz,
+            h,
+            (0.0, 0.0),
+            &mut sc.faces,
+        );
+        for c in Carrier::ALL.iter().filter(|c| c.species().is_some()) {
+            let charge = &mut state.charge[c.index()];
+            for k in 0..n {
+                sc.field[k] = charge[k] / rho[k];
+            }
+            let b = advection::advect(
+                &mut sc.field,
+                &sc.mass_flux,
+                rho,
+                dz,
+                h,
+                (0.0, 0.0),
+                &mut sc.faces,
+            );
+            state.charge_transport.advected_in += b.net();
+            for k in 0..n {
+                charge[k] = sc.field[k] * rho[k];
+            }
+        }
+    }
+}
+
+fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
+    let rho = &exp.base.centre.density;
+    let dz = exp.grid.dz;
+    let n = rho.len();
+    update_fall_speeds(exp, state);
+    let nsub = state
+        .fall_speed
+        .iter()
+        .map(|v| sedimentation::substeps(v, dz, dt))
+        .max()
+        .unwrap_or(1);
+    let h = dt / nsub as f64;
+    let mut precip = 0.0;
+    for sub in 0..nsub {
+        if sub > 0 {
+            update_fall_speeds(exp, state);
+        }
+        for (i, sp) in Species::FALLING.iter().enumerate() {
+            let sc = &mut state.kin_scratch;
+            let q = &mut state.q[sp.index()];
+            for k in 0..n {
+                sc.field[k] = rho[k] * q[k];
+            }
+            precip += sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+            for k in 0..n {
+                q[k] = sc.field[k] / rho[k];
+            }
+            if *sp == Species::Ice {
+                for k in 0..n {
+                    sc.field[k] = rho[k] * state.n_ice[k];
+                }
+                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+                for k in 0..n {
+                    state.n_ice[k] = sc.field[k] / rho[k];
+                }
+            }
+            let carrier = Carrier::ALL.iter().find(|c| c.species() == Some(*sp));
+            if let Some(c) = carrier {
+                let out = sedimentation::settle(
+                    &mut state.charge[c.index()],
+                    &state.fall_speed[i],
+                    dz,
+                    h,
+                );
+                state.charge_transport.precipitated += out;
+            }
+        }
+    }
+    state.water.precipitation += precip;
+    state.precip_rate = precip / dt;
+}

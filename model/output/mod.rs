@@ -12,6 +12,7 @@ use crate::constants::{CP_DRY, P_REF_THETA, R_DRY};
 use crate::discharge::record::{FlashKind, FlashRecord};
 use crate::error::RunError;
 use crate::experiment::Experiment;
+use crate::microphysics::species::Species;
 use crate::state::State;
 use crate::timeloop::RunSummary;
 
@@ -141,14 +142,6 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         )
         .standard("air_density"),
         OutputVar::new(
-            "humidity_mixing_ratio",
-            "water vapour mixing ratio",
-            "kg kg-1",
-            Centre,
-            Box::new(|_, s, o| o.copy_from_slice(&s.vapour)),
-        )
-        .standard("humidity_mixing_ratio"),
-        OutputVar::new(
             "air_potential_temperature",
             "dry potential temperature referred to 1000 hPa",
             "K",
@@ -164,6 +157,102 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Box::new(|_, s, o| o.copy_from_slice(&s.charge_total)),
         ),
     ];
+    v.push(
+        OutputVar::new(
+            "upward_air_velocity",
+            "prescribed vertical air velocity",
+            "m s-1",
+            Face,
+            Box::new(|_, s, o| o.copy_from_slice(&s.w)),
+        )
+        .standard("upward_air_velocity"),
+    );
+    for sp in Species::ALL {
+        let standard = match sp {
+            Species::Vapour => Some("humidity_mixing_ratio"),
+            Species::Cloud => Some("cloud_liquid_water_mixing_ratio"),
+            Species::Ice => Some("cloud_ice_mixing_ratio"),
+            _ => None,
+        };
+        let mut var = OutputVar::new(
+            format!("q_{}", sp.name()),
+            format!("{} mixing ratio", sp.long_name()),
+            "kg kg-1",
+            Centre,
+            Box::new(move |_, s, o| o.copy_from_slice(&s.q[sp.index()])),
+        );
+        var.standard_name = standard;
+        v.push(var);
+    }
+    v.push(OutputVar::new(
+        "n_ice",
+        "number of cloud-ice crystals per kg of air",
+        "kg-1",
+        Centre,
+        Box::new(|_, s, o| o.copy_from_slice(&s.n_ice)),
+    ));
+    for (ice, name, long) in [
+        (
+            false,
+            "relative_humidity",
+            "relative humidity over liquid water",
+        ),
+        (true, "relative_humidity_ice", "relative humidity over ice"),
+    ] {
+        let mut var = OutputVar::new(
+            name,
+            long,
+            "1",
+            Centre,
+            Box::new(move |e, s, o| {
+                for (k, x) in o.iter_mut().enumerate() {
+                    let p = e.base.centre.pressure[k];
+                    let t = s.potential_temperature[k] * crate::microphysics::exner(p);
+                    let (qsw, qsi) = crate::microphysics::rates::saturation_ratios(t, p);
+                    // Ratio of vapour pressures e/e_s from the mixing ratios.
+                    let e = crate::microphysics::rates::vapour_pressure(s.q[0][k], p);
+                    let es = |qs: f64| qs * p / (crate::constants::EPSILON + qs);
+                    *x = e / es(if ice { qsi } else { qsw });
+                }
+            }),
+        );
+        if !ice {
+            var.standard_name = Some("relative_humidity");
+        }
+        v.push(var);
+    }
+    for (i, sp) in Species::FALLING.iter().enumerate() {
+        v.push(
+            OutputVar::new(
+                format!("fall_speed_{}", sp.name()),
+                format!("mass-weighted fall speed of {}", sp.long_name()),
+                "m s-1",
+                Centre,
+                Box::new(move |_, s, o| o.copy_from_slice(&s.fall_speed[i])),
+            )
+            .comment("positive downward"),
+        );
+    }
+    v.push(
+        OutputVar::new(
+            "precipitation_flux",
+            "surface precipitation rate (all species, mean over the last step)",
+            "kg m-2 s-1",
+            Series,
+            Box::new(|_, s, o| o[0] = s.precip_rate),
+        )
+        .standard("precipitation_flux"),
+    );
+    v.push(
+        OutputVar::new(
+            "precipitation_amount",
+            "accumulated surface precipitation since the start",
+            "kg m-2",
+            Series,
+            Box::new(|_, s, o| o[0] = s.water.precipitation),
+        )
+        .standard("precipitation_amount"),
+    );
     for c in Carrier::ALL {
         v.push(OutputVar::new(
             format!("charge_density_{}", c.name()),

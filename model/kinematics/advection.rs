@@ -1,0 +1,126 @@
+//! Vertical advection by the prescribed updraft.
+//!
+//! Advective form, dq/dt = -w dq/dz, for mixing ratios and specific
+//! quantities, written so that mass bookkeeping is exact: with the face mass
+//! flux M = rho w (kg m-2 s-1) and face values q_f,
+//!
+//!   q_k <- q_k - dt/(rho_k dz) [ M_{k+1/2} (q_f,{k+1/2} - q_k) - M_{k-1/2} (q_f,{k-1/2} - q_k) ].
+//!
+//! This equals the flux form -d(M q)/dz plus q dM/dz; the second term is the
+//! exchange through the column's sides that a one-dimensional column with a
+//! height-dependent M implies (air entering where M grows with height,
+//! leaving where it shrinks), at the local q. Each part is booked in
+//! [`Budget`], so the column's mass changes by exactly
+//! inflow - outflow + lateral exchange.
+//!
+//! Face values are second order and flux limited: the upwind value plus the
+//! Lax-Wendroff correction 0.5 (1 - C) phi(r) (q_downwind - q_upwind) with the
+//! monotonised-central limiter phi(r) = max(0, min(2r, (1+r)/2, 2)) (van Leer
+//! 1977, J. Comput. Phys. 23, 276; the TVD framework of Sweby 1984, SIAM J.
+//! Numer. Anal. 21, 995). Next to the boundaries the face value is the upwind
+//! value (first order). With the Courant number below 1/2 this is monotone
+//! and positive definite; [`substeps`] picks the number of sub-steps.
+
+/// Mass bookkeeping of one advected field (kg m-2 for mixing ratios; the
+/// field's unit times kg m-2 in general).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Budget {
+    /// Entered through the ground face (negative if it left there).
+    pub bottom: f64,
+    /// Left through the model top (negative if it entered there).
+    pub top: f64,
+    /// Gained through the sides (negative: lost), the q dM/dz term.
+    pub lateral: f64,
+}
+
+impl Budget {
+    pub fn add(&mut self, other: &Budget) {
+        self.bottom += other.bottom;
+        self.top += other.top;
+        self.lateral += other.lateral;
+    }
+
+    /// Net gain of the column.
+    pub fn net(&self) -> f64 {
+        self.bottom - self.top + self.lateral
+    }
+}
+
+/// Largest Courant number allowed per sub-step.
+pub const MAX_COURANT: f64 = 0.5;
+
+/// Number of sub-steps so that |M| dt_sub/(rho dz) <= MAX_COURANT everywhere.
+pub fn substeps(mass_flux: &[f64], rho: &[f64], dz: f64, dt: f64) -> usize {
+    let n = rho.len();
+    let mut c: f64 = 0.0;
+    for (j, m) in mass_flux.iter().enumerate() {
+        // The receiving cell's density (both neighbours for interior faces).
+        let lo = if j > 0 { rho[j - 1] } else { rho[0] };
+        let hi = if j < n { rho[j] } else { rho[n - 1] };
+        c = c.max(m.abs() * dt / (lo.min(hi) * dz));
+    }
+    (c / MAX_COURANT).ceil().max(1.0) as usize
+}
+
+fn limiter(r: f64) -> f64 {
+    (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
+}
+
+/// One advection step of `dt` s. `m` holds rho w on the n+1 faces (kg m-2
+/// s-1), `rho` the cell densities (kg m-3); `inflow` the values that enter
+/// through the bottom and top faces when the flow is inward there. `faces`
+/// is work space of length n+1. Returns the budget of the step.
+pub fn advect(
+    q: &mut [f64],
+    m: &[f64],
+    rho: &[f64],
+    dz: f64,
+    dt: f64,
+    inflow: (f64, f64),
+    faces: &mut [f64],
+) -> Budget {
+    let n = q.len();
+    for j in 0..=n {
+        let mj = m[j];
+        faces[j] = if mj >= 0.0 {
+            // Upward: upwind cell j-1.
+            if j == 0 {
+                inflow.0
+            } else if j == n || j == 1 {
+                q[j - 1]
+            } else {
+                let (up, down, far) = (q[j - 1], q[j], q[j - 2]);
+                let delta = down - up;
+                if delta == 0.0 {
+                    up
+                } else {
+                    let c = mj * dt / (rho[j - 1] * dz);
+                    up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
+                }
+            }
+        } else if j == n {
+            inflow.1
+        } else if j == 0 || j == n - 1 {
+            q[j]
+        } else {
+            let (up, down, far) = (q[j], q[j - 1], q[j + 1]);
+            let delta = down - up;
+            if delta == 0.0 {
+                up
+            } else {
+                let c = -mj * dt / (rho[j] * dz);
+                up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
+            }
+        };
+    }
+    let mut b = Budget {
+        bottom: dt * m[0] * faces[0],
+        top: dt * m[n] * faces[n],
+        lateral: 0.0,
+    };
+    for k in 0..n {
+        b.lateral += dt * q[k] * (m[k + 1] - m[k]);
+        q[k] -= dt / (rho[k] * dz) * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
+    }
+    b
+}

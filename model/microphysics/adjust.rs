@@ -1,0 +1,93 @@
+//! Instantaneous adjustments applied outside the ODE integration: saturation
+//! adjustment of cloud water, homogeneous freezing of cloud water below
+//! -40 degC, melting of cloud ice above 0 degC and ice nucleation.
+
+use super::params::MicroParams;
+use super::rates::{saturation_ratios, CellState};
+use crate::constants::{CP_DRY, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
+
+/// Temperature of homogeneous freezing of cloud droplets (K): -40 degC
+/// (common practice; e.g. Pruppacher & Klett 1997, ch. 7).
+pub const T_HOMOGENEOUS: f64 = T_MELT - 40.0;
+
+/// Saturation adjustment (condensation/evaporation of cloud water with latent
+/// heating) at pressure `p` (Pa): finds the condensate c such that
+/// q_v - c = q_sw(T + L_v c / c_p), by Newton's method on that equation (the
+/// classic isobaric adjustment, e.g. Soong & Ogura 1973, JAS 30, here with
+/// Murphy & Koop 2005 saturation). Evaporation is limited to the cloud water
+/// present. Conserves q_v + q_c and the liquid-water static energy
+/// c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
+pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
+    let (qv0, qc0, t0) = (s.q[0], s.q[1], s.t);
+    let f = |c: f64| {
+        let t = t0 + L_VAPORISATION * c / CP_DRY;
+        qv0 - c - saturation_ratios(t, p).0
+    };
+    if f(0.0) <= 0.0 && qc0 <= 0.0 {
+        return 0.0; // subsaturated, no cloud to evaporate
+    }
+    let mut c = 0.0;
+    for _ in 0..30 {
+        let h = 1e-9;
+        let fc = f(c);
+        let d = (f(c + h) - fc) / h;
+        let next = c - fc / d;
+        let done = (next - c).abs() < 1e-15;
+        c = next;
+        if done {
+            break;
+        }
+    }
+    // Cannot evaporate more cloud than exists.
+    let c = c.max(-qc0);
+    s.q[0] = qv0 - c;
+    s.q[1] = qc0 + c;
+    s.t = t0 + L_VAPORISATION * c / CP_DRY;
+    c
+}
+
+/// Homogeneous freezing of all cloud water below -40 degC and melting of all
+/// cloud ice above 0 degC (instantaneous, common practice in bulk schemes;
+/// LFO83 treat cloud-ice melting the same way). Frozen droplets become
+/// crystals of `droplet_mass`; melted ice becomes cloud water.
+pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
+    if s.t < T_HOMOGENEOUS && s.q[1] > 0.0 {
+        let qc = s.q[1];
+        s.q[1] = 0.0;
+        s.q[3] += qc;
+        s.n_ice += qc / p.droplet_mass;
+        s.t += L_FUSION * qc / CP_DRY;
+    } else if s.t > T_MELT && s.q[3] > 0.0 {
+        // Melt only as much as the heat above 0 degC allows.
+        let melt = s.q[3].min(CP_DRY * (s.t - T_MELT) / L_FUSION);
+        let frac = melt / s.q[3];
+        s.q[3] -= melt;
+        s.n_ice *= 1.0 - frac;
+        s.q[1] += melt;
+        s.t -= L_FUSION * melt / CP_DRY;
+    }
+}
+
+/// Ice nucleation: raises the crystal number toward the active-nucleus
+/// number of the chosen parameterisation (per kg of air: N / rho), each new
+/// crystal taking `nucleated_mass` from the vapour (deposition heating).
+/// Returns the mass nucleated (kg kg-1).
+pub fn nucleate(s: &mut CellState, p_air: f64, rho: f64, p: &MicroParams) -> f64 {
+    let (_, qsi) = saturation_ratios(s.t, p_air);
+    let si = s.q[0] / qsi;
+    let target = p.nuclei(s.t, si) / rho;
+    let new = (target - s.n_ice).max(0.0);
+    if new <= 0.0 {
+        return 0.0;
+    }
+    // Never take the vapour below ice saturation.
+    let mass = (new * p.nucleated_mass).min((s.q[0] - qsi).max(0.0));
+    if mass <= 0.0 {
+        return 0.0;
+    }
+    s.n_ice += mass / p.nucleated_mass;
+    s.q[0] -= mass;
+    s.q[3] += mass;
+    s.t += L_SUBLIMATION * mass / CP_DRY;
+    mass
+}
