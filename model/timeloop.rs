@@ -45,6 +45,10 @@ pub struct RunSummary {
     /// Steps that ended with the trigger still met after the per-step flash
     /// bound, and the first such time (s).
     pub flash_bound_hits: (u64, Option<f64>),
+    /// Surface precipitation accumulated (kg m-2).
+    pub precipitation: f64,
+    /// Steps in which transport sub-stepped, and the most sub-steps used.
+    pub substeps: (u64, usize),
 }
 
 impl RunSummary {
@@ -78,6 +82,8 @@ pub fn run(
         first_flash: None,
         ground_charge: 0.0,
         flash_bound_hits: (0, None),
+        precipitation: 0.0,
+        substeps: (0, 1),
     };
     summary.watch(exp, &state);
     for o in observers.iter_mut() {
@@ -108,6 +114,8 @@ pub fn run(
     summary.first_flash = state.ledger.flashes.first().map(|f| f.time);
     summary.ground_charge = state.ledger.ground_charge;
     summary.flash_bound_hits = (state.ledger.bound_hits, state.ledger.first_bound_hit);
+    summary.precipitation = state.water.precipitation;
+    summary.substeps = state.substeps;
     for o in observers.iter_mut() {
         o.finish(exp, &state, &summary)?;
     }

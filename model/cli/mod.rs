@@ -205,6 +205,20 @@ fn cmd_run(
             summary.records,
             started.elapsed().as_secs_f64()
         );
+        if !matches!(exp.microphysics, crate::microphysics::Scheme::Off) {
+            println!(
+                "  surface precipitation: {:.1} kg m-2 (mm of water)",
+                summary.precipitation
+            );
+        }
+        if summary.substeps.0 > 0 {
+            println!(
+                "  transport sub-stepped in {} steps (up to {} sub-steps) to keep the Courant number below {}",
+                summary.substeps.0,
+                summary.substeps.1,
+                crate::kinematics::advection::MAX_COURANT
+            );
+        }
         if exp.discharge.enabled {
             let [ic, ng, pg] = summary.flash_counts;
             println!("  flashes: {ic} intracloud, {ng} negative ground, {pg} positive ground");
