@@ -27,7 +27,7 @@ def main():
         p = ds["air_pressure"][a.record, :]
         tk = ds["air_temperature"][a.record, :]
         rho = ds["air_density"][a.record, :]
-        rv = ds["humidity_mixing_ratio"][a.record, :]
+        rv = ds["q_vapour"][a.record, :]
         for k in range(0, len(z), a.every):
             print(f"{z[k]:9.0f} {p[k] / 100:9.2f} {tk[k] - 273.15:9.2f} {rho[k]:13.5f} {rv[k] * 1e3:11.3f}")
 
