@@ -16,17 +16,21 @@ pub enum Carrier {
     Ice,
     Snow,
     Graupel,
+    /// The small-ion reservoir: charge released by evaporating or
+    /// sublimating hydrometeors and by species that vanish. Moves with the air.
+    Ions,
 }
 
 impl Carrier {
     /// Every carrier, in state order.
-    pub const ALL: [Carrier; 6] = [
+    pub const ALL: [Carrier; 7] = [
         Carrier::Prescribed,
         Carrier::Cloud,
         Carrier::Rain,
         Carrier::Ice,
         Carrier::Snow,
         Carrier::Graupel,
+        Carrier::Ions,
     ];
 
     /// Name used in output variables (`charge_density_<name>`).
@@ -38,6 +42,25 @@ impl Carrier {
             Carrier::Ice => "ice",
             Carrier::Snow => "snow",
             Carrier::Graupel => "graupel",
+            Carrier::Ions => "ions",
+        }
+    }
+
+    /// Whether the air carries this charge along (everything but the
+    /// prescribed charge, which stays where it is put).
+    pub fn advected(self) -> bool {
+        self != Carrier::Prescribed
+    }
+
+    /// The carrier of a species' charge (vapour: the ion reservoir).
+    pub fn of(species: Species) -> Carrier {
+        match species {
+            Species::Vapour => Carrier::Ions,
+            Species::Cloud => Carrier::Cloud,
+            Species::Rain => Carrier::Rain,
+            Species::Ice => Carrier::Ice,
+            Species::Snow => Carrier::Snow,
+            Species::Graupel => Carrier::Graupel,
         }
     }
 
@@ -49,7 +72,7 @@ impl Carrier {
     /// The hydrometeor species that carries this charge, if any.
     pub fn species(self) -> Option<Species> {
         match self {
-            Carrier::Prescribed => None,
+            Carrier::Prescribed | Carrier::Ions => None,
             Carrier::Cloud => Some(Species::Cloud),
             Carrier::Rain => Some(Species::Rain),
             Carrier::Ice => Some(Species::Ice),

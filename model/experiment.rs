@@ -58,6 +58,8 @@ pub struct Experiment {
     /// Size distributions and fall laws (bulk parameters; used for fall
     /// speeds in every mode).
     pub fall: crate::microphysics::params::MicroParams,
+    /// Charging scheme and parameters.
+    pub charging: crate::charging::ChargingParams,
 }
 
 impl Experiment {
@@ -186,6 +188,7 @@ impl Experiment {
             crate::experiment_physics::scheme(&config.microphysics, &config.hydrometeors.layers)
                 .map_err(err)?;
         let fall = crate::experiment_physics::micro_params(&config.microphysics);
+        let charging = crate::experiment_physics::charging(&config.charging).map_err(err)?;
         Ok(Experiment {
             config,
             grid,
@@ -198,6 +201,7 @@ impl Experiment {
             updraft,
             microphysics,
             fall,
+            charging,
         })
     }
 

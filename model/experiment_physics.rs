@@ -120,6 +120,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
             NucleationKind::Fletcher1962 => Nucleation::Fletcher1962,
         },
         max_nuclei: c.max_ice_nuclei,
+        nuclei_scale: c.ice_nuclei_scale,
         rime_splintering: c.rime_splintering,
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,
@@ -204,4 +205,40 @@ pub fn scheme(c: &MicrophysicsConfig, layers: &[HydroLayerConfig]) -> Result<Sch
             Ok(Scheme::Prescribed(PrescribedHydrometeors { layers }))
         }
     }
+}
+
+/// The charging parameters of the configuration.
+pub fn charging(
+    c: &crate::config::ChargingConfig,
+) -> Result<crate::charging::ChargingParams, ConfigIssue> {
+    use crate::charging::{ChargingParams, Scheme as Charge};
+    use crate::config::ChargingScheme;
+    if c.taper_end >= c.taper_start {
+        return Err(ConfigIssue::new(
+            "charging.taper_end",
+            format!(
+                "must be colder than charging.taper_start ({} degC)",
+                c.taper_start
+            ),
+        )
+        .value(format!("{}", c.taper_end))
+        .unit("degC"));
+    }
+    Ok(ChargingParams {
+        scheme: match c.scheme {
+            ChargingScheme::Off => Charge::Off,
+            ChargingScheme::Gardiner1985 => Charge::Gardiner1985 {
+                reversal: c.reversal_temperature,
+            },
+            ChargingScheme::SaundersPeck1998 => Charge::SaundersPeck1998,
+        },
+        scale: c.scale,
+        cap: c.max_charge_per_collision * 1e-15,
+        taper_start: c.taper_start,
+        taper_end: c.taper_end,
+        inductive: c.inductive,
+        cos_theta: c.inductive_cos_theta,
+        rebound_probability: c.inductive_rebound_probability,
+        droplet_diameter: c.inductive_droplet_diameter,
+    })
 }

@@ -28,6 +28,7 @@
 // they are built once on a cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
+pub mod analysis;
 pub mod atmosphere;
 pub mod breakdown;
 pub mod carriers;

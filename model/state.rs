@@ -32,6 +32,10 @@ pub struct State {
     pub water: WaterLedger,
     /// Charge moved by transport since the start.
     pub charge_transport: ChargeLedger,
+    /// Charging rates of the last step.
+    pub charging: crate::charging::ChargingRates,
+    /// Column charge at the start (C m-2), for the charge budget.
+    pub initial_column_charge: f64,
     /// Steps in which transport had to sub-step, and the largest number of sub-steps.
     pub substeps: (u64, usize),
     /// Work arrays of the transport (allocated once).
@@ -80,6 +84,8 @@ pub struct ChargeLedger {
     pub advected_in: f64,
     /// Charge carried to the ground by precipitation.
     pub precipitated: f64,
+    /// Charge added by prescribed sources (layer growth).
+    pub added: f64,
 }
 
 impl State {
@@ -105,6 +111,8 @@ impl State {
             precip_rate: 0.0,
             water: WaterLedger::default(),
             charge_transport: ChargeLedger::default(),
+            charging: crate::charging::ChargingRates::new(n),
+            initial_column_charge: 0.0,
             substeps: (0, 1),
             kin_scratch: crate::kinematics::Scratch::new(n),
             charge,
@@ -125,7 +133,19 @@ impl State {
         crate::kinematics::update_fall_speeds(exp, &mut s);
         crate::electrostatics::solve(exp, &mut s);
         crate::breakdown::evaluate(exp, &mut s);
+        s.initial_column_charge = s.column_charge;
         s
+    }
+
+    /// Charge budget residual (C m-2): the column charge minus everything
+    /// that should have made it (start + sources + advection - precipitation
+    /// - charge lowered to ground by flashes). Zero to round-off.
+    pub fn charge_budget_residual(&self) -> f64 {
+        let t = &self.charge_transport;
+        self.column_charge
+            - (self.initial_column_charge + t.added + t.advected_in
+                - t.precipitated
+                - self.ledger.ground_charge)
     }
 
     /// Total charge density = sum over carriers.

@@ -2,8 +2,10 @@
 //! the order the crate documentation lists; observers see the state at t = 0
 //! and every output interval.
 
+use crate::carriers::Carrier;
 use crate::error::RunError;
 use crate::experiment::Experiment;
+use crate::microphysics::species::Species;
 use crate::output::Observer;
 use crate::state::State;
 use crate::{breakdown, charging, discharge, electrostatics, kinematics, microphysics};
@@ -49,6 +51,11 @@ pub struct RunSummary {
     pub precipitation: f64,
     /// Steps in which transport sub-stepped, and the most sub-steps used.
     pub substeps: (u64, usize),
+    /// Largest mean charge per precipitation particle seen (C, magnitude).
+    pub max_particle_charge: f64,
+    /// Cell-steps in which a species' mean particle charge exceeded the
+    /// Rayleigh limit of its mean radius.
+    pub rayleigh_exceeded: u64,
 }
 
 impl RunSummary {
@@ -60,6 +67,32 @@ impl RunSummary {
         }
         for (p, c) in self.peak_ratio.iter_mut().zip(&state.criteria) {
             *p = p.max(c.ratio);
+        }
+        if state
+            .charge
+            .iter()
+            .skip(1)
+            .any(|c| c.iter().any(|&x| x != 0.0))
+        {
+            let f = exp.fall_laws();
+            for (sp, dist) in [
+                (Species::Rain, &f.rain),
+                (Species::Snow, &f.snow),
+                (Species::Graupel, &f.graupel),
+            ] {
+                let charge = &state.charge[Carrier::of(sp).index()];
+                for (k, &c) in charge.iter().enumerate() {
+                    let rho = exp.base.centre.density[k];
+                    if let Some((q, r)) =
+                        crate::charging::mean_particle_charge(dist, rho, state.q[sp.index()][k], c)
+                    {
+                        self.max_particle_charge = self.max_particle_charge.max(q.abs());
+                        if q.abs() > crate::charging::rayleigh_limit(r) {
+                            self.rayleigh_exceeded += 1;
+                        }
+                    }
+                }
+            }
         }
     }
 }
@@ -84,6 +117,8 @@ pub fn run(
         flash_bound_hits: (0, None),
         precipitation: 0.0,
         substeps: (0, 1),
+        max_particle_charge: 0.0,
+        rayleigh_exceeded: 0,
     };
     summary.watch(exp, &state);
     for o in observers.iter_mut() {

@@ -1,18 +1,243 @@
-//! Charge sources: prescribed charge growth (implemented, [`prescribed`]) and
-//! non-inductive and inductive charge separation between hydrometeors.
-//!
-//! STUB (hydrometeor charging): the published charging schemes arrive with the
-//! issue "Charging schemes on hydrometeors"; until then only prescribed charge
-//! changes here.
+//! Charge sources: prescribed charge growth ([`prescribed`]), charge that
+//! follows mass in the microphysics ([`follow_mass`], called from there),
+//! non-inductive charge separation in rebounding graupel-ice, graupel-snow
+//! and snow-ice collisions with a published scheme chosen in the
+//! configuration ([`gardiner_1985`], [`saunders_peck_1998`]), and optional
+//! inductive charging ([`inductive`]). Every separation adds to one species
+//! what it takes from the other in the same cell, so it conserves charge to
+//! round-off. Units: charge densities C m-3, rates C m-3 s-1.
 
+pub mod collisions;
+pub mod follow_mass;
+pub mod gardiner_1985;
+pub mod inductive;
 pub mod prescribed;
+pub mod saunders_peck_1998;
+pub mod size_speed;
 
 use crate::carriers::Carrier;
+use crate::constants::{RHO_WATER, T_MELT};
 use crate::experiment::Experiment;
+use crate::microphysics::{dsd, exner};
 use crate::state::State;
+
+/// A non-inductive scheme.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Scheme {
+    Off,
+    /// Gardiner et al. (1985) with the reversal temperature (degC).
+    Gardiner1985 {
+        reversal: f64,
+    },
+    SaundersPeck1998,
+}
+
+/// Names accepted by `charging.scheme`.
+pub const SCHEMES: &[&str] = &["off", "gardiner_1985", "saunders_peck_1998"];
+
+/// Charging parameters (SI; temperatures in degC where noted).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ChargingParams {
+    pub scheme: Scheme,
+    /// Multiplier on the charge per collision (1).
+    pub scale: f64,
+    /// Largest |charge| per collision (C).
+    pub cap: f64,
+    /// Low-temperature taper: full charging down to `taper_start`, falling
+    /// linearly to zero at `taper_end` (degC).
+    pub taper_start: f64,
+    pub taper_end: f64,
+    pub inductive: bool,
+    pub cos_theta: f64,
+    pub rebound_probability: f64,
+    /// Cloud droplet diameter (m).
+    pub droplet_diameter: f64,
+}
+
+impl ChargingParams {
+    /// Charge gained by the collector per rebounding collision (C) at `t`
+    /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
+    /// impact speed `dv` and collector speed `v` (m s-1).
+    pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> f64 {
+        if t >= 0.0 || t <= self.taper_end {
+            return 0.0;
+        }
+        let raw = match self.scheme {
+            Scheme::Off => 0.0,
+            Scheme::Gardiner1985 { reversal } => {
+                gardiner_1985::charge_per_collision(t, reversal, lwc, d, dv)
+            }
+            // Effective water content taken as the liquid water content
+            // (collection efficiency 1), RAR = EW V.
+            Scheme::SaundersPeck1998 => saunders_peck_1998::charge_per_collision(t, lwc * v, d, dv),
+        };
+        let taper = if t < self.taper_start {
+            (t - self.taper_end) / (self.taper_start - self.taper_end)
+        } else {
+            1.0
+        };
+        (self.scale * raw * taper).clamp(-self.cap, self.cap)
+    }
+}
+
+/// Charging rates of one step (C m-3 s-1 at centres; positive when the
+/// collector named first gains positive charge).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChargingRates {
+    pub graupel_ice: Vec<f64>,
+    pub graupel_snow: Vec<f64>,
+    pub snow_ice: Vec<f64>,
+    pub inductive_graupel: Vec<f64>,
+    pub inductive_rain: Vec<f64>,
+}
+
+impl ChargingRates {
+    pub fn new(n: usize) -> Self {
+        ChargingRates {
+            graupel_ice: vec![0.0; n],
+            graupel_snow: vec![0.0; n],
+            snow_ice: vec![0.0; n],
+            inductive_graupel: vec![0.0; n],
+            inductive_rain: vec![0.0; n],
+        }
+    }
+}
+
+fn separate(charge: &mut [Vec<f64>], k: usize, gainer: Carrier, loser: Carrier, amount: f64) {
+    charge[gainer.index()][k] += amount;
+    charge[loser.index()][k] -= amount;
+}
 
 /// Charge sources over one step of `dt` s.
 pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     exp.prescribed
         .grow(&mut state.charge[Carrier::Prescribed.index()], dt);
+    let added: f64 = exp.prescribed.growth.iter().sum::<f64>() * exp.grid.dz * dt;
+    state.charge_transport.added += added;
+    let p = &exp.charging;
+    if matches!(p.scheme, Scheme::Off) && !p.inductive {
+        return;
+    }
+    let base = &exp.base.centre;
+    let f = exp.fall_laws();
+    for k in 0..exp.grid.len() {
+        let rho = base.density[k];
+        let t = state.potential_temperature[k] * exner(base.pressure[k]) - T_MELT;
+        let q = |i: usize| state.q[i][k].max(0.0);
+        let (qc, qr, qi, qs, qg) = (q(1), q(2), q(3), q(4), q(5));
+        let lwc = rho * qc * 1e3;
+        let (vg, vs, vi) = (
+            f.graupel.mass_weighted_speed(rho, qg),
+            f.snow.mass_weighted_speed(rho, qs),
+            dsd::ice::speed(rho, qi),
+        );
+        let (lg, ls, lr) = (
+            f.graupel.slope(rho, qg),
+            f.snow.slope(rho, qs),
+            f.rain.slope(rho, qr),
+        );
+        let n_ice = rho * state.n_ice[k];
+        let d_ice = dsd::ice::diameter(qi, state.n_ice[k]);
+        let cold = t < 0.0;
+        if cold && !matches!(p.scheme, Scheme::Off) {
+            let dtk = t; // T - T0 in K
+            let sep_g = 1.0 - (0.09 * dtk).exp();
+            let sep_s = 1.0 - (0.025 * dtk).exp();
+            if qg > 0.0 && qi > 0.0 {
+                let dv = (vg - vi).abs();
+                let n =
+                    collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg) * sep_g;
+                let r = n * p.per_collision(t, lwc, d_ice, dv, vg);
+                state.charging.graupel_ice[k] = r;
+                separate(&mut state.charge, k, Carrier::Graupel, Carrier::Ice, r * dt);
+            } else {
+                state.charging.graupel_ice[k] = 0.0;
+            }
+            if qg > 0.0 && qs > 0.0 {
+                let dv = (vg - vs).abs();
+                let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv) * sep_g;
+                let r = n * p.per_collision(t, lwc, 1.0 / ls, dv, vg);
+                state.charging.graupel_snow[k] = r;
+                separate(
+                    &mut state.charge,
+                    k,
+                    Carrier::Graupel,
+                    Carrier::Snow,
+                    r * dt,
+                );
+            } else {
+                state.charging.graupel_snow[k] = 0.0;
+            }
+            if qs > 0.0 && qi > 0.0 {
+                let dv = (vs - vi).abs();
+                let n =
+                    collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls) * sep_s;
+                let r = n * p.per_collision(t, lwc, d_ice, dv, vs);
+                state.charging.snow_ice[k] = r;
+                separate(&mut state.charge, k, Carrier::Snow, Carrier::Ice, r * dt);
+            } else {
+                state.charging.snow_ice[k] = 0.0;
+            }
+        } else {
+            state.charging.graupel_ice[k] = 0.0;
+            state.charging.graupel_snow[k] = 0.0;
+            state.charging.snow_ice[k] = 0.0;
+        }
+        if p.inductive && qc > 0.0 {
+            let e_z = 0.5 * (state.field[k] + state.field[k + 1]);
+            let m_drop = std::f64::consts::PI / 6.0 * RHO_WATER * p.droplet_diameter.powi(3);
+            let drops = rho * qc / m_drop; // m-3
+            for (carrier, dist, qx, lam) in [
+                (Carrier::Graupel, &f.graupel, qg, lg),
+                (Carrier::Rain, &f.rain, qr, lr),
+            ] {
+                let mut r = 0.0;
+                if qx > 0.0 && lam.is_finite() {
+                    let number = dist.n0 / lam; // collectors per m3
+                    let q_mean = state.charge[carrier.index()][k] / number;
+                    let rebounds = p.rebound_probability * drops * dist.sweep(rho, qx);
+                    r = rebounds
+                        * inductive::charge_per_rebound(
+                            p.droplet_diameter,
+                            1.0 / lam,
+                            e_z,
+                            p.cos_theta,
+                            q_mean,
+                        );
+                    separate(&mut state.charge, k, carrier, Carrier::Cloud, r * dt);
+                }
+                if carrier == Carrier::Graupel {
+                    state.charging.inductive_graupel[k] = r;
+                } else {
+                    state.charging.inductive_rain[k] = r;
+                }
+            }
+        }
+    }
+}
+
+/// Surface tension of water used for the Rayleigh limit (N m-1): 0.0728,
+/// as in the check value of check-values.md (IAPWS gives 0.07565 at 0 degC
+/// and 0.07274 at 20 degC).
+pub const SURFACE_TENSION: f64 = 0.0728;
+
+/// Rayleigh charge limit of a drop of radius `r` (m): Q = 8 pi sqrt(eps0 gamma r^3)
+/// (Rayleigh 1882; 6.38e-10 C for r = 1 mm, check-values.md).
+pub fn rayleigh_limit(r: f64) -> f64 {
+    8.0 * std::f64::consts::PI * (crate::constants::EPSILON_0 * SURFACE_TENSION * r.powi(3)).sqrt()
+}
+
+/// Mean charge per particle (C) and mean radius (m) of an exponential
+/// species holding charge density `charge` (C m-3) with mixing ratio `q`.
+pub fn mean_particle_charge(
+    dist: &dsd::Exponential,
+    rho: f64,
+    q: f64,
+    charge: f64,
+) -> Option<(f64, f64)> {
+    if q <= 1e-12 {
+        return None;
+    }
+    let lambda = dist.slope(rho, q);
+    Some((charge * lambda / dist.n0, 0.5 / lambda))
 }

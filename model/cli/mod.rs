@@ -49,6 +49,25 @@ pub enum Command {
         #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
         set: Vec<String>,
     },
+    /// Print (and optionally write as CSV) a scheme's charge per rebounding
+    /// collision over a temperature x liquid-water grid.
+    ChargingMap {
+        /// Scheme: gardiner_1985 or saunders_peck_1998.
+        #[arg(long)]
+        scheme: String,
+        /// Crystal diameter (m).
+        #[arg(long, default_value_t = 100e-6)]
+        crystal_diameter: f64,
+        /// Impact speed (m s-1); also the graupel speed in the rime accretion rate.
+        #[arg(long, default_value_t = 3.0)]
+        impact_speed: f64,
+        /// Reversal temperature for gardiner_1985 (degC).
+        #[arg(long, default_value_t = -15.0, allow_hyphen_values = true)]
+        reversal_temperature: f64,
+        /// Write the grid as CSV to this file.
+        #[arg(long)]
+        csv: Option<PathBuf>,
+    },
     /// Write a complete, commented configuration listing every key.
     Init {
         /// Where to write it.
@@ -74,6 +93,19 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             quiet,
         } => cmd_run(config, output, &set, replay, quiet, command_line),
         Command::Check { config, set } => cmd_check(&config, &set),
+        Command::ChargingMap {
+            scheme,
+            crystal_diameter,
+            impact_speed,
+            reversal_temperature,
+            csv,
+        } => cmd_charging_map(
+            &scheme,
+            crystal_diameter,
+            impact_speed,
+            reversal_temperature,
+            csv.as_deref(),
+        ),
         Command::Init {
             reference: true, ..
         } => {
@@ -181,6 +213,12 @@ fn cmd_run(
     if let Some(b) = bar {
         b.finish_and_clear();
     }
+    if summary.rayleigh_exceeded > 0 {
+        eprintln!(
+            "stormcharge: warning: mean particle charge exceeded the Rayleigh limit in {} cell-steps; the charging scale or cap may be too large",
+            summary.rayleigh_exceeded
+        );
+    }
     if let (hits @ 1.., Some(first)) = summary.flash_bound_hits {
         eprintln!(
             "stormcharge: warning: the limit of {} flashes per step was reached with the trigger still met in {hits} steps (first at t = {first} s); shorten time.step or revisit the thresholds",
@@ -217,6 +255,12 @@ fn cmd_run(
                 summary.substeps.0,
                 summary.substeps.1,
                 crate::kinematics::advection::MAX_COURANT
+            );
+        }
+        if summary.max_particle_charge > 0.0 {
+            println!(
+                "  largest mean charge per precipitation particle: {:.1} pC",
+                summary.max_particle_charge * 1e12
             );
         }
         if exp.discharge.enabled {
@@ -283,5 +327,98 @@ fn cmd_init(path: &Path, force: bool) -> Result<(), RunError> {
         source,
     })?;
     println!("stormcharge: wrote {}", path.display());
+    Ok(())
+}
+
+fn cmd_charging_map(
+    scheme: &str,
+    d: f64,
+    v: f64,
+    reversal: f64,
+    csv: Option<&Path>,
+) -> Result<(), RunError> {
+    use crate::charging::Scheme;
+    let usage = |key: &str, value: String, msg: &str, allowed: &str| {
+        RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new(key, msg).value(value).allowed(allowed),
+        ))
+    };
+    let scheme = match scheme {
+        "gardiner_1985" => Scheme::Gardiner1985 { reversal },
+        "saunders_peck_1998" => Scheme::SaundersPeck1998,
+        other => {
+            return Err(usage(
+                "--scheme",
+                format!("\"{other}\""),
+                "unknown charging scheme",
+                "\"gardiner_1985\", \"saunders_peck_1998\"",
+            ))
+        }
+    };
+    if !(1e-6..=1e-2).contains(&d) {
+        return Err(usage(
+            "--crystal-diameter",
+            format!("{d}"),
+            "out of range (m)",
+            "[1e-6, 1e-2]",
+        ));
+    }
+    if !(0.1..=30.0).contains(&v) {
+        return Err(usage(
+            "--impact-speed",
+            format!("{v}"),
+            "out of range (m s-1)",
+            "[0.1, 30]",
+        ));
+    }
+    if !(-30.0..=-5.0).contains(&reversal) {
+        return Err(usage(
+            "--reversal-temperature",
+            format!("{reversal}"),
+            "out of range (degC)",
+            "[-30, -5]",
+        ));
+    }
+    let params = crate::charging::ChargingParams {
+        scheme,
+        scale: 1.0,
+        cap: f64::INFINITY,
+        taper_start: -40.0,
+        taper_end: -41.0,
+        inductive: false,
+        cos_theta: 0.0,
+        rebound_probability: 0.0,
+        droplet_diameter: 2e-5,
+    };
+    let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0];
+    let temps: Vec<f64> = (1..=16).map(|i| -2.5 * i as f64).collect();
+    println!(
+        "charge gained by graupel per rebounding collision (fC); crystal {:.0} um, impact speed {} m/s",
+        d * 1e6,
+        v
+    );
+    print!("{:>8}", "T\\LWC");
+    for l in lwcs {
+        print!("{l:>9}");
+    }
+    println!("   (g m-3)");
+    let mut out = String::from("temperature_degC,liquid_water_g_m3,charge_fC\n");
+    for &t in &temps {
+        print!("{t:>8.1}");
+        for &l in &lwcs {
+            let q = params.per_collision(t, l, d, v, v) * 1e15;
+            print!("{q:>9.3}");
+            out.push_str(&format!("{t},{l},{q}\n"));
+        }
+        println!();
+    }
+    if let Some(path) = csv {
+        std::fs::write(path, out).map_err(|source| RunError::Io {
+            context: format!("writing {}", path.display()),
+            source,
+        })?;
+        println!("stormcharge: wrote {}", path.display());
+    }
     Ok(())
 }

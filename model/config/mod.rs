@@ -30,6 +30,7 @@ pub struct Config {
     pub hydrometeors: HydrometeorsConfig,
     #[serde(default)]
     pub prescribed_charge: PrescribedChargeConfig,
+    pub charging: ChargingConfig,
     pub electrostatics: ElectrostaticsConfig,
     pub breakdown: BreakdownConfig,
     pub discharge: DischargeConfig,
@@ -174,6 +175,7 @@ pub struct MicrophysicsConfig {
     pub scheme: MicroScheme,
     pub ice_nucleation: NucleationKind,
     pub max_ice_nuclei: f64,
+    pub ice_nuclei_scale: f64,
     pub rime_splintering: bool,
     pub autoconversion_rate: f64,
     pub autoconversion_threshold: f64,
@@ -263,6 +265,32 @@ pub struct LayerConfig {
     pub growth_rate: f64,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points: Option<Vec<Vec<f64>>>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum ChargingScheme {
+    #[serde(rename = "off")]
+    Off,
+    #[serde(rename = "gardiner_1985")]
+    Gardiner1985,
+    #[serde(rename = "saunders_peck_1998")]
+    SaundersPeck1998,
+}
+
+/// Input units: degC, fC, m; others dimensionless.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ChargingConfig {
+    pub scheme: ChargingScheme,
+    pub reversal_temperature: f64,
+    pub scale: f64,
+    pub max_charge_per_collision: f64,
+    pub taper_start: f64,
+    pub taper_end: f64,
+    pub inductive: bool,
+    pub inductive_cos_theta: f64,
+    pub inductive_rebound_probability: f64,
+    pub inductive_droplet_diameter: f64,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

@@ -145,7 +145,7 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             (0.0, 0.0),
             &mut sc.faces,
         );
-        for c in Carrier::ALL.iter().filter(|c| c.species().is_some()) {
+        for c in Carrier::ALL.iter().filter(|c| c.advected()) {
             let charge = &mut state.charge[c.index()];
             for k in 0..n {
                 sc.field[k] = charge[k] / rho[k];

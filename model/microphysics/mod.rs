@@ -39,7 +39,10 @@ pub enum Scheme {
     Prescribed(prescribed::PrescribedHydrometeors),
 }
 
-type Vec8 = SVector<f64, 8>;
+/// ODE state: the 8 cell variables, then the time integrals of the
+/// N_TRANSFERS mass transfers (so charge can follow each one).
+const NV: usize = 8 + rates::N_TRANSFERS;
+type Vec8 = SVector<f64, NV>;
 
 struct CellOde<'a> {
     env: CellEnv,
@@ -66,6 +69,9 @@ impl System<f64, Vec8> for CellOde<'_> {
         }
         dy[6] = dn;
         dy[7] = dt;
+        for (i, (_, _, rate)) in r.transfers().iter().enumerate() {
+            dy[8 + i] = *rate;
+        }
     }
 }
 
@@ -77,16 +83,52 @@ pub fn exner(p: f64) -> f64 {
 /// Smallest mixing ratio treated as present (kg kg-1).
 const TINY: f64 = 1e-14;
 
-/// Integrates one cell's processes over `dt` s. Returns the mass (kg kg-1)
-/// that the clipping of negative values had to create (normally zero).
-pub fn step_cell(s: &mut CellState, env: CellEnv, p: &MicroParams, dt: f64) -> Result<f64, String> {
+/// What one cell's step did, for the charge that follows the mass.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct CellReport {
+    /// Mass created by clipping (kg kg-1), normally zero.
+    pub created: f64,
+    /// Cloud water frozen homogeneously (kg kg-1).
+    pub frozen: f64,
+    /// Cloud ice melted instantaneously (kg kg-1) out of `ice_before_melt`.
+    pub melted: f64,
+    pub ice_before_melt: f64,
+    /// Mixing ratios entering the integration (kg kg-1).
+    pub q_start: [f64; 6],
+    /// Time integrals of the transfers of `Rates::transfers` (kg kg-1).
+    pub transfers: [f64; rates::N_TRANSFERS],
+    /// Cloud water before the saturation adjustment and the condensate it
+    /// formed (negative: evaporated) (kg kg-1).
+    pub cloud_before_adjust: f64,
+    pub condensed: f64,
+}
+
+/// Integrates one cell's processes over `dt` s and reports the transfers.
+pub fn step_cell(
+    s: &mut CellState,
+    env: CellEnv,
+    p: &MicroParams,
+    dt: f64,
+) -> Result<CellReport, String> {
+    let mut report = CellReport::default();
+    let (qc0, qi0) = (s.q[1], s.q[3]);
     adjust::freeze_or_melt(s, p);
+    if s.q[1] < qc0 {
+        report.frozen = qc0 - s.q[1];
+    }
+    if s.q[3] < qi0 {
+        report.melted = qi0 - s.q[3];
+        report.ice_before_melt = qi0;
+    }
     adjust::nucleate(s, env.p, env.rho, p);
+    report.q_start = s.q;
     let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
     if has_condensate {
-        let y0 = Vec8::from_column_slice(&[
-            s.q[0], s.q[1], s.q[2], s.q[3], s.q[4], s.q[5], s.n_ice, s.t,
-        ]);
+        let mut init = [0.0; NV];
+        init[..6].copy_from_slice(&s.q);
+        init[6] = s.n_ice;
+        init[7] = s.t;
+        let y0 = Vec8::from_column_slice(&init);
         // Sparse output (every accepted step, the last at t = dt): the dense
         // output of ode_solvers 0.6 with an output increment equal to the
         // whole interval returns an extrapolated, wrong end value (measured).
@@ -116,6 +158,9 @@ pub fn step_cell(s: &mut CellState, env: CellEnv, p: &MicroParams, dt: f64) -> R
         })?;
         let y = solver.y_out().last().copied().unwrap_or(y0);
         *s = CellOde::unpack(&y);
+        for i in 0..rates::N_TRANSFERS {
+            report.transfers[i] = y[8 + i];
+        }
     }
     let mut created = 0.0;
     for i in 1..6 {
@@ -131,7 +176,9 @@ pub fn step_cell(s: &mut CellState, env: CellEnv, p: &MicroParams, dt: f64) -> R
     if s.q[3] <= 0.0 || s.n_ice < 0.0 {
         s.n_ice = 0.0;
     }
-    adjust::saturation_adjustment(s, env.p);
+    report.created = created;
+    report.cloud_before_adjust = s.q[1];
+    report.condensed = adjust::saturation_adjustment(s, env.p);
     // A temperature outside the validity of the saturation formulas means the
     // integration has gone wrong; stop with a clear error rather than go on.
     if !(crate::atmosphere::saturation::LIQUID_T_MIN..=crate::atmosphere::saturation::LIQUID_T_MAX)
@@ -143,7 +190,7 @@ pub fn step_cell(s: &mut CellState, env: CellEnv, p: &MicroParams, dt: f64) -> R
             env.p
         ));
     }
-    Ok(created)
+    Ok(report)
 }
 
 /// Microphysics over one step of `dt` s.
@@ -167,13 +214,14 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * pi,
                 };
-                let created = step_cell(&mut cell, env, params, dt).map_err(|message| {
+                let report = step_cell(&mut cell, env, params, dt).map_err(|message| {
                     RunError::Numerics {
                         time: state.time,
                         message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
                     }
                 })?;
-                state.water.clip_created += created * env.rho * exp.grid.dz;
+                state.water.clip_created += report.created * env.rho * exp.grid.dz;
+                crate::charging::follow_mass::apply(&report, &cell.q, &mut state.charge, k);
                 for sp in Species::ALL {
                     state.q[sp.index()][k] = cell.q[sp.index()];
                 }

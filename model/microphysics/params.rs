@@ -38,6 +38,8 @@ pub struct MicroParams {
     /// Upper bound on active ice nuclei (m-3); 1e5 (100 per litre) by default
     /// (common practice, to keep exponential formulas finite at cold temperatures).
     pub max_nuclei: f64,
+    /// Multiplier on the nucleus number (1 = the published formula).
+    pub nuclei_scale: f64,
     /// Mass of a newly nucleated crystal (kg), 1e-12 (RH84, from memory).
     pub nucleated_mass: f64,
     /// Rime splintering (Hallett & Mossop 1974) on or off.
@@ -69,6 +71,7 @@ impl Default for MicroParams {
             bigg_a: 0.66,
             nucleation: Nucleation::Cooper1986,
             max_nuclei: 1.0e5,
+            nuclei_scale: 1.0,
             nucleated_mass: 1.0e-12,
             rime_splintering: true,
             splinters_per_kg_rime: 3.5e8,
@@ -92,6 +95,6 @@ impl MicroParams {
             Nucleation::Meyers1992 => 1.0e3 * (-0.639 + 12.96 * (si - 1.0)).exp(),
             Nucleation::Fletcher1962 => 1.0e-2 * (0.6 * dt).exp(),
         };
-        n.min(self.max_nuclei)
+        (self.nuclei_scale * n).min(self.max_nuclei)
     }
 }

@@ -12,6 +12,7 @@
 
 use super::dsd::{self, Exponential};
 use super::params::MicroParams;
+use super::species::Species;
 use crate::atmosphere::saturation::{murphy_koop_2005_ice, murphy_koop_2005_liquid};
 use crate::constants::{
     EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_WATER, R_VAPOUR, T_MELT,
@@ -244,6 +245,37 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     }
     r.limit_sinks(&[qv, qc, qr, qi, qs, qg]);
     r
+}
+
+/// Number of mass transfers in [`Rates::transfers`].
+pub const N_TRANSFERS: usize = 18;
+
+impl Rates {
+    /// Every mass transfer as (from, to, rate); deposition is listed as
+    /// vapour -> species and is negative when it is sublimation.
+    pub fn transfers(&self) -> [(Species, Species, f64); N_TRANSFERS] {
+        use Species::*;
+        [
+            (Cloud, Rain, self.cloud_to_rain_autoconversion),
+            (Cloud, Rain, self.cloud_to_rain_accretion),
+            (Rain, Vapour, self.rain_to_vapour),
+            (Vapour, Ice, self.vapour_to_ice),
+            (Vapour, Snow, self.vapour_to_snow),
+            (Vapour, Graupel, self.vapour_to_graupel),
+            (Ice, Snow, self.ice_to_snow),
+            (Cloud, Snow, self.cloud_to_snow),
+            (Cloud, Graupel, self.cloud_to_graupel),
+            (Cloud, Rain, self.cloud_to_rain_shedding),
+            (Cloud, Ice, self.cloud_to_ice_splinters),
+            (Snow, Graupel, self.snow_to_graupel),
+            (Ice, Snow, self.ice_to_snow_collection),
+            (Ice, Graupel, self.ice_to_graupel),
+            (Snow, Graupel, self.snow_to_graupel_collection),
+            (Rain, Graupel, self.rain_to_graupel),
+            (Snow, Rain, self.snow_to_rain),
+            (Graupel, Rain, self.graupel_to_rain),
+        ]
+    }
 }
 
 /// Tendencies of one cell from its rates: d q / dt (kg kg-1 s-1, `Species`

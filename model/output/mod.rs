@@ -262,6 +262,81 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Box::new(move |_, s, o| o.copy_from_slice(&s.charge[c.index()])),
         ));
     }
+    for (name, long, get) in [
+        (
+            "charging_rate_graupel_ice",
+            "non-inductive charging rate of graupel in rebounding graupel-ice collisions",
+            (|s: &State| &s.charging.graupel_ice) as fn(&State) -> &Vec<f64>,
+        ),
+        (
+            "charging_rate_graupel_snow",
+            "non-inductive charging rate of graupel in rebounding graupel-snow collisions",
+            |s: &State| &s.charging.graupel_snow,
+        ),
+        (
+            "charging_rate_snow_ice",
+            "non-inductive charging rate of snow in rebounding snow-ice collisions",
+            |s: &State| &s.charging.snow_ice,
+        ),
+        (
+            "charging_rate_inductive_graupel",
+            "inductive charging rate of graupel",
+            |s: &State| &s.charging.inductive_graupel,
+        ),
+        (
+            "charging_rate_inductive_rain",
+            "inductive charging rate of rain",
+            |s: &State| &s.charging.inductive_rain,
+        ),
+    ] {
+        v.push(
+            OutputVar::new(name, long, "C m-3 s-1", Centre, Box::new(move |_, s, o| o.copy_from_slice(get(s))))
+                .comment("positive when the first-named species gains positive charge; the other loses the same"),
+        );
+    }
+    for sp in [Species::Rain, Species::Snow, Species::Graupel] {
+        v.push(
+            OutputVar::new(
+                format!("mean_particle_charge_{}", sp.name()),
+                format!("mean charge per {} particle", sp.long_name()),
+                "C",
+                Centre,
+                Box::new(move |e, s, o| {
+                    let f = e.fall_laws();
+                    let dist = match sp {
+                        Species::Rain => &f.rain,
+                        Species::Snow => &f.snow,
+                        _ => &f.graupel,
+                    };
+                    for (k, x) in o.iter_mut().enumerate() {
+                        let rho = e.base.centre.density[k];
+                        let c = s.charge[Carrier::of(sp).index()][k];
+                        *x =
+                            crate::charging::mean_particle_charge(dist, rho, s.q[sp.index()][k], c)
+                                .map_or(0.0, |m| m.0);
+                    }
+                }),
+            )
+            .comment("charge density divided by the number concentration N0/lambda"),
+        );
+    }
+    v.push(OutputVar::new(
+        "charge_precipitated",
+        "cumulative charge carried to the ground by precipitation, per unit area",
+        "C m-2",
+        Series,
+        Box::new(|_, s, o| o[0] = s.charge_transport.precipitated),
+    ));
+    v.push(
+        OutputVar::new(
+            "charge_budget_residual",
+            "column charge minus (initial + sources + advected - precipitated - lowered to ground by flashes)",
+            "C m-2",
+            Series,
+            Box::new(|_, s, o| o[0] = s.charge_budget_residual()),
+        )
+        .comment("zero to round-off when charge is conserved"),
+    );
     let geometry = if exp.field_solver.column_area().is_some() {
         "on the axis of the finite charged column"
     } else {

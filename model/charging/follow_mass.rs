@@ -1,0 +1,79 @@
+//! Charge follows mass (physics.md section 5; common practice in published
+//! bulk models): a conversion of mass from species x to species y moves the
+//! same fraction of x's charge to y. Over a step the fraction is the mass
+//! transferred divided by the mass that passed through x (what x held at the
+//! start of the integration plus everything it gained), so the fractions of
+//! all of x's outflows never exceed one. Deposition and condensation move no
+//! charge. Evaporation and sublimation release charge in proportion to the
+//! mass lost to the small-ion reservoir; a species that vanishes releases all
+//! its remaining charge there. Every move subtracts from one carrier what it
+//! adds to another, so charge is conserved to round-off.
+
+use crate::carriers::Carrier;
+use crate::microphysics::species::Species;
+use crate::microphysics::CellReport;
+
+/// Smallest mixing ratio that still holds charge (kg kg-1).
+const VANISHED: f64 = 1e-18;
+
+fn mv(charge: &mut [Vec<f64>], k: usize, from: Carrier, to: Carrier, amount: f64) {
+    charge[from.index()][k] -= amount;
+    charge[to.index()][k] += amount;
+}
+
+/// Moves cell `k`'s charge as the microphysics step described by `report`
+/// moved its mass; `q_end` are the final mixing ratios.
+pub fn apply(report: &CellReport, q_end: &[f64; 6], charge: &mut [Vec<f64>], k: usize) {
+    // Instantaneous freezing and melting at the start of the step.
+    if report.frozen > 0.0 {
+        let c = charge[Carrier::Cloud.index()][k];
+        mv(charge, k, Carrier::Cloud, Carrier::Ice, c);
+    }
+    if report.melted > 0.0 && report.ice_before_melt > 0.0 {
+        let c = charge[Carrier::Ice.index()][k] * (report.melted / report.ice_before_melt).min(1.0);
+        mv(charge, k, Carrier::Ice, Carrier::Cloud, c);
+    }
+    // Process transfers: fractions of the charge each species held.
+    let pairs = crate::microphysics::rates::Rates::default().transfers();
+    let mut through = report.q_start;
+    for (i, (from, to, _)) in pairs.iter().enumerate() {
+        let m = report.transfers[i];
+        let dst = if m >= 0.0 { *to } else { *from };
+        if dst != Species::Vapour {
+            through[dst.index()] += m.abs();
+        }
+    }
+    let start = Species::ALL.map(|s| charge[Carrier::of(s).index()][k]);
+    for (i, (from, to, _)) in pairs.iter().enumerate() {
+        let m = report.transfers[i];
+        if m == 0.0 {
+            continue;
+        }
+        // Negative deposition is sublimation: species -> vapour.
+        let (src, dst) = if m > 0.0 { (*from, *to) } else { (*to, *from) };
+        if src == Species::Vapour {
+            continue; // vapour carries no charge
+        }
+        let avail = through[src.index()];
+        if avail <= 0.0 {
+            continue;
+        }
+        let amount = start[src.index()] * (m.abs() / avail).min(1.0);
+        mv(charge, k, Carrier::of(src), Carrier::of(dst), amount);
+    }
+    // Evaporation of cloud water in the saturation adjustment.
+    if report.condensed < 0.0 && report.cloud_before_adjust > 0.0 {
+        let c = charge[Carrier::Cloud.index()][k]
+            * (-report.condensed / report.cloud_before_adjust).min(1.0);
+        mv(charge, k, Carrier::Cloud, Carrier::Ions, c);
+    }
+    // Vanished species give everything to the ions.
+    for sp in Species::HYDROMETEORS {
+        if q_end[sp.index()] <= VANISHED {
+            let c = charge[Carrier::of(sp).index()][k];
+            if c != 0.0 {
+                mv(charge, k, Carrier::of(sp), Carrier::Ions, c);
+            }
+        }
+    }
+}
