@@ -1,6 +1,9 @@
 //! Charging: published facts of each scheme, magnitudes, conservation, the
 //! structure detector, the demo storm, inductive magnitude, the map command.
 
+mod common;
+use common::*;
+
 use std::path::Path;
 use std::process::Command;
 use stormcharge::analysis::{classify, regions, separation, Structure};
@@ -8,8 +11,6 @@ use stormcharge::carriers::Carrier;
 use stormcharge::charging::inductive::charge_per_rebound;
 use stormcharge::charging::{gardiner_1985, rayleigh_limit, saunders_peck_1998 as sp98};
 use stormcharge::experiment::Experiment;
-use stormcharge::output::memory::MemoryRecorder;
-use stormcharge::output::Observer;
 use stormcharge::state::State;
 use stormcharge::timeloop;
 
@@ -169,9 +170,7 @@ fn charge_budgets_close_over_whole_runs() {
         demo(),
         Experiment::from_text(&flash_cfg, "flashes", &[], Path::new(".")).unwrap(),
     ] {
-        let mut rec = MemoryRecorder::default();
-        let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-        let summary = timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+        let (rec, summary) = run_recorded(&exp);
         assert!(summary.flash_counts.iter().sum::<u64>() > 0);
         let residual = rec.series("charge_budget_residual");
         let scale = rec
@@ -256,9 +255,7 @@ fn demo_storm_charges_flashes_and_is_plausible() {
     // conventional breakdown; mean graupel charge is tens of pC or less
     // (Marshall & Winn; check-values.md) and below the Rayleigh limit.
     let exp = demo();
-    let mut rec = MemoryRecorder::default();
-    let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-    let s = timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+    let (rec, s) = run_recorded(&exp);
     assert!(s.flash_counts[0] > 0);
     assert!(
         s.peak_ratio[0] < 1.0,

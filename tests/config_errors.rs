@@ -2,18 +2,11 @@
 //! names the key, never a panic. (Exit-code convention: common practice for
 //! command-line tools, usage errors = 2, as clap itself does.)
 
+mod common;
+use common::*;
+
 use std::path::PathBuf;
-use std::process::{Command, Output};
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_stormcharge"))
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("stormcharge-cfgtest-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir.join(name)
-}
+use std::process::Output;
 
 fn write(name: &str, text: &str) -> PathBuf {
     let p = scratch(name);

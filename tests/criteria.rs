@@ -1,6 +1,9 @@
 //! Breakdown and inception criteria against their published values, and the
 //! prescribed teaching tripole against fields measured in storms.
 
+mod common;
+use common::*;
+
 use std::path::Path;
 use std::process::Command;
 use stormcharge::atmosphere::standard_1976::us_standard_1976;
@@ -8,13 +11,6 @@ use stormcharge::breakdown::avalanche::{max_efoldings, AvalancheParams};
 use stormcharge::breakdown::thresholds::ThresholdParams;
 use stormcharge::breakdown::Criterion;
 use stormcharge::experiment::Experiment;
-use stormcharge::output::memory::MemoryRecorder;
-use stormcharge::output::Observer;
-use stormcharge::timeloop;
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}
 
 #[test]
 fn sea_level_thresholds_are_the_published_values() {
@@ -116,9 +112,7 @@ fn teaching_tripole_fields_are_storm_like() {
     // conventional breakdown, and before flashes the field exceeded the
     // runaway threshold by factors 1.1-3.3 (Stolzenburg et al. 2007).
     let exp = teaching();
-    let mut rec = MemoryRecorder::default();
-    let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-    let summary = timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+    let (rec, summary) = run_recorded(&exp);
 
     let peak = |record: &[f64]| record.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
     let fields = rec.get("electric_field");

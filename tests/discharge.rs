@@ -5,13 +5,14 @@
 // Loops over several arrays at once read more clearly by index here.
 #![allow(clippy::needless_range_loop)]
 
+mod common;
+use common::*;
+
 use std::path::Path;
 use stormcharge::breakdown::Criterion;
 use stormcharge::discharge::record::{FlashKind, FlashRecord};
 use stormcharge::discharge::trigger_threshold;
 use stormcharge::experiment::Experiment;
-use stormcharge::output::memory::MemoryRecorder;
-use stormcharge::output::Observer;
 use stormcharge::state::State;
 use stormcharge::timeloop;
 
@@ -21,18 +22,6 @@ fn flash_config() -> String {
         Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/tripole_flashes.toml"),
     )
     .unwrap()
-}
-
-fn experiment(text: &str, overrides: &[&str]) -> Experiment {
-    let o: Vec<String> = overrides.iter().map(|s| s.to_string()).collect();
-    Experiment::from_text(text, "test", &o, Path::new(".")).unwrap()
-}
-
-fn run(exp: &Experiment) -> MemoryRecorder {
-    let mut rec = MemoryRecorder::default();
-    let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-    timeloop::run(exp, &mut obs, &mut |_| {}).unwrap();
-    rec
 }
 
 /// Steps until the first flash; returns the state just before and just after it.
@@ -177,7 +166,7 @@ fn budget_closes_over_a_whole_run() {
     // Charge conservation: everything added by the prescribed growth, minus
     // everything lowered to ground, is what the column holds (round-off).
     let exp = experiment(&flash_config(), &[]);
-    let rec = run(&exp);
+    let rec = run_recorded(&exp).0;
     let initial: f64 = exp.prescribed.initial.iter().sum::<f64>() * exp.grid.dz;
     let added: f64 =
         exp.prescribed.growth.iter().sum::<f64>() * exp.grid.dz * exp.config.time.duration;
@@ -215,7 +204,7 @@ fn two_energy_computations_agree() {
     let mut n = 0;
     for (text, o) in cases {
         let exp = experiment(text, o);
-        for f in run(&exp).flashes {
+        for f in run_recorded(&exp).0.flashes {
             assert!(f.energy > 0.0, "{o:?}: {f:?}");
             let rel = (f.energy - f.energy_from_charges).abs() / f.energy;
             assert!(
@@ -288,8 +277,8 @@ fn fraction_mode_removes_that_fraction_of_the_excess() {
 #[test]
 fn same_configuration_same_flashes() {
     let exp = experiment(&flash_config(), &[]);
-    let a = run(&exp).flashes;
-    let b = run(&experiment(&flash_config(), &[])).flashes;
+    let a = run_recorded(&exp).0.flashes;
+    let b = run_recorded(&experiment(&flash_config(), &[])).0.flashes;
     assert!(!a.is_empty());
     assert_eq!(a.len(), b.len());
     for (x, y) in a.iter().zip(&b) {
@@ -322,7 +311,7 @@ fn demo_flashes_have_published_magnitudes() {
     // as a factor of 3 outside each range.
     let exp = experiment(&flash_config(), &[]);
     let area = exp.field_solver.column_area().unwrap();
-    let flashes = run(&exp).flashes;
+    let flashes = run_recorded(&exp).0.flashes;
     let ic: Vec<_> = flashes
         .iter()
         .filter(|f| f.kind == FlashKind::Intracloud)
@@ -364,7 +353,7 @@ fn demo_flashes_have_published_magnitudes() {
 fn gates_and_bound() {
     // min_interval keeps flashes apart; the per-step bound is reported.
     let exp = experiment(&flash_config(), &["discharge.min_interval=1500"]);
-    let f = run(&exp).flashes;
+    let f = run_recorded(&exp).0.flashes;
     assert!(f.windows(2).all(|w| w[1].time - w[0].time >= 1500.0));
     // A tiny target-independent fraction cannot relieve the field in one
     // flash, so one flash per step leaves the trigger met: bound reported.

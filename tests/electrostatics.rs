@@ -2,6 +2,9 @@
 //! cylinder formulas, the method of images) and the balloon-sounding
 //! inversion rho = eps0 dE/dz.
 
+mod common;
+use common::*;
+
 use std::path::Path;
 use stormcharge::constants::EPSILON_0;
 use stormcharge::electrostatics::column::{cylinder_axial_field, ColumnSolver};
@@ -24,10 +27,6 @@ fn solve_planar(grid: &Grid, top: Top, rho: &[f64]) -> (Vec<f64>, Vec<f64>) {
     let mut e = vec![0.0; grid.len() + 1];
     s.solve(rho, &mut phi, &mut e);
     (phi, e)
-}
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
 }
 
 #[test]

@@ -2,49 +2,13 @@
 //! bit-for-bit replay from the configuration stored in the output, the `init`
 //! template, the documentation reference and every shipped config.
 
-use std::path::{Path, PathBuf};
-use std::process::Command;
+mod common;
+use common::*;
+
+use std::path::Path;
 use stormcharge::config::{self, template, DEMO_TOML};
 use stormcharge::experiment::Experiment;
 use stormcharge::output::netcdf_writer::{partial_path, CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE};
-
-fn bin() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_stormcharge"))
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("stormcharge-e2e-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir.join(name)
-}
-
-fn repo(rel: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
-}
-
-fn text_attr(f: &netcdf::File, name: &str) -> String {
-    match f
-        .attribute(name)
-        .unwrap_or_else(|| panic!("attribute {name}"))
-        .value()
-        .unwrap()
-    {
-        netcdf::AttributeValue::Str(s) => s,
-        other => panic!("{name} is not text: {other:?}"),
-    }
-}
-
-fn var_text_attr(v: &netcdf::Variable, name: &str) -> String {
-    match v
-        .attribute(name)
-        .unwrap_or_else(|| panic!("attribute {name}"))
-        .value()
-        .unwrap()
-    {
-        netcdf::AttributeValue::Str(s) => s,
-        other => panic!("{name} is not text: {other:?}"),
-    }
-}
 
 #[test]
 fn embedded_demo_is_configs_demo_toml() {

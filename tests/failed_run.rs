@@ -4,7 +4,10 @@
 //! child process spawned by another test in the same process would inherit
 //! the descriptor (HDF5 does not open with O_CLOEXEC) and with it the lock.
 
-use std::path::{Path, PathBuf};
+mod common;
+use common::*;
+
+use std::path::Path;
 use stormcharge::config::DEMO_TOML;
 use stormcharge::error::RunError;
 use stormcharge::experiment::Experiment;
@@ -12,24 +15,6 @@ use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter, STATUS_ATTR
 use stormcharge::output::Observer;
 use stormcharge::state::State;
 use stormcharge::timeloop::{self, RunSummary};
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("stormcharge-fail-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    dir.join(name)
-}
-
-fn text_attr(f: &netcdf::File, name: &str) -> String {
-    match f
-        .attribute(name)
-        .unwrap_or_else(|| panic!("attribute {name}"))
-        .value()
-        .unwrap()
-    {
-        netcdf::AttributeValue::Str(s) => s,
-        other => panic!("{name} is not text: {other:?}"),
-    }
-}
 
 /// An observer that fails at a given record, to simulate a crash mid-run.
 struct FailAt(usize, usize);

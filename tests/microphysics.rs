@@ -2,6 +2,9 @@
 //! size-distribution moments against quadrature, saturation adjustment,
 //! the water budget of a moist run, the demo storm, prescribed mode.
 
+mod common;
+use common::*;
+
 use std::path::Path;
 use stormcharge::atmosphere::saturation::murphy_koop_2005_liquid;
 use stormcharge::atmosphere::standard_1976::us_standard_1976;
@@ -12,14 +15,8 @@ use stormcharge::microphysics::params::MicroParams;
 use stormcharge::microphysics::rates::{rates, CellEnv, CellState};
 use stormcharge::microphysics::species::Species;
 use stormcharge::microphysics::{adjust, step_cell};
-use stormcharge::output::memory::MemoryRecorder;
-use stormcharge::output::Observer;
 use stormcharge::state::State;
 use stormcharge::timeloop;
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}
 
 #[test]
 fn gamma_function() {
@@ -254,9 +251,7 @@ fn demo_storm_has_every_species_in_the_right_places() {
     // supercooled cloud water (the charging zone); nothing negative or
     // non-finite anywhere.
     let exp = demo();
-    let mut rec = MemoryRecorder::default();
-    let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-    timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+    let (rec, _) = run_recorded(&exp);
     for sp in Species::ALL {
         let name = format!("q_{}", sp.name());
         let data = rec.get(&name);
@@ -334,9 +329,7 @@ fn prescribed_mode_reproduces_its_profiles() {
     let stormcharge::microphysics::Scheme::Prescribed(p) = &exp.microphysics else {
         panic!("not prescribed")
     };
-    let mut rec = MemoryRecorder::default();
-    let mut obs: [&mut dyn Observer; 1] = [&mut rec];
-    timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+    let (rec, _) = run_recorded(&exp);
     for (r, &t) in rec.times.iter().enumerate() {
         for (k, &z) in exp.grid.z.iter().enumerate() {
             for sp in [Species::Graupel, Species::Ice] {

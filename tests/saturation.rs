@@ -1,5 +1,8 @@
 //! Saturation vapour pressure against Murphy & Koop (2005).
 
+mod common;
+use common::*;
+
 use stormcharge::atmosphere::saturation::{murphy_koop_2005_ice, murphy_koop_2005_liquid};
 
 /// Values at t (degC): (t, e_w Pa, e_i Pa or NaN). Source: Murphy & Koop 2005,
@@ -15,10 +18,6 @@ const TABLE: [(f64, f64, f64); 8] = [
     (-30.0, 50.936, 38.012),
     (-40.0, 18.912, 12.844),
 ];
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}
 
 #[test]
 fn murphy_koop_2005_tabulated_values() {

@@ -1,5 +1,8 @@
 //! U.S. Standard Atmosphere 1976 against its tabulated values.
 
+mod common;
+use common::*;
+
 use stormcharge::atmosphere::standard_1976::us_standard_1976;
 use stormcharge::atmosphere::{BaseSource, BaseState};
 use stormcharge::grid::Grid;
@@ -18,10 +21,6 @@ const TABLE: [(f64, f64, f64, f64); 9] = [
     (15.0, 216.650, 12111.8, 0.194755),
     (20.0, 216.650, 5529.3, 0.0889099),
 ];
-
-fn rel(a: f64, b: f64) -> f64 {
-    (a - b).abs() / b.abs()
-}
 
 #[test]
 fn us_standard_1976_table() {

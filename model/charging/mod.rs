@@ -138,50 +138,40 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
         );
         let n_ice = rho * state.n_ice[k];
         let d_ice = dsd::ice::diameter(qi, state.n_ice[k]);
-        let cold = t < 0.0;
-        if cold && !matches!(p.scheme, Scheme::Off) {
-            let dtk = t; // T - T0 in K
-            let sep_g = 1.0 - (0.09 * dtk).exp();
-            let sep_s = 1.0 - (0.025 * dtk).exp();
+        // Rebounding collisions (m-3 s-1) times the charge per collision
+        // (crystal size d, impact speed dv, collector speed v).
+        let rate = |collisions: f64, d: f64, dv: f64, v: f64| {
+            collisions * p.per_collision(t, lwc, d, dv, v)
+        };
+        let (mut gi, mut gs, mut si) = (0.0, 0.0, 0.0);
+        if t < 0.0 && !matches!(p.scheme, Scheme::Off) {
+            let sep_g = 1.0 - (0.09 * t).exp(); // 1 - E_coll, t = T - T0 (K)
+            let sep_s = 1.0 - (0.025 * t).exp();
             if qg > 0.0 && qi > 0.0 {
                 let dv = (vg - vi).abs();
-                let n =
-                    collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg) * sep_g;
-                let r = n * p.per_collision(t, lwc, d_ice, dv, vg);
-                state.charging.graupel_ice[k] = r;
-                separate(&mut state.charge, k, Carrier::Graupel, Carrier::Ice, r * dt);
-            } else {
-                state.charging.graupel_ice[k] = 0.0;
+                let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
+                gi = rate(n * sep_g, d_ice, dv, vg);
             }
             if qg > 0.0 && qs > 0.0 {
                 let dv = (vg - vs).abs();
-                let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv) * sep_g;
-                let r = n * p.per_collision(t, lwc, 1.0 / ls, dv, vg);
-                state.charging.graupel_snow[k] = r;
-                separate(
-                    &mut state.charge,
-                    k,
-                    Carrier::Graupel,
-                    Carrier::Snow,
-                    r * dt,
-                );
-            } else {
-                state.charging.graupel_snow[k] = 0.0;
+                let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
+                gs = rate(n * sep_g, 1.0 / ls, dv, vg);
             }
             if qs > 0.0 && qi > 0.0 {
                 let dv = (vs - vi).abs();
-                let n =
-                    collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls) * sep_s;
-                let r = n * p.per_collision(t, lwc, d_ice, dv, vs);
-                state.charging.snow_ice[k] = r;
-                separate(&mut state.charge, k, Carrier::Snow, Carrier::Ice, r * dt);
-            } else {
-                state.charging.snow_ice[k] = 0.0;
+                let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls);
+                si = rate(n * sep_s, d_ice, dv, vs);
             }
-        } else {
-            state.charging.graupel_ice[k] = 0.0;
-            state.charging.graupel_snow[k] = 0.0;
-            state.charging.snow_ice[k] = 0.0;
+        }
+        state.charging.graupel_ice[k] = gi;
+        state.charging.graupel_snow[k] = gs;
+        state.charging.snow_ice[k] = si;
+        for (r, gainer, loser) in [
+            (gi, Carrier::Graupel, Carrier::Ice),
+            (gs, Carrier::Graupel, Carrier::Snow),
+            (si, Carrier::Snow, Carrier::Ice),
+        ] {
+            separate(&mut state.charge, k, gainer, loser, r * dt);
         }
         if p.inductive && qc > 0.0 {
             let e_z = 0.5 * (state.field[k] + state.field[k + 1]);
