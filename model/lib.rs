@@ -46,4 +46,5 @@ pub mod kinematics;
 pub mod microphysics;
 pub mod output;
 pub mod state;
+pub mod sweep;
 pub mod timeloop;

@@ -49,6 +49,24 @@ pub enum Command {
         #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
         set: Vec<String>,
     },
+    /// Run every member of the configuration's [sweep] in parallel.
+    Sweep {
+        config: PathBuf,
+        /// Directory for the member files and the summary.
+        #[arg(short = 'o', long = "output")]
+        output: PathBuf,
+        /// Worker threads (0: all cores).
+        #[arg(long, default_value_t = 0)]
+        threads: usize,
+        /// Run only shard K of N (every N-th member from the K-th), e.g. 2/4.
+        #[arg(long, value_name = "K/N")]
+        shard: Option<String>,
+        /// No progress bar, no summary.
+        #[arg(short, long)]
+        quiet: bool,
+    },
+    /// Join the shard summaries of a sharded sweep into summary.csv.
+    SweepMerge { dir: PathBuf },
     /// Print (and optionally write as CSV) a scheme's charge per rebounding
     /// collision over a temperature x liquid-water grid.
     ChargingMap {
@@ -93,6 +111,16 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             quiet,
         } => cmd_run(config, output, &set, replay, quiet, command_line),
         Command::Check { config, set } => cmd_check(&config, &set),
+        Command::Sweep {
+            config,
+            output,
+            threads,
+            shard,
+            quiet,
+        } => cmd_sweep(&config, &output, threads, shard.as_deref(), quiet),
+        Command::SweepMerge { dir } => {
+            crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
+        }
         Command::ChargingMap {
             scheme,
             crystal_diameter,
@@ -419,6 +447,78 @@ fn cmd_charging_map(
             source,
         })?;
         println!("stormcharge: wrote {}", path.display());
+    }
+    Ok(())
+}
+
+fn parse_shard(text: &str) -> Result<(usize, usize), RunError> {
+    let bad = || {
+        RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("--shard", "must be K/N with 1 <= K <= N")
+                .value(format!("\"{text}\""))
+                .allowed("K/N, e.g. 2/4"),
+        ))
+    };
+    let (k, n) = text.split_once('/').ok_or_else(bad)?;
+    let (k, n): (usize, usize) = (
+        k.trim().parse().map_err(|_| bad())?,
+        n.trim().parse().map_err(|_| bad())?,
+    );
+    if k == 0 || k > n {
+        return Err(bad());
+    }
+    Ok((k, n))
+}
+
+fn cmd_sweep(
+    config: &Path,
+    dir: &Path,
+    threads: usize,
+    shard: Option<&str>,
+    quiet: bool,
+) -> Result<(), RunError> {
+    let shard = shard.map(parse_shard).transpose()?;
+    let text = read_config(config)?;
+    let origin = config.display().to_string();
+    let base_dir = config.parent().unwrap_or(Path::new("."));
+    let resolved = crate::config::parse(&text, &origin)?;
+    let (keys, members) = crate::sweep::members(&resolved, &origin)?;
+    let count = members
+        .iter()
+        .filter(|m| crate::sweep::in_shard(m.index, shard))
+        .count() as u64;
+    let bar =
+        (!quiet && std::io::stderr().is_terminal()).then(|| indicatif::ProgressBar::new(count));
+    let tick = || {
+        if let Some(b) = &bar {
+            b.inc(1);
+        }
+    };
+    let outcomes = crate::sweep::run(&text, base_dir, &members, dir, threads, shard, &tick)?;
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    let name = crate::sweep::shard_summary_name(shard);
+    let csv = dir.join(&name);
+    std::fs::write(&csv, crate::sweep::summary_csv(&keys, &outcomes)).map_err(|source| {
+        RunError::Io {
+            context: format!("writing {}", csv.display()),
+            source,
+        }
+    })?;
+    let nc = csv.with_extension("nc");
+    crate::sweep::write_summary_netcdf(&nc, &keys, &outcomes)?;
+    if !quiet {
+        let failed = outcomes.iter().filter(|o| o.error.is_some()).count();
+        println!(
+            "stormcharge: {} members run ({} failed); summary in {} and {}",
+            outcomes.len(),
+            failed,
+            csv.display(),
+            nc.display()
+        );
+        print!("{}", crate::sweep::summary_csv(&keys, &outcomes));
     }
     Ok(())
 }

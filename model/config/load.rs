@@ -334,6 +334,11 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
         Kind::TableArray(_) => {
             // Checked element by element in check_table_array.
         }
+        Kind::Values => {
+            if !matches!(value, Value::Array(a) if !a.is_empty()) {
+                return Err(err("expected a non-empty list of values".into()));
+            }
+        }
         Kind::Rows => {
             let Value::Array(rows) = value else {
                 return Err(err(format!(

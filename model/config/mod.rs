@@ -34,6 +34,7 @@ pub struct Config {
     pub electrostatics: ElectrostaticsConfig,
     pub breakdown: BreakdownConfig,
     pub discharge: DischargeConfig,
+    pub sweep: SweepConfig,
     pub output: OutputConfig,
 }
 
@@ -368,6 +369,31 @@ pub struct DischargeConfig {
     pub target_fraction: f64,
     pub neutralization_fraction: f64,
     pub ground_connection_height: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SweepCombine {
+    Product,
+    Zip,
+}
+
+/// One swept parameter.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepParameter {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub key: Option<String>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub values: Option<Vec<toml::Value>>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepConfig {
+    pub combine: SweepCombine,
+    #[serde(default)]
+    pub parameters: Vec<SweepParameter>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -29,6 +29,8 @@ pub enum Kind {
     Names,
     /// A table of numbers: a list of rows, each a list of numbers.
     Rows,
+    /// A non-empty list of values of any type (sweep values).
+    Values,
     /// A list of tables (TOML `[[section.key]]`), each checked against the
     /// given element keys (whose paths are `section.key.element_key`).
     TableArray(&'static [KeySpec]),
@@ -63,6 +65,7 @@ impl Kind {
             Kind::Names => "a list of names".into(),
             Kind::Rows => "a list of rows of numbers".into(),
             Kind::TableArray(_) => "a list of tables ([[...]] blocks)".into(),
+            Kind::Values => "a non-empty list of values".into(),
         }
     }
 
@@ -731,6 +734,21 @@ pub const KEYS: &[KeySpec] = &[
         default: Some("1000.0"),
         doc: "A channel whose lower end reaches this height above ground connects to ground: a ground flash. A modelling choice.",
     },
+    // --- sweep
+    KeySpec {
+        path: "sweep.combine",
+        kind: Kind::Choice(SWEEP_COMBINE),
+        unit: "",
+        default: Some("\"product\""),
+        doc: "How the value lists of [[sweep.parameters]] combine into members: \"product\" (every combination) or \"zip\" (the i-th value of every list together; lists of equal length). Used only by `stormcharge sweep`.",
+    },
+    KeySpec {
+        path: "sweep.parameters",
+        kind: Kind::TableArray(SWEEP_PARAMETER_KEYS),
+        unit: "",
+        default: None,
+        doc: "Parameters varied by `stormcharge sweep`, one [[sweep.parameters]] block each. `run` ignores them.",
+    },
     // --- output
     KeySpec {
         path: "output.file",
@@ -910,6 +928,27 @@ pub const HYDRO_LAYER_KEYS: &[KeySpec] = &[
         unit: "",
         default: None,
         doc: "For envelope = \"table\": rows [time (s), factor (1)].",
+    },
+];
+
+/// How sweep value lists combine.
+pub const SWEEP_COMBINE: &[&str] = &["product", "zip"];
+
+/// Keys of one `[[sweep.parameters]]` block.
+pub const SWEEP_PARAMETER_KEYS: &[KeySpec] = &[
+    KeySpec {
+        path: "sweep.parameters.key",
+        kind: Kind::Text,
+        unit: "",
+        default: None,
+        doc: "Dotted configuration key to vary, e.g. \"updraft.peak_speed\" (required).",
+    },
+    KeySpec {
+        path: "sweep.parameters.values",
+        kind: Kind::Values,
+        unit: "",
+        default: None,
+        doc: "Values the key takes, in the key's own type and unit (required).",
     },
 ];
 

@@ -1,0 +1,503 @@
+//! Parameter sweeps: one configuration with a `[sweep]` section expands into
+//! members (every combination of the value lists, or the lists zipped), each
+//! run in parallel with rayon into its own NetCDF file, and a summary table
+//! (CSV and NetCDF) with one row per member: its parameter values and its
+//! outcome. Members are independent, so results do not depend on the thread
+//! count or order. `--shard K/N` runs every N-th member starting at the K-th
+//! (a Slurm job array runs the shards on several nodes) and
+//! [`merge`] joins the shard summaries.
+
+use crate::analysis::{classify, regions, separation};
+use crate::config::{Config, SweepCombine};
+use crate::error::{ConfigError, ConfigIssue, RunError};
+use crate::experiment::Experiment;
+use crate::output::netcdf_writer::NetcdfWriter;
+use crate::output::Observer;
+use crate::state::State;
+use crate::timeloop::{self, RunSummary};
+use rayon::prelude::*;
+use std::path::{Path, PathBuf};
+
+/// One member: its index (from 1) and `key=value` overrides.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Member {
+    pub index: usize,
+    pub overrides: Vec<String>,
+}
+
+/// What one member produced.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Outcome {
+    pub member: Member,
+    /// `None` when the member ran; the error otherwise.
+    pub error: Option<String>,
+    pub flash_counts: [u64; 3],
+    pub first_flash: f64,
+    pub peak_field: f64,
+    pub structure: String,
+    pub max_separation: f64,
+    pub precipitation: f64,
+}
+
+/// Expands the sweep section into members. Errors name the offending key.
+pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member>), ConfigError> {
+    let err = |key: String, msg: String| ConfigError::single(origin, ConfigIssue::new(key, msg));
+    let mut keys = Vec::new();
+    let mut lists: Vec<Vec<String>> = Vec::new();
+    for (i, p) in config.sweep.parameters.iter().enumerate() {
+        let at = format!("sweep.parameters[{}]", i + 1);
+        let key = p
+            .key
+            .clone()
+            .ok_or_else(|| err(format!("{at}.key"), "every parameter needs its key".into()))?;
+        if key.starts_with("sweep.") || crate::config::schema::find(&key).is_none() {
+            return Err(err(
+                format!("{at}.key"),
+                format!("\"{key}\" is not a configuration key that can be swept"),
+            ));
+        }
+        let values = p.values.clone().ok_or_else(|| {
+            err(
+                format!("{at}.values"),
+                "every parameter needs its values".into(),
+            )
+        })?;
+        keys.push(key);
+        lists.push(values.iter().map(|v| v.to_string()).collect());
+    }
+    if keys.is_empty() {
+        return Err(err(
+            "sweep.parameters".into(),
+            "a sweep needs at least one [[sweep.parameters]] block".into(),
+        ));
+    }
+    let combos: Vec<Vec<String>> = match config.sweep.combine {
+        SweepCombine::Zip => {
+            let n = lists[0].len();
+            if let Some(i) = lists.iter().position(|l| l.len() != n) {
+                return Err(err(
+                    format!("sweep.parameters[{}].values", i + 1),
+                    format!("zip needs lists of equal length ({n})"),
+                ));
+            }
+            (0..n)
+                .map(|j| lists.iter().map(|l| l[j].clone()).collect())
+                .collect()
+        }
+        SweepCombine::Product => {
+            let mut out: Vec<Vec<String>> = vec![Vec::new()];
+            for l in &lists {
+                out = out
+                    .into_iter()
+                    .flat_map(|prefix| {
+                        l.iter().map(move |v| {
+                            let mut p = prefix.clone();
+                            p.push(v.clone());
+                            p
+                        })
+                    })
+                    .collect();
+            }
+            out
+        }
+    };
+    let members = combos
+        .into_iter()
+        .enumerate()
+        .map(|(i, vals)| Member {
+            index: i + 1,
+            overrides: keys
+                .iter()
+                .zip(vals)
+                .map(|(k, v)| format!("{k}={v}"))
+                .collect(),
+        })
+        .collect();
+    Ok((keys, members))
+}
+
+/// Tracks the record of largest charge separation while a member runs.
+#[derive(Default)]
+struct Watch {
+    best: f64,
+    structure: String,
+}
+
+impl Observer for Watch {
+    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+        self.structure = "other".into();
+        Ok(())
+    }
+
+    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        let sep = separation(&state.charge_total, exp.grid.dz);
+        if sep > self.best {
+            self.best = sep;
+            let t: Vec<f64> = (0..exp.grid.len())
+                .map(|k| {
+                    state.potential_temperature[k]
+                        * crate::microphysics::exner(exp.base.centre.pressure[k])
+                })
+                .collect();
+            let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+            self.structure = classify(&r).name().into();
+        }
+        Ok(())
+    }
+
+    fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
+        Ok(())
+    }
+}
+
+/// Runs one member into `dir`.
+pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
+    let mut out = Outcome {
+        member: member.clone(),
+        error: None,
+        flash_counts: [0; 3],
+        first_flash: f64::NAN,
+        peak_field: f64::NAN,
+        structure: String::new(),
+        max_separation: f64::NAN,
+        precipitation: f64::NAN,
+    };
+    let mut overrides = member.overrides.clone();
+    overrides.push("sweep.parameters=[]".into());
+    let result = Experiment::from_text(
+        base_text,
+        &format!("member {}", member.index),
+        &overrides,
+        base_dir,
+    )
+    .map_err(RunError::from)
+    .and_then(|exp| {
+        let target = dir.join(format!("member_{:04}.nc", member.index));
+        let mut writer = NetcdfWriter::new(
+            &target,
+            &format!("stormcharge sweep member {}", member.index),
+        );
+        let mut watch = Watch::default();
+        let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
+        let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        Ok((s, watch))
+    });
+    match result {
+        Ok((s, watch)) => {
+            out.flash_counts = s.flash_counts;
+            out.first_flash = s.first_flash.unwrap_or(f64::NAN);
+            out.peak_field = s.peak_field.0;
+            out.structure = watch.structure;
+            out.max_separation = watch.best;
+            out.precipitation = s.precipitation;
+        }
+        Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
+    }
+    out
+}
+
+/// Whether member `index` (from 1) belongs to shard (K, N): every N-th
+/// member starting at the K-th, so the shards get members of every kind.
+pub fn in_shard(index: usize, shard: Option<(usize, usize)>) -> bool {
+    match shard {
+        Some((k, n)) => (index - 1) % n == k - 1,
+        None => true,
+    }
+}
+
+/// Runs the members of shard `shard` = (K, N) (all when `None`) on `threads`
+/// threads (0: all cores), calling `progress` after each member.
+pub fn run(
+    base_text: &str,
+    base_dir: &Path,
+    members: &[Member],
+    dir: &Path,
+    threads: usize,
+    shard: Option<(usize, usize)>,
+    progress: &(dyn Fn() + Sync),
+) -> Result<Vec<Outcome>, RunError> {
+    std::fs::create_dir_all(dir).map_err(|source| RunError::Io {
+        context: format!("creating {}", dir.display()),
+        source,
+    })?;
+    let chosen: Vec<&Member> = members
+        .iter()
+        .filter(|m| in_shard(m.index, shard))
+        .collect();
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| RunError::Output {
+            context: "thread pool".into(),
+            message: e.to_string(),
+        })?;
+    let mut outcomes: Vec<Outcome> = pool.install(|| {
+        chosen
+            .par_iter()
+            .map(|m| {
+                let o = run_member(base_text, base_dir, m, dir);
+                progress();
+                o
+            })
+            .collect()
+    });
+    outcomes.sort_by_key(|o| o.member.index);
+    Ok(outcomes)
+}
+
+const HEADER_OUTCOMES: [&str; 9] = [
+    "status",
+    "flashes_intracloud",
+    "flashes_negative_ground",
+    "flashes_positive_ground",
+    "first_flash_s",
+    "peak_field_V_m",
+    "structure_at_peak_separation",
+    "peak_separation_C_m2",
+    "precipitation_kg_m2",
+];
+
+/// A swept value as shown in summaries: TOML strings without their quotes.
+fn shown(override_text: &str) -> &str {
+    let v = override_text.split_once('=').map_or("", |(_, v)| v);
+    v.strip_prefix('"')
+        .and_then(|x| x.strip_suffix('"'))
+        .unwrap_or(v)
+}
+
+/// The summary as CSV text: member, one column per swept key, outcomes.
+pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
+    let mut s = String::from("member");
+    for k in keys {
+        s.push(',');
+        s.push_str(k);
+    }
+    for h in HEADER_OUTCOMES {
+        s.push(',');
+        s.push_str(h);
+    }
+    s.push_str(",error\n");
+    for o in outcomes {
+        s.push_str(&o.member.index.to_string());
+        for ov in &o.member.overrides {
+            s.push(',');
+            s.push_str(&csv_field(shown(ov)));
+        }
+        let status = if o.error.is_some() { "failed" } else { "ok" };
+        s.push_str(&format!(
+            ",{status},{},{},{},{},{},{},{},{},{}\n",
+            o.flash_counts[0],
+            o.flash_counts[1],
+            o.flash_counts[2],
+            o.first_flash,
+            o.peak_field,
+            o.structure,
+            o.max_separation,
+            o.precipitation,
+            csv_field(o.error.as_deref().unwrap_or(""))
+        ));
+    }
+    s
+}
+
+fn csv_field(v: &str) -> String {
+    if v.contains(',') || v.contains('"') {
+        format!("\"{}\"", v.replace('"', "\"\""))
+    } else {
+        v.to_string()
+    }
+}
+
+/// File name of a shard's summary.
+pub fn shard_summary_name(shard: Option<(usize, usize)>) -> String {
+    match shard {
+        Some((k, n)) => format!("summary_shard_{k}_of_{n}.csv"),
+        None => "summary.csv".into(),
+    }
+}
+
+/// Joins the shard summaries in `dir` into `summary.csv`: every shard of the
+/// same N must be present; rows are ordered by member.
+pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
+    let io = |context: String| move |source| RunError::Io { context, source };
+    let mut shards: Vec<(usize, usize, PathBuf)> = Vec::new();
+    for entry in std::fs::read_dir(dir).map_err(io(format!("reading {}", dir.display())))? {
+        let path = entry.map_err(io("listing".into()))?.path();
+        let name = path
+            .file_name()
+            .and_then(|n| n.to_str())
+            .unwrap_or("")
+            .to_string();
+        if let Some(rest) = name
+            .strip_prefix("summary_shard_")
+            .and_then(|r| r.strip_suffix(".csv"))
+        {
+            if let Some((k, n)) = rest.split_once("_of_") {
+                if let (Ok(k), Ok(n)) = (k.parse(), n.parse()) {
+                    shards.push((k, n, path));
+                }
+            }
+        }
+    }
+    let bad = |msg: String| {
+        RunError::Config(ConfigError::single(
+            dir.display().to_string(),
+            ConfigIssue::new("DIR", msg),
+        ))
+    };
+    let Some(&(_, n, _)) = shards.first() else {
+        return Err(bad("no summary_shard_K_of_N.csv files found".into()));
+    };
+    if shards.iter().any(|s| s.1 != n) {
+        return Err(bad("shard summaries of different shard counts".into()));
+    }
+    for k in 1..=n {
+        if !shards.iter().any(|s| s.0 == k) {
+            return Err(bad(format!("shard {k} of {n} is missing")));
+        }
+    }
+    let mut header = None;
+    let mut rows: Vec<(usize, String)> = Vec::new();
+    for (_, _, path) in &shards {
+        let text =
+            std::fs::read_to_string(path).map_err(io(format!("reading {}", path.display())))?;
+        let mut lines = text.lines();
+        let h = lines.next().unwrap_or("").to_string();
+        if header.get_or_insert_with(|| h.clone()) != &h {
+            return Err(bad(format!("{} has a different header", path.display())));
+        }
+        for line in lines {
+            let idx = line
+                .split(',')
+                .next()
+                .and_then(|x| x.parse().ok())
+                .unwrap_or(0);
+            rows.push((idx, line.to_string()));
+        }
+    }
+    rows.sort_by_key(|r| r.0);
+    let mut out = header.unwrap_or_default();
+    out.push('\n');
+    for (_, r) in rows {
+        out.push_str(&r);
+        out.push('\n');
+    }
+    let target = dir.join("summary.csv");
+    std::fs::write(&target, out).map_err(io(format!("writing {}", target.display())))?;
+    Ok(target)
+}
+
+/// Writes the summary as NetCDF: dimension `member`; the swept values as
+/// text (`parameter_<n>`, with the key in the `key` attribute); the outcomes
+/// as numbers, the structure and error as text, `status` 0 ok / 1 failed.
+pub fn write_summary_netcdf(
+    path: &Path,
+    keys: &[String],
+    outcomes: &[Outcome],
+) -> Result<(), RunError> {
+    let e = |m: netcdf::Error| RunError::Output {
+        context: format!("sweep summary {}", path.display()),
+        message: m.to_string(),
+    };
+    let mut f = netcdf::create(path).map_err(e)?;
+    f.add_dimension("member", outcomes.len()).map_err(e)?;
+    f.add_attribute("Conventions", "CF-1.10").map_err(e)?;
+    f.add_attribute("title", "stormcharge sweep summary")
+        .map_err(e)?;
+    f.add_attribute(
+        "source",
+        format!("stormcharge {}", env!("CARGO_PKG_VERSION")),
+    )
+    .map_err(e)?;
+    type Column = (
+        &'static str,
+        &'static str,
+        &'static str,
+        fn(&Outcome) -> f64,
+    );
+    let numbers: [Column; 8] = [
+        ("member", "member number", "1", |o| o.member.index as f64),
+        ("flashes_intracloud", "intracloud flashes", "1", |o| {
+            o.flash_counts[0] as f64
+        }),
+        (
+            "flashes_negative_ground",
+            "negative ground flashes",
+            "1",
+            |o| o.flash_counts[1] as f64,
+        ),
+        (
+            "flashes_positive_ground",
+            "positive ground flashes",
+            "1",
+            |o| o.flash_counts[2] as f64,
+        ),
+        ("first_flash", "time of the first flash", "s", |o| {
+            o.first_flash
+        }),
+        ("peak_field", "largest |E_z| of the run", "V m-1", |o| {
+            o.peak_field
+        }),
+        (
+            "peak_separation",
+            "largest charge of one sign in the column",
+            "C m-2",
+            |o| o.max_separation,
+        ),
+        (
+            "precipitation",
+            "accumulated surface precipitation",
+            "kg m-2",
+            |o| o.precipitation,
+        ),
+    ];
+    for (name, long, units, get) in numbers {
+        let mut v = f.add_variable::<f64>(name, &["member"]).map_err(e)?;
+        v.put_attribute("long_name", long).map_err(e)?;
+        v.put_attribute("units", units).map_err(e)?;
+        let data: Vec<f64> = outcomes.iter().map(get).collect();
+        v.put_values(&data, ..).map_err(e)?;
+    }
+    let mut v = f.add_variable::<i32>("status", &["member"]).map_err(e)?;
+    v.put_attribute("flag_values", vec![0i32, 1]).map_err(e)?;
+    v.put_attribute("flag_meanings", "ok failed").map_err(e)?;
+    let status: Vec<i32> = outcomes
+        .iter()
+        .map(|o| i32::from(o.error.is_some()))
+        .collect();
+    v.put_values(&status, ..).map_err(e)?;
+    let mut texts: Vec<(String, String, Vec<String>)> = keys
+        .iter()
+        .enumerate()
+        .map(|(i, k)| {
+            let vals = outcomes
+                .iter()
+                .map(|o| shown(&o.member.overrides[i]).to_string())
+                .collect();
+            (format!("parameter_{}", i + 1), k.clone(), vals)
+        })
+        .collect();
+    texts.push((
+        "structure".into(),
+        String::new(),
+        outcomes.iter().map(|o| o.structure.clone()).collect(),
+    ));
+    texts.push((
+        "error".into(),
+        String::new(),
+        outcomes
+            .iter()
+            .map(|o| o.error.clone().unwrap_or_default())
+            .collect(),
+    ));
+    for (name, key, vals) in texts {
+        let mut v = f.add_string_variable(&name, &["member"]).map_err(e)?;
+        if !key.is_empty() {
+            v.put_attribute("key", key.as_str()).map_err(e)?;
+        }
+        for (i, s) in vals.iter().enumerate() {
+            v.put_string(s, [i]).map_err(e)?;
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,163 @@
+//! Sweeps: determinism across thread counts, sharding and merging, failed
+//! members. Uses the prescribed-charge flash configuration (fast: no
+//! microphysics).
+
+mod common;
+use common::*;
+
+const SWEEP: &str = r#"
+[sweep]
+combine = "product"
+[[sweep.parameters]]
+key = "discharge.target_fraction"
+values = [0.3, 0.5]
+[[sweep.parameters]]
+key = "electrostatics.column_radius"
+values = [2000.0, 3000.0, 2500]
+"#;
+
+fn config_with_sweep(extra: &str) -> std::path::PathBuf {
+    let base = std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap();
+    let text = base.replace("duration = 10800.0", "duration = 3600.0") + extra;
+    let p = scratch(&format!("sweep_{}.toml", text.len()));
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+fn sweep(config: &std::path::Path, dir: &str, args: &[&str]) -> std::process::Output {
+    let out = scratch(dir);
+    bin()
+        .args(["sweep", "--quiet"])
+        .arg(config)
+        .arg("-o")
+        .arg(&out)
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+fn read(dir: &str, name: &str) -> String {
+    std::fs::read_to_string(scratch(dir).join(name)).unwrap()
+}
+
+fn data(dir: &str, member: usize) -> Vec<(String, Vec<u64>)> {
+    let f = netcdf::open(scratch(dir).join(format!("member_{member:04}.nc"))).unwrap();
+    f.variables()
+        .map(|v| {
+            let vals: Vec<f64> = match v.vartype() {
+                netcdf::types::NcVariableType::Int(_) => v
+                    .get_values::<i32, _>(..)
+                    .unwrap()
+                    .into_iter()
+                    .map(f64::from)
+                    .collect(),
+                _ => v.get_values::<f64, _>(..).unwrap(),
+            };
+            (v.name(), vals.into_iter().map(f64::to_bits).collect())
+        })
+        .collect()
+}
+
+#[test]
+fn thread_count_does_not_change_results() {
+    let cfg = config_with_sweep(SWEEP);
+    for (dir, threads) in [("one_thread", "1"), ("two_threads", "2")] {
+        let o = sweep(&cfg, dir, &["--threads", threads]);
+        assert_eq!(
+            o.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+    }
+    let a = read("one_thread", "summary.csv");
+    assert_eq!(a, read("two_threads", "summary.csv"));
+    assert_eq!(a.lines().count(), 1 + 6, "{a}");
+    assert!(a.lines().nth(1).unwrap().starts_with("1,0.3,2000.0,ok,"));
+    for m in 1..=6 {
+        assert_eq!(data("one_thread", m), data("two_threads", m), "member {m}");
+    }
+    // The NetCDF summary holds the same members and outcomes.
+    let f = netcdf::open(scratch("one_thread").join("summary.nc")).unwrap();
+    let ic: Vec<f64> = f
+        .variable("flashes_intracloud")
+        .unwrap()
+        .get_values(..)
+        .unwrap();
+    let csv_ic: Vec<f64> = a
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(4).unwrap().parse().unwrap())
+        .collect();
+    assert_eq!(ic, csv_ic);
+    assert!(ic.iter().all(|&n| n > 0.0));
+}
+
+#[test]
+fn shards_merge_into_the_unsharded_summary() {
+    let cfg = config_with_sweep(SWEEP);
+    let o = sweep(&cfg, "whole", &[]);
+    assert_eq!(o.status.code(), Some(0));
+    for k in 1..=3 {
+        let o = sweep(&cfg, "sharded", &["--shard", &format!("{k}/3")]);
+        assert_eq!(
+            o.status.code(),
+            Some(0),
+            "{}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+    }
+    let o = bin()
+        .arg("sweep-merge")
+        .arg(scratch("sharded"))
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert_eq!(read("sharded", "summary.csv"), read("whole", "summary.csv"));
+    // A missing shard is an error naming it.
+    std::fs::remove_file(scratch("sharded").join("summary_shard_2_of_3.csv")).unwrap();
+    let o = bin()
+        .arg("sweep-merge")
+        .arg(scratch("sharded"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("shard 2 of 3 is missing"));
+    let o = sweep(&cfg, "bad_shard", &["--shard", "4/3"]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+#[test]
+fn a_failing_member_does_not_stop_the_others() {
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+combine = "zip"
+[[sweep.parameters]]
+key = "electrostatics.column_radius"
+values = [2000.0, -5.0, 3000.0]
+"#,
+    );
+    let o = sweep(&cfg, "with_failure", &[]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let s = read("with_failure", "summary.csv");
+    let rows: Vec<&str> = s.lines().skip(1).collect();
+    assert!(rows[0].contains(",ok,") && rows[2].contains(",ok,"));
+    assert!(
+        rows[1].contains(",failed,") && rows[1].contains("electrostatics.column_radius"),
+        "{}",
+        rows[1]
+    );
+    assert!(scratch("with_failure").join("member_0003.nc").exists());
+    assert!(!scratch("with_failure").join("member_0002.nc").exists());
+}
