@@ -152,3 +152,225 @@ pub fn classify(regions: &[Region]) -> Structure {
 pub fn separation(rho: &[f64], dz: f64) -> f64 {
     0.5 * rho.iter().map(|x| x.abs()).sum::<f64>() * dz
 }
+
+/// Charge regions of one output record.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct RecordReport {
+    /// Model time (s).
+    pub time: f64,
+    pub structure: String,
+    /// Charge of one sign in the column (C m-2).
+    pub separation: f64,
+    pub regions: Vec<RegionReport>,
+}
+
+/// One region for reports (heights m, temperature degC, charge C m-2 and C).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct RegionReport {
+    pub polarity: String,
+    pub height: f64,
+    pub bottom: f64,
+    pub top: f64,
+    pub thickness: f64,
+    pub temperature: f64,
+    pub charge_per_area: f64,
+    /// Charge in the finite column (C), when the geometry has one.
+    pub charge: Option<f64>,
+}
+
+/// Flash statistics of a run.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FlashReport {
+    pub count_intracloud: usize,
+    pub count_negative_ground: usize,
+    pub count_positive_ground: usize,
+    /// Flashes per minute over the run, by kind.
+    pub rate_per_minute: [f64; 3],
+    pub first_flash_time: Option<f64>,
+    /// Mean charge neutralised (C m-2) and energy (J m-2) per flash.
+    pub mean_charge_per_area: Option<f64>,
+    pub mean_energy_per_area: Option<f64>,
+    /// The same in C and J for a finite column.
+    pub mean_charge: Option<f64>,
+    pub mean_energy: Option<f64>,
+}
+
+/// Everything `stormcharge analyze` reports.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Report {
+    pub file: String,
+    pub records: Vec<RecordReport>,
+    pub flashes: FlashReport,
+}
+
+fn mean(v: &[f64]) -> Option<f64> {
+    (!v.is_empty()).then(|| v.iter().sum::<f64>() / v.len() as f64)
+}
+
+/// Analyses an output file at the record nearest each of `times` (s), or at
+/// the record of largest charge separation when `times` is empty.
+pub fn analyze_file(
+    path: &std::path::Path,
+    times: &[f64],
+) -> Result<Report, crate::error::RunError> {
+    use crate::error::RunError;
+    let e = |m: String| RunError::Output {
+        context: format!("reading {}", path.display()),
+        message: m,
+    };
+    let f = netcdf::open(path).map_err(|x| e(x.to_string()))?;
+    let get = |name: &str| -> Result<Vec<f64>, RunError> {
+        f.variable(name)
+            .ok_or_else(|| e(format!("variable {name} missing: not a stormcharge output")))?
+            .get_values::<f64, _>(..)
+            .map_err(|x| e(x.to_string()))
+    };
+    let z = get("z")?;
+    let time = get("time")?;
+    let rho = get("charge_density")?;
+    let temp = get("air_temperature")?;
+    let n = z.len();
+    let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
+    let area = f
+        .attribute(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
+        .and_then(|a| a.value().ok())
+        .and_then(|v| match v {
+            netcdf::AttributeValue::Str(s) => crate::config::parse(&s, "stored").ok(),
+            _ => None,
+        })
+        .and_then(|c| {
+            (c.electrostatics.geometry == crate::config::Geometry::Column)
+                .then(|| std::f64::consts::PI * c.electrostatics.column_radius.powi(2))
+        });
+    let record = |r: usize| &rho[r * n..(r + 1) * n];
+    let chosen: Vec<usize> = if times.is_empty() {
+        let best = (0..time.len())
+            .max_by(|&a, &b| separation(record(a), dz).total_cmp(&separation(record(b), dz)))
+            .unwrap_or(0);
+        vec![best]
+    } else {
+        times
+            .iter()
+            .map(|&t| {
+                (0..time.len())
+                    .min_by(|&a, &b| (time[a] - t).abs().total_cmp(&(time[b] - t).abs()))
+                    .unwrap_or(0)
+            })
+            .collect()
+    };
+    let records = chosen
+        .into_iter()
+        .map(|r| {
+            let regs = regions(&z, dz, record(r), &temp[r * n..(r + 1) * n], 0.1);
+            RecordReport {
+                time: time[r],
+                structure: classify(&regs).name().into(),
+                separation: separation(record(r), dz),
+                regions: regs
+                    .iter()
+                    .map(|g| RegionReport {
+                        polarity: if g.polarity > 0.0 {
+                            "positive"
+                        } else {
+                            "negative"
+                        }
+                        .into(),
+                        height: g.height,
+                        bottom: g.bottom,
+                        top: g.top,
+                        thickness: g.top - g.bottom,
+                        temperature: g.temperature,
+                        charge_per_area: g.charge,
+                        charge: area.map(|a| g.charge * a),
+                    })
+                    .collect(),
+            }
+        })
+        .collect();
+    let kinds: Vec<i32> = match f.variable("flash_kind") {
+        Some(v) => v.get_values(..).map_err(|x| e(x.to_string()))?,
+        None => Vec::new(),
+    };
+    let flash_f64 = |name: &str| -> Vec<f64> {
+        f.variable(name)
+            .and_then(|v| v.get_values::<f64, _>(..).ok())
+            .unwrap_or_default()
+    };
+    let duration_min = time.last().copied().unwrap_or(0.0) / 60.0;
+    let count = |k: i32| kinds.iter().filter(|&&x| x == k).count();
+    let counts = [count(1), count(2), count(3)];
+    let rate = counts.map(|c| {
+        if duration_min > 0.0 {
+            c as f64 / duration_min
+        } else {
+            0.0
+        }
+    });
+    let charge = flash_f64("flash_charge_neutralized");
+    let energy = flash_f64("flash_energy");
+    Ok(Report {
+        file: path.display().to_string(),
+        records,
+        flashes: FlashReport {
+            count_intracloud: counts[0],
+            count_negative_ground: counts[1],
+            count_positive_ground: counts[2],
+            rate_per_minute: rate,
+            first_flash_time: flash_f64("flash_time").first().copied(),
+            mean_charge_per_area: mean(&charge),
+            mean_energy_per_area: mean(&energy),
+            mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),
+            mean_energy: mean(&energy).zip(area).map(|(m, a)| m * a),
+        },
+    })
+}
+
+impl Report {
+    /// Human-readable text.
+    pub fn text(&self) -> String {
+        let mut s = format!("{}\n", self.file);
+        for r in &self.records {
+            s.push_str(&format!(
+                "t = {} s: {} (charge of one sign {:.3e} C m-2)\n",
+                r.time, r.structure, r.separation
+            ));
+            for g in &r.regions {
+                s.push_str(&format!(
+                    "  {:<8} {:>7.0} m ({:.0}-{:.0} m, {:.0} m thick) {:>6.1} degC  {:+.3e} C m-2",
+                    g.polarity,
+                    g.height,
+                    g.bottom,
+                    g.top,
+                    g.thickness,
+                    g.temperature,
+                    g.charge_per_area
+                ));
+                if let Some(c) = g.charge {
+                    s.push_str(&format!("  {c:+.1} C"));
+                }
+                s.push('\n');
+            }
+        }
+        let fl = &self.flashes;
+        s.push_str(&format!(
+            "flashes: {} intracloud, {} negative ground, {} positive ground ({:.2}, {:.2}, {:.2} per minute)\n",
+            fl.count_intracloud,
+            fl.count_negative_ground,
+            fl.count_positive_ground,
+            fl.rate_per_minute[0],
+            fl.rate_per_minute[1],
+            fl.rate_per_minute[2]
+        ));
+        if let Some(t) = fl.first_flash_time {
+            s.push_str(&format!("first flash at {t} s\n"));
+        }
+        if let (Some(q), Some(w)) = (fl.mean_charge_per_area, fl.mean_energy_per_area) {
+            s.push_str(&format!("mean per flash: {q:.3e} C m-2, {w:.3e} J m-2"));
+            if let (Some(qc), Some(wc)) = (fl.mean_charge, fl.mean_energy) {
+                s.push_str(&format!(" ({qc:.1} C, {wc:.2e} J)"));
+            }
+            s.push('\n');
+        }
+        s
+    }
+}

@@ -375,3 +375,91 @@ fn charge_follows_mass() {
     let after: f64 = charge.iter().map(|c| c[0]).sum();
     assert!((after - total).abs() < 1e-22);
 }
+
+#[test]
+fn analyze_command_finds_prescribed_layers() {
+    // Known top-hat layers in (edges on cell faces), known regions out: the
+    // heights, thicknesses and charges per area and in the column are those of
+    // the layers exactly (charge = density x thickness), and the class is a
+    // normal tripole.
+    let text = r#"
+[grid]
+top = 15000.0
+spacing = 100.0
+[time]
+step = 10.0
+duration = 100.0
+output_interval = 100.0
+[atmosphere]
+profile = "standard_1976"
+[updraft]
+peak_speed = 0.0
+[microphysics]
+scheme = "off"
+[discharge]
+enabled = false
+[electrostatics]
+geometry = "column"
+column_radius = 2000.0
+[[prescribed_charge.layers]]
+center = 10000.0
+thickness = 2000.0
+density = 1.0
+[[prescribed_charge.layers]]
+center = 7000.0
+thickness = 1000.0
+density = -3.0
+[[prescribed_charge.layers]]
+center = 4000.0
+thickness = 600.0
+density = 1.5
+"#;
+    let cfg = scratch("layers.toml");
+    std::fs::write(&cfg, text).unwrap();
+    let out = scratch("layers.nc");
+    let o = bin()
+        .args(["run", "--quiet"])
+        .arg(&cfg)
+        .arg("-o")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let json = scratch("layers.json");
+    let o = bin()
+        .arg("analyze")
+        .arg(&out)
+        .arg("--json")
+        .arg(&json)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let regions = v["records"][0]["regions"].as_array().unwrap();
+    let area = std::f64::consts::PI * 2000.0 * 2000.0;
+    let expect = [
+        (4000.0, 600.0, 1.5e-9 * 600.0),
+        (7000.0, 1000.0, -3e-9 * 1000.0),
+        (10000.0, 2000.0, 1e-9 * 2000.0),
+    ];
+    assert_eq!(regions.len(), 3);
+    for (r, (h, d, q)) in regions.iter().zip(expect) {
+        assert!((r["height"].as_f64().unwrap() - h).abs() < 1e-9);
+        assert!((r["thickness"].as_f64().unwrap() - d).abs() < 1e-9);
+        assert!((r["charge_per_area"].as_f64().unwrap() - q).abs() < 1e-12 * q.abs());
+        assert!((r["charge"].as_f64().unwrap() - q * area).abs() < 1e-9 * (q * area).abs());
+    }
+    assert_eq!(v["records"][0]["structure"], "normal_tripole");
+}

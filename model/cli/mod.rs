@@ -65,6 +65,17 @@ pub enum Command {
         #[arg(short, long)]
         quiet: bool,
     },
+    /// Charge regions, structure class and flash statistics of an output file.
+    Analyze {
+        output: PathBuf,
+        /// Times to analyse (s; the nearest record); default: the record of
+        /// largest charge separation.
+        #[arg(long = "time")]
+        times: Vec<f64>,
+        /// Also write the report as JSON to this file.
+        #[arg(long)]
+        json: Option<PathBuf>,
+    },
     /// Join the shard summaries of a sharded sweep into summary.csv.
     SweepMerge { dir: PathBuf },
     /// Print (and optionally write as CSV) a scheme's charge per rebounding
@@ -118,6 +129,11 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             shard,
             quiet,
         } => cmd_sweep(&config, &output, threads, shard.as_deref(), quiet),
+        Command::Analyze {
+            output,
+            times,
+            json,
+        } => cmd_analyze(&output, &times, json.as_deref()),
         Command::SweepMerge { dir } => {
             crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
         }
@@ -519,6 +535,22 @@ fn cmd_sweep(
             nc.display()
         );
         print!("{}", crate::sweep::summary_csv(&keys, &outcomes));
+    }
+    Ok(())
+}
+
+fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {
+    let report = crate::analysis::analyze_file(path, times)?;
+    print!("{}", report.text());
+    if let Some(j) = json {
+        let text = serde_json::to_string_pretty(&report).map_err(|e| RunError::Output {
+            context: "JSON report".into(),
+            message: e.to_string(),
+        })?;
+        std::fs::write(j, text).map_err(|source| RunError::Io {
+            context: format!("writing {}", j.display()),
+            source,
+        })?;
     }
     Ok(())
 }
