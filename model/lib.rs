@@ -45,6 +45,7 @@ pub mod grid;
 pub mod kinematics;
 pub mod microphysics;
 pub mod output;
+pub mod plot;
 pub mod state;
 pub mod sweep;
 pub mod timeloop;

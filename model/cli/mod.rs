@@ -76,6 +76,21 @@ pub enum Command {
         #[arg(long)]
         json: Option<PathBuf>,
     },
+    /// Quick-look pictures (PNG and SVG) of an output file.
+    Plot {
+        output: PathBuf,
+        /// Picture files: PREFIX.png and PREFIX.svg (default: next to OUTPUT).
+        #[arg(short = 'o', long = "prefix")]
+        prefix: Option<PathBuf>,
+        /// Time (s) of the profile panels (default: the record of largest |E_z|).
+        #[arg(long)]
+        time: Option<f64>,
+        /// Picture size in pixels.
+        #[arg(long, default_value_t = 1400)]
+        width: u32,
+        #[arg(long, default_value_t = 1000)]
+        height: u32,
+    },
     /// Join the shard summaries of a sharded sweep into summary.csv.
     SweepMerge { dir: PathBuf },
     /// Print (and optionally write as CSV) a scheme's charge per rebounding
@@ -134,6 +149,13 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             times,
             json,
         } => cmd_analyze(&output, &times, json.as_deref()),
+        Command::Plot {
+            output,
+            prefix,
+            time,
+            width,
+            height,
+        } => cmd_plot(&output, prefix, time, (width, height)),
         Command::SweepMerge { dir } => {
             crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
         }
@@ -552,5 +574,29 @@ fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), Ru
             source,
         })?;
     }
+    Ok(())
+}
+
+fn cmd_plot(
+    output: &Path,
+    prefix: Option<PathBuf>,
+    time: Option<f64>,
+    size: (u32, u32),
+) -> Result<(), RunError> {
+    if !(400..=8000).contains(&size.0) || !(300..=8000).contains(&size.1) {
+        return Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("--width/--height", "picture size out of range")
+                .value(format!("{}x{}", size.0, size.1))
+                .allowed("width 400-8000, height 300-8000 pixels"),
+        )));
+    }
+    let prefix = prefix.unwrap_or_else(|| output.with_extension(""));
+    crate::plot::plot(output, &prefix, size, time)?;
+    println!(
+        "stormcharge: wrote {} and {}",
+        prefix.with_extension("png").display(),
+        prefix.with_extension("svg").display()
+    );
     Ok(())
 }

@@ -1,0 +1,54 @@
+//! The plot command writes a PNG that decodes at the requested size and an
+//! SVG document of that size, for the demo output.
+
+mod common;
+use common::*;
+
+#[test]
+fn plot_writes_png_and_svg() {
+    let out = scratch("plot_demo.nc");
+    let o = bin()
+        .args(["run", "--quiet", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let prefix = scratch("plot_demo_pictures");
+    let o = bin()
+        .arg("plot")
+        .arg(&out)
+        .arg("-o")
+        .arg(&prefix)
+        .args(["--width", "1200", "--height", "900", "--time", "1800"])
+        .output()
+        .unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    assert_eq!((png.width(), png.height()), (1200, 900));
+    // Not blank: the diverging colour scale puts saturated reds and blues in.
+    let rgb = png.to_rgb8();
+    assert!(rgb.pixels().any(|p| p[0] > 180 && p[2] < 120));
+    assert!(rgb.pixels().any(|p| p[2] > 150 && p[0] < 100));
+    let svg = std::fs::read_to_string(prefix.with_extension("svg")).unwrap();
+    assert!(svg.contains("<svg") && svg.trim_end().ends_with("</svg>"));
+    assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"900\""));
+    assert!(svg.contains("time (s)") && svg.contains("nC m-3"));
+    // Bad size: a usage error naming the option.
+    let o = bin()
+        .arg("plot")
+        .arg(&out)
+        .args(["--width", "10"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+}
