@@ -30,6 +30,7 @@
 
 pub mod analysis;
 pub mod atmosphere;
+pub mod bench;
 pub mod breakdown;
 pub mod carriers;
 pub mod charging;

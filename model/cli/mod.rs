@@ -91,6 +91,15 @@ pub enum Command {
         #[arg(long, default_value_t = 1000)]
         height: u32,
     },
+    /// Measure throughput: demo cell-steps per second, phase shares, sweep efficiency.
+    Bench {
+        /// Demo copies in the sweep measurement.
+        #[arg(long, default_value_t = 4)]
+        members: usize,
+        /// Simulated time of each sweep member (s).
+        #[arg(long, default_value_t = 1800.0)]
+        member_duration: f64,
+    },
     /// Join the shard summaries of a sharded sweep into summary.csv.
     SweepMerge { dir: PathBuf },
     /// Print (and optionally write as CSV) a scheme's charge per rebounding
@@ -156,6 +165,12 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             width,
             height,
         } => cmd_plot(&output, prefix, time, (width, height)),
+        Command::Bench {
+            members,
+            member_duration,
+        } => {
+            crate::bench::run(members.clamp(1, 64), member_duration).map(|r| print!("{}", r.text()))
+        }
         Command::SweepMerge { dir } => {
             crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
         }

@@ -97,43 +97,60 @@ pub struct Exponential {
     pub fall: FallLaw,
     /// Exponent x of the air-density correction (rho0/rho)^x.
     pub density_exponent: f64,
+    /// Gamma(1+b), Gamma(3+b), Gamma(4+b) of the power fall law (unused for
+    /// the rain form) and Gamma((b'+5)/2) of the ventilation power law,
+    /// computed once: they are constants of the species.
+    gammas: [f64; 4],
+}
+
+impl Exponential {
+    /// A species with intercept `n0` (m-4), particle density `rho_p`
+    /// (kg m-3), fall law and density-correction exponent.
+    pub fn new(n0: f64, rho_p: f64, fall: FallLaw, density_exponent: f64) -> Self {
+        let b = match fall {
+            FallLaw::Power { b, .. } => b,
+            FallLaw::Exponential { .. } => 0.0,
+        };
+        let mut e = Exponential {
+            n0,
+            rho_p,
+            fall,
+            density_exponent,
+            gammas: [0.0; 4],
+        };
+        let bv = e.power_law().1;
+        e.gammas = [
+            gamma(1.0 + b),
+            gamma(3.0 + b),
+            gamma(4.0 + b),
+            gamma(0.5 * (bv + 5.0)),
+        ];
+        e
+    }
 }
 
 /// Rain after LFO83 (N0 = 8e6 m-4) with the Atlas et al. (1973) fall law.
 pub fn rain(n0: f64) -> Exponential {
-    Exponential {
-        n0,
-        rho_p: RHO_WATER,
-        fall: FallLaw::Exponential {
-            alpha: 9.65,
-            beta: 10.3,
-            c: 600.0,
-        },
-        density_exponent: 0.4,
-    }
+    let fall = FallLaw::Exponential {
+        alpha: 9.65,
+        beta: 10.3,
+        c: 600.0,
+    };
+    Exponential::new(n0, RHO_WATER, fall, 0.4)
 }
 
 /// Snow after LFO83 (N0 = 3e6 m-4, 100 kg m-3, V = 4.836 D^0.25).
 pub fn snow(n0: f64, rho_p: f64) -> Exponential {
-    Exponential {
-        n0,
-        rho_p,
-        fall: FallLaw::Power { a: 4.836, b: 0.25 },
-        density_exponent: 0.5,
-    }
+    Exponential::new(n0, rho_p, FallLaw::Power { a: 4.836, b: 0.25 }, 0.5)
 }
 
 /// Graupel with Locatelli & Hobbs (1974) lump-graupel speeds.
 pub fn graupel(n0: f64, rho_p: f64) -> Exponential {
-    Exponential {
-        n0,
-        rho_p,
-        fall: FallLaw::Power {
-            a: 1.3 * 1000f64.powf(0.66),
-            b: 0.66,
-        },
-        density_exponent: 0.5,
-    }
+    let fall = FallLaw::Power {
+        a: 1.3 * 1000f64.powf(0.66),
+        b: 0.66,
+    };
+    Exponential::new(n0, rho_p, fall, 0.5)
 }
 
 /// Power-law rain speed of LFO83 (V = 842 D^0.8), used only in the
@@ -161,7 +178,7 @@ impl Exponential {
         }
         let l = self.slope(rho, q);
         let v = match self.fall {
-            FallLaw::Power { a, b } => a * gamma(4.0 + b) / (6.0 * l.powf(b)),
+            FallLaw::Power { a, b } => a * self.gammas[2] / (6.0 * l.powf(b)),
             FallLaw::Exponential { alpha, beta, c } => {
                 let d0 = (beta / alpha).ln() / c;
                 (alpha * tail_moment(3, l, d0) - beta * tail_moment(3, l + c, d0)) * l.powi(4) / 6.0
@@ -177,7 +194,7 @@ impl Exponential {
         }
         let l = self.slope(rho, q);
         let v = match self.fall {
-            FallLaw::Power { a, b } => a * gamma(1.0 + b) / l.powf(b),
+            FallLaw::Power { a, b } => a * self.gammas[0] / l.powf(b),
             FallLaw::Exponential { alpha, beta, c } => {
                 let d0 = (beta / alpha).ln() / c;
                 (alpha * tail_moment(0, l, d0) - beta * tail_moment(0, l + c, d0)) * l
@@ -195,7 +212,7 @@ impl Exponential {
         }
         let l = self.slope(rho, q);
         let integral = match self.fall {
-            FallLaw::Power { a, b } => a * gamma(3.0 + b) / l.powf(3.0 + b),
+            FallLaw::Power { a, b } => a * self.gammas[1] / l.powf(3.0 + b),
             FallLaw::Exponential { alpha, beta, c } => {
                 let d0 = (beta / alpha).ln() / c;
                 alpha * tail_moment(2, l, d0) - beta * tail_moment(2, l + c, d0)
@@ -218,7 +235,11 @@ impl Exponential {
             * (0.78 / (l * l)
                 + 0.31
                     * sc.cbrt()
-                    * gamma(0.5 * (b + 5.0))
+                    * if law == self.power_law() {
+                        self.gammas[3]
+                    } else {
+                        gamma(0.5 * (b + 5.0))
+                    }
                     * a.sqrt()
                     * (RHO_AIR_SEA_LEVEL / rho).powf(0.25)
                     / nu.sqrt()

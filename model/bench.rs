@@ -1,0 +1,107 @@
+//! Benchmarks (`stormcharge bench`): throughput of the demo column on one
+//! thread, the share of each phase of the step, and sweep throughput on all
+//! cores with its parallel efficiency. Figures only: no pass or fail.
+
+use crate::config::DEMO_TOML;
+use crate::error::RunError;
+use crate::experiment::Experiment;
+use crate::state::State;
+use crate::timeloop::{step_timed, PHASES};
+use rayon::prelude::*;
+use std::path::Path;
+use std::time::{Duration, Instant};
+
+/// Measured figures.
+#[derive(Debug, Clone)]
+pub struct BenchReport {
+    pub cells: usize,
+    pub steps: u64,
+    /// Cell-steps per second, full physics, one thread.
+    pub cell_steps_per_second: f64,
+    /// Share of the step spent in each of `PHASES`.
+    pub shares: [f64; 6],
+    pub threads: usize,
+    /// Members per second with one thread and with all threads, and the
+    /// parallel efficiency (speed-up / threads).
+    pub sweep_one: f64,
+    pub sweep_all: f64,
+    pub efficiency: f64,
+}
+
+fn run_demo(
+    overrides: &[String],
+    lap: &mut dyn FnMut(usize, Duration),
+) -> Result<(usize, u64), RunError> {
+    let exp = Experiment::from_text(DEMO_TOML, "demo", overrides, Path::new("."))?;
+    let mut s = State::initial(&exp);
+    for _ in 0..exp.schedule.steps {
+        step_timed(&exp, &mut s, exp.schedule.dt, lap)?;
+    }
+    Ok((exp.grid.len(), exp.schedule.steps))
+}
+
+/// Runs the benchmarks; `members` demo copies (shortened to `member_duration`
+/// s) make the sweep.
+pub fn run(members: usize, member_duration: f64) -> Result<BenchReport, RunError> {
+    let mut phase = [Duration::ZERO; 6];
+    let start = Instant::now();
+    let (cells, steps) = run_demo(&[], &mut |p, d| phase[p] += d)?;
+    let total = start.elapsed().as_secs_f64();
+    let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
+    let shares = phase.map(|d| d.as_secs_f64() / sum);
+    let short = vec![
+        format!("time.duration={member_duration}"),
+        format!("time.output_interval={member_duration}"),
+    ];
+    let sweep = |threads: usize| -> Result<f64, RunError> {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .map_err(|e| RunError::Output {
+                context: "thread pool".into(),
+                message: e.to_string(),
+            })?;
+        let t = Instant::now();
+        pool.install(|| {
+            (0..members)
+                .into_par_iter()
+                .map(|_| run_demo(&short, &mut |_, _| {}).map(|_| ()))
+                .collect::<Result<Vec<()>, RunError>>()
+        })?;
+        Ok(members as f64 / t.elapsed().as_secs_f64())
+    };
+    let threads = rayon::current_num_threads();
+    let one = sweep(1)?;
+    let all = sweep(threads)?;
+    Ok(BenchReport {
+        cells,
+        steps,
+        cell_steps_per_second: cells as f64 * steps as f64 / total,
+        shares,
+        threads,
+        sweep_one: one,
+        sweep_all: all,
+        efficiency: all / one / threads as f64,
+    })
+}
+
+impl BenchReport {
+    pub fn text(&self) -> String {
+        let mut s = format!(
+            "demo column, one thread: {} cells x {} steps, {:.3e} cell-steps per second\n",
+            self.cells, self.steps, self.cell_steps_per_second
+        );
+        s.push_str("share of the step:\n");
+        for (name, share) in PHASES.iter().zip(self.shares) {
+            s.push_str(&format!("  {name:<13} {:>5.1} %\n", 100.0 * share));
+        }
+        s.push_str(&format!(
+            "sweep: {:.3} members/s on 1 thread, {:.3} on {} threads, parallel efficiency {:.0} %\n",
+            self.sweep_one,
+            self.sweep_all,
+            self.threads,
+            100.0 * self.efficiency
+        ));
+        s
+    }
+}
