@@ -153,6 +153,9 @@ pub fn graupel(n0: f64, rho_p: f64) -> Exponential {
     Exponential::new(n0, rho_p, fall, 0.5)
 }
 
+/// Cube root of the Schmidt number 0.6 of LFO83 (computed once: 0.6^(1/3)).
+const SCHMIDT_CBRT: f64 = 0.843_432_665_301_749;
+
 /// Power-law rain speed of LFO83 (V = 842 D^0.8), used only in the
 /// ventilation term of rain evaporation, where LFO83 Eq. 52 needs a power law.
 pub const RAIN_VENTILATION_LAW: (f64, f64) = (842.0, 0.8);
@@ -163,7 +166,11 @@ impl Exponential {
         if q <= 0.0 {
             return f64::INFINITY;
         }
-        (std::f64::consts::PI * self.rho_p * self.n0 / (rho * q)).powf(0.25)
+        // x^(1/4) as two square roots: exact to rounding and much cheaper
+        // than powf in the innermost loop.
+        (std::f64::consts::PI * self.rho_p * self.n0 / (rho * q))
+            .sqrt()
+            .sqrt()
     }
 
     /// Air-density correction factor (rho0/rho)^x.
@@ -176,7 +183,14 @@ impl Exponential {
         if q <= 0.0 {
             return 0.0;
         }
-        let l = self.slope(rho, q);
+        self.mass_weighted_speed_at(self.slope(rho, q), self.correction(rho))
+    }
+
+    /// Mass-weighted speed for a known slope `l` (m-1) and density correction.
+    pub fn mass_weighted_speed_at(&self, l: f64, correction: f64) -> f64 {
+        if !l.is_finite() {
+            return 0.0;
+        }
         let v = match self.fall {
             FallLaw::Power { a, b } => a * self.gammas[2] / (6.0 * l.powf(b)),
             FallLaw::Exponential { alpha, beta, c } => {
@@ -184,7 +198,7 @@ impl Exponential {
                 (alpha * tail_moment(3, l, d0) - beta * tail_moment(3, l + c, d0)) * l.powi(4) / 6.0
             }
         };
-        v.max(0.0) * self.correction(rho)
+        v.max(0.0) * correction
     }
 
     /// Number-weighted mean fall speed (m s-1).
@@ -210,7 +224,14 @@ impl Exponential {
         if q <= 0.0 {
             return 0.0;
         }
-        let l = self.slope(rho, q);
+        self.sweep_at(self.slope(rho, q), self.correction(rho))
+    }
+
+    /// Sweep-out integral for a known slope `l` (m-1) and density correction.
+    pub fn sweep_at(&self, l: f64, correction: f64) -> f64 {
+        if !l.is_finite() {
+            return 0.0;
+        }
         let integral = match self.fall {
             FallLaw::Power { a, b } => a * self.gammas[1] / l.powf(3.0 + b),
             FallLaw::Exponential { alpha, beta, c } => {
@@ -218,7 +239,7 @@ impl Exponential {
                 alpha * tail_moment(2, l, d0) - beta * tail_moment(2, l + c, d0)
             }
         };
-        0.25 * std::f64::consts::PI * self.n0 * integral * self.correction(rho)
+        0.25 * std::f64::consts::PI * self.n0 * integral * correction
     }
 
     /// Ventilated diffusion integral of LFO83 Eq. 52 (m-2): 0.78/lambda^2 +
@@ -228,21 +249,31 @@ impl Exponential {
         if q <= 0.0 {
             return 0.0;
         }
-        let l = self.slope(rho, q);
+        self.ventilation_at(
+            self.slope(rho, q),
+            (RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / nu.sqrt(),
+            law,
+        )
+    }
+
+    /// Ventilation integral for a known slope `l` (m-1), with
+    /// `air` = (rho0/rho)^(1/4) / nu^(1/2) precomputed for the cell.
+    pub fn ventilation_at(&self, l: f64, air: f64, law: (f64, f64)) -> f64 {
+        if !l.is_finite() {
+            return 0.0;
+        }
         let (a, b) = law;
-        let sc: f64 = 0.6;
         self.n0
             * (0.78 / (l * l)
                 + 0.31
-                    * sc.cbrt()
+                    * SCHMIDT_CBRT
                     * if law == self.power_law() {
                         self.gammas[3]
                     } else {
                         gamma(0.5 * (b + 5.0))
                     }
                     * a.sqrt()
-                    * (RHO_AIR_SEA_LEVEL / rho).powf(0.25)
-                    / nu.sqrt()
+                    * air
                     * l.powf(-0.5 * (b + 5.0)))
     }
 

@@ -136,11 +136,24 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let nu = MU_AIR / rho;
     let (rain, snow, graupel): (Exponential, Exponential, Exponential) =
         (p.rain, p.snow, p.graupel);
+    // Slopes and air-density factors once per evaluation: they feed every
+    // integral below (and powf dominates the cost of this function).
+    let (lr, ls, lg) = (
+        rain.slope(rho, qr),
+        snow.slope(rho, qs),
+        graupel.slope(rho, qg),
+    );
+    let (cr, cs, cg) = (
+        rain.correction(rho),
+        snow.correction(rho),
+        graupel.correction(rho),
+    );
+    let air = (crate::constants::RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / nu.sqrt();
 
     // Warm rain.
     r.cloud_to_rain_autoconversion =
         p.autoconversion_rate * (qc - p.autoconversion_threshold).max(0.0);
-    r.cloud_to_rain_accretion = rain.sweep(rho, qr) * qc;
+    r.cloud_to_rain_accretion = rain.sweep_at(lr, cr) * qc;
     let sw = qv / qsw;
     if sw < 1.0 && qr > 0.0 {
         // LFO83 Eq. 52: A' = L_v^2/(K_a R_v T^2), B' = 1/(rho q_sw psi).
@@ -149,7 +162,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         r.rain_to_vapour = 2.0
             * std::f64::consts::PI
             * (1.0 - sw)
-            * rain.ventilation(rho, qr, nu, rain.power_law())
+            * rain.ventilation_at(lr, air, rain.power_law())
             / (rho * ab);
     }
 
@@ -161,22 +174,22 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         let c = 0.5 * dsd::ice::diameter(qi, s.n_ice);
         r.vapour_to_ice = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) / ab_ice;
     }
-    for (rate, dist, qx) in [
-        (&mut r.vapour_to_snow, &snow, qs),
-        (&mut r.vapour_to_graupel, &graupel, qg),
+    for (rate, dist, qx, l) in [
+        (&mut r.vapour_to_snow, &snow, qs, ls),
+        (&mut r.vapour_to_graupel, &graupel, qg, lg),
     ] {
         if qx > 0.0 && (cold || si < 1.0) {
             *rate = 2.0
                 * std::f64::consts::PI
                 * (si - 1.0)
-                * dist.ventilation(rho, qx, nu, dist.power_law())
+                * dist.ventilation_at(l, air, dist.power_law())
                 / (rho * ab_ice);
         }
     }
 
     // Riming and collection.
-    let snow_sweep = snow.sweep(rho, qs);
-    let graupel_sweep = graupel.sweep(rho, qg);
+    let snow_sweep = snow.sweep_at(ls, cs);
+    let graupel_sweep = graupel.sweep_at(lg, cg);
     let by_snow = snow_sweep * qc;
     let by_graupel = graupel_sweep * qc;
     if cold {
@@ -204,9 +217,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         if qs > 0.0 && qg > 0.0 {
             // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
             //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
-            let (ls, lg) = (snow.slope(rho, qs), graupel.slope(rho, qg));
-            let dv =
-                (graupel.mass_weighted_speed(rho, qg) - snow.mass_weighted_speed(rho, qs)).abs();
+            let dv = (graupel.mass_weighted_speed_at(lg, cg) - snow.mass_weighted_speed_at(ls, cs))
+                .abs();
             r.snow_to_graupel_collection = std::f64::consts::PI.powi(2)
                 * (0.09 * dtc).exp()
                 * graupel.n0
@@ -219,7 +231,6 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         }
         if qr > 0.0 {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
-            let lr = rain.slope(rho, qr);
             r.rain_to_graupel = 20.0
                 * std::f64::consts::PI.powi(2)
                 * p.bigg_b
@@ -231,15 +242,15 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     } else {
         r.cloud_to_rain_shedding = by_snow + by_graupel;
         // LFO83 Eqs. 32 and 47, conduction term: 2 pi K_a (T - T0) N0 [ventilation] / (rho L_f).
-        for (rate, dist, qx) in [
-            (&mut r.snow_to_rain, &snow, qs),
-            (&mut r.graupel_to_rain, &graupel, qg),
+        for (rate, dist, l) in [
+            (&mut r.snow_to_rain, &snow, ls),
+            (&mut r.graupel_to_rain, &graupel, lg),
         ] {
             *rate = 2.0
                 * std::f64::consts::PI
                 * K_AIR
                 * (t - T_MELT)
-                * dist.ventilation(rho, qx, nu, dist.power_law())
+                * dist.ventilation_at(l, air, dist.power_law())
                 / (rho * L_FUSION);
         }
     }
