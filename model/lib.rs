@@ -15,7 +15,9 @@
 //! 7. [`discharge::step`]: flashes while the trigger holds;
 //! 8. output through [`output::Observer`]s at the output interval.
 //!
-//! See [`timeloop::step`], which reads like this list.
+//! See [`timeloop::step`], which reads like this list. Around the model:
+//! [`analysis`] (charge regions and structure classes), [`sweep`] (parameter
+//! sweeps), [`plot`] (pictures), [`bench`] (throughput figures).
 //!
 //! ## Conventions
 //! - SI units everywhere inside; conversion only at input (configuration) and output.
