@@ -49,7 +49,7 @@ pub enum Command {
         #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
         set: Vec<String>,
     },
-    /// Run every member of the configuration's [sweep] in parallel.
+    /// Run every member of the configuration's `[sweep]` in parallel.
     Sweep {
         config: PathBuf,
         /// Directory for the member files and the summary.
