@@ -132,6 +132,9 @@ pub fn step_cell(
         // Sparse output (every accepted step, the last at t = dt): the dense
         // output of ode_solvers 0.6 with an output increment equal to the
         // whole interval returns an extrapolated, wrong end value (measured).
+        // The first trial step is the whole step: the solver's automatic
+        // initial-step estimate cost half the run time (measured: 2.3 s ->
+        // 1.2 s for the demo, results equal to 4e-5 relative).
         let mut solver = Dopri5::from_param(
             CellOde { env, params: p },
             0.0,
@@ -145,7 +148,7 @@ pub fn step_cell(
             0.2,
             10.0,
             dt,
-            0.0,
+            dt,
             100_000,
             1000,
             OutputType::Sparse,
