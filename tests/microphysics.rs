@@ -159,10 +159,7 @@ fn zero_in_zero_out_and_signs() {
     // No condensate and subsaturated air: nothing happens (no process has a
     // source without its parent species).
     let p = MicroParams::default();
-    let env = CellEnv {
-        p: 80_000.0,
-        rho: 1.0,
-    };
+    let env = CellEnv::new(80_000.0, 1.0, &p);
     let mut s = CellState {
         q: [0.005, 0.0, 0.0, 0.0, 0.0, 0.0],
         n_ice: 0.0,
@@ -180,14 +177,7 @@ fn zero_in_zero_out_and_signs() {
         n_ice: 5e4,
         t: 258.0,
     };
-    let r = rates(
-        &s,
-        CellEnv {
-            p: 50_000.0,
-            rho: 0.65,
-        },
-        &p,
-    );
+    let r = rates(&s, CellEnv::new(50_000.0, 0.65, &p), &p);
     assert!(r.vapour_to_ice > 0.0 && r.vapour_to_graupel > 0.0);
     let all = [
         r.cloud_to_rain_autoconversion,

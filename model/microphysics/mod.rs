@@ -207,10 +207,7 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
         Scheme::Bulk(params) => {
             let base = &exp.base.centre;
             for k in 0..exp.grid.len() {
-                let env = CellEnv {
-                    p: base.pressure[k],
-                    rho: base.density[k],
-                };
+                let env = CellEnv::new(base.pressure[k], base.density[k], params);
                 let pi = exner(env.p);
                 let mut cell = CellState {
                     q: Species::ALL.map(|sp| state.q[sp.index()][k]),

@@ -25,13 +25,35 @@ pub const PSI_VAPOUR: f64 = 2.26e-5;
 /// Dynamic viscosity of air mu (kg m-1 s-1), LFO83.
 pub const MU_AIR: f64 = 1.718e-5;
 
-/// Cell-local inputs that stay fixed during one step.
+/// Cell-local inputs that stay fixed during one step, with the factors that
+/// depend only on them computed once (the rates are evaluated about ten
+/// times per cell and step).
 #[derive(Debug, Clone, Copy)]
 pub struct CellEnv {
     /// Air pressure (Pa).
     pub p: f64,
     /// Air density (kg m-3).
     pub rho: f64,
+    /// Air-density corrections of the rain, snow and graupel fall speeds (1).
+    corrections: [f64; 3],
+    /// (rho0/rho)^(1/4) / nu^(1/2) of the ventilation terms (s^(1/2) m-1).
+    air: f64,
+}
+
+impl CellEnv {
+    /// The environment of a cell at pressure `p` (Pa) and density `rho` (kg m-3).
+    pub fn new(p: f64, rho: f64, params: &MicroParams) -> Self {
+        CellEnv {
+            p,
+            rho,
+            corrections: [
+                params.rain.correction(rho),
+                params.snow.correction(rho),
+                params.graupel.correction(rho),
+            ],
+            air: (crate::constants::RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / (MU_AIR / rho).sqrt(),
+        }
+    }
 }
 
 /// One cell's microphysical variables.
@@ -133,7 +155,6 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let rho = env.rho;
     let cold = t < T_MELT;
     let (qsw, qsi) = saturation_ratios(t, env.p);
-    let nu = MU_AIR / rho;
     let (rain, snow, graupel): (Exponential, Exponential, Exponential) =
         (p.rain, p.snow, p.graupel);
     // Slopes and air-density factors once per evaluation: they feed every
@@ -143,12 +164,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         snow.slope(rho, qs),
         graupel.slope(rho, qg),
     );
-    let (cr, cs, cg) = (
-        rain.correction(rho),
-        snow.correction(rho),
-        graupel.correction(rho),
-    );
-    let air = (crate::constants::RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / nu.sqrt();
+    let [cr, cs, cg] = env.corrections;
+    let air = env.air;
 
     // Warm rain.
     r.cloud_to_rain_autoconversion =
