@@ -122,8 +122,16 @@ pub fn step_cell(
     }
     adjust::nucleate(s, env.p, env.rho, p);
     report.q_start = s.q;
+    // The process ODE is autonomous: if every rate vanishes at the start the
+    // state cannot change, so the integration is skipped (e.g. warm cloud
+    // below the autoconversion threshold with no precipitation).
     let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
-    if has_condensate {
+    let active = has_condensate
+        && rates::rates(s, env, p)
+            .transfers()
+            .iter()
+            .any(|t| t.2 != 0.0);
+    if active {
         let mut init = [0.0; NV];
         init[..6].copy_from_slice(&s.q);
         init[6] = s.n_ice;
