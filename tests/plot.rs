@@ -1,5 +1,6 @@
 //! The plot command writes a PNG that decodes at the requested size and an
-//! SVG document of that size, for the demo output.
+//! SVG document of that size, for the demo output; `analyze` classifies the
+//! same output.
 
 mod common;
 use common::*;
@@ -43,6 +44,11 @@ fn plot_writes_png_and_svg() {
     assert!(svg.contains("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"900\""));
     assert!(svg.contains("time (s)") && svg.contains("nC m-3"));
+    // The analysis of the same output classifies the demo at its largest
+    // charge separation as a normal tripole.
+    let o = bin().arg("analyze").arg(&out).output().unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
     // Bad size: a usage error naming the option.
     let o = bin()
         .arg("plot")
