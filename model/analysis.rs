@@ -110,6 +110,14 @@ pub fn regions(z: &[f64], dz: f64, rho: &[f64], t: &[f64], min_fraction: f64) ->
     kept.into_iter().map(|(a, b)| build(a, b)).collect()
 }
 
+/// The region of largest charge of one polarity (+1.0 or -1.0), if any.
+pub fn main_region(regions: &[Region], polarity: f64) -> Option<&Region> {
+    regions
+        .iter()
+        .filter(|r| r.polarity == polarity)
+        .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
+}
+
 /// Structure class of regions ordered bottom to top. With N the region of
 /// largest negative charge and P the region of largest positive charge:
 /// P above N is the normal family, a tripole when some positive region
@@ -117,13 +125,7 @@ pub fn regions(z: &[f64], dz: f64, rho: &[f64], t: &[f64], min_fraction: f64) ->
 /// inverted family, a tripole when some negative region below P holds less
 /// charge than P. Only one polarity: other.
 pub fn classify(regions: &[Region]) -> Structure {
-    let largest = |sign: f64| {
-        regions
-            .iter()
-            .filter(|r| r.polarity == sign)
-            .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
-    };
-    let (Some(n), Some(p)) = (largest(-1.0), largest(1.0)) else {
+    let (Some(n), Some(p)) = (main_region(regions, -1.0), main_region(regions, 1.0)) else {
         return Structure::Other;
     };
     if p.height > n.height {

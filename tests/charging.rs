@@ -6,7 +6,7 @@ use common::*;
 
 use std::path::Path;
 use std::process::Command;
-use stormcharge::analysis::{classify, regions, separation, Structure};
+use stormcharge::analysis::{classify, main_region, regions, separation, Structure};
 use stormcharge::carriers::Carrier;
 use stormcharge::charging::inductive::charge_per_rebound;
 use stormcharge::charging::{gardiner_1985, rayleigh_limit, saunders_peck_1998 as sp98};
@@ -274,11 +274,7 @@ fn demo_storm_charges_flashes_and_is_plausible() {
     for (r, &time) in rec.times.iter().enumerate() {
         if (first..=2100.0).contains(&time) {
             let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
-            let n = regs
-                .iter()
-                .filter(|x| x.polarity < 0.0)
-                .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
-                .unwrap();
+            let n = main_region(&regs, -1.0).unwrap();
             assert!(
                 (-30.0..=-10.0).contains(&n.temperature),
                 "t = {time}: main negative at {} degC",
@@ -312,11 +308,7 @@ fn demo_storm_is_a_normal_tripole_at_peak_separation() {
         "t = {}: {regs:?}",
         rec.times[best]
     );
-    let n = regs
-        .iter()
-        .filter(|x| x.polarity < 0.0)
-        .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
-        .unwrap();
+    let n = main_region(&regs, -1.0).unwrap();
     assert!(
         (-25.0..=-10.0).contains(&n.temperature),
         "main negative at {} degC",
@@ -474,33 +466,9 @@ density = 1.5
     let cfg = scratch("layers.toml");
     std::fs::write(&cfg, text).unwrap();
     let out = scratch("layers.nc");
-    let o = bin()
-        .args(["run", "--quiet"])
-        .arg(&cfg)
-        .arg("-o")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
     let json = scratch("layers.json");
-    let o = bin()
-        .arg("analyze")
-        .arg(&out)
-        .arg("--json")
-        .arg(&json)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    let o = succeed(bin().arg("analyze").arg(&out).arg("--json").arg(&json));
     assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
     let v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();

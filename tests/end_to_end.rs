@@ -19,17 +19,7 @@ fn embedded_demo_is_configs_demo_toml() {
 #[test]
 fn demo_run_writes_a_complete_cf_file_and_replays_bit_for_bit() {
     let out = scratch("demo.nc");
-    let o = bin()
-        .args(["run", "--quiet", "-o"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    succeed(bin().args(["run", "--quiet", "-o"]).arg(&out));
     assert!(out.exists());
     assert!(!partial_path(&out).exists(), "temporary file left behind");
 
@@ -101,18 +91,12 @@ fn demo_run_writes_a_complete_cf_file_and_replays_bit_for_bit() {
 
     // Replay from the stored configuration reproduces the data bit for bit.
     let again = scratch("demo_again.nc");
-    let o = bin()
-        .args(["run", "--quiet", "--replay"])
-        .arg(&out)
-        .arg("-o")
-        .arg(&again)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
+    succeed(
+        bin()
+            .args(["run", "--quiet", "--replay"])
+            .arg(&out)
+            .arg("-o")
+            .arg(&again),
     );
     let g = netcdf::open(&again).unwrap();
     assert_eq!(text_attr(&g, CONFIG_ATTRIBUTE), stored);
@@ -203,18 +187,12 @@ fn every_shipped_config_resolves() {
 fn flash_records_in_the_file() {
     // Flash records on their own unlimited dimension; counts by kind agree.
     let out = scratch("flashes.nc");
-    let o = bin()
-        .args(["run", "--quiet"])
-        .arg(repo("configs/tripole_flashes.toml"))
-        .arg("-o")
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
+    succeed(
+        bin()
+            .args(["run", "--quiet"])
+            .arg(repo("configs/tripole_flashes.toml"))
+            .arg("-o")
+            .arg(&out),
     );
     let f = netcdf::open(&out).unwrap();
     let n_flash = f.dimension_len("flash").expect("flash dimension");

@@ -8,31 +8,15 @@ use common::*;
 #[test]
 fn plot_writes_png_and_svg() {
     let out = scratch("plot_demo.nc");
-    let o = bin()
-        .args(["run", "--quiet", "-o"])
-        .arg(&out)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    succeed(bin().args(["run", "--quiet", "-o"]).arg(&out));
     let prefix = scratch("plot_demo_pictures");
-    let o = bin()
-        .arg("plot")
-        .arg(&out)
-        .arg("-o")
-        .arg(&prefix)
-        .args(["--width", "1200", "--height", "900", "--time", "1800"])
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
+    succeed(
+        bin()
+            .arg("plot")
+            .arg(&out)
+            .arg("-o")
+            .arg(&prefix)
+            .args(["--width", "1200", "--height", "900", "--time", "1800"]),
     );
     let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
     assert_eq!((png.width(), png.height()), (1200, 900));

@@ -107,17 +107,7 @@ fn shards_merge_into_the_unsharded_summary() {
             String::from_utf8_lossy(&o.stderr)
         );
     }
-    let o = bin()
-        .arg("sweep-merge")
-        .arg(scratch("sharded"))
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    succeed(bin().arg("sweep-merge").arg(scratch("sharded")));
     assert_eq!(read("sharded", "summary.csv"), read("whole", "summary.csv"));
     // A missing shard is an error naming it.
     std::fs::remove_file(scratch("sharded").join("summary_shard_2_of_3.csv")).unwrap();

@@ -13,6 +13,18 @@ pub fn bin() -> Command {
     Command::new(env!("CARGO_BIN_EXE_stormcharge"))
 }
 
+/// Runs a command and asserts that it succeeded (exit code 0).
+pub fn succeed(cmd: &mut Command) -> std::process::Output {
+    let o = cmd.output().unwrap();
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    o
+}
+
 /// A path in a scratch directory private to this test process.
 pub fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("stormcharge-tests-{}", std::process::id()));
