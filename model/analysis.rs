@@ -215,31 +215,17 @@ pub fn analyze_file(
     path: &std::path::Path,
     times: &[f64],
 ) -> Result<Report, crate::error::RunError> {
-    use crate::error::RunError;
-    let e = |m: String| RunError::Output {
-        context: format!("reading {}", path.display()),
-        message: m,
-    };
-    let f = netcdf::open(path).map_err(|x| e(x.to_string()))?;
-    let get = |name: &str| -> Result<Vec<f64>, RunError> {
-        f.variable(name)
-            .ok_or_else(|| e(format!("variable {name} missing: not a stormcharge output")))?
-            .get_values::<f64, _>(..)
-            .map_err(|x| e(x.to_string()))
-    };
+    let out = crate::output::reader::OutputFile::open(path)?;
+    let get = |name: &str| out.values(name);
     let z = get("z")?;
     let time = get("time")?;
     let rho = get("charge_density")?;
     let temp = get("air_temperature")?;
     let n = z.len();
     let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
-    let area = f
-        .attribute(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
-        .and_then(|a| a.value().ok())
-        .and_then(|v| match v {
-            netcdf::AttributeValue::Str(s) => crate::config::parse(&s, "stored").ok(),
-            _ => None,
-        })
+    let area = out
+        .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
+        .and_then(|s| crate::config::parse(&s, "stored").ok())
         .and_then(|c| {
             (c.electrostatics.geometry == crate::config::Geometry::Column)
                 .then(|| std::f64::consts::PI * c.electrostatics.column_radius.powi(2))
@@ -289,15 +275,8 @@ pub fn analyze_file(
             }
         })
         .collect();
-    let kinds: Vec<i32> = match f.variable("flash_kind") {
-        Some(v) => v.get_values(..).map_err(|x| e(x.to_string()))?,
-        None => Vec::new(),
-    };
-    let flash_f64 = |name: &str| -> Vec<f64> {
-        f.variable(name)
-            .and_then(|v| v.get_values::<f64, _>(..).ok())
-            .unwrap_or_default()
-    };
+    let kinds: Vec<i32> = out.optional("flash_kind")?;
+    let flash_f64 = |name: &str| out.optional::<f64>(name);
     let duration_min = time.last().copied().unwrap_or(0.0) / 60.0;
     let count = |k: i32| kinds.iter().filter(|&&x| x == k).count();
     let counts = [count(1), count(2), count(3)];
@@ -308,8 +287,9 @@ pub fn analyze_file(
             0.0
         }
     });
-    let charge = flash_f64("flash_charge_neutralized");
-    let energy = flash_f64("flash_energy");
+    let charge = flash_f64("flash_charge_neutralized")?;
+    let energy = flash_f64("flash_energy")?;
+    let first_flash_time = flash_f64("flash_time")?.first().copied();
     Ok(Report {
         file: path.display().to_string(),
         records,
@@ -318,7 +298,7 @@ pub fn analyze_file(
             count_negative_ground: counts[1],
             count_positive_ground: counts[2],
             rate_per_minute: rate,
-            first_flash_time: flash_f64("flash_time").first().copied(),
+            first_flash_time,
             mean_charge_per_area: mean(&charge),
             mean_energy_per_area: mean(&energy),
             mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),

@@ -28,21 +28,11 @@ pub struct PlotData {
 }
 
 fn read(path: &Path) -> Result<PlotData, RunError> {
-    let e = |m: String| RunError::Output {
-        context: format!("reading {}", path.display()),
-        message: m,
-    };
-    let f = netcdf::open(path).map_err(|x| e(x.to_string()))?;
-    let get = |name: &str| -> Result<Vec<f64>, RunError> {
-        f.variable(name)
-            .ok_or_else(|| e(format!("variable {name} missing: not a stormcharge output")))?
-            .get_values::<f64, _>(..)
-            .map_err(|x| e(x.to_string()))
-    };
-    let title = match f.attribute("title").and_then(|a| a.value().ok()) {
-        Some(netcdf::AttributeValue::Str(s)) => s,
-        _ => path.display().to_string(),
-    };
+    let out = crate::output::reader::OutputFile::open(path)?;
+    let get = |name: &str| out.values(name);
+    let title = out
+        .text("title")
+        .unwrap_or_else(|| path.display().to_string());
     let mut thresholds = Vec::new();
     for c in Criterion::ALL
         .iter()
@@ -57,23 +47,17 @@ fn read(path: &Path) -> Result<PlotData, RunError> {
     for s in ["cloud", "rain", "ice", "snow", "graupel"] {
         mixing.push((s.to_string(), get(&format!("q_{s}"))?));
     }
-    let flashes = match (
-        f.variable("flash_time"),
-        f.variable("flash_z_init"),
-        f.variable("flash_kind"),
-    ) {
-        (Some(t), Some(z), Some(k)) => {
-            let t: Vec<f64> = t.get_values(..).map_err(|x| e(x.to_string()))?;
-            let z: Vec<f64> = z.get_values(..).map_err(|x| e(x.to_string()))?;
-            let k: Vec<i32> = k.get_values(..).map_err(|x| e(x.to_string()))?;
-            t.into_iter()
-                .zip(z)
-                .zip(k)
-                .map(|((a, b), c)| (a, b, c))
-                .collect()
-        }
-        _ => Vec::new(),
-    };
+    let (t, z, k): (Vec<f64>, Vec<f64>, Vec<i32>) = (
+        out.optional("flash_time")?,
+        out.optional("flash_z_init")?,
+        out.optional("flash_kind")?,
+    );
+    let flashes = t
+        .into_iter()
+        .zip(z)
+        .zip(k)
+        .map(|((a, b), c)| (a, b, c))
+        .collect();
     Ok(PlotData {
         title,
         time: get("time")?,

@@ -5,6 +5,7 @@
 
 pub mod memory;
 pub mod netcdf_writer;
+pub mod reader;
 
 use crate::breakdown::Criterion;
 use crate::carriers::Carrier;
