@@ -54,13 +54,7 @@ pub fn run(members: usize, member_duration: f64) -> Result<BenchReport, RunError
         format!("time.output_interval={member_duration}"),
     ];
     let sweep = |threads: usize| -> Result<f64, RunError> {
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(threads)
-            .build()
-            .map_err(|e| RunError::Output {
-                context: "thread pool".into(),
-                message: e.to_string(),
-            })?;
+        let pool = crate::sweep::thread_pool(threads)?;
         let t = Instant::now();
         pool.install(|| {
             (0..members)

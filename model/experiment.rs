@@ -55,17 +55,18 @@ pub struct Experiment {
     pub updraft: crate::kinematics::updraft::Updraft,
     /// The microphysics that runs.
     pub microphysics: crate::microphysics::Scheme,
-    /// Size distributions and fall laws (bulk parameters; used for fall
-    /// speeds in every mode).
-    pub fall: crate::microphysics::params::MicroParams,
+    /// Bulk microphysics parameters: size distributions and fall laws (used
+    /// for fall speeds in every mode) and the process coefficients.
+    micro: crate::microphysics::params::MicroParams,
     /// Charging scheme and parameters.
     pub charging: crate::charging::ChargingParams,
 }
 
 impl Experiment {
-    /// Size distributions and fall laws of the precipitating species.
-    pub fn fall_laws(&self) -> &crate::microphysics::params::MicroParams {
-        &self.fall
+    /// Bulk microphysics parameters, including the size distributions and
+    /// fall laws of the precipitating species.
+    pub fn micro_params(&self) -> &crate::microphysics::params::MicroParams {
+        &self.micro
     }
 }
 
@@ -187,7 +188,7 @@ impl Experiment {
         let microphysics =
             crate::experiment_physics::scheme(&config.microphysics, &config.hydrometeors.layers)
                 .map_err(err)?;
-        let fall = crate::experiment_physics::micro_params(&config.microphysics);
+        let micro = crate::experiment_physics::micro_params(&config.microphysics);
         let charging = crate::experiment_physics::charging(&config.charging).map_err(err)?;
         Ok(Experiment {
             config,
@@ -200,7 +201,7 @@ impl Experiment {
             discharge,
             updraft,
             microphysics,
-            fall,
+            micro,
             charging,
         })
     }

@@ -189,7 +189,7 @@ fn hydro_layer(i: usize, l: &HydroLayerConfig) -> Result<HydroLayer, ConfigIssue
 pub fn scheme(c: &MicrophysicsConfig, layers: &[HydroLayerConfig]) -> Result<Scheme, ConfigIssue> {
     match c.scheme {
         MicroScheme::Off => Ok(Scheme::Off),
-        MicroScheme::Bulk => Ok(Scheme::Bulk(Box::new(micro_params(c)))),
+        MicroScheme::Bulk => Ok(Scheme::Bulk),
         MicroScheme::Prescribed => {
             if layers.is_empty() {
                 return Err(ConfigIssue::new(

@@ -196,6 +196,17 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
     out
 }
 
+/// A rayon pool of `threads` workers (0: one per core).
+pub fn thread_pool(threads: usize) -> Result<rayon::ThreadPool, RunError> {
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| RunError::Output {
+            context: "thread pool".into(),
+            message: e.to_string(),
+        })
+}
+
 /// Whether member `index` (from 1) belongs to shard (K, N): every N-th
 /// member starting at the K-th, so the shards get members of every kind.
 pub fn in_shard(index: usize, shard: Option<(usize, usize)>) -> bool {
@@ -224,13 +235,7 @@ pub fn run(
         .iter()
         .filter(|m| in_shard(m.index, shard))
         .collect();
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| RunError::Output {
-            context: "thread pool".into(),
-            message: e.to_string(),
-        })?;
+    let pool = thread_pool(threads)?;
     let mut outcomes: Vec<Outcome> = pool.install(|| {
         chosen
             .par_iter()

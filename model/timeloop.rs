@@ -106,7 +106,7 @@ impl RunSummary {
             .skip(1)
             .any(|c| c.iter().any(|&x| x != 0.0))
         {
-            let f = exp.fall_laws();
+            let f = exp.micro_params();
             for (sp, dist) in [
                 (Species::Rain, &f.rain),
                 (Species::Snow, &f.snow),

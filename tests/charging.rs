@@ -5,7 +5,6 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use std::process::Command;
 use stormcharge::analysis::{classify, main_region, regions, separation, Structure};
 use stormcharge::carriers::Carrier;
 use stormcharge::charging::inductive::charge_per_rebound;
@@ -364,16 +363,10 @@ fn charging_map_command() {
     let dir = std::env::temp_dir().join(format!("stormcharge-map-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let csv = dir.join("map.csv");
-    let o = Command::new(env!("CARGO_BIN_EXE_stormcharge"))
-        .args(["charging-map", "--scheme", "saunders_peck_1998", "--csv"])
-        .arg(&csv)
-        .output()
-        .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
+    succeed(
+        bin()
+            .args(["charging-map", "--scheme", "saunders_peck_1998", "--csv"])
+            .arg(&csv),
     );
     let text = std::fs::read_to_string(&csv).unwrap();
     let lines: Vec<&str> = text.lines().collect();
@@ -383,7 +376,7 @@ fn charging_map_command() {
     let row = lines.iter().find(|l| l.starts_with("-5,0.1,")).unwrap();
     let q: f64 = row.rsplit(',').next().unwrap().parse().unwrap();
     assert!((q - sp98::charge_per_collision(-5.0, 0.3, 100e-6, 3.0) * 1e15).abs() < 1e-9);
-    let o = Command::new(env!("CARGO_BIN_EXE_stormcharge"))
+    let o = bin()
         .args(["charging-map", "--scheme", "takahashi"])
         .output()
         .unwrap();
@@ -431,7 +424,8 @@ fn analyze_command_finds_prescribed_layers() {
     // heights, thicknesses and charges per area and in the column are those of
     // the layers exactly (charge = density x thickness), and the class is a
     // normal tripole.
-    let text = r#"
+    let text = crate::still_column!(
+        r#"
 [grid]
 top = 15000.0
 spacing = 100.0
@@ -439,12 +433,6 @@ spacing = 100.0
 step = 10.0
 duration = 100.0
 output_interval = 100.0
-[atmosphere]
-profile = "standard_1976"
-[updraft]
-peak_speed = 0.0
-[microphysics]
-scheme = "off"
 [discharge]
 enabled = false
 [electrostatics]
@@ -462,7 +450,8 @@ density = -3.0
 center = 4000.0
 thickness = 600.0
 density = 1.5
-"#;
+"#
+    );
     let cfg = scratch("layers.toml");
     std::fs::write(&cfg, text).unwrap();
     let out = scratch("layers.nc");

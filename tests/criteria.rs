@@ -5,7 +5,6 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use std::process::Command;
 use stormcharge::atmosphere::standard_1976::us_standard_1976;
 use stormcharge::breakdown::avalanche::{max_efoldings, AvalancheParams};
 use stormcharge::breakdown::thresholds::ThresholdParams;
@@ -151,19 +150,13 @@ fn criteria_and_geometries_reach_the_output_file() {
     let config = Path::new(env!("CARGO_MANIFEST_DIR")).join("configs/teaching_tripole.toml");
     for geometry in ["column", "planar"] {
         let out = dir.join(format!("{geometry}.nc"));
-        let o = Command::new(env!("CARGO_BIN_EXE_stormcharge"))
-            .args(["run", "--quiet"])
-            .arg(&config)
-            .arg("-o")
-            .arg(&out)
-            .args(["--set", &format!("electrostatics.geometry={geometry}")])
-            .output()
-            .unwrap();
-        assert_eq!(
-            o.status.code(),
-            Some(0),
-            "{}",
-            String::from_utf8_lossy(&o.stderr)
+        succeed(
+            bin()
+                .args(["run", "--quiet"])
+                .arg(&config)
+                .arg("-o")
+                .arg(&out)
+                .args(["--set", &format!("electrostatics.geometry={geometry}")]),
         );
         let f = netcdf::open(&out).unwrap();
         let dims = |name: &str| -> Vec<String> {

@@ -37,7 +37,8 @@ fn first_flash(exp: &Experiment) -> (State, State, FlashRecord) {
     panic!("no flash in {} steps", exp.schedule.steps);
 }
 
-const DIPOLE: &str = r#"
+const DIPOLE: &str = crate::still_column!(
+    r#"
 [grid]
 top = 15000.0
 spacing = 100.0
@@ -45,12 +46,6 @@ spacing = 100.0
 step = 2.0
 duration = 3000.0
 output_interval = 100.0
-[atmosphere]
-profile = "standard_1976"
-[updraft]
-peak_speed = 0.0
-[microphysics]
-scheme = "off"
 [electrostatics]
 geometry = "column"
 column_radius = 3000.0
@@ -64,9 +59,11 @@ center = 6000.0
 thickness = 1000.0
 density = -0.5
 growth_rate = -0.002
-"#;
+"#
+);
 
-const LOW_NEGATIVE: &str = r#"
+const LOW_NEGATIVE: &str = crate::still_column!(
+    r#"
 [grid]
 top = 12000.0
 spacing = 100.0
@@ -74,12 +71,6 @@ spacing = 100.0
 step = 2.0
 duration = 1200.0
 output_interval = 60.0
-[atmosphere]
-profile = "standard_1976"
-[updraft]
-peak_speed = 0.0
-[microphysics]
-scheme = "off"
 [electrostatics]
 geometry = "column"
 column_radius = 2000.0
@@ -93,7 +84,8 @@ center = 7000.0
 thickness = 1000.0
 density = 0.3
 growth_rate = 0.001
-"#;
+"#
+);
 
 fn column_charge(s: &State, exp: &Experiment) -> f64 {
     s.charge_total.iter().sum::<f64>() * exp.grid.dz

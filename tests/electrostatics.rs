@@ -200,7 +200,8 @@ fn ground_image_of_a_compact_charge() {
 fn prescribed_layers_hold_their_charge() {
     // A top hat holds density x thickness per area wherever its edges fall (by
     // construction of the cell overlap), and grows at growth_rate x thickness.
-    let text = r#"
+    let text = crate::still_column!(
+        r#"
 [grid]
 top = 10000.0
 spacing = 70.0
@@ -210,10 +211,6 @@ duration = 100.0
 output_interval = 100.0
 [discharge]
 enabled = false
-[microphysics]
-scheme = "off"
-[updraft]
-peak_speed = 0.0
 [[prescribed_charge.layers]]
 center = 5123.0
 thickness = 777.0
@@ -224,7 +221,8 @@ shape = "gaussian"
 center = 2000.0
 thickness = 500.0
 density = 1.0
-"#;
+"#
+    );
     let text = text.replace("top = 10000.0", "top = 9800.0");
     let exp =
         stormcharge::experiment::Experiment::from_text(&text, "t", &[], Path::new(".")).unwrap();

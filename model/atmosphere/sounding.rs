@@ -246,10 +246,8 @@ impl Sounding {
     /// interpolation in height of temperature and of the humidity column.
     pub fn at(&self, z: f64) -> (f64, f64) {
         let n = self.height.len();
-        let mut i = self.height.partition_point(|&h| h <= z).clamp(1, n - 1);
-        if self.height[i - 1] > z {
-            i = 1;
-        }
+        // Below the first level the clamp gives i = 1 and w clamps to 0.
+        let i = self.height.partition_point(|&h| h <= z).clamp(1, n - 1);
         let (z0, z1) = (self.height[i - 1], self.height[i]);
         let w = ((z - z0) / (z1 - z0)).clamp(0.0, 1.0);
         // (1-w) a + w b is exact at both ends, so levels that coincide with

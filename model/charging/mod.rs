@@ -112,14 +112,13 @@ fn separate(charge: &mut [Vec<f64>], k: usize, gainer: Carrier, loser: Carrier, 
 pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     exp.prescribed
         .grow(&mut state.charge[Carrier::Prescribed.index()], dt);
-    let added: f64 = exp.prescribed.growth.iter().sum::<f64>() * exp.grid.dz * dt;
-    state.charge_transport.added += added;
+    state.charge_transport.added += exp.prescribed.column_growth * dt;
     let p = &exp.charging;
     if matches!(p.scheme, Scheme::Off) && !p.inductive {
         return;
     }
     let base = &exp.base.centre;
-    let f = exp.fall_laws();
+    let f = exp.micro_params();
     for k in 0..exp.grid.len() {
         let rho = base.density[k];
         let t = state.potential_temperature[k] * exner(base.pressure[k]) - T_MELT;

@@ -22,6 +22,8 @@ use crate::grid::Grid;
 pub struct PrescribedCharge {
     pub initial: Vec<f64>,
     pub growth: Vec<f64>,
+    /// Column integral of `growth` (C m-2 s-1), for the charge budget.
+    pub column_growth: f64,
 }
 
 const NANO: f64 = 1e-9;
@@ -133,7 +135,12 @@ impl PrescribedCharge {
                 growth[k] += layer.growth_rate * NANO * f[k];
             }
         }
-        Ok(PrescribedCharge { initial, growth })
+        let column_growth = growth.iter().sum::<f64>() * grid.dz;
+        Ok(PrescribedCharge {
+            initial,
+            growth,
+            column_growth,
+        })
     }
 
     /// Adds the growth over `dt` s to the prescribed carrier's density.

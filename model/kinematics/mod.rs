@@ -60,7 +60,7 @@ pub fn apply_forcing(exp: &Experiment, state: &mut State) {
 /// Mass-weighted fall speeds (m s-1) of the falling species at every cell.
 pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
     let rho = &exp.base.centre.density;
-    let p = exp.fall_laws();
+    let p = exp.micro_params();
     for (i, sp) in Species::FALLING.iter().enumerate() {
         let q = &state.q[sp.index()];
         for k in 0..rho.len() {
@@ -203,16 +203,9 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
                     state.n_ice[k] = sc.field[k] / rho[k];
                 }
             }
-            let carrier = Carrier::ALL.iter().find(|c| c.species() == Some(*sp));
-            if let Some(c) = carrier {
-                let out = sedimentation::settle(
-                    &mut state.charge[c.index()],
-                    &state.fall_speed[i],
-                    dz,
-                    h,
-                );
-                state.charge_transport.precipitated += out;
-            }
+            let c = Carrier::of(*sp).index();
+            let out = sedimentation::settle(&mut state.charge[c], &state.fall_speed[i], dz, h);
+            state.charge_transport.precipitated += out;
         }
     }
     state.water.precipitation += precip;

@@ -4,6 +4,9 @@
 //!
 //!   rho_k q_k <- rho_k q_k + dt/dz (F_{k+1} - F_k),   F_n = 0 at the top.
 //!
+//! This is the first-order upwind scheme (Courant, Isaacson & Rees 1952,
+//! Comm. Pure Appl. Math. 5, 243; from memory) in conservative form, the
+//! usual sedimentation scheme of bulk models (common practice).
 //! Upwind sedimentation is positive definite and monotone for V dt/dz <= 1
 //! and moves a constant-speed profile's centre of mass by exactly V t
 //! (nothing is lost but what leaves through the ground). The flux through the

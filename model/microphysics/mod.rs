@@ -31,11 +31,13 @@ use params::MicroParams;
 use rates::{CellEnv, CellState};
 use species::Species;
 
-/// Which microphysics runs.
+/// Which microphysics runs. The bulk scheme's parameters are the
+/// experiment's [`MicroParams`] (`Experiment::micro_params`), which every mode
+/// also uses for size distributions and fall speeds.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Scheme {
     Off,
-    Bulk(Box<MicroParams>),
+    Bulk,
     Prescribed(prescribed::PrescribedHydrometeors),
 }
 
@@ -75,7 +77,8 @@ impl System<f64, Vec8> for CellOde<'_> {
     }
 }
 
-/// Exner function (p/p_ref)^(R_d/c_p) (1).
+/// Exner function (p/p_ref)^(R_d/c_p) (1), T = theta times it (Poisson's
+/// equation for dry adiabatic processes; Wallace & Hobbs 2006, Eq. 3.54).
 pub fn exner(p: f64) -> f64 {
     (p / P_REF_THETA).powf(R_DRY / CP_DRY)
 }
@@ -212,7 +215,8 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
             p.impose(exp, state, state.time + dt);
             Ok(())
         }
-        Scheme::Bulk(params) => {
+        Scheme::Bulk => {
+            let params = exp.micro_params();
             let base = &exp.base.centre;
             for k in 0..exp.grid.len() {
                 let env = CellEnv::new(base.pressure[k], base.density[k], params);

@@ -120,12 +120,17 @@ pub struct Rates {
     pub splinter_number: f64,
 }
 
-/// Vapour pressure (Pa) from mixing ratio and pressure.
+/// Vapour pressure (Pa) from mixing ratio and pressure, e = r p/(eps + r),
+/// the inverse of the mixing-ratio definition (Wallace & Hobbs 2006, Eq. 3.59).
 pub fn vapour_pressure(qv: f64, p: f64) -> f64 {
     qv.max(0.0) * p / (EPSILON + qv.max(0.0))
 }
 
-/// Saturation mixing ratios over liquid and ice (kg kg-1).
+/// Saturation mixing ratios over liquid and ice (kg kg-1): r_s = eps e_s/(p - e_s)
+/// (definition of the mixing ratio, Wallace & Hobbs 2006, Eq. 3.59) with
+/// Murphy & Koop (2005) e_s. e_s is capped at p/2, which only matters for
+/// temperatures far outside the troposphere's (it keeps r_s finite if an
+/// integration stage strays there; such states are rejected afterwards).
 pub fn saturation_ratios(t: f64, p: f64) -> (f64, f64) {
     let ew = murphy_koop_2005_liquid(t).min(0.5 * p);
     let ei = murphy_koop_2005_ice(t).min(0.5 * p);

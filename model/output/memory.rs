@@ -31,6 +31,14 @@ impl MemoryRecorder {
     }
 }
 
+impl MemoryRecorder {
+    /// Copies the flashes the state holds beyond those already kept.
+    fn catch_up(&mut self, state: &State) {
+        let new = &state.ledger.flashes[self.flashes.len()..];
+        self.flashes.extend_from_slice(new);
+    }
+}
+
 impl Observer for MemoryRecorder {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
         self.vars = variables(exp);
@@ -39,8 +47,7 @@ impl Observer for MemoryRecorder {
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let first = self.times.is_empty();
-        let new = &state.ledger.flashes[self.flashes.len()..];
-        self.flashes.extend_from_slice(new);
+        self.catch_up(state);
         self.times.push(state.time);
         for var in &self.vars {
             if var.is_static() && !first {
@@ -59,8 +66,7 @@ impl Observer for MemoryRecorder {
         state: &State,
         _summary: &RunSummary,
     ) -> Result<(), RunError> {
-        let new = &state.ledger.flashes[self.flashes.len()..];
-        self.flashes.extend_from_slice(new);
+        self.catch_up(state);
         self.finished = true;
         Ok(())
     }

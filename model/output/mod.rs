@@ -303,7 +303,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                 "C",
                 Centre,
                 Box::new(move |e, s, o| {
-                    let f = e.fall_laws();
+                    let f = e.micro_params();
                     let dist = match sp {
                         Species::Rain => &f.rain,
                         Species::Snow => &f.snow,

@@ -89,3 +89,16 @@ pub fn var_text_attr(v: &netcdf::Variable, name: &str) -> String {
         other => panic!("{name} is not text: {other:?}"),
     }
 }
+
+/// Configuration text of a still, dry column in the U.S. Standard Atmosphere
+/// 1976 (no updraft, no microphysics), the setting of the prescribed-charge
+/// tests, followed by the given TOML literals.
+#[macro_export]
+macro_rules! still_column {
+    ($($rest:expr),* $(,)?) => {
+        concat!(
+            "[atmosphere]\nprofile = \"standard_1976\"\n[updraft]\npeak_speed = 0.0\n[microphysics]\nscheme = \"off\"\n",
+            $($rest),*
+        )
+    };
+}
