@@ -64,10 +64,8 @@ pub fn run_recorded(exp: &Experiment) -> (MemoryRecorder, RunSummary) {
     (rec, summary)
 }
 
-/// A text global attribute of a NetCDF file.
-pub fn text_attr(f: &netcdf::File, name: &str) -> String {
-    match f
-        .attribute(name)
+fn as_text(attribute: Option<netcdf::Attribute<'_>>, name: &str) -> String {
+    match attribute
         .unwrap_or_else(|| panic!("attribute {name}"))
         .value()
         .unwrap()
@@ -77,17 +75,14 @@ pub fn text_attr(f: &netcdf::File, name: &str) -> String {
     }
 }
 
+/// A text global attribute of a NetCDF file.
+pub fn text_attr(f: &netcdf::File, name: &str) -> String {
+    as_text(f.attribute(name), name)
+}
+
 /// A text attribute of a NetCDF variable.
 pub fn var_text_attr(v: &netcdf::Variable, name: &str) -> String {
-    match v
-        .attribute(name)
-        .unwrap_or_else(|| panic!("attribute {name}"))
-        .value()
-        .unwrap()
-    {
-        netcdf::AttributeValue::Str(s) => s,
-        other => panic!("{name} is not text: {other:?}"),
-    }
+    as_text(v.attribute(name), name)
 }
 
 /// Configuration text of a still, dry column in the U.S. Standard Atmosphere
