@@ -40,19 +40,22 @@ fn run_demo(
     Ok((exp.grid.len(), exp.schedule.steps))
 }
 
-/// Runs the benchmarks; `members` demo copies (shortened to `member_duration`
-/// s) make the sweep.
-pub fn run(members: usize, member_duration: f64) -> Result<BenchReport, RunError> {
+/// Runs the benchmarks on the demo with `overrides` (as `run --set`);
+/// `members` demo copies (shortened to `member_duration` s) make the sweep.
+pub fn run(
+    members: usize,
+    member_duration: f64,
+    overrides: &[String],
+) -> Result<BenchReport, RunError> {
     let mut phase = [Duration::ZERO; 6];
     let start = Instant::now();
-    let (cells, steps) = run_demo(&[], &mut |p, d| phase[p] += d)?;
+    let (cells, steps) = run_demo(overrides, &mut |p, d| phase[p] += d)?;
     let total = start.elapsed().as_secs_f64();
     let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
     let shares = phase.map(|d| d.as_secs_f64() / sum);
-    let short = vec![
-        format!("time.duration={member_duration}"),
-        format!("time.output_interval={member_duration}"),
-    ];
+    let mut short = overrides.to_vec();
+    short.push(format!("time.duration={member_duration}"));
+    short.push(format!("time.output_interval={member_duration}"));
     let sweep = |threads: usize| -> Result<f64, RunError> {
         let pool = crate::sweep::thread_pool(threads)?;
         let t = Instant::now();

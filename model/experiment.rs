@@ -60,6 +60,9 @@ pub struct Experiment {
     micro: crate::microphysics::params::MicroParams,
     /// Charging scheme and parameters.
     pub charging: crate::charging::ChargingParams,
+    /// Per cell: base-state pressure and density with the factors of the
+    /// microphysics that depend only on them (the base state is fixed).
+    pub cell_env: Vec<crate::microphysics::rates::CellEnv>,
 }
 
 impl Experiment {
@@ -190,6 +193,15 @@ impl Experiment {
                 .map_err(err)?;
         let micro = crate::experiment_physics::micro_params(&config.microphysics);
         let charging = crate::experiment_physics::charging(&config.charging).map_err(err)?;
+        let cell_env = (0..grid.len())
+            .map(|k| {
+                crate::microphysics::rates::CellEnv::new(
+                    base.centre.pressure[k],
+                    base.centre.density[k],
+                    &micro,
+                )
+            })
+            .collect();
         Ok(Experiment {
             config,
             grid,
@@ -203,6 +215,7 @@ impl Experiment {
             microphysics,
             micro,
             charging,
+            cell_env,
         })
     }
 

@@ -3,13 +3,13 @@
 
 use crate::config::HydroLayerConfig;
 use crate::config::{
-    EnvelopeKind, HydroName, HydroShape, MicroScheme, MicrophysicsConfig, NucleationKind,
-    UpdraftConfig, UpdraftShape,
+    EnvelopeKind, HydroName, HydroShape, IntegratorKind, MicroScheme, MicrophysicsConfig,
+    NucleationKind, UpdraftConfig, UpdraftShape,
 };
 use crate::error::ConfigIssue;
 use crate::kinematics::updraft::{Envelope, Shape, Updraft};
 use crate::microphysics::dsd;
-use crate::microphysics::params::{MicroParams, Nucleation};
+use crate::microphysics::params::{Integrator, MicroParams, Nucleation};
 use crate::microphysics::prescribed::{HydroLayer, LayerShape, PrescribedHydrometeors};
 use crate::microphysics::species::Species;
 use crate::microphysics::Scheme;
@@ -122,6 +122,11 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         max_nuclei: c.max_ice_nuclei,
         nuclei_scale: c.ice_nuclei_scale,
         rime_splintering: c.rime_splintering,
+        integrator: match c.integrator {
+            IntegratorKind::BogackiShampine1989 => Integrator::BogackiShampine1989,
+            IntegratorKind::DormandPrince1980 => Integrator::DormandPrince1980,
+            IntegratorKind::OdeSolversDopri5 => Integrator::OdeSolversDopri5,
+        },
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,
         ..MicroParams::default()

@@ -3,7 +3,9 @@
 mod common;
 use common::*;
 
-use stormcharge::atmosphere::saturation::{murphy_koop_2005_ice, murphy_koop_2005_liquid};
+use stormcharge::atmosphere::saturation::{
+    murphy_koop_2005_both, murphy_koop_2005_ice, murphy_koop_2005_liquid, saturation_pressures,
+};
 
 /// Values at t (degC): (t, e_w Pa, e_i Pa or NaN). Source: Murphy & Koop 2005,
 /// QJRMS 131, Eqs. (7) and (10), as tabulated in ../shared/design/check-values.md
@@ -78,4 +80,48 @@ fn bolton_1980_agreement() {
             "{t} C"
         );
     }
+}
+
+#[test]
+fn both_pressures_equal_the_single_formulas() {
+    // The shared-logarithm form must be the same arithmetic as the two
+    // separate formulas (bit for bit).
+    let mut t = 123.0;
+    while t < 332.0 {
+        let (ew, ei) = murphy_koop_2005_both(t);
+        assert_eq!(ew, murphy_koop_2005_liquid(t), "{t} K");
+        assert_eq!(ei, murphy_koop_2005_ice(t), "{t} K");
+        t += 0.37;
+    }
+}
+
+#[test]
+fn table_interpolation_within_its_error_bound() {
+    // Cubic Lagrange interpolation through equally spaced nodes errs by at
+    // most (9/16)/4! h^4 max|f''''| (the interpolation remainder, e.g.
+    // Abramowitz & Stegun 1964, Eq. 25.2.4 form, from memory). For
+    // e ~ exp(a T) with a = d ln e/dT = L/(R_v T^2) (Clausius-Clapeyron),
+    // f''''/f ~ a^4; with h = 0.1 K the bound is 2.3e-6 a^4, evaluated here
+    // with a from the Clausius-Clapeyron slope over ice (the larger) times
+    // 1.1 for the variation of a over four nodes. Checked at points that do
+    // not fall on nodes, across the whole table.
+    let mut worst: f64 = 0.0;
+    let mut t = 123.0;
+    while t < 332.0 {
+        let (ew, ei) = saturation_pressures(t);
+        let a = 1.1 * 2.834e6 / (461.5 * t * t);
+        let bound = 0.5625 / 24.0 * 1e-4 * a.powi(4) + 1e-14;
+        let err_w = rel(ew, murphy_koop_2005_liquid(t));
+        let err_i = rel(ei, murphy_koop_2005_ice(t));
+        assert!(
+            err_w <= bound && err_i <= bound,
+            "{t} K: {err_w:e} {err_i:e} > {bound:e}"
+        );
+        if t > 200.0 {
+            worst = worst.max(err_w).max(err_i);
+        }
+        t += 0.0137;
+    }
+    // Above 200 K (all tropospheric temperatures) the table is exact to 1e-9.
+    assert!(worst < 1e-9, "worst {worst:e}");
 }

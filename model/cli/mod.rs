@@ -99,6 +99,9 @@ pub enum Command {
         /// Simulated time of each sweep member (s).
         #[arg(long, default_value_t = 1800.0)]
         member_duration: f64,
+        /// Override one key of the demo, as for `run` (repeatable).
+        #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
+        set: Vec<String>,
     },
     /// Join the shard summaries of a sharded sweep into summary.csv.
     SweepMerge { dir: PathBuf },
@@ -168,9 +171,9 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
         Command::Bench {
             members,
             member_duration,
-        } => {
-            crate::bench::run(members.clamp(1, 64), member_duration).map(|r| print!("{}", r.text()))
-        }
+            set,
+        } => crate::bench::run(members.clamp(1, 64), member_duration, &set)
+            .map(|r| print!("{}", r.text())),
         Command::SweepMerge { dir } => {
             crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
         }

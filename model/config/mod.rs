@@ -169,6 +169,16 @@ pub enum NucleationKind {
     Fletcher1962,
 }
 
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum IntegratorKind {
+    #[serde(rename = "bogacki_shampine_1989")]
+    BogackiShampine1989,
+    #[serde(rename = "dormand_prince_1980")]
+    DormandPrince1980,
+    #[serde(rename = "ode_solvers_dopri5")]
+    OdeSolversDopri5,
+}
+
 /// Input units as in the key table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -185,6 +195,7 @@ pub struct MicrophysicsConfig {
     pub snow_density: f64,
     pub graupel_intercept: f64,
     pub graupel_density: f64,
+    pub integrator: IntegratorKind,
     pub relative_tolerance: f64,
     pub absolute_tolerance: f64,
 }

@@ -436,6 +436,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Bulk density of graupel (common in later bulk schemes).",
     },
     KeySpec {
+        path: "microphysics.integrator",
+        kind: Kind::Choice(MICRO_INTEGRATORS),
+        unit: "",
+        default: Some("\"bogacki_shampine_1989\""),
+        doc: "Integration of the process rates over each step: the adaptive Runge-Kutta pairs of Bogacki & Shampine (1989, orders 3(2)) or Dormand & Prince (1980, orders 5(4)), both allocation-free; \"ode_solvers_dopri5\" is the Dormand-Prince integrator of the ode_solvers crate, kept as an independent reference (slower).",
+    },
+    KeySpec {
         path: "microphysics.relative_tolerance",
         kind: float(0.0, true, 0.1, false),
         unit: "1",
@@ -831,6 +838,12 @@ pub const ENVELOPES: &[&str] = &["constant", "pulse", "table"];
 pub const MICRO_SCHEMES: &[&str] = &["bulk", "prescribed", "off"];
 /// Ice-nucleation parameterisations.
 pub const NUCLEATION_SCHEMES: &[&str] = &["cooper_1986", "meyers_1992", "fletcher_1962"];
+/// Integrators of the bulk process rates.
+pub const MICRO_INTEGRATORS: &[&str] = &[
+    "bogacki_shampine_1989",
+    "dormand_prince_1980",
+    "ode_solvers_dopri5",
+];
 /// Hydrometeor species names.
 pub const HYDROMETEOR_NAMES: &[&str] = &["cloud", "rain", "ice", "snow", "graupel"];
 /// Shapes of imposed hydrometeor layers.

@@ -59,14 +59,17 @@ pub fn gamma(x: f64) -> f64 {
 /// = m! exp(-k d0) sum_j (k d0)^j / j! / k^(m+1) (repeated integration by
 /// parts; Abramowitz & Stegun 1964, Eq. 6.5.13, equation number from memory).
 pub fn tail_moment(m: u32, k: f64, d0: f64) -> f64 {
-    let e = (-k * d0).exp();
+    (-k * d0).exp() * tail_polynomial(m, k, d0)
+}
+
+/// `tail_moment` without its factor exp(-k d0) (m^(m+1)).
+fn tail_polynomial(m: u32, k: f64, d0: f64) -> f64 {
+    let r = 1.0 / k;
     match m {
-        0 => e / k,
-        1 => e * (d0 / k + 1.0 / (k * k)),
-        2 => e * (d0 * d0 / k + 2.0 * d0 / (k * k) + 2.0 / k.powi(3)),
-        _ => {
-            e * (d0.powi(3) / k + 3.0 * d0 * d0 / (k * k) + 6.0 * d0 / k.powi(3) + 6.0 / k.powi(4))
-        }
+        0 => r,
+        1 => r * (d0 + r),
+        2 => r * (d0 * d0 + 2.0 * r * (d0 + r)),
+        _ => r * (d0 * d0 * d0 + 3.0 * r * (d0 * d0 + 2.0 * r * (d0 + r))),
     }
 }
 
@@ -99,35 +102,72 @@ pub struct Exponential {
     pub fall: FallLaw,
     /// Exponent x of the air-density correction (rho0/rho)^x.
     pub density_exponent: f64,
-    /// Gamma(1+b), Gamma(3+b), Gamma(4+b) of the power fall law (unused for
-    /// the rain form) and Gamma((b'+5)/2) of the ventilation power law,
-    /// computed once: they are constants of the species.
-    gammas: [f64; 4],
+    /// Constants of the species, computed once (see `SpeciesConstants`).
+    k: SpeciesConstants,
+}
+
+/// Products of the species' constants that every integral below needs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct SpeciesConstants {
+    /// pi rho_p N0 (kg m-7): lambda^4 = this / (rho q).
+    mass_per_slope: f64,
+    /// a Gamma(1+b), a Gamma(3+b), a Gamma(4+b)/6 of the power fall law
+    /// (zero for the rain form).
+    a_gammas: [f64; 3],
+    /// Exponent b' of the power law used for ventilation.
+    b_vent: f64,
+    /// 0.31 Sc^(1/3) Gamma((b'+5)/2) a'^(1/2) of the ventilation integral.
+    vent: f64,
+    /// Diameter D0 (m) below which the rain form is negative (zero otherwise).
+    d0: f64,
+}
+
+/// The powers of a species' slope that its integrals need, computed once per
+/// rate evaluation: the slope itself, lambda^b' of the ventilation power law
+/// and, for the rain form, exp(-lambda D0). `None` from
+/// [`Exponential::slope_powers`] stands for "no mass".
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SlopePowers {
+    /// lambda (m-1).
+    pub lambda: f64,
+    /// lambda^b' (m^-b').
+    lambda_b: f64,
+    /// exp(-lambda D0) (1); 1 for power laws.
+    tail: f64,
 }
 
 impl Exponential {
     /// A species with intercept `n0` (m-4), particle density `rho_p`
     /// (kg m-3), fall law and density-correction exponent.
     pub fn new(n0: f64, rho_p: f64, fall: FallLaw, density_exponent: f64) -> Self {
-        let b = match fall {
-            FallLaw::Power { b, .. } => b,
-            FallLaw::Exponential { .. } => 0.0,
+        let (a_gammas, d0) = match fall {
+            FallLaw::Power { a, b } => (
+                [
+                    a * gamma(1.0 + b),
+                    a * gamma(3.0 + b),
+                    a * gamma(4.0 + b) / 6.0,
+                ],
+                0.0,
+            ),
+            FallLaw::Exponential { alpha, beta, c } => ([0.0; 3], (beta / alpha).ln() / c),
         };
-        let mut e = Exponential {
+        let (a_vent, b_vent) = match fall {
+            FallLaw::Power { a, b } => (a, b),
+            FallLaw::Exponential { .. } => RAIN_VENTILATION_LAW,
+        };
+        Exponential {
             n0,
             rho_p,
             fall,
             density_exponent,
-            gammas: [0.0; 4],
-        };
-        let bv = e.power_law().1;
-        e.gammas = [
-            gamma(1.0 + b),
-            gamma(3.0 + b),
-            gamma(4.0 + b),
-            gamma(0.5 * (bv + 5.0)),
-        ];
-        e
+            k: SpeciesConstants {
+                mass_per_slope: std::f64::consts::PI * rho_p * n0,
+                a_gammas,
+                b_vent,
+                vent: 0.31 * SCHMIDT_CBRT * gamma(0.5 * (b_vent + 5.0)) * a_vent.sqrt(),
+                d0,
+            },
+        }
     }
 }
 
@@ -165,14 +205,29 @@ pub const RAIN_VENTILATION_LAW: (f64, f64) = (842.0, 0.8);
 impl Exponential {
     /// Slope lambda (m-1); infinite when there is no mass.
     pub fn slope(&self, rho: f64, q: f64) -> f64 {
+        self.slope_powers(rho, q)
+            .map_or(f64::INFINITY, |s| s.lambda)
+    }
+
+    /// The slope and the powers of it that the integrals need, or `None`
+    /// without mass. One `powf` per species and evaluation: the other powers
+    /// follow by multiplication and square roots (lambda^(3+b) = lambda^3
+    /// lambda^b, lambda^((b+5)/2) = lambda^2 (lambda lambda^b)^(1/2)).
+    pub fn slope_powers(&self, rho: f64, q: f64) -> Option<SlopePowers> {
         if q <= 0.0 {
-            return f64::INFINITY;
+            return None;
         }
-        // x^(1/4) as two square roots: exact to rounding and much cheaper
-        // than powf in the innermost loop.
-        (std::f64::consts::PI * self.rho_p * self.n0 / (rho * q))
-            .sqrt()
-            .sqrt()
+        // x^(1/4) as two square roots: exact to rounding and cheaper than powf.
+        let lambda = (self.k.mass_per_slope / (rho * q)).sqrt().sqrt();
+        let tail = match self.fall {
+            FallLaw::Power { .. } => 1.0,
+            FallLaw::Exponential { .. } => (-lambda * self.k.d0).exp(),
+        };
+        Some(SlopePowers {
+            lambda,
+            lambda_b: lambda.powf(self.k.b_vent),
+            tail,
+        })
     }
 
     /// Air-density correction factor (rho0/rho)^x.
@@ -182,22 +237,27 @@ impl Exponential {
 
     /// Mass-weighted mean fall speed (m s-1).
     pub fn mass_weighted_speed(&self, rho: f64, q: f64) -> f64 {
-        if q <= 0.0 {
-            return 0.0;
-        }
-        self.mass_weighted_speed_at(self.slope(rho, q), self.correction(rho))
+        self.slope_powers(rho, q).map_or(0.0, |s| {
+            self.mass_weighted_speed_at(&s, self.correction(rho))
+        })
     }
 
-    /// Mass-weighted speed for a known slope `l` (m-1) and density correction.
-    pub fn mass_weighted_speed_at(&self, l: f64, correction: f64) -> f64 {
-        if !l.is_finite() {
-            return 0.0;
-        }
+    /// Mass-weighted speed for known slope powers and density correction.
+    /// Rain: the upper incomplete moments from D0, whose exponentials
+    /// exp(-lambda D0) and exp(-(lambda + c) D0) = exp(-lambda D0) alpha/beta
+    /// share one evaluation.
+    pub fn mass_weighted_speed_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+        let l = s.lambda;
         let v = match self.fall {
-            FallLaw::Power { a, b } => a * self.gammas[2] / (6.0 * l.powf(b)),
-            FallLaw::Exponential { alpha, beta, c } => {
-                let d0 = (beta / alpha).ln() / c;
-                (alpha * tail_moment(3, l, d0) - beta * tail_moment(3, l + c, d0)) * l.powi(4) / 6.0
+            FallLaw::Power { .. } => self.k.a_gammas[2] / s.lambda_b,
+            FallLaw::Exponential { alpha, c, .. } => {
+                let d0 = self.k.d0;
+                alpha
+                    * s.tail
+                    * (tail_polynomial(3, l, d0) - tail_polynomial(3, l + c, d0))
+                    * (l * l)
+                    * (l * l)
+                    / 6.0
             }
         };
         v.max(0.0) * correction
@@ -205,15 +265,15 @@ impl Exponential {
 
     /// Number-weighted mean fall speed (m s-1).
     pub fn number_weighted_speed(&self, rho: f64, q: f64) -> f64 {
-        if q <= 0.0 {
+        let Some(s) = self.slope_powers(rho, q) else {
             return 0.0;
-        }
-        let l = self.slope(rho, q);
+        };
+        let l = s.lambda;
         let v = match self.fall {
-            FallLaw::Power { a, b } => a * self.gammas[0] / l.powf(b),
-            FallLaw::Exponential { alpha, beta, c } => {
-                let d0 = (beta / alpha).ln() / c;
-                (alpha * tail_moment(0, l, d0) - beta * tail_moment(0, l + c, d0)) * l
+            FallLaw::Power { b, .. } => self.k.a_gammas[0] / l.powf(b),
+            FallLaw::Exponential { alpha, c, .. } => {
+                let d0 = self.k.d0;
+                alpha * s.tail * (tail_polynomial(0, l, d0) - tail_polynomial(0, l + c, d0)) * l
             }
         };
         v.max(0.0) * self.correction(rho)
@@ -223,60 +283,38 @@ impl Exponential {
     /// continuous-collection kernel of LFO83 (e.g. their Eqs. 24, 40, 51)
     /// for efficiency 1, including the density correction.
     pub fn sweep(&self, rho: f64, q: f64) -> f64 {
-        if q <= 0.0 {
-            return 0.0;
-        }
-        self.sweep_at(self.slope(rho, q), self.correction(rho))
+        self.slope_powers(rho, q)
+            .map_or(0.0, |s| self.sweep_at(&s, self.correction(rho)))
     }
 
-    /// Sweep-out integral for a known slope `l` (m-1) and density correction.
-    pub fn sweep_at(&self, l: f64, correction: f64) -> f64 {
-        if !l.is_finite() {
-            return 0.0;
-        }
+    /// Sweep-out integral for known slope powers and density correction.
+    pub fn sweep_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+        let l = s.lambda;
         let integral = match self.fall {
-            FallLaw::Power { a, b } => a * self.gammas[1] / l.powf(3.0 + b),
-            FallLaw::Exponential { alpha, beta, c } => {
-                let d0 = (beta / alpha).ln() / c;
-                alpha * tail_moment(2, l, d0) - beta * tail_moment(2, l + c, d0)
+            FallLaw::Power { .. } => self.k.a_gammas[1] / (l * l * l * s.lambda_b),
+            FallLaw::Exponential { alpha, c, .. } => {
+                let d0 = self.k.d0;
+                alpha * s.tail * (tail_polynomial(2, l, d0) - tail_polynomial(2, l + c, d0))
             }
         };
         0.25 * std::f64::consts::PI * self.n0 * integral * correction
     }
 
     /// Ventilated diffusion integral of LFO83 Eq. 52 (m-2): 0.78/lambda^2 +
-    /// 0.31 Sc^(1/3) Gamma((b+5)/2) a^(1/2) (rho0/rho)^(1/4) nu^(-1/2)
-    /// lambda^(-(b+5)/2), times N0, with kinematic viscosity `nu` (m2 s-1).
-    pub fn ventilation(&self, rho: f64, q: f64, nu: f64, law: (f64, f64)) -> f64 {
-        if q <= 0.0 {
-            return 0.0;
-        }
-        self.ventilation_at(
-            self.slope(rho, q),
-            (RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / nu.sqrt(),
-            law,
-        )
+    /// 0.31 Sc^(1/3) Gamma((b'+5)/2) a'^(1/2) (rho0/rho)^(1/4) nu^(-1/2)
+    /// lambda^(-(b'+5)/2), times N0, with kinematic viscosity `nu` (m2 s-1)
+    /// and the species' ventilation power law V = a' D^b' ([`Self::power_law`]).
+    pub fn ventilation(&self, rho: f64, q: f64, nu: f64) -> f64 {
+        self.slope_powers(rho, q).map_or(0.0, |s| {
+            self.ventilation_at(&s, (RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / nu.sqrt())
+        })
     }
 
-    /// Ventilation integral for a known slope `l` (m-1), with
+    /// Ventilation integral for known slope powers, with
     /// `air` = (rho0/rho)^(1/4) / nu^(1/2) precomputed for the cell.
-    pub fn ventilation_at(&self, l: f64, air: f64, law: (f64, f64)) -> f64 {
-        if !l.is_finite() {
-            return 0.0;
-        }
-        let (a, b) = law;
-        self.n0
-            * (0.78 / (l * l)
-                + 0.31
-                    * SCHMIDT_CBRT
-                    * if law == self.power_law() {
-                        self.gammas[3]
-                    } else {
-                        gamma(0.5 * (b + 5.0))
-                    }
-                    * a.sqrt()
-                    * air
-                    * l.powf(-0.5 * (b + 5.0)))
+    pub fn ventilation_at(&self, s: &SlopePowers, air: f64) -> f64 {
+        let l2 = s.lambda * s.lambda;
+        self.n0 * (0.78 / l2 + self.k.vent * air / (l2 * (s.lambda * s.lambda_b).sqrt()))
     }
 
     /// The power law used for ventilation (LFO83 needs V = a D^b).

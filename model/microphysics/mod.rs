@@ -17,6 +17,7 @@
 
 pub mod adjust;
 pub mod dsd;
+pub mod integrator;
 pub mod params;
 pub mod prescribed;
 pub mod rates;
@@ -27,7 +28,7 @@ use crate::error::RunError;
 use crate::experiment::Experiment;
 use crate::state::State;
 use ode_solvers::{Dopri5, OutputType, SVector, System};
-use params::MicroParams;
+use params::{Integrator, MicroParams};
 use rates::{CellEnv, CellState};
 use species::Species;
 
@@ -51,29 +52,38 @@ struct CellOde<'a> {
     params: &'a MicroParams,
 }
 
-impl CellOde<'_> {
-    fn unpack(y: &Vec8) -> CellState {
-        CellState {
-            q: [y[0], y[1], y[2], y[3], y[4], y[5]],
-            n_ice: y[6],
-            t: y[7],
-        }
+impl System<f64, Vec8> for CellOde<'_> {
+    fn system(&self, _t: f64, y: &Vec8, dy: &mut Vec8) {
+        let mut state = [0.0; 8];
+        state.copy_from_slice(&y.as_slice()[..8]);
+        let (mut d, mut w) = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
+        evaluate(&state, self.env, self.params, &mut d, &mut w);
+        dy.as_mut_slice()[..8].copy_from_slice(&d);
+        dy.as_mut_slice()[8..].copy_from_slice(&w);
     }
 }
 
-impl System<f64, Vec8> for CellOde<'_> {
-    fn system(&self, _t: f64, y: &Vec8, dy: &mut Vec8) {
-        let s = Self::unpack(y);
-        let r = rates::rates(&s, self.env, self.params);
-        let (dq, dn, dt) = rates::tendencies(&s, &r);
-        for i in 0..6 {
-            dy[i] = dq[i];
-        }
-        dy[6] = dn;
-        dy[7] = dt;
-        for (i, (_, _, rate)) in r.transfers().iter().enumerate() {
-            dy[8 + i] = *rate;
-        }
+/// The right-hand side of a cell's process ODE: the derivative `dy` of the
+/// state (q_v..q_g, n_i, T) and the transfer rates `w` at state `y`.
+fn evaluate(
+    y: &[f64; 8],
+    env: CellEnv,
+    params: &MicroParams,
+    dy: &mut [f64; 8],
+    w: &mut [f64; rates::N_TRANSFERS],
+) {
+    let s = CellState {
+        q: [y[0], y[1], y[2], y[3], y[4], y[5]],
+        n_ice: y[6],
+        t: y[7],
+    };
+    let r = rates::rates(&s, env, params);
+    let (dq, dn, dt) = rates::tendencies(&s, &r);
+    dy[..6].copy_from_slice(&dq);
+    dy[6] = dn;
+    dy[7] = dt;
+    for (wi, (_, _, rate)) in w.iter_mut().zip(r.transfers()) {
+        *wi = rate;
     }
 }
 
@@ -106,6 +116,78 @@ pub struct CellReport {
     pub condensed: f64,
 }
 
+/// Integrates the process ODE of one cell from `y0` (with its rates `first`)
+/// over `dt` s with the configured integrator: the end state and the time
+/// integrals of the transfers (kg kg-1).
+fn integrate_cell(
+    y0: [f64; 8],
+    first: ([f64; 8], [f64; rates::N_TRANSFERS]),
+    env: CellEnv,
+    p: &MicroParams,
+    dt: f64,
+) -> Result<([f64; 8], [f64; rates::N_TRANSFERS]), String> {
+    let tol = integrator::Tolerance {
+        relative: p.rtol,
+        absolute: p.atol,
+    };
+    let rhs = |y: &[f64; 8], dy: &mut [f64; 8], w: &mut [f64; rates::N_TRANSFERS]| {
+        evaluate(y, env, p, dy, w)
+    };
+    let fail = |e: &dyn std::fmt::Debug| {
+        format!(
+            "microphysics integration failed ({e:?}) at p = {:.0} Pa, T = {:.2} K",
+            env.p, y0[7]
+        )
+    };
+    match p.integrator {
+        Integrator::BogackiShampine1989 => {
+            integrator::integrate(&integrator::BOGACKI_SHAMPINE_1989, rhs, y0, first, dt, tol)
+                .map(|o| (o.y, o.integrals))
+                .map_err(|e| fail(&e))
+        }
+        Integrator::DormandPrince1980 => {
+            integrator::integrate(&integrator::DORMAND_PRINCE_1980, rhs, y0, first, dt, tol)
+                .map(|o| (o.y, o.integrals))
+                .map_err(|e| fail(&e))
+        }
+        Integrator::OdeSolversDopri5 => {
+            let mut init = [0.0; NV];
+            init[..8].copy_from_slice(&y0);
+            let start = Vec8::from_column_slice(&init);
+            // Sparse output (every accepted step, the last at t = dt): the
+            // dense output of ode_solvers 0.6 with an output increment equal
+            // to the whole interval returns an extrapolated, wrong end value
+            // (measured). The first trial step is the whole step, as in
+            // `integrator`.
+            let mut solver = Dopri5::from_param(
+                CellOde { env, params: p },
+                0.0,
+                dt,
+                dt,
+                start,
+                p.rtol,
+                p.atol,
+                0.9,
+                0.04,
+                0.2,
+                10.0,
+                dt,
+                dt,
+                100_000,
+                1000,
+                OutputType::Sparse,
+            );
+            solver.integrate().map_err(|e| fail(&e))?;
+            let end = solver.y_out().last().copied().unwrap_or(start);
+            let mut y = [0.0; 8];
+            y.copy_from_slice(&end.as_slice()[..8]);
+            let mut transfers = [0.0; rates::N_TRANSFERS];
+            transfers.copy_from_slice(&end.as_slice()[8..]);
+            Ok((y, transfers))
+        }
+    }
+}
+
 /// Integrates one cell's processes over `dt` s and reports the transfers.
 pub fn step_cell(
     s: &mut CellState,
@@ -127,53 +209,21 @@ pub fn step_cell(
     report.q_start = s.q;
     // The process ODE is autonomous: if every rate vanishes at the start the
     // state cannot change, so the integration is skipped (e.g. warm cloud
-    // below the autoconversion threshold with no precipitation).
+    // below the autoconversion threshold with no precipitation). The rates
+    // evaluated for this test are the first stage of the integration.
     let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
-    let active = has_condensate
-        && rates::rates(s, env, p)
-            .transfers()
-            .iter()
-            .any(|t| t.2 != 0.0);
-    if active {
-        let mut init = [0.0; NV];
-        init[..6].copy_from_slice(&s.q);
-        init[6] = s.n_ice;
-        init[7] = s.t;
-        let y0 = Vec8::from_column_slice(&init);
-        // Sparse output (every accepted step, the last at t = dt): the dense
-        // output of ode_solvers 0.6 with an output increment equal to the
-        // whole interval returns an extrapolated, wrong end value (measured).
-        // The first trial step is the whole step: the solver's automatic
-        // initial-step estimate cost half the run time (measured: 2.3 s ->
-        // 1.2 s for the demo, results equal to 4e-5 relative).
-        let mut solver = Dopri5::from_param(
-            CellOde { env, params: p },
-            0.0,
-            dt,
-            dt,
-            y0,
-            p.rtol,
-            p.atol,
-            0.9,
-            0.04,
-            0.2,
-            10.0,
-            dt,
-            dt,
-            100_000,
-            1000,
-            OutputType::Sparse,
-        );
-        solver.integrate().map_err(|e| {
-            format!(
-                "microphysics integration failed ({e:?}) at p = {:.0} Pa, T = {:.2} K",
-                env.p, s.t
-            )
-        })?;
-        let y = solver.y_out().last().copied().unwrap_or(y0);
-        *s = CellOde::unpack(&y);
-        for i in 0..rates::N_TRANSFERS {
-            report.transfers[i] = y[8 + i];
+    if has_condensate {
+        let y0 = [s.q[0], s.q[1], s.q[2], s.q[3], s.q[4], s.q[5], s.n_ice, s.t];
+        let mut first = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
+        evaluate(&y0, env, p, &mut first.0, &mut first.1);
+        if first.1.iter().any(|&w| w != 0.0) {
+            let (y, transfers) = integrate_cell(y0, first, env, p, dt)?;
+            *s = CellState {
+                q: [y[0], y[1], y[2], y[3], y[4], y[5]],
+                n_ice: y[6],
+                t: y[7],
+            };
+            report.transfers = transfers;
         }
     }
     let mut created = 0.0;
@@ -217,10 +267,8 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
         }
         Scheme::Bulk => {
             let params = exp.micro_params();
-            let base = &exp.base.centre;
-            for k in 0..exp.grid.len() {
-                let env = CellEnv::new(base.pressure[k], base.density[k], params);
-                let pi = exner(env.p);
+            for (k, &env) in exp.cell_env.iter().enumerate() {
+                let pi = env.exner;
                 let mut cell = CellState {
                     q: Species::ALL.map(|sp| state.q[sp.index()][k]),
                     n_ice: state.n_ice[k],

@@ -17,6 +17,18 @@ pub enum Nucleation {
     Fletcher1962,
 }
 
+/// How the process rates are integrated over a step (see [`super::integrator`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Integrator {
+    /// Bogacki & Shampine (1989) 3(2) pair, allocation-free.
+    BogackiShampine1989,
+    /// Dormand & Prince (1980) 5(4) pair, allocation-free.
+    DormandPrince1980,
+    /// The Dormand-Prince integrator of the `ode_solvers` crate: an
+    /// independent implementation, kept as the reference.
+    OdeSolversDopri5,
+}
+
 /// All parameters of the scheme.
 #[derive(Debug, Clone, PartialEq)]
 pub struct MicroParams {
@@ -52,6 +64,8 @@ pub struct MicroParams {
     /// Mass of a cloud droplet frozen homogeneously (kg): a 10 um radius drop
     /// (common practice), giving the crystal number formed.
     pub droplet_mass: f64,
+    /// Integrator of the process rates.
+    pub integrator: Integrator,
     /// Relative and absolute tolerances of the adaptive integrator.
     pub rtol: f64,
     pub atol: f64,
@@ -77,6 +91,7 @@ impl Default for MicroParams {
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
             droplet_mass: 4.0 / 3.0 * std::f64::consts::PI * 1.0e-15 * crate::constants::RHO_WATER,
+            integrator: Integrator::BogackiShampine1989,
             rtol: 1.0e-6,
             atol: 1.0e-12,
         }

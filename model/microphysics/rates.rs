@@ -13,7 +13,7 @@
 use super::dsd::{self, Exponential};
 use super::params::MicroParams;
 use super::species::Species;
-use crate::atmosphere::saturation::{murphy_koop_2005_ice, murphy_koop_2005_liquid};
+use crate::atmosphere::saturation::saturation_pressures;
 use crate::constants::{
     EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_WATER, R_VAPOUR, T_MELT,
 };
@@ -25,9 +25,9 @@ pub const PSI_VAPOUR: f64 = 2.26e-5;
 /// Dynamic viscosity of air mu (kg m-1 s-1), LFO83.
 pub const MU_AIR: f64 = 1.718e-5;
 
-/// Cell-local inputs that stay fixed during one step, with the factors that
-/// depend only on them computed once (the rates are evaluated about ten
-/// times per cell and step).
+/// Cell-local inputs that stay fixed during a run (the base state does not
+/// change), with the factors that depend only on them computed once per
+/// experiment (`Experiment::cell_env`).
 #[derive(Debug, Clone, Copy)]
 pub struct CellEnv {
     /// Air pressure (Pa).
@@ -38,6 +38,9 @@ pub struct CellEnv {
     corrections: [f64; 3],
     /// (rho0/rho)^(1/4) / nu^(1/2) of the ventilation terms (s^(1/2) m-1).
     air: f64,
+    /// Exner function (p/p_ref)^(R_d/c_p) (1), turning potential temperature
+    /// into temperature.
+    pub exner: f64,
 }
 
 impl CellEnv {
@@ -52,6 +55,7 @@ impl CellEnv {
                 params.graupel.correction(rho),
             ],
             air: (crate::constants::RHO_AIR_SEA_LEVEL / rho).sqrt().sqrt() / (MU_AIR / rho).sqrt(),
+            exner: super::exner(p),
         }
     }
 }
@@ -128,12 +132,12 @@ pub fn vapour_pressure(qv: f64, p: f64) -> f64 {
 
 /// Saturation mixing ratios over liquid and ice (kg kg-1): r_s = eps e_s/(p - e_s)
 /// (definition of the mixing ratio, Wallace & Hobbs 2006, Eq. 3.59) with
-/// Murphy & Koop (2005) e_s. e_s is capped at p/2, which only matters for
+/// Murphy & Koop (2005) e_s from their table (`saturation_pressures`). e_s is capped at p/2, which only matters for
 /// temperatures far outside the troposphere's (it keeps r_s finite if an
 /// integration stage strays there; such states are rejected afterwards).
 pub fn saturation_ratios(t: f64, p: f64) -> (f64, f64) {
-    let ew = murphy_koop_2005_liquid(t).min(0.5 * p);
-    let ei = murphy_koop_2005_ice(t).min(0.5 * p);
+    let (ew, ei) = saturation_pressures(t);
+    let (ew, ei) = (ew.min(0.5 * p), ei.min(0.5 * p));
     (EPSILON * ew / (p - ew), EPSILON * ei / (p - ei))
 }
 
@@ -162,12 +166,12 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let (qsw, qsi) = saturation_ratios(t, env.p);
     let (rain, snow, graupel): (Exponential, Exponential, Exponential) =
         (p.rain, p.snow, p.graupel);
-    // Slopes and air-density factors once per evaluation: they feed every
-    // integral below (and powf dominates the cost of this function).
+    // Slopes and their powers once per evaluation: they feed every integral
+    // below (and powf dominates the cost of this function).
     let (lr, ls, lg) = (
-        rain.slope(rho, qr),
-        snow.slope(rho, qs),
-        graupel.slope(rho, qg),
+        rain.slope_powers(rho, qr),
+        snow.slope_powers(rho, qs),
+        graupel.slope_powers(rho, qg),
     );
     let [cr, cs, cg] = env.corrections;
     let air = env.air;
@@ -175,17 +179,14 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     // Warm rain.
     r.cloud_to_rain_autoconversion =
         p.autoconversion_rate * (qc - p.autoconversion_threshold).max(0.0);
-    r.cloud_to_rain_accretion = rain.sweep_at(lr, cr) * qc;
+    r.cloud_to_rain_accretion = lr.map_or(0.0, |l| rain.sweep_at(&l, cr)) * qc;
     let sw = qv / qsw;
-    if sw < 1.0 && qr > 0.0 {
+    if let (true, Some(l)) = (sw < 1.0, lr) {
         // LFO83 Eq. 52: A' = L_v^2/(K_a R_v T^2), B' = 1/(rho q_sw psi).
         let ab = L_VAPORISATION * L_VAPORISATION / (K_AIR * R_VAPOUR * t * t)
             + 1.0 / (rho * qsw * PSI_VAPOUR);
-        r.rain_to_vapour = 2.0
-            * std::f64::consts::PI
-            * (1.0 - sw)
-            * rain.ventilation_at(lr, air, rain.power_law())
-            / (rho * ab);
+        r.rain_to_vapour =
+            2.0 * std::f64::consts::PI * (1.0 - sw) * rain.ventilation_at(&l, air) / (rho * ab);
     }
 
     // Vapour and ice: A'' = L_s^2/(K_a R_v T^2), B'' = 1/(rho q_si psi).
@@ -196,22 +197,19 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         let c = 0.5 * dsd::ice::diameter(qi, s.n_ice);
         r.vapour_to_ice = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) / ab_ice;
     }
-    for (rate, dist, qx, l) in [
-        (&mut r.vapour_to_snow, &snow, qs, ls),
-        (&mut r.vapour_to_graupel, &graupel, qg, lg),
+    for (rate, dist, l) in [
+        (&mut r.vapour_to_snow, &snow, ls),
+        (&mut r.vapour_to_graupel, &graupel, lg),
     ] {
-        if qx > 0.0 && (cold || si < 1.0) {
-            *rate = 2.0
-                * std::f64::consts::PI
-                * (si - 1.0)
-                * dist.ventilation_at(l, air, dist.power_law())
+        if let (true, Some(l)) = (cold || si < 1.0, l) {
+            *rate = 2.0 * std::f64::consts::PI * (si - 1.0) * dist.ventilation_at(&l, air)
                 / (rho * ab_ice);
         }
     }
 
     // Riming and collection.
-    let snow_sweep = snow.sweep_at(ls, cs);
-    let graupel_sweep = graupel.sweep_at(lg, cg);
+    let snow_sweep = ls.map_or(0.0, |l| snow.sweep_at(&l, cs));
+    let graupel_sweep = lg.map_or(0.0, |l| graupel.sweep_at(&l, cg));
     let by_snow = snow_sweep * qc;
     let by_graupel = graupel_sweep * qc;
     if cold {
@@ -229,29 +227,32 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         r.cloud_to_snow = by_snow * (1.0 - share);
         r.cloud_to_graupel = by_graupel * (1.0 - share);
         let dtc = t - T_MELT;
-        r.ice_to_snow = 1e-3 * (0.025 * dtc).exp() * (qi - p.ice_to_snow_threshold).max(0.0);
+        // The two temperature-dependent collection efficiencies, once each.
+        let e_snow = (0.025 * dtc).exp();
+        let e_graupel = (0.09 * dtc).exp();
+        r.ice_to_snow = 1e-3 * e_snow * (qi - p.ice_to_snow_threshold).max(0.0);
         if by_snow > 0.0 {
-            r.snow_to_graupel =
-                1e-3 * (0.09 * dtc).exp() * (qs - p.snow_to_graupel_threshold).max(0.0);
+            r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
         }
-        r.ice_to_snow_collection = snow_sweep * (0.025 * dtc).exp() * qi;
-        r.ice_to_graupel = graupel_sweep * (0.09 * dtc).exp() * qi;
-        if qs > 0.0 && qg > 0.0 {
+        r.ice_to_snow_collection = snow_sweep * e_snow * qi;
+        r.ice_to_graupel = graupel_sweep * e_graupel * qi;
+        if let (Some(ls), Some(lg)) = (ls, lg) {
             // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
             //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
-            let dv = (graupel.mass_weighted_speed_at(lg, cg) - snow.mass_weighted_speed_at(ls, cs))
-                .abs();
+            let dv = (graupel.mass_weighted_speed_at(&lg, cg)
+                - snow.mass_weighted_speed_at(&ls, cs))
+            .abs();
             r.snow_to_graupel_collection = std::f64::consts::PI.powi(2)
-                * (0.09 * dtc).exp()
+                * e_graupel
                 * graupel.n0
                 * snow.n0
                 * dv
                 * (snow.rho_p / rho)
-                * (5.0 / (ls.powi(6) * lg)
-                    + 2.0 / (ls.powi(5) * lg * lg)
-                    + 0.5 / (ls.powi(4) * lg.powi(3)));
+                * (5.0 / (ls.lambda.powi(6) * lg.lambda)
+                    + 2.0 / (ls.lambda.powi(5) * lg.lambda * lg.lambda)
+                    + 0.5 / (ls.lambda.powi(4) * lg.lambda.powi(3)));
         }
-        if qr > 0.0 {
+        if let Some(lr) = lr {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
             r.rain_to_graupel = 20.0
                 * std::f64::consts::PI.powi(2)
@@ -259,7 +260,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
                 * rain.n0
                 * (RHO_WATER / rho)
                 * ((p.bigg_a * (T_MELT - t)).exp() - 1.0)
-                / lr.powi(7);
+                / lr.lambda.powi(7);
         }
     } else {
         r.cloud_to_rain_shedding = by_snow + by_graupel;
@@ -268,12 +269,14 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
             (&mut r.snow_to_rain, &snow, ls),
             (&mut r.graupel_to_rain, &graupel, lg),
         ] {
-            *rate = 2.0
-                * std::f64::consts::PI
-                * K_AIR
-                * (t - T_MELT)
-                * dist.ventilation_at(l, air, dist.power_law())
-                / (rho * L_FUSION);
+            if let Some(l) = l {
+                *rate = 2.0
+                    * std::f64::consts::PI
+                    * K_AIR
+                    * (t - T_MELT)
+                    * dist.ventilation_at(&l, air)
+                    / (rho * L_FUSION);
+            }
         }
     }
     r.limit_sinks(&[qv, qc, qr, qi, qs, qg]);
