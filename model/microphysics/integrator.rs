@@ -222,8 +222,8 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
             for (j, wj) in w.iter().enumerate() {
                 let c = h * pair.b[j];
                 if c != 0.0 {
-                    for m in 0..M {
-                        out.integrals[m] += c * wj[m];
+                    for (acc, wm) in out.integrals.iter_mut().zip(wj) {
+                        *acc += c * wm;
                     }
                 }
             }
