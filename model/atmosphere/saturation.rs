@@ -94,26 +94,77 @@ fn table() -> &'static [(f64, f64)] {
 /// range. Outside LIQUID_T_MIN + h .. LIQUID_T_MAX - 2h the formulas are
 /// evaluated directly.
 pub fn saturation_pressures(t: f64) -> (f64, f64) {
-    let x = (t - LIQUID_T_MIN) / TABLE_STEP;
+    match table_position(t) {
+        Some((i, u)) => {
+            let nodes = &table()[i - 1..i + 3];
+            // Lagrange weights of the nodes at -1, 0, 1, 2 for u in [0, 1).
+            let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
+            let w = [
+                -u * u1 * u2 / 6.0,
+                um * u1 * u2 / 2.0,
+                -um * u * u2 / 2.0,
+                um * u * u1 / 6.0,
+            ];
+            let mut e = (0.0, 0.0);
+            for (wj, (ew, ei)) in w.iter().zip(nodes) {
+                e.0 += wj * ew;
+                e.1 += wj * ei;
+            }
+            e
+        }
+        None => murphy_koop_2005_both(t),
+    }
+}
+
+/// The liquid vapour pressure of [`saturation_pressures`] and its exact
+/// temperature derivative (Pa, Pa K-1): the derivative of the same
+/// interpolating cubic, so Newton iterations on it converge quadratically.
+/// Outside the table: the formula and a central difference of it.
+pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
+    match table_position(t) {
+        Some((i, u)) => {
+            let nodes = &table()[i - 1..i + 3];
+            let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
+            let w = [
+                -u * u1 * u2 / 6.0,
+                um * u1 * u2 / 2.0,
+                -um * u * u2 / 2.0,
+                um * u * u1 / 6.0,
+            ];
+            // d w / d u of the weights above.
+            let uu = 3.0 * u * u;
+            let dw = [
+                -(uu - 6.0 * u + 2.0) / 6.0,
+                (uu - 4.0 * u - 1.0) / 2.0,
+                -(uu - 2.0 * u - 2.0) / 2.0,
+                (uu - 1.0) / 6.0,
+            ];
+            let (mut e, mut de) = (0.0, 0.0);
+            for ((wj, dwj), (ew, _)) in w.iter().zip(&dw).zip(nodes) {
+                e += wj * ew;
+                de += dwj * ew;
+            }
+            (e, de / TABLE_STEP)
+        }
+        None => {
+            let h = 1e-4;
+            (
+                murphy_koop_2005_liquid(t),
+                (murphy_koop_2005_liquid(t + h) - murphy_koop_2005_liquid(t - h)) / (2.0 * h),
+            )
+        }
+    }
+}
+
+/// Table interval index i (nodes i-1..i+2 exist) and position u in [0, 1)
+/// of temperature `t` (K), or `None` outside the interior of the table.
+fn table_position(t: f64) -> Option<(usize, f64)> {
+    let x = (t - LIQUID_T_MIN) * (1.0 / TABLE_STEP);
     // NaN fails this test too and takes the direct path.
-    if !(x >= 1.0 && x < (TABLE_LEN - 2) as f64) {
-        return murphy_koop_2005_both(t);
+    if x >= 1.0 && x < (TABLE_LEN - 2) as f64 {
+        let i = x as usize;
+        Some((i, x - i as f64))
+    } else {
+        None
     }
-    let i = x as usize;
-    let u = x - i as f64;
-    let nodes = &table()[i - 1..i + 3];
-    // Lagrange weights of the nodes at -1, 0, 1, 2 for the point u in [0, 1).
-    let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
-    let w = [
-        -u * u1 * u2 / 6.0,
-        um * u1 * u2 / 2.0,
-        -um * u * u2 / 2.0,
-        um * u * u1 / 6.0,
-    ];
-    let mut e = (0.0, 0.0);
-    for (wj, (ew, ei)) in w.iter().zip(nodes) {
-        e.0 += wj * ew;
-        e.1 += wj * ei;
-    }
-    e
 }

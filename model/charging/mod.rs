@@ -18,7 +18,7 @@ pub mod size_speed;
 use crate::carriers::Carrier;
 use crate::constants::{RHO_WATER, T_MELT};
 use crate::experiment::Experiment;
-use crate::microphysics::{dsd, exner};
+use crate::microphysics::dsd;
 use crate::state::State;
 
 /// A non-inductive scheme.
@@ -119,15 +119,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     }
     let base = &exp.base.centre;
     let f = exp.micro_params();
-    for k in 0..exp.grid.len() {
+    for (k, env) in exp.cell_env.iter().enumerate() {
         let rho = base.density[k];
-        let t = state.potential_temperature[k] * exner(base.pressure[k]) - T_MELT;
+        let [_, cs, cg] = env.corrections;
+        let t = state.potential_temperature[k] * env.exner - T_MELT;
         let q = |i: usize| state.q[i][k].max(0.0);
         let (qc, qr, qi, qs, qg) = (q(1), q(2), q(3), q(4), q(5));
         let lwc = rho * qc * 1e3;
         let (vg, vs, vi) = (
-            f.graupel.mass_weighted_speed(rho, qg),
-            f.snow.mass_weighted_speed(rho, qs),
+            f.graupel.mass_weighted_speed_with(rho, qg, cg),
+            f.snow.mass_weighted_speed_with(rho, qs, cs),
             dsd::ice::speed(rho, qi),
         );
         let (lg, ls, lr) = (
@@ -176,15 +177,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
             let e_z = 0.5 * (state.field[k] + state.field[k + 1]);
             let m_drop = std::f64::consts::PI / 6.0 * RHO_WATER * p.droplet_diameter.powi(3);
             let drops = rho * qc / m_drop; // m-3
-            for (carrier, dist, qx, lam) in [
-                (Carrier::Graupel, &f.graupel, qg, lg),
-                (Carrier::Rain, &f.rain, qr, lr),
+            for (carrier, dist, qx, lam, correction) in [
+                (Carrier::Graupel, &f.graupel, qg, lg, cg),
+                (Carrier::Rain, &f.rain, qr, lr, env.corrections[0]),
             ] {
                 let mut r = 0.0;
                 if qx > 0.0 && lam.is_finite() {
                     let number = dist.n0 / lam; // collectors per m3
                     let q_mean = state.charge[carrier.index()][k] / number;
-                    let rebounds = p.rebound_probability * drops * dist.sweep(rho, qx);
+                    let rebounds =
+                        p.rebound_probability * drops * dist.sweep_with(rho, qx, correction);
                     r = rebounds
                         * inductive::charge_per_rebound(
                             p.droplet_diameter,

@@ -63,11 +63,12 @@ pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
     let p = exp.micro_params();
     for (i, sp) in Species::FALLING.iter().enumerate() {
         let q = &state.q[sp.index()];
-        for k in 0..rho.len() {
+        for (k, env) in exp.cell_env.iter().enumerate() {
+            let [cr, cs, cg] = env.corrections;
             state.fall_speed[i][k] = match sp {
-                Species::Rain => p.rain.mass_weighted_speed(rho[k], q[k]),
-                Species::Snow => p.snow.mass_weighted_speed(rho[k], q[k]),
-                Species::Graupel => p.graupel.mass_weighted_speed(rho[k], q[k]),
+                Species::Rain => p.rain.mass_weighted_speed_with(rho[k], q[k], cr),
+                Species::Snow => p.snow.mass_weighted_speed_with(rho[k], q[k], cs),
+                Species::Graupel => p.graupel.mass_weighted_speed_with(rho[k], q[k], cg),
                 _ => dsd::ice::speed(rho[k], q[k]),
             };
         }

@@ -4,7 +4,8 @@
 
 use super::params::MicroParams;
 use super::rates::{saturation_ratios, CellState};
-use crate::constants::{CP_DRY, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
+use crate::atmosphere::saturation::liquid_pressure_and_slope;
+use crate::constants::{CP_DRY, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
 
 /// Temperature of homogeneous freezing of cloud droplets (K): -40 degC
 /// (common practice; e.g. Pruppacher & Klett 1997, ch. 7).
@@ -14,29 +15,35 @@ pub const T_HOMOGENEOUS: f64 = T_MELT - 40.0;
 /// heating) at pressure `p` (Pa): finds the condensate c such that
 /// q_v - c = q_sw(T + L_v c / c_p), by Newton's method on that equation (the
 /// classic isobaric adjustment, e.g. Soong & Ogura 1973, JAS 30, here with
-/// Murphy & Koop 2005 saturation). Evaporation is limited to the cloud water
-/// present. Conserves q_v + q_c and the liquid-water static energy
-/// c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
+/// Murphy & Koop 2005 saturation, tabulated as in `saturation_ratios`, whose
+/// exact derivative gives the Newton slope). Evaporation is limited to the
+/// cloud water present. Conserves q_v + q_c and the liquid-water static
+/// energy c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
 pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     let (qv0, qc0, t0) = (s.q[0], s.q[1], s.t);
+    // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
+    // (zero where e is capped at p/2, as in `saturation_ratios`).
     let f = |c: f64| {
         let t = t0 + L_VAPORISATION * c / CP_DRY;
-        qv0 - c - saturation_ratios(t, p).0
+        let (e, de) = liquid_pressure_and_slope(t);
+        let (e, de) = if e < 0.5 * p { (e, de) } else { (0.5 * p, 0.0) };
+        let r = EPSILON * e / (p - e);
+        let dr = EPSILON * p / ((p - e) * (p - e)) * de;
+        (qv0 - c - r, -1.0 - dr * L_VAPORISATION / CP_DRY)
     };
-    if f(0.0) <= 0.0 && qc0 <= 0.0 {
+    let mut fd = f(0.0);
+    if fd.0 <= 0.0 && qc0 <= 0.0 {
         return 0.0; // subsaturated, no cloud to evaporate
     }
     let mut c = 0.0;
     for _ in 0..30 {
-        let h = 1e-9;
-        let fc = f(c);
-        let d = (f(c + h) - fc) / h;
-        let next = c - fc / d;
+        let next = c - fd.0 / fd.1;
         let done = (next - c).abs() < 1e-15;
         c = next;
         if done {
             break;
         }
+        fd = f(c);
     }
     // Cannot evaporate more cloud than exists.
     let c = c.max(-qc0);

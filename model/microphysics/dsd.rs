@@ -130,7 +130,8 @@ struct SpeciesConstants {
 pub struct SlopePowers {
     /// lambda (m-1).
     pub lambda: f64,
-    /// lambda^b' (m^-b').
+    /// lambda^b' (m^-b') for power-law species (NaN for the rain form,
+    /// whose ventilation integral computes it when needed).
     lambda_b: f64,
     /// exp(-lambda D0) (1); 1 for power laws.
     tail: f64,
@@ -195,6 +196,16 @@ pub fn graupel(n0: f64, rho_p: f64) -> Exponential {
     Exponential::new(n0, rho_p, fall, 0.5)
 }
 
+/// x^b, as two square roots when b = 1/4 (snow's exponent; exact to
+/// rounding and several times cheaper than `powf`).
+fn power(x: f64, b: f64) -> f64 {
+    if b == 0.25 {
+        x.sqrt().sqrt()
+    } else {
+        x.powf(b)
+    }
+}
+
 /// Cube root of the Schmidt number 0.6 of LFO83 (computed once: 0.6^(1/3)).
 const SCHMIDT_CBRT: f64 = 0.843_432_665_301_749;
 
@@ -205,8 +216,11 @@ pub const RAIN_VENTILATION_LAW: (f64, f64) = (842.0, 0.8);
 impl Exponential {
     /// Slope lambda (m-1); infinite when there is no mass.
     pub fn slope(&self, rho: f64, q: f64) -> f64 {
-        self.slope_powers(rho, q)
-            .map_or(f64::INFINITY, |s| s.lambda)
+        if q <= 0.0 {
+            return f64::INFINITY;
+        }
+        // x^(1/4) as two square roots: exact to rounding and cheaper than powf.
+        (self.k.mass_per_slope / (rho * q)).sqrt().sqrt()
     }
 
     /// The slope and the powers of it that the integrals need, or `None`
@@ -217,15 +231,19 @@ impl Exponential {
         if q <= 0.0 {
             return None;
         }
-        // x^(1/4) as two square roots: exact to rounding and cheaper than powf.
-        let lambda = (self.k.mass_per_slope / (rho * q)).sqrt().sqrt();
+        let lambda = self.slope(rho, q);
         let tail = match self.fall {
             FallLaw::Power { .. } => 1.0,
             FallLaw::Exponential { .. } => (-lambda * self.k.d0).exp(),
         };
         Some(SlopePowers {
             lambda,
-            lambda_b: lambda.powf(self.k.b_vent),
+            // The rain form needs lambda^b' only for ventilation, which
+            // computes it there (rain evaporates only in subsaturated air).
+            lambda_b: match self.fall {
+                FallLaw::Power { .. } => power(lambda, self.k.b_vent),
+                FallLaw::Exponential { .. } => f64::NAN,
+            },
             tail,
         })
     }
@@ -237,9 +255,14 @@ impl Exponential {
 
     /// Mass-weighted mean fall speed (m s-1).
     pub fn mass_weighted_speed(&self, rho: f64, q: f64) -> f64 {
-        self.slope_powers(rho, q).map_or(0.0, |s| {
-            self.mass_weighted_speed_at(&s, self.correction(rho))
-        })
+        self.mass_weighted_speed_with(rho, q, self.correction(rho))
+    }
+
+    /// Mass-weighted mean fall speed (m s-1) with the density correction
+    /// `correction` = [`Self::correction`]`(rho)` already known.
+    pub fn mass_weighted_speed_with(&self, rho: f64, q: f64, correction: f64) -> f64 {
+        self.slope_powers(rho, q)
+            .map_or(0.0, |s| self.mass_weighted_speed_at(&s, correction))
     }
 
     /// Mass-weighted speed for known slope powers and density correction.
@@ -283,8 +306,13 @@ impl Exponential {
     /// continuous-collection kernel of LFO83 (e.g. their Eqs. 24, 40, 51)
     /// for efficiency 1, including the density correction.
     pub fn sweep(&self, rho: f64, q: f64) -> f64 {
+        self.sweep_with(rho, q, self.correction(rho))
+    }
+
+    /// Sweep-out integral with the density correction already known.
+    pub fn sweep_with(&self, rho: f64, q: f64, correction: f64) -> f64 {
         self.slope_powers(rho, q)
-            .map_or(0.0, |s| self.sweep_at(&s, self.correction(rho)))
+            .map_or(0.0, |s| self.sweep_at(&s, correction))
     }
 
     /// Sweep-out integral for known slope powers and density correction.
@@ -314,7 +342,11 @@ impl Exponential {
     /// `air` = (rho0/rho)^(1/4) / nu^(1/2) precomputed for the cell.
     pub fn ventilation_at(&self, s: &SlopePowers, air: f64) -> f64 {
         let l2 = s.lambda * s.lambda;
-        self.n0 * (0.78 / l2 + self.k.vent * air / (l2 * (s.lambda * s.lambda_b).sqrt()))
+        let lambda_b = match self.fall {
+            FallLaw::Power { .. } => s.lambda_b,
+            FallLaw::Exponential { .. } => power(s.lambda, self.k.b_vent),
+        };
+        self.n0 * (0.78 / l2 + self.k.vent * air / (l2 * (s.lambda * lambda_b).sqrt()))
     }
 
     /// The power law used for ventilation (LFO83 needs V = a D^b).

@@ -35,7 +35,7 @@ pub struct CellEnv {
     /// Air density (kg m-3).
     pub rho: f64,
     /// Air-density corrections of the rain, snow and graupel fall speeds (1).
-    corrections: [f64; 3],
+    pub corrections: [f64; 3],
     /// (rho0/rho)^(1/4) / nu^(1/2) of the ventilation terms (s^(1/2) m-1).
     air: f64,
     /// Exner function (p/p_ref)^(R_d/c_p) (1), turning potential temperature
