@@ -211,8 +211,13 @@ pub fn step_cell(
     // state cannot change, so the integration is skipped (e.g. warm cloud
     // below the autoconversion threshold with no precipitation). The rates
     // evaluated for this test are the first stage of the integration.
+    // Without precipitation or ice, cloud water below the autoconversion
+    // threshold is the only condensate and every rate is zero (each other
+    // process needs rain, ice, snow or graupel), so the evaluation is skipped.
     let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
-    if has_condensate {
+    let only_light_cloud =
+        s.q[2..].iter().all(|&x| x <= 0.0) && s.q[1] <= p.autoconversion_threshold;
+    if has_condensate && !only_light_cloud {
         let y0 = [s.q[0], s.q[1], s.q[2], s.q[3], s.q[4], s.q[5], s.n_ice, s.t];
         let mut first = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
         evaluate(&y0, env, p, &mut first.0, &mut first.1);
