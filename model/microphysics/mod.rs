@@ -3,14 +3,15 @@
 //!
 //! Each step and cell, in order: instantaneous homogeneous freezing below
 //! -40 degC or melting of cloud ice above 0 degC, ice nucleation
-//! ([`adjust`]); the process rates of [`rates`] integrated over the step with
-//! the adaptive Dormand-Prince 5(4) method of `ode_solvers` on (q_v, q_c, q_r,
-//! q_i, q_s, q_g, n_i, T); mass-neutral removal of negative values (a negative
-//! hydrometeor is set to zero and the same mass taken from the vapour; only
-//! if the vapour cannot give it is mass created, and that is booked); finally
-//! saturation adjustment of cloud water. Cells without condensate and not
-//! supersaturated over ice skip the integration. Every process, its
-//! equation, source and units: docs/microphysics.md.
+//! ([`adjust`]); the process rates of [`rates`] integrated over the step on
+//! (q_v, q_c, q_r, q_i, q_s, q_g, n_i, T) with the configured adaptive
+//! Runge-Kutta pair ([`integrator`], or the `ode_solvers` Dormand-Prince
+//! integrator as reference); mass-neutral removal of negative values (a
+//! negative hydrometeor is set to zero and the same mass taken from the
+//! vapour; only if the vapour cannot give it is mass created, and that is
+//! booked); finally saturation adjustment of cloud water. Cells where no rate
+//! can act skip the integration. Every process, its equation, source and
+//! units: docs/microphysics.md.
 //!
 //! With `microphysics.scheme = "prescribed"` the hydrometeor profiles are
 //! imposed instead ([`prescribed`]); with `"off"` nothing happens here.

@@ -92,7 +92,7 @@ impl Default for MicroParams {
             splinter_mass: 1.0e-12,
             droplet_mass: 4.0 / 3.0 * std::f64::consts::PI * 1.0e-15 * crate::constants::RHO_WATER,
             integrator: Integrator::BogackiShampine1989,
-            rtol: 1.0e-6,
+            rtol: 1.0e-4,
             atol: 1.0e-12,
         }
     }
