@@ -10,41 +10,51 @@
 //! adds to another, so charge is conserved to round-off.
 
 use crate::carriers::Carrier;
+use crate::microphysics::rates::TRANSFER_PAIRS;
 use crate::microphysics::species::Species;
 use crate::microphysics::CellReport;
 
 /// Smallest mixing ratio that still holds charge (kg kg-1).
 const VANISHED: f64 = 1e-18;
 
-fn mv(charge: &mut [Vec<f64>], k: usize, from: Carrier, to: Carrier, amount: f64) {
-    charge[from.index()][k] -= amount;
-    charge[to.index()][k] += amount;
+/// Moves `amount` from carrier `from` to carrier `to` in one cell's charges.
+fn mv(c: &mut [f64; 7], from: Carrier, to: Carrier, amount: f64) {
+    c[from.index()] -= amount;
+    c[to.index()] += amount;
 }
 
 /// Moves cell `k`'s charge as the microphysics step described by `report`
 /// moved its mass; `q_end` are the final mixing ratios.
 pub fn apply(report: &CellReport, q_end: &[f64; 6], charge: &mut [Vec<f64>], k: usize) {
+    let mut c: [f64; 7] = std::array::from_fn(|i| charge[i][k]);
+    apply_cell(report, q_end, &mut c);
+    for (i, ci) in c.iter().enumerate() {
+        charge[i][k] = *ci;
+    }
+}
+
+/// [`apply`] on the charges of one cell, in `Carrier::ALL` order.
+fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; 7]) {
     // Instantaneous freezing and melting at the start of the step.
     if report.frozen > 0.0 {
-        let c = charge[Carrier::Cloud.index()][k];
-        mv(charge, k, Carrier::Cloud, Carrier::Ice, c);
+        let c = charge[Carrier::Cloud.index()];
+        mv(charge, Carrier::Cloud, Carrier::Ice, c);
     }
     if report.melted > 0.0 && report.ice_before_melt > 0.0 {
-        let c = charge[Carrier::Ice.index()][k] * (report.melted / report.ice_before_melt).min(1.0);
-        mv(charge, k, Carrier::Ice, Carrier::Cloud, c);
+        let c = charge[Carrier::Ice.index()] * (report.melted / report.ice_before_melt).min(1.0);
+        mv(charge, Carrier::Ice, Carrier::Cloud, c);
     }
     // Process transfers: fractions of the charge each species held.
-    let pairs = crate::microphysics::rates::Rates::default().transfers();
     let mut through = report.q_start;
-    for (i, (from, to, _)) in pairs.iter().enumerate() {
+    for (i, (from, to)) in TRANSFER_PAIRS.iter().enumerate() {
         let m = report.transfers[i];
         let dst = if m >= 0.0 { *to } else { *from };
         if dst != Species::Vapour {
             through[dst.index()] += m.abs();
         }
     }
-    let start = Species::ALL.map(|s| charge[Carrier::of(s).index()][k]);
-    for (i, (from, to, _)) in pairs.iter().enumerate() {
+    let start = Species::ALL.map(|s| charge[Carrier::of(s).index()]);
+    for (i, (from, to)) in TRANSFER_PAIRS.iter().enumerate() {
         let m = report.transfers[i];
         if m == 0.0 {
             continue;
@@ -59,20 +69,20 @@ pub fn apply(report: &CellReport, q_end: &[f64; 6], charge: &mut [Vec<f64>], k: 
             continue;
         }
         let amount = start[src.index()] * (m.abs() / avail).min(1.0);
-        mv(charge, k, Carrier::of(src), Carrier::of(dst), amount);
+        mv(charge, Carrier::of(src), Carrier::of(dst), amount);
     }
     // Evaporation of cloud water in the saturation adjustment.
     if report.condensed < 0.0 && report.cloud_before_adjust > 0.0 {
-        let c = charge[Carrier::Cloud.index()][k]
+        let c = charge[Carrier::Cloud.index()]
             * (-report.condensed / report.cloud_before_adjust).min(1.0);
-        mv(charge, k, Carrier::Cloud, Carrier::Ions, c);
+        mv(charge, Carrier::Cloud, Carrier::Ions, c);
     }
     // Vanished species give everything to the ions.
     for sp in Species::HYDROMETEORS {
         if q_end[sp.index()] <= VANISHED {
-            let c = charge[Carrier::of(sp).index()][k];
+            let c = charge[Carrier::of(sp).index()];
             if c != 0.0 {
-                mv(charge, k, Carrier::of(sp), Carrier::Ions, c);
+                mv(charge, Carrier::of(sp), Carrier::Ions, c);
             }
         }
     }

@@ -11,13 +11,15 @@
 //! and the potential of the disk, s/(2 eps0) (sqrt(h^2+R^2) - |h|), gives
 //!   phi(z) = rho/(2 eps0) [F(z-a) - F(z-b)],
 //!   F(u) = (u sqrt(u^2+R^2) + R^2 asinh(u/R) - u|u|) / 2.
-//! Both are linear in rho, so the solver precomputes an (n+1) x n field matrix
-//! and an n x n potential matrix; each step is two matrix-vector products.
+//! Both are linear in rho, so the solver precomputes the field on the n+1
+//! faces and the potential at the n centres of unit charge in each cell; each
+//! step sums those responses over the charged cells (cells without charge
+//! cost nothing).
 //! The field tends to the planar field-free-top solution as R grows.
 
 use crate::constants::EPSILON_0;
 use crate::grid::Grid;
-use ndarray::{Array2, ArrayView1, ArrayViewMut1};
+use ndarray::{Array2, ArrayView1};
 
 /// On-axis E_z (V m-1) at height `z` of a cylinder between `a` and `b`
 /// (m, a < b) of radius `r` (m) holding unit charge density (1 C m-3).
@@ -47,7 +49,12 @@ pub fn cylinder_axial_potential(z: f64, a: f64, b: f64, r: f64) -> f64 {
 pub struct ColumnSolver {
     /// Column radius (m).
     pub radius: f64,
+    /// Row j: on-axis field on every face (V m-1) of unit charge density in
+    /// cell j with its ground image ((n x (n+1)), one row per source cell so
+    /// each step adds contiguous rows).
     field: Array2<f64>,
+    /// Row j: on-axis potential at every centre (V) of unit charge density in
+    /// cell j with its image (n x n).
     potential: Array2<f64>,
 }
 
@@ -55,11 +62,11 @@ impl ColumnSolver {
     pub fn new(grid: &Grid, radius: f64) -> Self {
         let n = grid.len();
         let zf = &grid.z_face;
-        let field = Array2::from_shape_fn((n + 1, n), |(i, j)| {
+        let field = Array2::from_shape_fn((n, n + 1), |(j, i)| {
             let (a, b) = (zf[j], zf[j + 1]);
             cylinder_axial_field(zf[i], a, b, radius) - cylinder_axial_field(zf[i], -b, -a, radius)
         });
-        let potential = Array2::from_shape_fn((n, n), |(i, j)| {
+        let potential = Array2::from_shape_fn((n, n), |(j, i)| {
             let (a, b) = (zf[j], zf[j + 1]);
             cylinder_axial_potential(grid.z[i], a, b, radius)
                 - cylinder_axial_potential(grid.z[i], -b, -a, radius)
@@ -71,22 +78,33 @@ impl ColumnSolver {
         }
     }
 
-    /// Potential at centres and field on faces (on the axis) from `rho` (C m-3).
+    /// Potential at centres and field on faces (on the axis) from `rho` (C m-3):
+    /// the superposition of the precomputed responses of the charged cells.
     pub fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
-        let x = ArrayView1::from(rho);
-        ndarray::linalg::general_mat_vec_mul(
-            1.0,
-            &self.potential,
-            &x,
-            0.0,
-            &mut ArrayViewMut1::from(phi),
-        );
-        ndarray::linalg::general_mat_vec_mul(
-            1.0,
-            &self.field,
-            &x,
-            0.0,
-            &mut ArrayViewMut1::from(e),
-        );
+        phi.fill(0.0);
+        e.fill(0.0);
+        for (j, &r) in rho.iter().enumerate() {
+            if r == 0.0 {
+                continue;
+            }
+            add_scaled(phi, self.potential.row(j), r);
+            add_scaled(e, self.field.row(j), r);
+        }
+    }
+}
+
+/// out += s x (element-wise; vectorises).
+fn add_scaled(out: &mut [f64], x: ArrayView1<f64>, s: f64) {
+    match x.as_slice() {
+        Some(x) => {
+            for (o, v) in out.iter_mut().zip(x) {
+                *o += s * v;
+            }
+        }
+        None => {
+            for (o, v) in out.iter_mut().zip(x.iter()) {
+                *o += s * v;
+            }
+        }
     }
 }

@@ -66,6 +66,50 @@ fn limiter(r: f64) -> f64 {
     (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
 }
 
+/// The parts of [`advect`] that depend only on the flow, shared by every
+/// advected field of a sub-step: the Courant number of each face (from its
+/// upwind cell) and dt/(rho dz) of each cell.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FlowFactors {
+    /// |M| dt/(rho_upwind dz) on the n+1 faces (1).
+    courant: Vec<f64>,
+    /// dt/(rho dz) of the n cells (s m2 kg-1).
+    per_flux: Vec<f64>,
+}
+
+impl FlowFactors {
+    /// Work space for `n` cells.
+    pub fn new(n: usize) -> Self {
+        FlowFactors {
+            courant: vec![0.0; n + 1],
+            per_flux: vec![0.0; n],
+        }
+    }
+
+    /// Fills the factors for face mass fluxes `m` (kg m-2 s-1), densities
+    /// `rho` (kg m-3), spacing `dz` (m) and step `dt` (s).
+    pub fn update(&mut self, m: &[f64], rho: &[f64], dz: f64, dt: f64) {
+        let n = rho.len();
+        for (j, c) in self.courant.iter_mut().enumerate() {
+            let mj = m[j];
+            *c = if mj >= 0.0 {
+                if j == 0 {
+                    0.0
+                } else {
+                    mj * dt / (rho[j - 1] * dz)
+                }
+            } else if j == n {
+                0.0
+            } else {
+                -mj * dt / (rho[j] * dz)
+            };
+        }
+        for (f, r) in self.per_flux.iter_mut().zip(rho) {
+            *f = dt / (r * dz);
+        }
+    }
+}
+
 /// One advection step of `dt` s. `m` holds rho w on the n+1 faces (kg m-2
 /// s-1), `rho` the cell densities (kg m-3); `inflow` the values that enter
 /// through the bottom and top faces when the flow is inward there. `faces`
@@ -75,6 +119,21 @@ pub fn advect(
     m: &[f64],
     rho: &[f64],
     dz: f64,
+    dt: f64,
+    inflow: (f64, f64),
+    faces: &mut [f64],
+) -> Budget {
+    let mut flow = FlowFactors::new(q.len());
+    flow.update(m, rho, dz, dt);
+    advect_with(q, m, &flow, dt, inflow, faces)
+}
+
+/// [`advect`] with the flow's factors computed beforehand (once per
+/// sub-step for all fields; no allocation).
+pub fn advect_with(
+    q: &mut [f64],
+    m: &[f64],
+    flow: &FlowFactors,
     dt: f64,
     inflow: (f64, f64),
     faces: &mut [f64],
@@ -94,7 +153,7 @@ pub fn advect(
                 if delta == 0.0 {
                     up
                 } else {
-                    let c = mj * dt / (rho[j - 1] * dz);
+                    let c = flow.courant[j];
                     up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
                 }
             }
@@ -108,7 +167,7 @@ pub fn advect(
             if delta == 0.0 {
                 up
             } else {
-                let c = -mj * dt / (rho[j] * dz);
+                let c = flow.courant[j];
                 up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
             }
         };
@@ -120,7 +179,7 @@ pub fn advect(
     };
     for k in 0..n {
         b.lateral += dt * q[k] * (m[k + 1] - m[k]);
-        q[k] -= dt / (rho[k] * dz) * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
+        q[k] -= flow.per_flux[k] * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
     }
     b
 }

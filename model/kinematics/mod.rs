@@ -38,6 +38,7 @@ pub struct Scratch {
     mass_flux: Vec<f64>,
     faces: Vec<f64>,
     field: Vec<f64>,
+    flow: advection::FlowFactors,
 }
 
 impl Scratch {
@@ -46,6 +47,7 @@ impl Scratch {
             mass_flux: vec![0.0; n + 1],
             faces: vec![0.0; n + 1],
             field: vec![0.0; n],
+            flow: advection::FlowFactors::new(n),
         }
     }
 }
@@ -103,17 +105,17 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
         state.substeps.1 = state.substeps.1.max(nsub);
     }
     let h = dt / nsub as f64;
+    sc.flow.update(&sc.mass_flux, rho, dz, h);
     let base_face = &exp.base.face;
     for _ in 0..nsub {
         let theta_in = (
             base_face.potential_temperature[0],
             base_face.potential_temperature[n],
         );
-        advection::advect(
+        advection::advect_with(
             &mut state.potential_temperature,
             &sc.mass_flux,
-            rho,
-            dz,
+            &sc.flow,
             h,
             theta_in,
             &mut sc.faces,
@@ -124,11 +126,10 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             } else {
                 (0.0, 0.0)
             };
-            let b = advection::advect(
+            let b = advection::advect_with(
                 &mut state.q[sp.index()],
                 &sc.mass_flux,
-                rho,
-                dz,
+                &sc.flow,
                 h,
                 inflow,
                 &mut sc.faces,
@@ -137,11 +138,10 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             state.water.advected_out_top += b.top;
             state.water.lateral += b.lateral;
         }
-        advection::advect(
+        advection::advect_with(
             &mut state.n_ice,
             &sc.mass_flux,
-            rho,
-            dz,
+            &sc.flow,
             h,
             (0.0, 0.0),
             &mut sc.faces,
@@ -151,11 +151,10 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             for k in 0..n {
                 sc.field[k] = charge[k] / rho[k];
             }
-            let b = advection::advect(
+            let b = advection::advect_with(
                 &mut sc.field,
                 &sc.mass_flux,
-                rho,
-                dz,
+                &sc.flow,
                 h,
                 (0.0, 0.0),
                 &mut sc.faces,

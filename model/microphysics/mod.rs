@@ -83,9 +83,7 @@ fn evaluate(
     dy[..6].copy_from_slice(&dq);
     dy[6] = dn;
     dy[7] = dt;
-    for (wi, (_, _, rate)) in w.iter_mut().zip(r.transfers()) {
-        *wi = rate;
-    }
+    *w = r.transfer_rates();
 }
 
 /// Exner function (p/p_ref)^(R_d/c_p) (1), T = theta times it (Poisson's
@@ -109,7 +107,7 @@ pub struct CellReport {
     pub ice_before_melt: f64,
     /// Mixing ratios entering the integration (kg kg-1).
     pub q_start: [f64; 6],
-    /// Time integrals of the transfers of `Rates::transfers` (kg kg-1).
+    /// Time integrals of the transfers, in `rates::TRANSFER_PAIRS` order (kg kg-1).
     pub transfers: [f64; rates::N_TRANSFERS],
     /// Cloud water before the saturation adjustment and the condensate it
     /// formed (negative: evaporated) (kg kg-1).

@@ -283,33 +283,58 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     r
 }
 
-/// Number of mass transfers in [`Rates::transfers`].
+/// Number of mass transfers in [`TRANSFER_PAIRS`].
 pub const N_TRANSFERS: usize = 18;
 
+/// Source and destination of every transfer, in [`Rates::transfer_rates`] order;
+/// deposition is listed as vapour -> species.
+pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
+    use Species::*;
+    [
+        (Cloud, Rain),
+        (Cloud, Rain),
+        (Rain, Vapour),
+        (Vapour, Ice),
+        (Vapour, Snow),
+        (Vapour, Graupel),
+        (Ice, Snow),
+        (Cloud, Snow),
+        (Cloud, Graupel),
+        (Cloud, Rain),
+        (Cloud, Ice),
+        (Snow, Graupel),
+        (Ice, Snow),
+        (Ice, Graupel),
+        (Snow, Graupel),
+        (Rain, Graupel),
+        (Snow, Rain),
+        (Graupel, Rain),
+    ]
+};
+
 impl Rates {
-    /// Every mass transfer as (from, to, rate); deposition is listed as
-    /// vapour -> species and is negative when it is sublimation.
-    pub fn transfers(&self) -> [(Species, Species, f64); N_TRANSFERS] {
-        use Species::*;
+    /// Every mass transfer rate, in [`TRANSFER_PAIRS`] order; deposition is
+    /// negative when it is sublimation.
+    pub fn transfer_rates(&self) -> [f64; N_TRANSFERS] {
         [
-            (Cloud, Rain, self.cloud_to_rain_autoconversion),
-            (Cloud, Rain, self.cloud_to_rain_accretion),
-            (Rain, Vapour, self.rain_to_vapour),
-            (Vapour, Ice, self.vapour_to_ice),
-            (Vapour, Snow, self.vapour_to_snow),
-            (Vapour, Graupel, self.vapour_to_graupel),
-            (Ice, Snow, self.ice_to_snow),
-            (Cloud, Snow, self.cloud_to_snow),
-            (Cloud, Graupel, self.cloud_to_graupel),
-            (Cloud, Rain, self.cloud_to_rain_shedding),
-            (Cloud, Ice, self.cloud_to_ice_splinters),
-            (Snow, Graupel, self.snow_to_graupel),
-            (Ice, Snow, self.ice_to_snow_collection),
-            (Ice, Graupel, self.ice_to_graupel),
-            (Snow, Graupel, self.snow_to_graupel_collection),
-            (Rain, Graupel, self.rain_to_graupel),
-            (Snow, Rain, self.snow_to_rain),
-            (Graupel, Rain, self.graupel_to_rain),
+            self.cloud_to_rain_autoconversion,
+            self.cloud_to_rain_accretion,
+            self.rain_to_vapour,
+            self.vapour_to_ice,
+            self.vapour_to_snow,
+            self.vapour_to_graupel,
+            self.ice_to_snow,
+            self.cloud_to_snow,
+            self.cloud_to_graupel,
+            self.cloud_to_rain_shedding,
+            self.cloud_to_ice_splinters,
+            self.snow_to_graupel,
+            self.ice_to_snow_collection,
+            self.ice_to_graupel,
+            self.snow_to_graupel_collection,
+            self.rain_to_graupel,
+            self.snow_to_rain,
+            self.graupel_to_rain,
         ]
     }
 }
