@@ -166,7 +166,7 @@ fn zero_in_zero_out_and_signs() {
         t: 285.0,
     };
     let before = s;
-    step_cell(&mut s, env, &p, 2.0).unwrap();
+    step_cell(&mut s, env, &p, 2.0, &mut Default::default()).unwrap();
     assert_eq!(s, before);
     // Mixed-phase cell: every transfer rate is non-negative except deposition,
     // whose sign is that of ice supersaturation (positive at water saturation

@@ -44,7 +44,31 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; 7]) {
         let c = charge[Carrier::Ice.index()] * (report.melted / report.ice_before_melt).min(1.0);
         mv(charge, Carrier::Ice, Carrier::Cloud, c);
     }
-    // Process transfers: fractions of the charge each species held.
+    // Process transfers: fractions of the charge each species held (nothing
+    // to do in cells whose rates were not integrated).
+    if report.transfers.iter().any(|&m| m != 0.0) {
+        transfers(report, charge);
+    }
+    // Evaporation of cloud water in the saturation adjustment.
+    if report.condensed < 0.0 && report.cloud_before_adjust > 0.0 {
+        let c = charge[Carrier::Cloud.index()]
+            * (-report.condensed / report.cloud_before_adjust).min(1.0);
+        mv(charge, Carrier::Cloud, Carrier::Ions, c);
+    }
+    // Vanished species give everything to the ions.
+    for sp in Species::HYDROMETEORS {
+        if q_end[sp.index()] <= VANISHED {
+            let c = charge[Carrier::of(sp).index()];
+            if c != 0.0 {
+                mv(charge, Carrier::of(sp), Carrier::Ions, c);
+            }
+        }
+    }
+}
+
+/// The process transfers of [`apply`]: each moves the fraction of its source's
+/// charge that it took of the mass that passed through the source.
+fn transfers(report: &CellReport, charge: &mut [f64; 7]) {
     let mut through = report.q_start;
     for (i, (from, to)) in TRANSFER_PAIRS.iter().enumerate() {
         let m = report.transfers[i];
@@ -70,20 +94,5 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; 7]) {
         }
         let amount = start[src.index()] * (m.abs() / avail).min(1.0);
         mv(charge, Carrier::of(src), Carrier::of(dst), amount);
-    }
-    // Evaporation of cloud water in the saturation adjustment.
-    if report.condensed < 0.0 && report.cloud_before_adjust > 0.0 {
-        let c = charge[Carrier::Cloud.index()]
-            * (-report.condensed / report.cloud_before_adjust).min(1.0);
-        mv(charge, Carrier::Cloud, Carrier::Ions, c);
-    }
-    // Vanished species give everything to the ions.
-    for sp in Species::HYDROMETEORS {
-        if q_end[sp.index()] <= VANISHED {
-            let c = charge[Carrier::of(sp).index()];
-            if c != 0.0 {
-                mv(charge, Carrier::of(sp), Carrier::Ions, c);
-            }
-        }
     }
 }

@@ -11,15 +11,17 @@
 //! and the potential of the disk, s/(2 eps0) (sqrt(h^2+R^2) - |h|), gives
 //!   phi(z) = rho/(2 eps0) [F(z-a) - F(z-b)],
 //!   F(u) = (u sqrt(u^2+R^2) + R^2 asinh(u/R) - u|u|) / 2.
-//! Both are linear in rho, so the solver precomputes the field on the n+1
-//! faces and the potential at the n centres of unit charge in each cell; each
-//! step sums those responses over the charged cells (cells without charge
-//! cost nothing).
+//! Both are linear in rho. On the uniform grid the response at target i to
+//! unit charge in cell j depends on i - j alone, and that of its image on
+//! i + j alone, so the solver keeps four short response vectors (a Toeplitz
+//! and a Hankel part for potential and field, about 4n values in all instead
+//! of two n x n matrices: they stay in cache) and each step sums the
+//! responses over the charged cells (cells without charge cost nothing).
 //! The field tends to the planar field-free-top solution as R grows.
 
 use crate::constants::EPSILON_0;
 use crate::grid::Grid;
-use ndarray::{Array2, ArrayView1};
+use ndarray::Array1;
 
 /// On-axis E_z (V m-1) at height `z` of a cylinder between `a` and `b`
 /// (m, a < b) of radius `r` (m) holding unit charge density (1 C m-3).
@@ -49,62 +51,79 @@ pub fn cylinder_axial_potential(z: f64, a: f64, b: f64, r: f64) -> f64 {
 pub struct ColumnSolver {
     /// Column radius (m).
     pub radius: f64,
-    /// Row j: on-axis field on every face (V m-1) of unit charge density in
-    /// cell j with its ground image ((n x (n+1)), one row per source cell so
-    /// each step adds contiguous rows).
-    field: Array2<f64>,
-    /// Row j: on-axis potential at every centre (V) of unit charge density in
-    /// cell j with its image (n x n).
-    potential: Array2<f64>,
+    /// Number of cells.
+    n: usize,
+    /// On-axis potential (V) at a centre d cells above a cell of unit charge
+    /// density, index d + n - 1 (d = -(n-1)..=n-1).
+    potential_direct: Array1<f64>,
+    /// Potential of the image of cell j at centre i, index i + j (0..=2n-2).
+    potential_image: Array1<f64>,
+    /// On-axis E_z (V m-1) at face i from unit charge in cell j, index
+    /// i - j + n - 1 (i - j = -(n-1)..=n).
+    field_direct: Array1<f64>,
+    /// E_z of the image of cell j at face i, index i + j (0..=2n-1).
+    field_image: Array1<f64>,
 }
 
 impl ColumnSolver {
     pub fn new(grid: &Grid, radius: f64) -> Self {
         let n = grid.len();
-        let zf = &grid.z_face;
-        let field = Array2::from_shape_fn((n, n + 1), |(j, i)| {
-            let (a, b) = (zf[j], zf[j + 1]);
-            cylinder_axial_field(zf[i], a, b, radius) - cylinder_axial_field(zf[i], -b, -a, radius)
+        let dz = grid.dz;
+        let off = n as f64 - 1.0;
+        // Centre i = (i + 1/2) dz, cell j = [j dz, (j + 1) dz], its image
+        // [-(j + 1) dz, -j dz]; face i = i dz. Shifting target and source
+        // together leaves the on-axis response unchanged.
+        let potential_direct = Array1::from_shape_fn(2 * n - 1, |k| {
+            cylinder_axial_potential((k as f64 - off + 0.5) * dz, 0.0, dz, radius)
         });
-        let potential = Array2::from_shape_fn((n, n), |(j, i)| {
-            let (a, b) = (zf[j], zf[j + 1]);
-            cylinder_axial_potential(grid.z[i], a, b, radius)
-                - cylinder_axial_potential(grid.z[i], -b, -a, radius)
+        let potential_image = Array1::from_shape_fn(2 * n - 1, |s| {
+            cylinder_axial_potential((s as f64 + 0.5) * dz, -dz, 0.0, radius)
+        });
+        let field_direct = Array1::from_shape_fn(2 * n, |k| {
+            cylinder_axial_field((k as f64 - off) * dz, 0.0, dz, radius)
+        });
+        let field_image = Array1::from_shape_fn(2 * n, |s| {
+            cylinder_axial_field(s as f64 * dz, -dz, 0.0, radius)
         });
         ColumnSolver {
             radius,
-            field,
-            potential,
+            n,
+            potential_direct,
+            potential_image,
+            field_direct,
+            field_image,
         }
     }
 
     /// Potential at centres and field on faces (on the axis) from `rho` (C m-3):
-    /// the superposition of the precomputed responses of the charged cells.
+    /// the superposition of the responses of the charged cells and their images.
     pub fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        let n = self.n;
+        let slices = (
+            self.potential_direct.as_slice(),
+            self.potential_image.as_slice(),
+            self.field_direct.as_slice(),
+            self.field_image.as_slice(),
+        );
+        let (Some(pd), Some(pi), Some(fd), Some(fi)) = slices else {
+            unreachable!("owned one-dimensional arrays are contiguous")
+        };
         phi.fill(0.0);
         e.fill(0.0);
         for (j, &r) in rho.iter().enumerate() {
             if r == 0.0 {
                 continue;
             }
-            add_scaled(phi, self.potential.row(j), r);
-            add_scaled(e, self.field.row(j), r);
+            let start = n - 1 - j;
+            add_difference(phi, &pd[start..start + n], &pi[j..j + n], r);
+            add_difference(e, &fd[start..start + n + 1], &fi[j..j + n + 1], r);
         }
     }
 }
 
-/// out += s x (element-wise; vectorises).
-fn add_scaled(out: &mut [f64], x: ArrayView1<f64>, s: f64) {
-    match x.as_slice() {
-        Some(x) => {
-            for (o, v) in out.iter_mut().zip(x) {
-                *o += s * v;
-            }
-        }
-        None => {
-            for (o, v) in out.iter_mut().zip(x.iter()) {
-                *o += s * v;
-            }
-        }
+/// out += s (direct - image), element-wise (vectorises).
+fn add_difference(out: &mut [f64], direct: &[f64], image: &[f64], s: f64) {
+    for ((o, d), i) in out.iter_mut().zip(direct).zip(image) {
+        *o += s * (d - i);
     }
 }

@@ -157,6 +157,7 @@ pub const MAX_STEPS: u32 = 100_000;
 /// `f(y, dy, w)` writes the derivative `dy` of the state and the `M`
 /// quadrature rates `w` at state `y`; `first` is `(dy, w)` at `y0`, already
 /// evaluated by the caller.
+#[inline]
 pub fn integrate<const S: usize, const N: usize, const M: usize>(
     pair: &EmbeddedPair<S>,
     mut f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),

@@ -124,7 +124,8 @@ fn integrate_cell(
     env: CellEnv,
     p: &MicroParams,
     dt: f64,
-) -> Result<([f64; 8], [f64; rates::N_TRANSFERS]), String> {
+    report: &mut CellReport,
+) -> Result<[f64; 8], String> {
     let tol = integrator::Tolerance {
         relative: p.rtol,
         absolute: p.atol,
@@ -141,12 +142,18 @@ fn integrate_cell(
     match p.integrator {
         Integrator::BogackiShampine1989 => {
             integrator::integrate(&integrator::BOGACKI_SHAMPINE_1989, rhs, y0, first, dt, tol)
-                .map(|o| (o.y, o.integrals))
+                .map(|o| {
+                    report.transfers = o.integrals;
+                    o.y
+                })
                 .map_err(|e| fail(&e))
         }
         Integrator::DormandPrince1980 => {
             integrator::integrate(&integrator::DORMAND_PRINCE_1980, rhs, y0, first, dt, tol)
-                .map(|o| (o.y, o.integrals))
+                .map(|o| {
+                    report.transfers = o.integrals;
+                    o.y
+                })
                 .map_err(|e| fail(&e))
         }
         Integrator::OdeSolversDopri5 => {
@@ -180,21 +187,22 @@ fn integrate_cell(
             let end = solver.y_out().last().copied().unwrap_or(start);
             let mut y = [0.0; 8];
             y.copy_from_slice(&end.as_slice()[..8]);
-            let mut transfers = [0.0; rates::N_TRANSFERS];
-            transfers.copy_from_slice(&end.as_slice()[8..]);
-            Ok((y, transfers))
+            report.transfers.copy_from_slice(&end.as_slice()[8..]);
+            Ok(y)
         }
     }
 }
 
-/// Integrates one cell's processes over `dt` s and reports the transfers.
+/// Integrates one cell's processes over `dt` s and reports the transfers in
+/// `report` (overwritten; passed in so the hot loop reuses one).
 pub fn step_cell(
     s: &mut CellState,
     env: CellEnv,
     p: &MicroParams,
     dt: f64,
-) -> Result<CellReport, String> {
-    let mut report = CellReport::default();
+    report: &mut CellReport,
+) -> Result<(), String> {
+    *report = CellReport::default();
     let (qc0, qi0) = (s.q[1], s.q[3]);
     adjust::freeze_or_melt(s, p);
     if s.q[1] < qc0 {
@@ -221,13 +229,12 @@ pub fn step_cell(
         let mut first = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
         evaluate(&y0, env, p, &mut first.0, &mut first.1);
         if first.1.iter().any(|&w| w != 0.0) {
-            let (y, transfers) = integrate_cell(y0, first, env, p, dt)?;
+            let y = integrate_cell(y0, first, env, p, dt, report)?;
             *s = CellState {
                 q: [y[0], y[1], y[2], y[3], y[4], y[5]],
                 n_ice: y[6],
                 t: y[7],
             };
-            report.transfers = transfers;
         }
     }
     let mut created = 0.0;
@@ -258,7 +265,7 @@ pub fn step_cell(
             env.p
         ));
     }
-    Ok(report)
+    Ok(())
 }
 
 /// Microphysics over one step of `dt` s.
@@ -271,6 +278,7 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
         }
         Scheme::Bulk => {
             let params = exp.micro_params();
+            let mut report = CellReport::default();
             for (k, &env) in exp.cell_env.iter().enumerate() {
                 let pi = env.exner;
                 let mut cell = CellState {
@@ -278,7 +286,7 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * pi,
                 };
-                let report = step_cell(&mut cell, env, params, dt).map_err(|message| {
+                step_cell(&mut cell, env, params, dt, &mut report).map_err(|message| {
                     RunError::Numerics {
                         time: state.time,
                         message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
