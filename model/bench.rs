@@ -16,8 +16,13 @@ use std::time::{Duration, Instant};
 pub struct BenchReport {
     pub cells: usize,
     pub steps: u64,
-    /// Cell-steps per second, full physics, one thread.
+    /// Cell-steps per second, full physics, one thread: the median over the
+    /// repeated demo runs, and the slowest and fastest of them (a shared
+    /// machine's timing varies from run to run).
     pub cell_steps_per_second: f64,
+    pub slowest: f64,
+    pub fastest: f64,
+    pub repeats: usize,
     /// Share of the step spent in each of `PHASES`.
     pub shares: [f64; 6],
     pub threads: usize,
@@ -40,17 +45,24 @@ fn run_demo(
     Ok((exp.grid.len(), exp.schedule.steps))
 }
 
-/// Runs the benchmarks on the demo with `overrides` (as `run --set`);
-/// `members` demo copies (shortened to `member_duration` s) make the sweep.
+/// Runs the benchmarks on the demo with `overrides` (as `run --set`): the
+/// demo `repeats` times, then `members` demo copies (shortened to
+/// `member_duration` s) as a sweep.
 pub fn run(
+    repeats: usize,
     members: usize,
     member_duration: f64,
     overrides: &[String],
 ) -> Result<BenchReport, RunError> {
     let mut phase = [Duration::ZERO; 6];
-    let start = Instant::now();
-    let (cells, steps) = run_demo(overrides, &mut |p, d| phase[p] += d)?;
-    let total = start.elapsed().as_secs_f64();
+    let mut rates = Vec::with_capacity(repeats);
+    let (mut cells, mut steps) = (0, 0);
+    for _ in 0..repeats.max(1) {
+        let start = Instant::now();
+        (cells, steps) = run_demo(overrides, &mut |p, d| phase[p] += d)?;
+        rates.push(cells as f64 * steps as f64 / start.elapsed().as_secs_f64());
+    }
+    rates.sort_by(f64::total_cmp);
     let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
     let shares = phase.map(|d| d.as_secs_f64() / sum);
     let mut short = overrides.to_vec();
@@ -73,7 +85,10 @@ pub fn run(
     Ok(BenchReport {
         cells,
         steps,
-        cell_steps_per_second: cells as f64 * steps as f64 / total,
+        cell_steps_per_second: rates[rates.len() / 2],
+        slowest: rates[0],
+        fastest: rates[rates.len() - 1],
+        repeats: rates.len(),
         shares,
         threads,
         sweep_one: one,
@@ -85,8 +100,14 @@ pub fn run(
 impl BenchReport {
     pub fn text(&self) -> String {
         let mut s = format!(
-            "demo column, one thread: {} cells x {} steps, {:.3e} cell-steps per second\n",
-            self.cells, self.steps, self.cell_steps_per_second
+            "demo column, one thread: {} cells x {} steps, {:.3e} cell-steps per second \
+             (median of {} runs; slowest {:.3e}, fastest {:.3e})\n",
+            self.cells,
+            self.steps,
+            self.cell_steps_per_second,
+            self.repeats,
+            self.slowest,
+            self.fastest
         );
         s.push_str("share of the step:\n");
         for (name, share) in PHASES.iter().zip(self.shares) {

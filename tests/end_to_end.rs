@@ -248,3 +248,51 @@ fn flash_records_in_the_file() {
             <= 1e-12 * last("ground_charge").abs()
     );
 }
+
+#[test]
+fn bench_prints_its_figures() {
+    // The benchmark is a measurement, not a test of speed: here only its
+    // report is checked (every figure present and finite, the phase shares
+    // summing to 100 % within their printed rounding, the median between the
+    // slowest and fastest run).
+    let o = succeed(bin().args([
+        "bench",
+        "--repeats",
+        "3",
+        "--members",
+        "2",
+        "--member-duration",
+        "60",
+    ]));
+    let text = String::from_utf8(o.stdout).unwrap();
+    let numbers = |line: &str| -> Vec<f64> {
+        line.split(|c: char| c.is_whitespace() || c == ',' || c == '(' || c == ')' || c == ';')
+            .filter_map(|w| w.parse::<f64>().ok())
+            .collect()
+    };
+    let first = text.lines().next().unwrap();
+    assert!(
+        first.starts_with("demo column, one thread: 160 cells x 1800 steps"),
+        "{first}"
+    );
+    let v = numbers(first);
+    // 160, 1800, median, 3 runs, slowest, fastest
+    assert_eq!(v.len(), 6, "{first}");
+    let (median, slowest, fastest) = (v[2], v[4], v[5]);
+    assert!(
+        slowest > 0.0 && slowest <= median && median <= fastest,
+        "{first}"
+    );
+    let shares: f64 = text
+        .lines()
+        .filter(|l| l.trim_end().ends_with('%') && l.starts_with("  "))
+        .map(|l| numbers(l)[0])
+        .sum();
+    assert!((shares - 100.0).abs() <= 0.35, "shares sum to {shares}");
+    let sweep = text.lines().find(|l| l.starts_with("sweep:")).unwrap();
+    let v = numbers(sweep);
+    assert!(
+        v.len() == 5 && v.iter().all(|x| x.is_finite() && *x > 0.0),
+        "{sweep}"
+    );
+}

@@ -93,6 +93,9 @@ pub enum Command {
     },
     /// Measure throughput: demo cell-steps per second, phase shares, sweep efficiency.
     Bench {
+        /// Timed runs of the demo (the median is reported).
+        #[arg(long, default_value_t = 5)]
+        repeats: usize,
         /// Demo copies in the sweep measurement.
         #[arg(long, default_value_t = 4)]
         members: usize,
@@ -169,11 +172,17 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             height,
         } => cmd_plot(&output, prefix, time, (width, height)),
         Command::Bench {
+            repeats,
             members,
             member_duration,
             set,
-        } => crate::bench::run(members.clamp(1, 64), member_duration, &set)
-            .map(|r| print!("{}", r.text())),
+        } => crate::bench::run(
+            repeats.clamp(1, 100),
+            members.clamp(1, 64),
+            member_duration,
+            &set,
+        )
+        .map(|r| print!("{}", r.text())),
         Command::SweepMerge { dir } => {
             crate::sweep::merge(&dir).map(|p| println!("stormcharge: wrote {}", p.display()))
         }
