@@ -27,7 +27,8 @@ pub struct BenchReport {
     pub shares: [f64; 6],
     pub threads: usize,
     /// Members per second with one thread and with all threads, and the
-    /// parallel efficiency (speed-up / threads).
+    /// parallel efficiency (speed-up / threads), medians over `repeats`
+    /// interleaved pairs of sweeps.
     pub sweep_one: f64,
     pub sweep_all: f64,
     pub efficiency: f64,
@@ -79,9 +80,24 @@ pub fn run(
         })?;
         Ok(members as f64 / t.elapsed().as_secs_f64())
     };
+    // One-thread and all-thread sweeps interleaved, `repeats` pairs; the
+    // medians are reported, and the efficiency is the median of the pairs'
+    // ratios (each pair ran close together in time, which cancels most of
+    // the drift of a shared machine).
     let threads = rayon::current_num_threads();
-    let one = sweep(1)?;
-    let all = sweep(threads)?;
+    let (mut ones, mut alls, mut ratios) = (Vec::new(), Vec::new(), Vec::new());
+    for _ in 0..repeats.max(1) {
+        let one = sweep(1)?;
+        let all = sweep(threads)?;
+        ones.push(one);
+        alls.push(all);
+        ratios.push(all / one / threads as f64);
+    }
+    let median = |v: &mut Vec<f64>| {
+        v.sort_by(f64::total_cmp);
+        v[v.len() / 2]
+    };
+    let (one, all, efficiency) = (median(&mut ones), median(&mut alls), median(&mut ratios));
     Ok(BenchReport {
         cells,
         steps,
@@ -93,7 +109,7 @@ pub fn run(
         threads,
         sweep_one: one,
         sweep_all: all,
-        efficiency: all / one / threads as f64,
+        efficiency,
     })
 }
 
@@ -114,7 +130,9 @@ impl BenchReport {
             s.push_str(&format!("  {name:<13} {:>5.1} %\n", 100.0 * share));
         }
         s.push_str(&format!(
-            "sweep: {:.3} members/s on 1 thread, {:.3} on {} threads, parallel efficiency {:.0} %\n",
+            "sweep (medians of {} pairs): {:.3} members/s on 1 thread, {:.3} on {} threads, \
+             parallel efficiency {:.0} %\n",
+            self.repeats,
             self.sweep_one,
             self.sweep_all,
             self.threads,

@@ -289,10 +289,10 @@ fn bench_prints_its_figures() {
         .map(|l| numbers(l)[0])
         .sum();
     assert!((shares - 100.0).abs() <= 0.35, "shares sum to {shares}");
-    let sweep = text.lines().find(|l| l.starts_with("sweep:")).unwrap();
+    let sweep = text.lines().find(|l| l.starts_with("sweep")).unwrap();
     let v = numbers(sweep);
     assert!(
-        v.len() == 5 && v.iter().all(|x| x.is_finite() && *x > 0.0),
+        v.len() == 6 && v.iter().all(|x| x.is_finite() && *x > 0.0),
         "{sweep}"
     );
 }
