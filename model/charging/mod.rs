@@ -145,8 +145,9 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
         };
         let (mut gi, mut gs, mut si) = (0.0, 0.0, 0.0);
         if t < 0.0 && !matches!(p.scheme, Scheme::Off) {
-            let sep_g = 1.0 - (0.09 * t).exp(); // 1 - E_coll, t = T - T0 (K)
-            let sep_s = 1.0 - (0.025 * t).exp();
+            // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
+            let (e_snow, e_graupel) = crate::microphysics::rates::collection_efficiencies(t);
+            let (sep_g, sep_s) = (1.0 - e_graupel, 1.0 - e_snow);
             if qg > 0.0 && qi > 0.0 {
                 let dv = (vg - vi).abs();
                 let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
