@@ -139,7 +139,23 @@ pub fn advect_with(
     faces: &mut [f64],
 ) -> Budget {
     let n = q.len();
-    for j in 0..=n {
+    // Only the support of the field (and one cell around it) can change: a
+    // face between two zero cells carries zero, so a zero cell with zero
+    // faces stays exactly zero. Hydrometeors and their charges fill part of
+    // the column; skipping the rest changes no result.
+    let first = q.iter().position(|&x| x != 0.0);
+    let last = q.iter().rposition(|&x| x != 0.0);
+    let (lo, hi) = match (first, last) {
+        (Some(a), Some(b)) => (a, b),
+        _ => (n, 0),
+    };
+    let lo = if inflow.0 != 0.0 { 0 } else { lo };
+    let hi = if inflow.1 != 0.0 { n - 1 } else { hi };
+    if lo > hi {
+        return Budget::default();
+    }
+    let (k0, k1) = (lo.saturating_sub(1), (hi + 1).min(n - 1));
+    for j in k0..=k1 + 1 {
         let mj = m[j];
         faces[j] = if mj >= 0.0 {
             // Upward: upwind cell j-1.
@@ -173,11 +189,15 @@ pub fn advect_with(
         };
     }
     let mut b = Budget {
-        bottom: dt * m[0] * faces[0],
-        top: dt * m[n] * faces[n],
+        bottom: if k0 == 0 { dt * m[0] * faces[0] } else { 0.0 },
+        top: if k1 + 1 == n {
+            dt * m[n] * faces[n]
+        } else {
+            0.0
+        },
         lateral: 0.0,
     };
-    for k in 0..n {
+    for k in k0..=k1 {
         b.lateral += dt * q[k] * (m[k + 1] - m[k]);
         q[k] -= flow.per_flux[k] * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
     }
