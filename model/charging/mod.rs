@@ -125,6 +125,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
         let t = state.potential_temperature[k] * env.exner - T_MELT;
         let q = |i: usize| state.q[i][k].max(0.0);
         let (qc, qr, qi, qs, qg) = (q(1), q(2), q(3), q(4), q(5));
+        // Every mechanism below needs a collector (graupel, snow or rain);
+        // without one the cell's rates are zero and nothing else is computed.
+        if qg == 0.0 && qs == 0.0 && qr == 0.0 {
+            state.charging.graupel_ice[k] = 0.0;
+            state.charging.graupel_snow[k] = 0.0;
+            state.charging.snow_ice[k] = 0.0;
+            state.charging.inductive_graupel[k] = 0.0;
+            state.charging.inductive_rain[k] = 0.0;
+            continue;
+        }
         let lwc = rho * qc * 1e3;
         let (vg, vs, vi) = (
             f.graupel.mass_weighted_speed_with(rho, qg, cg),

@@ -199,7 +199,7 @@ pub fn graupel(n0: f64, rho_p: f64) -> Exponential {
 /// x^b for x > 0: two square roots when b = 1/4 (snow's exponent; exact to
 /// rounding), otherwise exp(b ln x), which is within a few units in the last
 /// place of `powf` and about half its cost.
-fn power(x: f64, b: f64) -> f64 {
+pub(crate) fn power(x: f64, b: f64) -> f64 {
     if b == 0.25 {
         x.sqrt().sqrt()
     } else {
@@ -383,6 +383,6 @@ pub mod ice {
         if q <= 0.0 {
             return 0.0;
         }
-        3.29 * (rho * q).powf(0.16) * (RHO_AIR_SEA_LEVEL / rho).sqrt()
+        3.29 * power(rho * q, 0.16) * (RHO_AIR_SEA_LEVEL / rho).sqrt()
     }
 }

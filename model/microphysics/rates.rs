@@ -177,8 +177,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let rho = env.rho;
     let cold = t < T_MELT;
     let (qsw, qsi) = saturation_ratios(t, env.p);
-    let (rain, snow, graupel): (Exponential, Exponential, Exponential) =
-        (p.rain, p.snow, p.graupel);
+    let (rain, snow, graupel): (&Exponential, &Exponential, &Exponential) =
+        (&p.rain, &p.snow, &p.graupel);
     // Slopes and their powers once per evaluation: they feed every integral
     // below (and powf dominates the cost of this function).
     let (lr, ls, lg) = (
