@@ -63,6 +63,8 @@ pub struct Experiment {
     /// Per cell: base-state pressure and density with the factors of the
     /// microphysics that depend only on them (the base state is fixed).
     pub cell_env: Vec<crate::microphysics::rates::CellEnv>,
+    /// The updraft's vertical shape factor on the faces (fixed in time).
+    pub updraft_shape: Vec<f64>,
 }
 
 impl Experiment {
@@ -202,6 +204,7 @@ impl Experiment {
                 )
             })
             .collect();
+        let updraft_shape = updraft.shape_factors(&grid.z_face);
         Ok(Experiment {
             config,
             grid,
@@ -216,6 +219,7 @@ impl Experiment {
             micro,
             charging,
             cell_env,
+            updraft_shape,
         })
     }
 

@@ -69,6 +69,7 @@ const TABLE_STEP: f64 = 0.1;
 const TABLE_LEN: usize = ((LIQUID_T_MAX - LIQUID_T_MIN) / TABLE_STEP) as usize + 1;
 
 /// (e_w, e_i) at the nodes LIQUID_T_MIN + i TABLE_STEP, built on first use.
+#[inline]
 fn table() -> &'static [(f64, f64)] {
     static TABLE: std::sync::OnceLock<Vec<(f64, f64)>> = std::sync::OnceLock::new();
     TABLE.get_or_init(|| {
@@ -93,6 +94,7 @@ fn table() -> &'static [(f64, f64)] {
 /// the formulas. The tests compare the table with the formulas over the whole
 /// range. Outside LIQUID_T_MIN + h .. LIQUID_T_MAX - 2h the formulas are
 /// evaluated directly.
+#[inline]
 pub fn saturation_pressures(t: f64) -> (f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
@@ -120,6 +122,7 @@ pub fn saturation_pressures(t: f64) -> (f64, f64) {
 /// temperature derivative (Pa, Pa K-1): the derivative of the same
 /// interpolating cubic, so Newton iterations on it converge quadratically.
 /// Outside the table: the formula and a central difference of it.
+#[inline]
 pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
@@ -158,6 +161,7 @@ pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
 
 /// Table interval index i (nodes i-1..i+2 exist) and position u in [0, 1)
 /// of temperature `t` (K), or `None` outside the interior of the table.
+#[inline]
 fn table_position(t: f64) -> Option<(usize, f64)> {
     let x = (t - LIQUID_T_MIN) * (1.0 / TABLE_STEP);
     // NaN fails this test too and takes the direct path.

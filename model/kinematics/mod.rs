@@ -54,9 +54,8 @@ impl Scratch {
 
 /// Sets the prescribed updraft on the faces for the state's time.
 pub fn apply_forcing(exp: &Experiment, state: &mut State) {
-    for (w, &z) in state.w.iter_mut().zip(&exp.grid.z_face) {
-        *w = exp.updraft.w(z, state.time);
-    }
+    exp.updraft
+        .w_on(&exp.updraft_shape, state.time, &mut state.w);
 }
 
 /// Mass-weighted fall speeds (m s-1) of the falling species at every cell.

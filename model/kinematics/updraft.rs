@@ -126,4 +126,18 @@ impl Updraft {
     pub fn w(&self, z: f64, t: f64) -> f64 {
         self.peak * self.shape.factor(z) * self.envelope.factor(t) + self.background
     }
+
+    /// The vertical shape factors at heights `z` (m), for [`Self::w_on`].
+    pub fn shape_factors(&self, z: &[f64]) -> Vec<f64> {
+        z.iter().map(|&z| self.shape.factor(z)).collect()
+    }
+
+    /// w (m s-1) at the heights whose `shape_factors` are given, at time `t`
+    /// (s): the same arithmetic as [`Self::w`] with the shape precomputed.
+    pub fn w_on(&self, shape_factors: &[f64], t: f64, w: &mut [f64]) {
+        let envelope = self.envelope.factor(t);
+        for (w, &shape) in w.iter_mut().zip(shape_factors) {
+            *w = self.peak * shape * envelope + self.background;
+        }
+    }
 }
