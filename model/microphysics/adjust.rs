@@ -27,8 +27,9 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
         let t = t0 + L_VAPORISATION * c / CP_DRY;
         let (e, de) = liquid_pressure_and_slope(t);
         let (e, de) = if e < 0.5 * p { (e, de) } else { (0.5 * p, 0.0) };
-        let r = EPSILON * e / (p - e);
-        let dr = EPSILON * p / ((p - e) * (p - e)) * de;
+        let inv = 1.0 / (p - e);
+        let r = EPSILON * e * inv;
+        let dr = EPSILON * p * inv * inv * de;
         (qv0 - c - r, -1.0 - dr * L_VAPORISATION / CP_DRY)
     };
     let mut fd = f(0.0);
