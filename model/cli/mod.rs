@@ -97,7 +97,7 @@ pub enum Command {
         #[arg(long, default_value_t = 5)]
         repeats: usize,
         /// Demo copies in the sweep measurement.
-        #[arg(long, default_value_t = 4)]
+        #[arg(long, default_value_t = 8)]
         members: usize,
         /// Simulated time of each sweep member (s).
         #[arg(long, default_value_t = 1800.0)]

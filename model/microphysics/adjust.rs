@@ -11,6 +11,9 @@ use crate::constants::{CP_DRY, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION,
 /// (common practice; e.g. Pruppacher & Klett 1997, ch. 7).
 pub const T_HOMOGENEOUS: f64 = T_MELT - 40.0;
 
+/// L_v / c_p (K per kg kg-1), the warming per unit condensate.
+const L_OVER_CP: f64 = L_VAPORISATION / CP_DRY;
+
 /// Saturation adjustment (condensation/evaporation of cloud water with latent
 /// heating) at pressure `p` (Pa): finds the condensate c such that
 /// q_v - c = q_sw(T + L_v c / c_p), by Newton's method on that equation (the
@@ -24,13 +27,13 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
     // (zero where e is capped at p/2, as in `saturation_ratios`).
     let f = |c: f64| {
-        let t = t0 + L_VAPORISATION * c / CP_DRY;
+        let t = t0 + L_OVER_CP * c;
         let (e, de) = liquid_pressure_and_slope(t);
         let (e, de) = if e < 0.5 * p { (e, de) } else { (0.5 * p, 0.0) };
         let inv = 1.0 / (p - e);
         let r = EPSILON * e * inv;
         let dr = EPSILON * p * inv * inv * de;
-        (qv0 - c - r, -1.0 - dr * L_VAPORISATION / CP_DRY)
+        (qv0 - c - r, -1.0 - dr * L_OVER_CP)
     };
     let mut fd = f(0.0);
     if fd.0 <= 0.0 && qc0 <= 0.0 {
@@ -54,7 +57,7 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     let c = c.max(-qc0);
     s.q[0] = qv0 - c;
     s.q[1] = qc0 + c;
-    s.t = t0 + L_VAPORISATION * c / CP_DRY;
+    s.t = t0 + L_OVER_CP * c;
     c
 }
 

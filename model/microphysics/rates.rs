@@ -32,8 +32,9 @@ pub const MU_AIR: f64 = 1.718e-5;
 pub struct CellEnv {
     /// Air pressure (Pa).
     pub p: f64,
-    /// Air density (kg m-3).
+    /// Air density (kg m-3) and its reciprocal (m3 kg-1).
     pub rho: f64,
+    pub inv_rho: f64,
     /// Air-density corrections of the rain, snow and graupel fall speeds (1).
     pub corrections: [f64; 3],
     /// (rho0/rho)^(1/4) / nu^(1/2) of the ventilation terms (s^(1/2) m-1).
@@ -49,6 +50,7 @@ impl CellEnv {
         CellEnv {
             p,
             rho,
+            inv_rho: 1.0 / rho,
             corrections: [
                 params.rain.correction(rho),
                 params.snow.correction(rho),
@@ -168,6 +170,15 @@ pub fn collection_efficiencies(dtc: f64) -> (f64, f64) {
     (b4 * b, b16 * b2)
 }
 
+/// 5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3) of LFO83 Eq. 42 (m^7) for
+/// slopes `ls` and `lg` (m-1), with two reciprocals instead of three
+/// divisions.
+fn slope_sum(ls: f64, lg: f64) -> f64 {
+    let (a, b) = (1.0 / ls, 1.0 / lg);
+    let a2 = a * a;
+    a2 * a2 * b * (5.0 * a2 + 2.0 * a * b + 0.5 * b * b)
+}
+
 /// All process rates for one cell.
 pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let mut r = Rates::default();
@@ -193,30 +204,39 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     r.cloud_to_rain_autoconversion =
         p.autoconversion_rate * (qc - p.autoconversion_threshold).max(0.0);
     r.cloud_to_rain_accretion = lr.map_or(0.0, |l| rain.sweep_at(&l, cr)) * qc;
+    // Divisions are few and shared: their latency, more than the
+    // arithmetic, sets the cost of this function (profiled).
+    let inv_t2 = 1.0 / (t * t);
+    let inv_rho = env.inv_rho;
     let sw = qv / qsw;
     if let (true, Some(l)) = (sw < 1.0, lr) {
         // LFO83 Eq. 52: A' = L_v^2/(K_a R_v T^2), B' = 1/(rho q_sw psi).
-        let ab = L_VAPORISATION * L_VAPORISATION / (K_AIR * R_VAPOUR * t * t)
-            + 1.0 / (rho * qsw * PSI_VAPOUR);
+        let ab = L_VAPORISATION * L_VAPORISATION / (K_AIR * R_VAPOUR) * inv_t2
+            + inv_rho / (qsw * PSI_VAPOUR);
         r.rain_to_vapour =
-            2.0 * std::f64::consts::PI * (1.0 - sw) * rain.ventilation_at(&l, air) / (rho * ab);
+            2.0 * std::f64::consts::PI * (1.0 - sw) * rain.ventilation_at(&l, air) * inv_rho / ab;
     }
 
     // Vapour and ice: A'' = L_s^2/(K_a R_v T^2), B'' = 1/(rho q_si psi).
     let si = qv / qsi;
     let ab_ice =
-        L_SUBLIMATION * L_SUBLIMATION / (K_AIR * R_VAPOUR * t * t) + 1.0 / (rho * qsi * PSI_VAPOUR);
+        L_SUBLIMATION * L_SUBLIMATION / (K_AIR * R_VAPOUR) * inv_t2 + inv_rho / (qsi * PSI_VAPOUR);
+    let inv_ab_ice = 1.0 / ab_ice;
     if qi > 0.0 && s.n_ice > 0.0 && (cold || si < 1.0) {
         let c = 0.5 * dsd::ice::diameter(qi, s.n_ice);
-        r.vapour_to_ice = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) / ab_ice;
+        r.vapour_to_ice = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) * inv_ab_ice;
     }
     for (rate, dist, l) in [
         (&mut r.vapour_to_snow, &snow, ls),
         (&mut r.vapour_to_graupel, &graupel, lg),
     ] {
         if let (true, Some(l)) = (cold || si < 1.0, l) {
-            *rate = 2.0 * std::f64::consts::PI * (si - 1.0) * dist.ventilation_at(&l, air)
-                / (rho * ab_ice);
+            *rate = 2.0
+                * std::f64::consts::PI
+                * (si - 1.0)
+                * dist.ventilation_at(&l, air)
+                * inv_rho
+                * inv_ab_ice;
         }
     }
 
@@ -258,10 +278,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
                 * graupel.n0
                 * snow.n0
                 * dv
-                * (snow.rho_p / rho)
-                * (5.0 / (ls.lambda.powi(6) * lg.lambda)
-                    + 2.0 / (ls.lambda.powi(5) * lg.lambda * lg.lambda)
-                    + 0.5 / (ls.lambda.powi(4) * lg.lambda.powi(3)));
+                * (snow.rho_p * inv_rho)
+                * slope_sum(ls.lambda, lg.lambda);
         }
         if let Some(lr) = lr {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
@@ -269,7 +287,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
                 * std::f64::consts::PI.powi(2)
                 * p.bigg_b
                 * rain.n0
-                * (RHO_WATER / rho)
+                * (RHO_WATER * inv_rho)
                 * ((p.bigg_a * (T_MELT - t)).exp() - 1.0)
                 / lr.lambda.powi(7);
         }
@@ -281,12 +299,10 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
             (&mut r.graupel_to_rain, &graupel, lg),
         ] {
             if let Some(l) = l {
-                *rate = 2.0
-                    * std::f64::consts::PI
-                    * K_AIR
+                *rate = 2.0 * std::f64::consts::PI * K_AIR / L_FUSION
                     * (t - T_MELT)
                     * dist.ventilation_at(&l, air)
-                    / (rho * L_FUSION);
+                    * inv_rho;
             }
         }
     }
@@ -400,7 +416,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
     (
         [dv, dc, dr, di, ds, dg],
         dn,
-        heat / crate::constants::CP_DRY,
+        heat * (1.0 / crate::constants::CP_DRY),
     )
 }
 
