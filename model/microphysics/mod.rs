@@ -43,18 +43,20 @@ pub enum Scheme {
     Prescribed(prescribed::PrescribedHydrometeors),
 }
 
-/// ODE state: the 8 cell variables, then the time integrals of the
-/// N_TRANSFERS mass transfers (so charge can follow each one).
+/// State of the ode_solvers reference integration: the 8 cell variables,
+/// then the time integrals of the N_TRANSFERS mass transfers as extra
+/// variables (that crate has no quadrature outside the error control).
 const NV: usize = 8 + rates::N_TRANSFERS;
-type Vec8 = SVector<f64, NV>;
+type ReferenceState = SVector<f64, NV>;
 
+/// The cell's process ODE in the form ode_solvers integrates.
 struct CellOde<'a> {
     env: CellEnv,
     params: &'a MicroParams,
 }
 
-impl System<f64, Vec8> for CellOde<'_> {
-    fn system(&self, _t: f64, y: &Vec8, dy: &mut Vec8) {
+impl System<f64, ReferenceState> for CellOde<'_> {
+    fn system(&self, _t: f64, y: &ReferenceState, dy: &mut ReferenceState) {
         let mut state = [0.0; 8];
         state.copy_from_slice(&y.as_slice()[..8]);
         let (mut d, mut w) = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
@@ -116,8 +118,8 @@ pub struct CellReport {
 }
 
 /// Integrates the process ODE of one cell from `y0` (with its rates `first`)
-/// over `dt` s with the configured integrator: the end state and the time
-/// integrals of the transfers (kg kg-1).
+/// over `dt` s with the configured integrator: returns the end state and
+/// writes the time integrals of the transfers (kg kg-1) into `report`.
 fn integrate_cell(
     y0: [f64; 8],
     first: ([f64; 8], [f64; rates::N_TRANSFERS]),
@@ -159,7 +161,7 @@ fn integrate_cell(
         Integrator::OdeSolversDopri5 => {
             let mut init = [0.0; NV];
             init[..8].copy_from_slice(&y0);
-            let start = Vec8::from_column_slice(&init);
+            let start = ReferenceState::from_column_slice(&init);
             // Sparse output (every accepted step, the last at t = dt): the
             // dense output of ode_solvers 0.6 with an output increment equal
             // to the whole interval returns an extrapolated, wrong end value
