@@ -17,7 +17,7 @@
 //!
 //! See [`timeloop::step`], which reads like this list. Around the model:
 //! [`analysis`] (charge regions and structure classes), [`sweep`] (parameter
-//! sweeps), [`plot`] (pictures), [`bench`] (throughput figures).
+//! sweeps), [`plot`] (pictures), [`mod@bench`] (throughput figures).
 //!
 //! ## Conventions
 //! - SI units everywhere inside; conversion only at input (configuration) and output.

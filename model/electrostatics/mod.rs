@@ -9,7 +9,7 @@
 //! - [`planar`]: horizontally infinite layers, Poisson's equation
 //!   d2phi/dz2 = -rho/eps0 in flux (finite-volume) form, exact for
 //!   cell-uniform charge;
-//! - [`column`]: charge confined to a vertical cylinder over conducting ground
+//! - [`mod@column`]: charge confined to a vertical cylinder over conducting ground
 //!   (image charges), exact on-axis field and potential of uniformly charged
 //!   cylinder segments, precomputed as matrices.
 //!
@@ -69,7 +69,7 @@ impl FieldSolver {
     /// Potential (V) to pair with the charge of cell `k` in charge-potential
     /// energy sums: the exact cell mean for the planar solution, the axial
     /// centre value for the finite column (its stand-in for the mean over the
-    /// cylinder, see [`column`]).
+    /// cylinder, see [`mod@column`]).
     pub fn pairing_potential(&self, phi: &[f64], rho: &[f64], k: usize) -> f64 {
         match self {
             FieldSolver::Planar(s) => s.cell_mean_potential(phi[k], rho[k]),

@@ -4,13 +4,13 @@
 //! d2phi/dz2 = -rho/eps0) over a conducting ground at 0 V. The charge
 //! density is a cell average, taken uniform within each cell. The field is
 //! found in flux form, integrating Gauss's law over each cell,
-//!   E[k+1] - E[k] = rho[k] dz / eps0            (faces k, k+1 of cell k),
+//! `E[k+1] - E[k] = rho[k] dz / eps0` (faces k, k+1 of cell k),
 //! the second-order finite-volume form of Poisson's equation, which gives the
 //! balloon-sounding inversion rho = eps0 dE/dz back exactly (Marshall & Rust
 //! 1991). Inside a cell E_z is then linear, so the potential follows by exact
 //! integration of -E_z: at the centre of cell k
-//!   phi_c[k] = phi_f[k] - dz (3 E[k] + E[k+1]) / 8,
-//! and at the next face phi_f[k+1] = phi_f[k] - dz (E[k] + E[k+1]) / 2.
+//! `phi_c[k] = phi_f[k] - dz (3 E[k] + E[k+1]) / 8`,
+//! and at the next face `phi_f[k+1] = phi_f[k] - dz (E[k] + E[k+1]) / 2`.
 //! The one free constant, E at the ground, comes from the top boundary:
 //! - field-free top: E(top) = 0, so all flux ends on the ground;
 //! - conductor at potential V: the integral of E_z from ground to top is -V
