@@ -88,6 +88,10 @@ pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
 /// crystal taking `nucleated_mass` from the vapour (deposition heating).
 /// Returns the mass nucleated (kg kg-1).
 pub fn nucleate(s: &mut CellState, p_air: f64, rho: f64, p: &MicroParams) -> f64 {
+    // No nuclei are active at or above 0 degC (`MicroParams::nuclei`).
+    if s.t >= T_MELT {
+        return 0.0;
+    }
     let (_, qsi) = saturation_ratios(s.t, p_air);
     let si = s.q[0] / qsi;
     let target = p.nuclei(s.t, si) / rho;
