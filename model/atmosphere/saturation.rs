@@ -101,16 +101,7 @@ pub fn saturation_pressures(t: f64) -> (f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
             let nodes = &table()[i - 1..i + 3];
-            // Lagrange weights of the nodes at -1, 0, 1, 2 for u in [0, 1).
-            let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
-            // Multiplications by 1/6 and 1/2 rather than divisions: the
-            // divisions' latency dominated the lookup (measured).
-            let w = [
-                -u * u1 * u2 * SIXTH,
-                um * u1 * u2 * 0.5,
-                -um * u * u2 * 0.5,
-                um * u * u1 * SIXTH,
-            ];
+            let w = lagrange_weights(u);
             let mut e = (0.0, 0.0);
             for (wj, (ew, ei)) in w.iter().zip(nodes) {
                 e.0 += wj * ew;
@@ -131,15 +122,7 @@ pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
             let nodes = &table()[i - 1..i + 3];
-            let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
-            // Multiplications by 1/6 and 1/2 rather than divisions: the
-            // divisions' latency dominated the lookup (measured).
-            let w = [
-                -u * u1 * u2 * SIXTH,
-                um * u1 * u2 * 0.5,
-                -um * u * u2 * 0.5,
-                um * u * u1 * SIXTH,
-            ];
+            let w = lagrange_weights(u);
             // d w / d u of the weights above.
             let uu = 3.0 * u * u;
             let dw = [
@@ -163,6 +146,19 @@ pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
             )
         }
     }
+}
+
+/// Weights of the cubic Lagrange polynomial through the nodes at -1, 0, 1, 2
+/// (in units of the spacing) for the point u in [0, 1).
+#[inline]
+fn lagrange_weights(u: f64) -> [f64; 4] {
+    let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
+    [
+        -u * u1 * u2 * SIXTH,
+        um * u1 * u2 * 0.5,
+        -um * u * u2 * 0.5,
+        um * u * u1 * SIXTH,
+    ]
 }
 
 /// Table interval index i (nodes i-1..i+2 exist) and position u in [0, 1)

@@ -204,8 +204,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     r.cloud_to_rain_autoconversion =
         p.autoconversion_rate * (qc - p.autoconversion_threshold).max(0.0);
     r.cloud_to_rain_accretion = lr.map_or(0.0, |l| rain.sweep_at(&l, cr)) * qc;
-    // Divisions are few and shared: their latency, more than the
-    // arithmetic, sets the cost of this function (profiled).
+    // Reciprocals shared by several rates keep the divisions few.
     let inv_t2 = 1.0 / (t * t);
     let inv_rho = env.inv_rho;
     let sw = qv / qsw;
