@@ -19,7 +19,7 @@
 //! cost nothing). Two n x n matrices of the summed responses would save one
 //! subtraction per term, but at n = 160 they fill 0.4 MiB of cache: measured
 //! on a 2-core machine, two runs side by side then kept about 88 % of their
-//! single speed against about 96 % with the vectors (docs/performance.md).
+//! single speed against about 98 % with the vectors (docs/performance.md).
 //! The field tends to the planar field-free-top solution as R grows.
 
 use crate::constants::EPSILON_0;
