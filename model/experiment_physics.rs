@@ -3,8 +3,8 @@
 
 use crate::config::HydroLayerConfig;
 use crate::config::{
-    EnvelopeKind, HydroName, HydroShape, IntegratorKind, MicroScheme, MicrophysicsConfig,
-    NucleationKind, UpdraftConfig, UpdraftShape,
+    EnvelopeConfig, EnvelopeKind, HydroName, HydroShape, IntegratorKind, MicroScheme,
+    MicrophysicsConfig, NucleationKind, UpdraftConfig, UpdraftShape,
 };
 use crate::error::ConfigIssue;
 use crate::kinematics::updraft::{Envelope, Shape, Updraft};
@@ -48,23 +48,18 @@ pub fn points(
     Ok(out)
 }
 
-fn envelope(
-    prefix: &str,
-    kind: EnvelopeKind,
-    (start, growth, mature, decay): (f64, f64, f64, f64),
-    table: Option<&Vec<Vec<f64>>>,
-) -> Result<Envelope, ConfigIssue> {
-    Ok(match kind {
+fn envelope(prefix: &str, c: &EnvelopeConfig) -> Result<Envelope, ConfigIssue> {
+    Ok(match c.envelope {
         EnvelopeKind::Constant => Envelope::Constant,
         EnvelopeKind::Pulse => Envelope::Pulse {
-            start,
-            growth,
-            mature,
-            decay,
+            start: c.start,
+            growth: c.growth,
+            mature: c.mature,
+            decay: c.decay,
         },
         EnvelopeKind::Table => Envelope::Table(points(
             &format!("{prefix}.envelope_points"),
-            table,
+            c.envelope_points.as_ref(),
             "time (s), factor",
         )?),
     })
@@ -95,12 +90,7 @@ pub fn updraft(c: &UpdraftConfig) -> Result<Updraft, ConfigIssue> {
     };
     Ok(Updraft {
         shape,
-        envelope: envelope(
-            "updraft",
-            c.envelope,
-            (c.start, c.growth, c.mature, c.decay),
-            c.envelope_points.as_ref(),
-        )?,
+        envelope: envelope("updraft", &c.timing)?,
         peak: c.peak_speed,
         background: c.background,
     })
@@ -179,12 +169,7 @@ fn hydro_layer(i: usize, l: &HydroLayerConfig) -> Result<HydroLayer, ConfigIssue
     Ok(HydroLayer {
         species,
         shape,
-        envelope: envelope(
-            &key,
-            l.envelope,
-            (l.start, l.growth, l.mature, l.decay),
-            l.envelope_points.as_ref(),
-        )?,
+        envelope: envelope(&key, &l.timing)?,
         mixing_ratio,
         number: l.number,
     })

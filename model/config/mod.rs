@@ -131,16 +131,12 @@ pub enum EnvelopeKind {
     Table,
 }
 
-/// Input units m, m s-1, s.
+/// The time envelope shared by the updraft and the imposed hydrometeor
+/// layers (s). Flattened into both tables: the key check of [`load`] rejects
+/// unknown keys there (serde's `deny_unknown_fields` cannot be combined with
+/// `flatten`).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct UpdraftConfig {
-    pub shape: UpdraftShape,
-    pub bottom: f64,
-    pub top: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub profile_points: Option<Vec<Vec<f64>>>,
-    pub peak_speed: f64,
+pub struct EnvelopeConfig {
     pub envelope: EnvelopeKind,
     pub start: f64,
     pub growth: f64,
@@ -148,6 +144,19 @@ pub struct UpdraftConfig {
     pub decay: f64,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub envelope_points: Option<Vec<Vec<f64>>>,
+}
+
+/// Input units m, m s-1, s.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct UpdraftConfig {
+    pub shape: UpdraftShape,
+    pub bottom: f64,
+    pub top: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub profile_points: Option<Vec<Vec<f64>>>,
+    pub peak_speed: f64,
+    #[serde(flatten)]
+    pub timing: EnvelopeConfig,
     pub background: f64,
 }
 
@@ -219,7 +228,6 @@ pub enum HydroShape {
 
 /// One imposed hydrometeor layer (m, kg kg-1, kg-1, s).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
 pub struct HydroLayerConfig {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub species: Option<HydroName>,
@@ -233,13 +241,8 @@ pub struct HydroLayerConfig {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub mixing_ratio: Option<f64>,
     pub number: f64,
-    pub envelope: EnvelopeKind,
-    pub start: f64,
-    pub growth: f64,
-    pub mature: f64,
-    pub decay: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub envelope_points: Option<Vec<Vec<f64>>>,
+    #[serde(flatten)]
+    pub timing: EnvelopeConfig,
 }
 
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
