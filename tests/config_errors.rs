@@ -231,3 +231,31 @@ fn layer_errors_name_the_layer_and_line() {
         ],
     );
 }
+
+#[test]
+fn envelope_tables_reject_misspelt_keys() {
+    // The time-envelope keys are shared by [updraft] and the imposed
+    // hydrometeor layers; a misspelt one is still an unknown key in both.
+    let p = write(
+        "updraft_typo.toml",
+        "[updraft]\npeak_speed = 10.0\ngrwoth = 600.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(&o, &["updraft.grwoth", "unknown key", "line 3", "growth"]);
+    let p = write(
+        "hydro_typo.toml",
+        "[microphysics]\nscheme = \"prescribed\"\n\n[[hydrometeors.layers]]\nspecies = \"graupel\"\n\
+         shape = \"gaussian\"\ncenter = 6000.0\nthickness = 1000.0\nmixing_ratio = 1.0e-3\n\
+         envelope = \"pulse\"\nmatrue = 600.0\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "hydrometeors.layers[1].matrue",
+            "unknown key",
+            "line 11",
+            "mature",
+        ],
+    );
+}
