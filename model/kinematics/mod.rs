@@ -148,7 +148,7 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
         for c in Carrier::ALL.iter().filter(|c| c.advected()) {
             let charge = &mut state.charge[c.index()];
             for k in 0..n {
-                sc.field[k] = charge[k] / rho[k];
+                sc.field[k] = charge[k] * exp.cell_env[k].inv_rho;
             }
             let b = advection::advect_with(
                 &mut sc.field,
@@ -191,7 +191,7 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
             }
             precip += sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
             for k in 0..n {
-                q[k] = sc.field[k] / rho[k];
+                q[k] = sc.field[k] * exp.cell_env[k].inv_rho;
             }
             if *sp == Species::Ice {
                 for k in 0..n {
@@ -199,7 +199,7 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
                 }
                 sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
                 for k in 0..n {
-                    state.n_ice[k] = sc.field[k] / rho[k];
+                    state.n_ice[k] = sc.field[k] * exp.cell_env[k].inv_rho;
                 }
             }
             let c = Carrier::of(*sp).index();
