@@ -136,16 +136,20 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
             continue;
         }
         let lwc = rho * qc * 1e3;
+        // Slopes and their powers once per species: they give the speeds,
+        // the collision kernels and the sweep-out rates below.
+        let (sg, ss, sr) = (
+            f.graupel.slope_powers(rho, qg),
+            f.snow.slope_powers(rho, qs),
+            f.rain.slope_powers(rho, qr),
+        );
         let (vg, vs, vi) = (
-            f.graupel.mass_weighted_speed_with(rho, qg, cg),
-            f.snow.mass_weighted_speed_with(rho, qs, cs),
+            sg.map_or(0.0, |s| f.graupel.mass_weighted_speed_at(&s, cg)),
+            ss.map_or(0.0, |s| f.snow.mass_weighted_speed_at(&s, cs)),
             dsd::ice::speed(rho, qi),
         );
-        let (lg, ls, lr) = (
-            f.graupel.slope(rho, qg),
-            f.snow.slope(rho, qs),
-            f.rain.slope(rho, qr),
-        );
+        let slope = |s: Option<dsd::SlopePowers>| s.map_or(f64::INFINITY, |s| s.lambda);
+        let (lg, ls) = (slope(sg), slope(ss));
         let n_ice = rho * state.n_ice[k];
         let d_ice = dsd::ice::diameter(qi, state.n_ice[k]);
         // Rebounding collisions (m-3 s-1) times the charge per collision
@@ -188,16 +192,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
             let e_z = 0.5 * (state.field[k] + state.field[k + 1]);
             let m_drop = std::f64::consts::PI / 6.0 * RHO_WATER * p.droplet_diameter.powi(3);
             let drops = rho * qc / m_drop; // m-3
-            for (carrier, dist, qx, lam, correction) in [
-                (Carrier::Graupel, &f.graupel, qg, lg, cg),
-                (Carrier::Rain, &f.rain, qr, lr, env.corrections[0]),
+            for (carrier, dist, powers, correction) in [
+                (Carrier::Graupel, &f.graupel, sg, cg),
+                (Carrier::Rain, &f.rain, sr, env.corrections[0]),
             ] {
                 let mut r = 0.0;
-                if qx > 0.0 && lam.is_finite() {
+                if let Some(s) = powers.filter(|s| s.lambda.is_finite()) {
+                    let lam = s.lambda;
                     let number = dist.n0 / lam; // collectors per m3
                     let q_mean = state.charge[carrier.index()][k] / number;
-                    let rebounds =
-                        p.rebound_probability * drops * dist.sweep_with(rho, qx, correction);
+                    let rebounds = p.rebound_probability * drops * dist.sweep_at(&s, correction);
                     r = rebounds
                         * inductive::charge_per_rebound(
                             p.droplet_diameter,

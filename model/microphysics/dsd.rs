@@ -17,9 +17,9 @@
 //! - cloud ice (monodisperse, not exponential): V = 3.29 (rho q_i)^0.16,
 //!   Heymsfield & Donner (1990), JAS 47 (from memory); x = 0.5.
 //!
-//! Mass-weighted and number-weighted means over the exponential distribution
-//! are closed forms: for V = a D^b, V_m = a Gamma(4+b)/(6 lambda^b) and
-//! V_n = a Gamma(1+b)/lambda^b. The rain form is negative below
+//! The mass-weighted mean over the exponential distribution is a closed
+//! form: for V = a D^b, V_m = a Gamma(4+b)/(6 lambda^b). The rain form is
+//! negative below
 //! D0 = ln(10.3/9.65)/600 = 0.109 mm, where the speed is taken as zero; its
 //! moments are then upper incomplete gamma integrals from D0, also closed
 //! forms (see [`tail_moment`]).
@@ -111,9 +111,9 @@ pub struct Exponential {
 struct SpeciesConstants {
     /// pi rho_p N0 (kg m-7): lambda^4 = this / (rho q).
     mass_per_slope: f64,
-    /// a Gamma(1+b), a Gamma(3+b), a Gamma(4+b)/6 of the power fall law
-    /// (zero for the rain form).
-    a_gammas: [f64; 3],
+    /// a Gamma(3+b) and a Gamma(4+b)/6 of the power fall law (zero for the
+    /// rain form).
+    a_gammas: [f64; 2],
     /// Exponent b' of the power law used for ventilation.
     b_vent: f64,
     /// 0.31 Sc^(1/3) Gamma((b'+5)/2) a'^(1/2) of the ventilation integral.
@@ -142,15 +142,8 @@ impl Exponential {
     /// (kg m-3), fall law and density-correction exponent.
     pub fn new(n0: f64, rho_p: f64, fall: FallLaw, density_exponent: f64) -> Self {
         let (a_gammas, d0) = match fall {
-            FallLaw::Power { a, b } => (
-                [
-                    a * gamma(1.0 + b),
-                    a * gamma(3.0 + b),
-                    a * gamma(4.0 + b) / 6.0,
-                ],
-                0.0,
-            ),
-            FallLaw::Exponential { alpha, beta, c } => ([0.0; 3], (beta / alpha).ln() / c),
+            FallLaw::Power { a, b } => ([a * gamma(3.0 + b), a * gamma(4.0 + b) / 6.0], 0.0),
+            FallLaw::Exponential { alpha, beta, c } => ([0.0; 2], (beta / alpha).ln() / c),
         };
         let (a_vent, b_vent) = match fall {
             FallLaw::Power { a, b } => (a, b),
@@ -267,64 +260,45 @@ impl Exponential {
     }
 
     /// Mass-weighted speed for known slope powers and density correction.
-    /// Rain: the upper incomplete moments from D0, whose exponentials
-    /// exp(-lambda D0) and exp(-(lambda + c) D0) = exp(-lambda D0) alpha/beta
-    /// share one evaluation.
     pub fn mass_weighted_speed_at(&self, s: &SlopePowers, correction: f64) -> f64 {
         let l = s.lambda;
         let v = match self.fall {
-            FallLaw::Power { .. } => self.k.a_gammas[2] / s.lambda_b,
-            FallLaw::Exponential { alpha, c, .. } => {
-                let d0 = self.k.d0;
-                alpha
-                    * s.tail
-                    * (tail_polynomial(3, l, d0) - tail_polynomial(3, l + c, d0))
-                    * (l * l)
-                    * (l * l)
-                    / 6.0
-            }
+            FallLaw::Power { .. } => self.k.a_gammas[1] / s.lambda_b,
+            FallLaw::Exponential { .. } => self.rain_moment(3, s) * (l * l) * (l * l) / 6.0,
         };
         v.max(0.0) * correction
     }
 
-    /// Number-weighted mean fall speed (m s-1).
-    pub fn number_weighted_speed(&self, rho: f64, q: f64) -> f64 {
-        let Some(s) = self.slope_powers(rho, q) else {
-            return 0.0;
-        };
-        let l = s.lambda;
-        let v = match self.fall {
-            FallLaw::Power { b, .. } => self.k.a_gammas[0] / l.powf(b),
+    /// For the rain form `V = alpha - beta exp(-c D)`, zero below D0: the
+    /// integral of `D^m V(D) exp(-lambda D)` from D0, which is
+    /// `alpha T_m(lambda) - beta T_m(lambda + c)` with the upper incomplete
+    /// moments T_m of [`tail_moment`]. Their exponentials exp(-lambda D0) and
+    /// exp(-(lambda + c) D0) = exp(-lambda D0) alpha/beta share one
+    /// evaluation (`SlopePowers::tail`). Zero for power laws.
+    fn rain_moment(&self, m: u32, s: &SlopePowers) -> f64 {
+        match self.fall {
+            FallLaw::Power { .. } => 0.0,
             FallLaw::Exponential { alpha, c, .. } => {
-                let d0 = self.k.d0;
-                alpha * s.tail * (tail_polynomial(0, l, d0) - tail_polynomial(0, l + c, d0)) * l
+                let (l, d0) = (s.lambda, self.k.d0);
+                alpha * s.tail * (tail_polynomial(m, l, d0) - tail_polynomial(m, l + c, d0))
             }
-        };
-        v.max(0.0) * self.correction(rho)
+        }
     }
 
     /// Sweep-out integral (pi/4) integral D^2 V(D) N(D) dD (m-1 s-1), the
     /// continuous-collection kernel of LFO83 (e.g. their Eqs. 24, 40, 51)
     /// for efficiency 1, including the density correction.
     pub fn sweep(&self, rho: f64, q: f64) -> f64 {
-        self.sweep_with(rho, q, self.correction(rho))
-    }
-
-    /// Sweep-out integral with the density correction already known.
-    pub fn sweep_with(&self, rho: f64, q: f64, correction: f64) -> f64 {
         self.slope_powers(rho, q)
-            .map_or(0.0, |s| self.sweep_at(&s, correction))
+            .map_or(0.0, |s| self.sweep_at(&s, self.correction(rho)))
     }
 
     /// Sweep-out integral for known slope powers and density correction.
     pub fn sweep_at(&self, s: &SlopePowers, correction: f64) -> f64 {
         let l = s.lambda;
         let integral = match self.fall {
-            FallLaw::Power { .. } => self.k.a_gammas[1] / (l * l * l * s.lambda_b),
-            FallLaw::Exponential { alpha, c, .. } => {
-                let d0 = self.k.d0;
-                alpha * s.tail * (tail_polynomial(2, l, d0) - tail_polynomial(2, l + c, d0))
-            }
+            FallLaw::Power { .. } => self.k.a_gammas[0] / (l * l * l * s.lambda_b),
+            FallLaw::Exponential { .. } => self.rain_moment(2, s),
         };
         0.25 * std::f64::consts::PI * self.n0 * integral * correction
     }

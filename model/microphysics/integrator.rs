@@ -128,14 +128,12 @@ pub struct Tolerance {
 }
 
 /// Result of one integration: the state and the transfer integrals at the
-/// end, and the work it took.
+/// end, and the steps it took.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Outcome<const N: usize, const M: usize> {
     pub y: [f64; N],
     /// Time integrals of the `M` quadrature rates over the interval.
     pub integrals: [f64; M],
-    /// Right-hand-side evaluations made here (the caller's first one excluded).
-    pub evaluations: u32,
     pub accepted: u32,
     pub rejected: u32,
 }
@@ -172,7 +170,6 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
     let mut out = Outcome {
         y: y0,
         integrals: [0.0; M],
-        evaluations: 0,
         accepted: 0,
         rejected: 0,
     };
@@ -204,7 +201,6 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
             let (ks, ws) = (&mut k[s], &mut w[s]);
             f(&stage, ks, ws);
         }
-        out.evaluations += (S - 1) as u32;
         // First same as last: the last stage was evaluated at the new solution.
         let y_new = stage;
         let mut sum = 0.0;
