@@ -386,3 +386,36 @@ fn charge_rides_with_sedimenting_graupel() {
     assert!(moved.precipitated > 0.0);
     assert!((column(&s) + moved.precipitated - moved.advected_in - c0).abs() <= 1e-12 * c0);
 }
+
+#[test]
+fn light_cloud_alone_has_no_process_rates() {
+    // The cell step skips the rate evaluation when cloud water below the
+    // autoconversion threshold is the only condensate. That shortcut is
+    // exact only while every process needs rain, ice, snow or graupel, and
+    // Kessler (1969) autoconversion is zero below its threshold q_c0 (here
+    // the LFO83 set of processes); this guards it against a process added
+    // later. Sub- and supersaturated states, warm and cold.
+    let p = MicroParams::default();
+    let env = CellEnv::new(70_000.0, 0.9, &p);
+    for t in [240.0, 258.0, 268.0, 280.0, 295.0] {
+        let qsat = EPSILON * murphy_koop_2005_liquid(t) / (70_000.0 - murphy_koop_2005_liquid(t));
+        for qv in [0.5 * qsat, qsat, 1.05 * qsat] {
+            for qc in [
+                0.0,
+                0.5 * p.autoconversion_threshold,
+                p.autoconversion_threshold,
+            ] {
+                let s = CellState {
+                    q: [qv, qc, 0.0, 0.0, 0.0, 0.0],
+                    n_ice: 0.0,
+                    t,
+                };
+                let r = rates(&s, env, &p);
+                assert!(
+                    r.transfer_rates().iter().all(|&x| x == 0.0) && r.splinter_number == 0.0,
+                    "T = {t} K, q_v = {qv}, q_c = {qc}: {r:?}"
+                );
+            }
+        }
+    }
+}

@@ -222,7 +222,9 @@ pub fn step_cell(
     // evaluated for this test are the first stage of the integration.
     // Without precipitation or ice, cloud water below the autoconversion
     // threshold is the only condensate and every rate is zero (each other
-    // process needs rain, ice, snow or graupel), so the evaluation is skipped.
+    // process needs rain, ice, snow or graupel), so the evaluation is skipped
+    // (tests/microphysics.rs, light_cloud_alone_has_no_process_rates, guards
+    // this against a process added later).
     let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
     let only_light_cloud =
         s.q[2..].iter().all(|&x| x <= 0.0) && s.q[1] <= p.autoconversion_threshold;
