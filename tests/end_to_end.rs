@@ -296,3 +296,22 @@ fn bench_prints_its_figures() {
         "{sweep}"
     );
 }
+
+#[test]
+fn closed_output_pipe_is_not_a_panic() {
+    // `stormcharge check ... | head -1`: the reader closes the pipe early.
+    // The program stops quietly with 141 (128 + SIGPIPE, the status shells
+    // report for tools stopped that way; common practice), not a panic.
+    let (reader, writer) = std::io::pipe().unwrap();
+    drop(reader);
+    let o = bin()
+        .arg("check")
+        .arg(repo("configs/demo.toml"))
+        .stdout(writer)
+        .stderr(std::process::Stdio::piped())
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(141), "stderr: {err}");
+    assert!(!err.contains("panicked"), "{err}");
+}
