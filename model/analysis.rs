@@ -78,7 +78,8 @@ pub fn regions(z: &[f64], dz: f64, rho: &[f64], t: &[f64], min_fraction: f64) ->
         let q: f64 = rho[a..b].iter().sum::<f64>() * dz;
         let w: f64 = rho[a..b].iter().map(|x| x.abs()).sum();
         let h = (a..b).map(|i| z[i] * rho[i].abs()).sum::<f64>() / w;
-        let tc = (a..b).map(|i| t[i] * rho[i].abs()).sum::<f64>() / w - crate::constants::T_MELT;
+        let tc = (a..b).map(|i| t[i] * rho[i].abs()).sum::<f64>() / w
+            - crate::physics::constants::T_MELT;
         Region {
             polarity: q.signum(),
             bottom: z[a] - 0.5 * dz,
@@ -225,9 +226,9 @@ pub fn analyze_file(
     let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
     let area = out
         .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
-        .and_then(|s| crate::config::parse(&s, "stored").ok())
+        .and_then(|s| crate::setup::config::parse(&s, "stored").ok())
         .and_then(|c| {
-            (c.electrostatics.geometry == crate::config::Geometry::Column)
+            (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
                 .then(|| std::f64::consts::PI * c.electrostatics.column_radius.powi(2))
         });
     let record = |r: usize| &rho[r * n..(r + 1) * n];

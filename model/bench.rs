@@ -2,11 +2,11 @@
 //! thread, the share of each phase of the step, and sweep throughput on all
 //! cores with its parallel efficiency. Figures only: no pass or fail.
 
-use crate::config::DEMO_TOML;
+use crate::column::state::State;
+use crate::column::step::{step_timed, PHASES};
 use crate::error::RunError;
-use crate::experiment::Experiment;
-use crate::state::State;
-use crate::timeloop::{step_timed, PHASES};
+use crate::setup::config::DEMO_TOML;
+use crate::setup::experiment::Experiment;
 use rayon::prelude::*;
 use std::path::Path;
 use std::time::{Duration, Instant};

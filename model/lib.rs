@@ -30,25 +30,18 @@
 // they are built once on a cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
+#[macro_use]
+mod choice;
+
 pub mod analysis;
-pub mod atmosphere;
 pub mod bench;
-pub mod breakdown;
-pub mod carriers;
-pub mod charging;
 pub mod cli;
-pub mod config;
-pub mod constants;
-pub mod discharge;
-pub mod electrostatics;
+pub mod column;
 pub mod error;
-pub mod experiment;
-pub mod experiment_physics;
 pub mod grid;
-pub mod kinematics;
-pub mod microphysics;
 pub mod output;
+pub mod physics;
 pub mod plot;
-pub mod state;
+pub mod setup;
 pub mod sweep;
 pub mod timeloop;

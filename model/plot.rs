@@ -5,8 +5,8 @@
 //! kind; the field profile with every criterion's threshold at one time; the
 //! hydrometeor mixing ratios at that time.
 
-use crate::breakdown::Criterion;
 use crate::error::RunError;
+use crate::physics::breakdown::Criterion;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use std::path::Path;

@@ -8,13 +8,14 @@
 //! [`merge`] joins the shard summaries.
 
 use crate::analysis::{classify, regions, separation};
-use crate::config::{Config, SweepCombine};
+use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
-use crate::experiment::Experiment;
 use crate::output::netcdf_writer::NetcdfWriter;
+use crate::output::summary::RunSummary;
 use crate::output::Observer;
-use crate::state::State;
-use crate::timeloop::{self, RunSummary};
+use crate::setup::config::{Config, SweepCombine};
+use crate::setup::experiment::Experiment;
+use crate::timeloop;
 use rayon::prelude::*;
 use std::path::{Path, PathBuf};
 
@@ -50,7 +51,7 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
             .key
             .clone()
             .ok_or_else(|| err(format!("{at}.key"), "every parameter needs its key".into()))?;
-        if key.starts_with("sweep.") || crate::config::schema::find(&key).is_none() {
+        if key.starts_with("sweep.") || crate::setup::config::schema::find(&key).is_none() {
             return Err(err(
                 format!("{at}.key"),
                 format!("\"{key}\" is not a configuration key that can be swept"),
@@ -136,7 +137,7 @@ impl Observer for Watch {
             let t: Vec<f64> = (0..exp.grid.len())
                 .map(|k| {
                     state.potential_temperature[k]
-                        * crate::microphysics::exner(exp.base.centre.pressure[k])
+                        * crate::physics::atmosphere::exner(exp.base.centre.pressure[k])
                 })
                 .collect();
             let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);

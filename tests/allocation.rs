@@ -7,10 +7,9 @@
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::cell::Cell;
 use std::path::Path;
-use stormcharge::experiment::Experiment;
-use stormcharge::microphysics::species::Species;
-use stormcharge::state::State;
-use stormcharge::timeloop;
+use stormcharge::column::state::State;
+use stormcharge::physics::microphysics::species::Species;
+use stormcharge::setup::experiment::Experiment;
 
 struct Counting;
 
@@ -43,7 +42,7 @@ static GLOBAL: Counting = Counting;
 fn allocations_over_steps(overrides: &[&str], warm: u64, counted: u64) -> usize {
     let overrides: Vec<String> = overrides.iter().map(|s| s.to_string()).collect();
     let exp = Experiment::from_text(
-        stormcharge::config::DEMO_TOML,
+        stormcharge::setup::config::DEMO_TOML,
         "demo",
         &overrides,
         Path::new("."),
@@ -52,11 +51,11 @@ fn allocations_over_steps(overrides: &[&str], warm: u64, counted: u64) -> usize 
     let mut s = State::initial(&exp);
     let dt = exp.schedule.dt;
     for _ in 0..warm {
-        timeloop::step(&exp, &mut s, dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, dt).unwrap();
     }
     let before = ALLOCATIONS.with(Cell::get);
     for _ in 0..counted {
-        timeloop::step(&exp, &mut s, dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, dt).unwrap();
     }
     let allocations = ALLOCATIONS.with(Cell::get) - before;
     assert!(s.ledger.flashes.is_empty(), "a flash fell in the window");

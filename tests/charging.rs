@@ -6,15 +6,20 @@ use common::*;
 
 use std::path::Path;
 use stormcharge::analysis::{classify, main_region, regions, separation, Structure};
-use stormcharge::carriers::Carrier;
-use stormcharge::charging::inductive::charge_per_rebound;
-use stormcharge::charging::{gardiner_1985, rayleigh_limit, saunders_peck_1998 as sp98};
-use stormcharge::experiment::Experiment;
-use stormcharge::state::State;
-use stormcharge::timeloop;
+use stormcharge::column::state::State;
+use stormcharge::physics::carriers::Carrier;
+use stormcharge::physics::charging::inductive::charge_per_rebound;
+use stormcharge::physics::charging::{gardiner_1985, rayleigh_limit, saunders_peck_1998 as sp98};
+use stormcharge::setup::experiment::Experiment;
 
 fn demo() -> Experiment {
-    Experiment::from_text(stormcharge::config::DEMO_TOML, "demo", &[], Path::new(".")).unwrap()
+    Experiment::from_text(
+        stormcharge::setup::config::DEMO_TOML,
+        "demo",
+        &[],
+        Path::new("."),
+    )
+    .unwrap()
 }
 
 /// Temperature (degC) where a charge function of temperature changes sign,
@@ -134,13 +139,13 @@ fn charging_is_local_and_conserves() {
     let exp = demo();
     let mut s = State::initial(&exp);
     for _ in 0..800 {
-        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
     let before: Vec<f64> = (0..exp.grid.len())
         .map(|k| s.charge.iter().map(|c| c[k]).sum())
         .collect();
-    stormcharge::charging::step(&exp, &mut s, exp.schedule.dt);
-    let moved: f64 = s.charging.graupel_ice.iter().map(|x| x.abs()).sum();
+    stormcharge::column::charging::step(&exp, &mut s, exp.schedule.dt);
+    let moved: f64 = s.charging_rates.graupel_ice.iter().map(|x| x.abs()).sum();
     assert!(moved > 0.0, "nothing charged at this time");
     for k in 0..exp.grid.len() {
         let after: f64 = s.charge.iter().map(|c| c[k]).sum();
@@ -150,7 +155,7 @@ fn charging_is_local_and_conserves() {
     // No charging where one partner is missing.
     for k in 0..exp.grid.len() {
         if s.q[5][k] <= 0.0 || s.q[3][k] <= 0.0 {
-            assert_eq!(s.charging.graupel_ice[k], 0.0);
+            assert_eq!(s.charging_rates.graupel_ice[k], 0.0);
         }
     }
 }
@@ -336,7 +341,7 @@ fn rime_accretion_rate_scheme_gives_early_inverted_polarity() {
     // aloft early on (physics.md section 3). The demo storm with SP98 and no
     // inductive charging shows it in its first 20 minutes.
     let exp = Experiment::from_text(
-        stormcharge::config::DEMO_TOML,
+        stormcharge::setup::config::DEMO_TOML,
         "demo",
         &[
             "charging.scheme=saunders_peck_1998".into(),
@@ -389,7 +394,7 @@ fn charge_follows_mass() {
     // mass; evaporation releases charge to the ions; a vanished species gives
     // all its charge to the ions. Built by hand: half the cloud water goes to
     // rain, a quarter of the rain evaporates, and the snow vanishes.
-    use stormcharge::microphysics::CellReport;
+    use stormcharge::physics::microphysics::CellReport;
     let mut report = CellReport {
         q_start: [5e-3, 1e-3, 2e-3, 0.0, 1e-4, 0.0],
         ..CellReport::default()
@@ -402,7 +407,7 @@ fn charge_follows_mass() {
     charge[Carrier::Rain.index()][0] = -1e-9;
     charge[Carrier::Snow.index()][0] = 3e-10;
     let total: f64 = charge.iter().map(|c| c[0]).sum();
-    stormcharge::charging::follow_mass::apply(&report, &q_end, &mut charge, 0);
+    stormcharge::physics::charging::follow_mass::apply(&report, &q_end, &mut charge, 0);
     let c = |x: Carrier| charge[x.index()][0];
     assert!((c(Carrier::Cloud) - 2e-9).abs() < 1e-21);
     // Rain: -1 + 2 (from cloud) = 1 nC m-3 passed through 2.5 g/kg, of which a

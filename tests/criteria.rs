@@ -5,11 +5,11 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::atmosphere::standard_1976::us_standard_1976;
-use stormcharge::breakdown::avalanche::{max_efoldings, AvalancheParams};
-use stormcharge::breakdown::thresholds::ThresholdParams;
-use stormcharge::breakdown::Criterion;
-use stormcharge::experiment::Experiment;
+use stormcharge::physics::atmosphere::standard_1976::us_standard_1976;
+use stormcharge::physics::breakdown::avalanche::{max_efoldings, AvalancheParams};
+use stormcharge::physics::breakdown::thresholds::ThresholdParams;
+use stormcharge::physics::breakdown::Criterion;
+use stormcharge::setup::experiment::Experiment;
 
 #[test]
 fn sea_level_thresholds_are_the_published_values() {

@@ -9,12 +9,11 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::breakdown::Criterion;
-use stormcharge::discharge::record::{FlashKind, FlashRecord};
-use stormcharge::discharge::trigger_threshold;
-use stormcharge::experiment::Experiment;
-use stormcharge::state::State;
-use stormcharge::timeloop;
+use stormcharge::column::state::State;
+use stormcharge::physics::breakdown::Criterion;
+use stormcharge::physics::discharge::record::{FlashKind, FlashRecord};
+use stormcharge::physics::discharge::trigger_threshold;
+use stormcharge::setup::experiment::Experiment;
 
 /// The flash-sequence demo: a growing prescribed tripole (configs/tripole_flashes.toml).
 fn flash_config() -> String {
@@ -29,7 +28,7 @@ fn first_flash(exp: &Experiment) -> (State, State, FlashRecord) {
     let mut s = State::initial(exp);
     for _ in 0..exp.schedule.steps {
         let before = s.clone();
-        timeloop::step(exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(exp, &mut s, exp.schedule.dt).unwrap();
         if let Some(f) = s.ledger.flashes.first() {
             return (before, s.clone(), *f);
         }
@@ -117,7 +116,8 @@ fn intracloud_flash_between_two_layers() {
             f.charge_neutralized
         );
         assert!(f.charge_neutralized > 0.0 && f.charge_to_ground == 0.0);
-        let thr = &exp.criteria.thresholds[trigger_threshold(exp.criteria.trigger)];
+        let thr =
+            &exp.criteria_thresholds.thresholds[trigger_threshold(exp.criteria_thresholds.trigger)];
         let (lo, hi) = (
             (f.z_bottom / exp.grid.dz) as usize,
             (f.z_top / exp.grid.dz) as usize,
@@ -225,7 +225,8 @@ fn target_field_neutralisation_hits_the_target() {
                 ],
             );
             let (_, after, f) = first_flash(&exp);
-            let thr = &exp.criteria.thresholds[trigger_threshold(exp.criteria.trigger)];
+            let thr = &exp.criteria_thresholds.thresholds
+                [trigger_threshold(exp.criteria_thresholds.trigger)];
             let (lo, hi) = (
                 (f.z_bottom / exp.grid.dz).round() as usize,
                 (f.z_top / exp.grid.dz).round() as usize,
@@ -252,7 +253,7 @@ fn fraction_mode_removes_that_fraction_of_the_excess() {
     );
     let (before, after, f) = first_flash(&exp);
     assert_eq!(f.kind, FlashKind::NegativeGround);
-    let min = exp.discharge.min_charge_density;
+    let min = exp.discharge_params.min_charge_density;
     let growth = &exp.prescribed.growth;
     let top = (f.z_top / exp.grid.dz).round() as usize;
     for k in 0..top {
@@ -359,7 +360,7 @@ fn gates_and_bound() {
     );
     let mut s = State::initial(&exp);
     for _ in 0..exp.schedule.steps {
-        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
     assert!(s.ledger.bound_hits > 0 && s.ledger.first_bound_hit.is_some());
 }

@@ -6,11 +6,11 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::constants::EPSILON_0;
-use stormcharge::electrostatics::column::{cylinder_axial_field, ColumnSolver};
-use stormcharge::electrostatics::planar::{PlanarSolver, Top};
-use stormcharge::electrostatics::{column_charge, field_energy};
 use stormcharge::grid::Grid;
+use stormcharge::physics::constants::EPSILON_0;
+use stormcharge::physics::electrostatics::column::{cylinder_axial_field, ColumnSolver};
+use stormcharge::physics::electrostatics::planar::{PlanarSolver, Top};
+use stormcharge::physics::electrostatics::{column_charge, field_energy};
 
 const NC: f64 = 1e-9;
 
@@ -225,8 +225,9 @@ density = 1.0
     );
     let text = text.replace("top = 10000.0", "top = 9800.0");
     let exp =
-        stormcharge::experiment::Experiment::from_text(&text, "t", &[], Path::new(".")).unwrap();
-    let mut s = stormcharge::state::State::initial(&exp);
+        stormcharge::setup::experiment::Experiment::from_text(&text, "t", &[], Path::new("."))
+            .unwrap();
+    let mut s = stormcharge::column::state::State::initial(&exp);
     // Gaussian: Simpson cell averages of a well-resolved Gaussian (s = 200 m
     // on 70 m cells) integrate to density x thickness within 1e-6.
     let expect0 = (-2.5 * 777.0 + 500.0) * NC;
@@ -236,7 +237,7 @@ density = 1.0
         s.column_charge
     );
     for _ in 0..10 {
-        stormcharge::timeloop::step(&exp, &mut s, 10.0).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, 10.0).unwrap();
     }
     let expect = expect0 + 0.01 * 100.0 * 777.0 * NC;
     assert!(rel(s.column_charge, expect) < 1e-6);

@@ -6,9 +6,9 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::config::{self, template, DEMO_TOML};
-use stormcharge::experiment::Experiment;
 use stormcharge::output::netcdf_writer::{partial_path, CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE};
+use stormcharge::setup::config::{self, template, DEMO_TOML};
+use stormcharge::setup::experiment::Experiment;
 
 #[test]
 fn embedded_demo_is_configs_demo_toml() {

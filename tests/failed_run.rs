@@ -8,13 +8,14 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::config::DEMO_TOML;
+use stormcharge::column::state::State;
 use stormcharge::error::RunError;
-use stormcharge::experiment::Experiment;
 use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter, STATUS_ATTRIBUTE};
+use stormcharge::output::summary::RunSummary;
 use stormcharge::output::Observer;
-use stormcharge::state::State;
-use stormcharge::timeloop::{self, RunSummary};
+use stormcharge::setup::config::DEMO_TOML;
+use stormcharge::setup::experiment::Experiment;
+use stormcharge::timeloop;
 
 /// An observer that fails at a given record, to simulate a crash mid-run.
 struct FailAt(usize, usize);

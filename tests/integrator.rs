@@ -8,7 +8,7 @@ use common::*;
 use stormcharge::output::memory::MemoryRecorder;
 
 use stormcharge::analysis::{classify, regions, separation};
-use stormcharge::microphysics::integrator::{
+use stormcharge::physics::microphysics::integrator::{
     integrate, EmbeddedPair, Failure, Tolerance, BOGACKI_SHAMPINE_1989, DORMAND_PRINCE_1980,
 };
 
@@ -150,9 +150,9 @@ fn demo_with_default_integrator_matches_a_converged_reference() {
     // ode_solvers Dormand-Prince integrator at 1e-9 / 1e-15: the same
     // charge structure at the record of largest separation (class, region
     // signs and heights; region charges within 0.1 %) and the same flashes.
-    let default = experiment(stormcharge::config::DEMO_TOML, &[]);
+    let default = experiment(stormcharge::setup::config::DEMO_TOML, &[]);
     let reference = experiment(
-        stormcharge::config::DEMO_TOML,
+        stormcharge::setup::config::DEMO_TOML,
         &[
             "microphysics.integrator=\"ode_solvers_dopri5\"",
             "microphysics.relative_tolerance=1e-9",

@@ -1,9 +1,9 @@
 //! Transport: advection of a top hat and sedimentation at constant speed
 //! against their analytic shifts; the updraft function.
 
-use stormcharge::kinematics::advection::{self, advect};
-use stormcharge::kinematics::sedimentation::{self, settle};
-use stormcharge::kinematics::updraft::{Envelope, Shape, Updraft};
+use stormcharge::physics::kinematics::advection::{self, advect};
+use stormcharge::physics::kinematics::sedimentation::{self, settle};
+use stormcharge::physics::kinematics::updraft::{Envelope, Shape, Updraft};
 
 fn top_hat(n: usize, lo: usize, hi: usize, v: f64) -> Vec<f64> {
     (0..n)

@@ -6,17 +6,16 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::atmosphere::saturation::murphy_koop_2005_liquid;
-use stormcharge::atmosphere::standard_1976::us_standard_1976;
-use stormcharge::constants::{CP_DRY, EPSILON, L_VAPORISATION};
-use stormcharge::experiment::Experiment;
-use stormcharge::microphysics::dsd::{self, gamma};
-use stormcharge::microphysics::params::MicroParams;
-use stormcharge::microphysics::rates::{rates, CellEnv, CellState};
-use stormcharge::microphysics::species::Species;
-use stormcharge::microphysics::{adjust, step_cell};
-use stormcharge::state::State;
-use stormcharge::timeloop;
+use stormcharge::column::state::State;
+use stormcharge::physics::atmosphere::saturation::murphy_koop_2005_liquid;
+use stormcharge::physics::atmosphere::standard_1976::us_standard_1976;
+use stormcharge::physics::constants::{CP_DRY, EPSILON, L_VAPORISATION};
+use stormcharge::physics::microphysics::dsd::{self, gamma};
+use stormcharge::physics::microphysics::params::MicroParams;
+use stormcharge::physics::microphysics::rates::{rates, CellEnv, CellState};
+use stormcharge::physics::microphysics::species::Species;
+use stormcharge::physics::microphysics::{adjust, step_cell};
+use stormcharge::setup::experiment::Experiment;
 
 #[test]
 fn gamma_function() {
@@ -196,7 +195,13 @@ fn zero_in_zero_out_and_signs() {
 }
 
 fn demo() -> Experiment {
-    Experiment::from_text(stormcharge::config::DEMO_TOML, "demo", &[], Path::new(".")).unwrap()
+    Experiment::from_text(
+        stormcharge::setup::config::DEMO_TOML,
+        "demo",
+        &[],
+        Path::new("."),
+    )
+    .unwrap()
 }
 
 fn column_water(exp: &Experiment, s: &State) -> f64 {
@@ -223,7 +228,7 @@ fn water_budget_of_a_moist_run_closes() {
     let mut s = State::initial(&exp);
     let w0 = column_water(&exp, &s);
     for _ in 0..exp.schedule.steps {
-        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
     let l = s.water;
     let expect = w0 + l.advected_in_bottom - l.advected_out_top + l.lateral - l.precipitation
@@ -316,9 +321,11 @@ fn prescribed_mode_reproduces_its_profiles() {
     // Each imposed species equals its formula (shape x envelope x peak)
     // exactly at every output time; species without layers stay empty.
     let exp = Experiment::from_text(PRESCRIBED, "prescribed", &[], Path::new(".")).unwrap();
-    let stormcharge::microphysics::Scheme::Prescribed(p) = &exp.microphysics else {
-        panic!("not prescribed")
-    };
+    assert_eq!(
+        exp.microphysics,
+        stormcharge::physics::microphysics::Mode::Prescribed
+    );
+    let p = &exp.prescribed_hydrometeors;
     let (rec, _) = run_recorded(&exp);
     for (r, &t) in rec.times.iter().enumerate() {
         for (k, &z) in exp.grid.z.iter().enumerate() {
@@ -370,9 +377,9 @@ fn charge_rides_with_sedimenting_graupel() {
     let mut s = State::initial(&exp);
     // Let the graupel pulse build up (mature from 200 s), then charge it.
     for _ in 0..50 {
-        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
-    let g = stormcharge::carriers::Carrier::Graupel.index();
+    let g = stormcharge::physics::carriers::Carrier::Graupel.index();
     for k in 0..exp.grid.len() {
         s.charge[g][k] = 1e-9 * s.q[Species::Graupel.index()][k] / 2.0e-3;
     }
@@ -380,7 +387,7 @@ fn charge_rides_with_sedimenting_graupel() {
     let c0 = column(&s);
     assert!(c0 > 0.0);
     for _ in 50..exp.schedule.steps {
-        timeloop::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
     }
     let moved = s.charge_transport;
     assert!(moved.precipitated > 0.0);

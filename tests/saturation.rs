@@ -3,7 +3,7 @@
 mod common;
 use common::*;
 
-use stormcharge::atmosphere::saturation::{
+use stormcharge::physics::atmosphere::saturation::{
     murphy_koop_2005_both, murphy_koop_2005_ice, murphy_koop_2005_liquid, saturation_pressures,
 };
 

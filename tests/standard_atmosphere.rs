@@ -3,9 +3,9 @@
 mod common;
 use common::*;
 
-use stormcharge::atmosphere::standard_1976::us_standard_1976;
-use stormcharge::atmosphere::{BaseSource, BaseState};
 use stormcharge::grid::Grid;
+use stormcharge::physics::atmosphere::standard_1976::us_standard_1976;
+use stormcharge::physics::atmosphere::{BaseSource, BaseState};
 
 /// Geometric height (km), T (K), p (Pa), rho (kg m-3). Source: U.S. Standard
 /// Atmosphere 1976 (NOAA/NASA/USAF), values as listed in

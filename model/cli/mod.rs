@@ -1,11 +1,11 @@
 //! Command-line interface: parse, load, call the library, report. Exit codes:
 //! 0 success, 2 configuration or usage error, 1 runtime failure.
 
-use crate::config::{template, DEMO_TOML};
 use crate::error::{ConfigError, ConfigIssue, RunError};
-use crate::experiment::Experiment;
 use crate::output::netcdf_writer::{read_stored_configuration, NetcdfWriter};
 use crate::output::Observer;
+use crate::setup::config::{template, DEMO_TOML};
+use crate::setup::experiment::Experiment;
 use crate::timeloop;
 use clap::{Parser, Subcommand};
 use std::io::IsTerminal;
@@ -111,7 +111,7 @@ pub enum Command {
     /// Print (and optionally write as CSV) a scheme's charge per rebounding
     /// collision over a temperature x liquid-water grid.
     ChargingMap {
-        /// Scheme: gardiner_1985 or saunders_peck_1998.
+        /// Non-inductive scheme (a `charging.scheme` name other than off).
         #[arg(long)]
         scheme: String,
         /// Crystal diameter (m).
@@ -315,7 +315,7 @@ fn cmd_run(
     if let (hits @ 1.., Some(first)) = summary.flash_bound_hits {
         eprintln!(
             "stormcharge: warning: the limit of {} flashes per step was reached with the trigger still met in {hits} steps (first at t = {first} s); shorten time.step or revisit the thresholds",
-            exp.discharge.max_per_step
+            exp.discharge_params.max_per_step
         );
     }
     if !quiet {
@@ -336,7 +336,7 @@ fn cmd_run(
             summary.records,
             started.elapsed().as_secs_f64()
         );
-        if !matches!(exp.microphysics, crate::microphysics::Scheme::Off) {
+        if exp.microphysics != crate::physics::microphysics::Mode::Off {
             println!(
                 "  surface precipitation: {:.1} kg m-2 (mm of water)",
                 summary.precipitation
@@ -347,7 +347,7 @@ fn cmd_run(
                 "  transport sub-stepped in {} steps (up to {} sub-steps) to keep the Courant number below {}",
                 summary.substeps.0,
                 summary.substeps.1,
-                crate::kinematics::advection::MAX_COURANT
+                crate::physics::kinematics::advection::MAX_COURANT
             );
         }
         if summary.max_particle_charge > 0.0 {
@@ -356,7 +356,7 @@ fn cmd_run(
                 summary.max_particle_charge * 1e12
             );
         }
-        if exp.discharge.enabled {
+        if exp.discharge_params.enabled {
             let [ic, ng, pg] = summary.flash_counts;
             println!("  flashes: {ic} intracloud, {ng} negative ground, {pg} positive ground");
             if let Some(t) = summary.first_flash {
@@ -384,8 +384,8 @@ fn cmd_run(
                 t
             );
             println!("  largest ratio |E|/threshold over the run (avalanche: e-folding count):");
-            for c in crate::breakdown::Criterion::ALL {
-                let trigger = if c == exp.criteria.trigger {
+            for c in crate::physics::breakdown::Criterion::ALL {
+                let trigger = if c == exp.criteria_thresholds.trigger {
                     "  (flash trigger)"
                 } else {
                     ""
@@ -430,23 +430,30 @@ fn cmd_charging_map(
     reversal: f64,
     csv: Option<&Path>,
 ) -> Result<(), RunError> {
-    use crate::charging::Scheme;
+    use crate::physics::charging::Scheme;
+    use serde::Deserialize;
     let usage = |key: &str, value: String, msg: &str, allowed: &str| {
         RunError::Config(ConfigError::single(
             "command line",
             ConfigIssue::new(key, msg).value(value).allowed(allowed),
         ))
     };
-    let scheme = match scheme {
-        "gardiner_1985" => Scheme::Gardiner1985 { reversal },
-        "saunders_peck_1998" => Scheme::SaundersPeck1998,
-        other => {
+    // The scheme is read through its own registry, as from a configuration.
+    let named = toml::toml! { scheme = scheme reversal_temperature = reversal };
+    let scheme = match Scheme::deserialize(named) {
+        Ok(s) if s != Scheme::Off => s,
+        _ => {
+            let names: Vec<String> = Scheme::NAMES
+                .iter()
+                .filter(|n| **n != Scheme::Off.name())
+                .map(|n| format!("\"{n}\""))
+                .collect();
             return Err(usage(
                 "--scheme",
-                format!("\"{other}\""),
+                format!("\"{scheme}\""),
                 "unknown charging scheme",
-                "\"gardiner_1985\", \"saunders_peck_1998\"",
-            ))
+                &names.join(", "),
+            ));
         }
     };
     if !(1e-6..=1e-2).contains(&d) {
@@ -473,7 +480,7 @@ fn cmd_charging_map(
             "[-30, -5]",
         ));
     }
-    let params = crate::charging::ChargingParams {
+    let params = crate::physics::charging::ChargingParams {
         scheme,
         scale: 1.0,
         cap: f64::INFINITY,
@@ -547,7 +554,7 @@ fn cmd_sweep(
     let text = read_config(config)?;
     let origin = config.display().to_string();
     let base_dir = config.parent().unwrap_or(Path::new("."));
-    let resolved = crate::config::parse(&text, &origin)?;
+    let resolved = crate::setup::config::parse(&text, &origin)?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;
     let count = members
         .iter()

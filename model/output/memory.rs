@@ -1,10 +1,10 @@
 //! An in-memory observer: keeps every record, for tests and analysis.
 
 use super::{record_len, variables, Observer, OutputVar};
+use crate::column::state::State;
 use crate::error::RunError;
-use crate::experiment::Experiment;
-use crate::state::State;
-use crate::timeloop::RunSummary;
+use crate::output::summary::RunSummary;
+use crate::setup::experiment::Experiment;
 use std::collections::BTreeMap;
 
 /// Records of every registered variable, by name, plus the record times (s).
@@ -15,7 +15,7 @@ pub struct MemoryRecorder {
     pub data: BTreeMap<String, Vec<Vec<f64>>>,
     pub finished: bool,
     /// Every flash of the run (complete after `finish`).
-    pub flashes: Vec<crate::discharge::record::FlashRecord>,
+    pub flashes: Vec<crate::physics::discharge::record::FlashRecord>,
     vars: Vec<OutputVar>,
 }
 

@@ -6,16 +6,17 @@
 pub mod memory;
 pub mod netcdf_writer;
 pub mod reader;
+pub mod summary;
 
-use crate::breakdown::Criterion;
-use crate::carriers::Carrier;
-use crate::constants::{CP_DRY, P_REF_THETA, R_DRY};
-use crate::discharge::record::{FlashKind, FlashRecord};
+use crate::column::state::State;
 use crate::error::RunError;
-use crate::experiment::Experiment;
-use crate::microphysics::species::Species;
-use crate::state::State;
-use crate::timeloop::RunSummary;
+use crate::output::summary::RunSummary;
+use crate::physics::atmosphere::exner;
+use crate::physics::breakdown::Criterion;
+use crate::physics::carriers::Carrier;
+use crate::physics::discharge::record::{FlashKind, FlashRecord};
+use crate::physics::microphysics::species::Species;
+use crate::setup::experiment::Experiment;
 
 /// Receives the state at output times.
 pub trait Observer {
@@ -128,8 +129,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             // T = theta (p/p_ref)^(R_d/c_p), the inverse of Poisson's equation.
             Box::new(|e, s, o| {
                 for (k, x) in o.iter_mut().enumerate() {
-                    *x = s.potential_temperature[k]
-                        * (e.base.centre.pressure[k] / P_REF_THETA).powf(R_DRY / CP_DRY);
+                    *x = s.potential_temperature[k] * exner(e.base.centre.pressure[k]);
                 }
             }),
         )
@@ -208,11 +208,11 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Box::new(move |e, s, o| {
                 for (k, x) in o.iter_mut().enumerate() {
                     let p = e.base.centre.pressure[k];
-                    let t = s.potential_temperature[k] * crate::microphysics::exner(p);
-                    let (qsw, qsi) = crate::microphysics::rates::saturation_ratios(t, p);
+                    let t = s.potential_temperature[k] * exner(p);
+                    let (qsw, qsi) = crate::physics::microphysics::rates::saturation_ratios(t, p);
                     // Ratio of vapour pressures e/e_s from the mixing ratios.
-                    let e = crate::microphysics::rates::vapour_pressure(s.q[0][k], p);
-                    let es = |qs: f64| qs * p / (crate::constants::EPSILON + qs);
+                    let e = crate::physics::microphysics::rates::vapour_pressure(s.q[0][k], p);
+                    let es = |qs: f64| qs * p / (crate::physics::constants::EPSILON + qs);
                     *x = e / es(if ice { qsi } else { qsw });
                 }
             }),
@@ -267,27 +267,27 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         (
             "charging_rate_graupel_ice",
             "non-inductive charging rate of graupel in rebounding graupel-ice collisions",
-            (|s: &State| &s.charging.graupel_ice) as fn(&State) -> &Vec<f64>,
+            (|s: &State| &s.charging_rates.graupel_ice) as fn(&State) -> &Vec<f64>,
         ),
         (
             "charging_rate_graupel_snow",
             "non-inductive charging rate of graupel in rebounding graupel-snow collisions",
-            |s: &State| &s.charging.graupel_snow,
+            |s: &State| &s.charging_rates.graupel_snow,
         ),
         (
             "charging_rate_snow_ice",
             "non-inductive charging rate of snow in rebounding snow-ice collisions",
-            |s: &State| &s.charging.snow_ice,
+            |s: &State| &s.charging_rates.snow_ice,
         ),
         (
             "charging_rate_inductive_graupel",
             "inductive charging rate of graupel",
-            |s: &State| &s.charging.inductive_graupel,
+            |s: &State| &s.charging_rates.inductive_graupel,
         ),
         (
             "charging_rate_inductive_rain",
             "inductive charging rate of rain",
-            |s: &State| &s.charging.inductive_rain,
+            |s: &State| &s.charging_rates.inductive_rain,
         ),
     ] {
         v.push(
@@ -312,9 +312,13 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                     for (k, x) in o.iter_mut().enumerate() {
                         let rho = e.base.centre.density[k];
                         let c = s.charge[Carrier::of(sp).index()][k];
-                        *x =
-                            crate::charging::mean_particle_charge(dist, rho, s.q[sp.index()][k], c)
-                                .map_or(0.0, |m| m.0);
+                        *x = crate::physics::charging::mean_particle_charge(
+                            dist,
+                            rho,
+                            s.q[sp.index()][k],
+                            c,
+                        )
+                        .map_or(0.0, |m| m.0);
                     }
                 }),
             )
@@ -426,7 +430,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         ));
     }
     for c in Criterion::ALL {
-        let i = c as usize;
+        let i = c.index();
         let threshold_name = if c == Criterion::AvalancheMultiplication {
             format!(
                 "stretch threshold of {}: runaway avalanche threshold",
@@ -440,7 +444,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             threshold_name,
             "V m-1",
             StaticFace,
-            Box::new(move |e, _, o| o.copy_from_slice(&e.criteria.thresholds[i])),
+            Box::new(move |e, _, o| o.copy_from_slice(&e.criteria_thresholds.thresholds[i])),
         ));
         let (ratio_long, ratio_comment) = if c == Criterion::AvalancheMultiplication {
             (
@@ -462,7 +466,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                 ratio_long,
                 "1",
                 Series,
-                Box::new(move |_, s, o| o[0] = s.criteria[i].ratio),
+                Box::new(move |_, s, o| o[0] = s.criteria_status[i].ratio),
             )
             .comment(ratio_comment),
         );
@@ -471,7 +475,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             format!("height of the largest field_ratio_{}", c.name()),
             "m",
             Series,
-            Box::new(move |_, s, o| o[0] = s.criteria[i].height),
+            Box::new(move |_, s, o| o[0] = s.criteria_status[i].height),
         ));
     }
     v
@@ -575,7 +579,7 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         get: Box::new(|f| f.kind as i32 as f64),
     });
     for c in Criterion::ALL {
-        let i = c as usize;
+        let i = c.index();
         v.push(FlashVar {
             name: format!("flash_criterion_{}", c.name()),
             long_name: format!(

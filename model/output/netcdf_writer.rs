@@ -9,11 +9,11 @@
 use super::{
     flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement,
 };
-use crate::discharge::record::FlashRecord;
+use crate::column::state::State;
 use crate::error::RunError;
-use crate::experiment::Experiment;
-use crate::state::State;
-use crate::timeloop::RunSummary;
+use crate::output::summary::RunSummary;
+use crate::physics::discharge::record::FlashRecord;
+use crate::setup::experiment::Experiment;
 use std::path::{Path, PathBuf};
 
 /// Global attribute holding the resolved configuration (TOML text).

@@ -3,10 +3,11 @@
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
-use stormcharge::experiment::Experiment;
 use stormcharge::output::memory::MemoryRecorder;
+use stormcharge::output::summary::RunSummary;
 use stormcharge::output::Observer;
-use stormcharge::timeloop::{self, RunSummary};
+use stormcharge::setup::experiment::Experiment;
+use stormcharge::timeloop;
 
 /// The command-line program built for the tests.
 pub fn bin() -> Command {

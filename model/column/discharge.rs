@@ -1,0 +1,204 @@
+//! Flashes over the column: while the trigger holds, grow a channel
+//! ([`crate::physics::discharge::channel`]), neutralise its charge
+//! ([`crate::physics::discharge::neutralization`]), solve the field again and
+//! record the flash. docs/discharge.md describes the rule.
+
+use crate::column::state::State;
+use crate::physics::breakdown::Criterion;
+use crate::physics::discharge::channel::{self, Channel, ChannelInputs};
+use crate::physics::discharge::neutralization;
+use crate::physics::discharge::record::{FlashKind, FlashRecord};
+use crate::physics::discharge::{trigger_threshold, Neutralization};
+use crate::setup::experiment::Experiment;
+
+/// Work arrays for flashes, allocated once with the state.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scratch {
+    /// The neutralisation pattern of the current flash (C m-3).
+    pattern: Vec<f64>,
+    g_phi: Vec<f64>,
+    g_e: Vec<f64>,
+    phi_before: Vec<f64>,
+    rho_before: Vec<f64>,
+}
+
+impl Scratch {
+    fn empty() -> Self {
+        Scratch {
+            pattern: Vec::new(),
+            g_phi: Vec::new(),
+            g_e: Vec::new(),
+            phi_before: Vec::new(),
+            rho_before: Vec::new(),
+        }
+    }
+
+    pub fn new(n: usize) -> Self {
+        Scratch {
+            pattern: vec![0.0; n],
+            g_phi: vec![0.0; n],
+            g_e: vec![0.0; n + 1],
+            phi_before: vec![0.0; n],
+            rho_before: vec![0.0; n],
+        }
+    }
+}
+
+/// Runs flashes while the trigger holds, up to the per-step bound. `time` is
+/// the model time at the end of the current step (s).
+pub fn step(exp: &Experiment, state: &mut State, time: f64) {
+    let p = &exp.discharge_params;
+    if !p.enabled {
+        return;
+    }
+    let trigger = exp.criteria_thresholds.trigger.index();
+    for _ in 0..p.max_per_step {
+        let status = state.criteria_status[trigger];
+        if !status.met {
+            return;
+        }
+        if let Some(last) = state.ledger.flashes.last() {
+            if time - last.time < p.min_interval {
+                return;
+            }
+        }
+        let start = status.face;
+        if p.require_hydrometeor_breakdown {
+            let thr = &exp.criteria_thresholds.thresholds[Criterion::HydrometeorBreakdown.index()];
+            if state.field[start].abs() < thr[start] {
+                return;
+            }
+        }
+        let Some(rec) = flash(exp, state, start, time) else {
+            return;
+        };
+        let ledger = &mut state.ledger;
+        ledger.ground_charge += rec.charge_to_ground;
+        ledger.counts[rec.kind.index()] += 1;
+        ledger.flashes.push(rec);
+        crate::column::breakdown::evaluate(exp, state);
+    }
+    if state.criteria_status[trigger].met {
+        state.ledger.bound_hits += 1;
+        state.ledger.first_bound_hit.get_or_insert(time);
+    }
+}
+
+fn max_abs(e: &[f64], faces: std::ops::RangeInclusive<usize>) -> f64 {
+    faces.map(|k| e[k].abs()).fold(0.0, f64::max)
+}
+
+/// One flash from face `start`; the state's field is re-solved. Returns `None`
+/// (and changes nothing) when no channel forms or it holds no charge to remove.
+pub fn flash(exp: &Experiment, state: &mut State, start: usize, time: f64) -> Option<FlashRecord> {
+    // The work arrays leave the state for the duration (moving Vecs does not
+    // allocate) so the state can be re-solved while they are in use.
+    let mut sc = std::mem::replace(&mut state.flash_scratch, Scratch::empty());
+    let rec = flash_with(exp, state, &mut sc, start, time);
+    state.flash_scratch = sc;
+    rec
+}
+
+fn flash_with(
+    exp: &Experiment,
+    state: &mut State,
+    sc: &mut Scratch,
+    start: usize,
+    time: f64,
+) -> Option<FlashRecord> {
+    let p = &exp.discharge_params;
+    let grid = &exp.grid;
+    let dz = grid.dz;
+    let criteria_met = state.criteria_status.map(|c| c.met);
+    let Channel { mut bottom, top } = channel::grow(
+        &ChannelInputs {
+            field: &state.field,
+            propagation: &p.propagation,
+            charge: &state.charge_total,
+            follow_min: p.follow_charge.then_some(p.min_charge_density),
+        },
+        start,
+    )?;
+    let ground = grid.z_face[bottom] <= p.ground_height;
+    if ground {
+        bottom = 0;
+    }
+    if top == bottom {
+        return None;
+    }
+    let faces = bottom..=top;
+    let (pos, neg) = neutralization::excess_pattern(
+        &state.charge_total,
+        bottom..top,
+        p.min_charge_density,
+        !ground,
+        dz,
+        &mut sc.pattern,
+    );
+    if pos + neg == 0.0 {
+        return None;
+    }
+    sc.phi_before.copy_from_slice(&state.potential);
+    sc.rho_before.copy_from_slice(&state.charge_total);
+    let energy_before = state.field_energy;
+    let field_before = max_abs(&state.field, faces.clone());
+    let s = match p.neutralization {
+        Neutralization::Fraction(f) => f,
+        Neutralization::TargetField(target) => {
+            exp.field_solver
+                .solve(&sc.pattern, &mut sc.g_phi, &mut sc.g_e);
+            let thr = &exp.criteria_thresholds.thresholds
+                [trigger_threshold(exp.criteria_thresholds.trigger)];
+            neutralization::target_scale(&state.field, &sc.g_e, thr, faces.clone(), target)
+        }
+    };
+
+    // Remove s w from each cell, shared among carriers of the cell's sign.
+    for k in bottom..top {
+        let wk = sc.pattern[k];
+        if wk == 0.0 {
+            continue;
+        }
+        let sign = wk.signum();
+        let same: f64 = state.charge.iter().map(|c| (c[k] * sign).max(0.0)).sum();
+        for carrier in state.charge.iter_mut() {
+            let share = (carrier[k] * sign).max(0.0) / same;
+            carrier[k] -= s * wk * share;
+        }
+    }
+    crate::column::electrostatics::solve(exp, state);
+
+    let mut net_change = 0.0;
+    let mut energy_from_charges = 0.0;
+    for k in bottom..top {
+        let d = state.charge_total[k] - sc.rho_before[k];
+        net_change += d * dz;
+        let before = exp
+            .field_solver
+            .pairing_potential(&sc.phi_before, &sc.rho_before, k);
+        let after = exp
+            .field_solver
+            .pairing_potential(&state.potential, &state.charge_total, k);
+        energy_from_charges -= 0.5 * d * (before + after) * dz;
+    }
+    let charge_to_ground = if ground { -net_change } else { 0.0 };
+    let kind = match (ground, charge_to_ground < 0.0) {
+        (false, _) => FlashKind::Intracloud,
+        (true, true) => FlashKind::NegativeGround,
+        (true, false) => FlashKind::PositiveGround,
+    };
+    Some(FlashRecord {
+        time,
+        kind,
+        z_init: grid.z_face[start],
+        z_bottom: grid.z_face[bottom],
+        z_top: grid.z_face[top],
+        charge_neutralized: s * pos.max(neg),
+        charge_to_ground,
+        energy: energy_before - state.field_energy,
+        energy_from_charges,
+        field_before,
+        field_after: max_abs(&state.field, faces),
+        criteria_met,
+    })
+}

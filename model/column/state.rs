@@ -1,0 +1,164 @@
+//! The prognostic state of the column and the diagnostics each step leaves
+//! behind. Later processes add their fields here.
+
+use crate::column::charging::ChargingRates;
+use crate::column::discharge::Scratch;
+use crate::column::transport;
+use crate::physics::breakdown::{Criterion, CriterionStatus};
+use crate::physics::carriers::Carrier;
+use crate::physics::discharge::FlashLedger;
+use crate::physics::microphysics::Mode;
+use crate::setup::experiment::Experiment;
+
+/// Everything that changes during a run. Units SI.
+#[derive(Debug, Clone, PartialEq)]
+pub struct State {
+    /// Steps taken so far.
+    pub step: u64,
+    /// Model time since `time.start` (s).
+    pub time: f64,
+    /// Potential temperature at cell centres (K): the thermodynamic variable
+    /// that is conserved under dry adiabatic transport.
+    pub potential_temperature: Vec<f64>,
+    /// Mixing ratios at cell centres (kg kg-1), indexed by `Species::index`
+    /// (vapour, cloud, rain, ice, snow, graupel).
+    pub q: [Vec<f64>; 6],
+    /// Cloud-ice number at cell centres (kg-1).
+    pub n_ice: Vec<f64>,
+    /// Vertical air velocity on faces (m s-1), positive up.
+    pub w: Vec<f64>,
+    /// Mass-weighted fall speeds at centres (m s-1, positive down) of rain,
+    /// ice, snow and graupel (`Species::FALLING` order).
+    pub fall_speed: [Vec<f64>; 4],
+    /// Surface precipitation rate over the last step (kg m-2 s-1).
+    pub precip_rate: f64,
+    /// Water budget terms accumulated since the start.
+    pub water: WaterLedger,
+    /// Charge moved by transport since the start.
+    pub charge_transport: ChargeLedger,
+    /// Charging rates of the last step.
+    pub charging_rates: ChargingRates,
+    /// Column charge at the start (C m-2), for the charge budget.
+    pub initial_column_charge: f64,
+    /// Steps in which transport had to sub-step, and the largest number of sub-steps.
+    pub substeps: (u64, usize),
+    /// Work arrays of the transport (allocated once).
+    pub transport_scratch: transport::Scratch,
+    /// Charge density of each carrier at centres (C m-3), indexed by [`Carrier::index`].
+    pub charge: Vec<Vec<f64>>,
+    /// Total charge density at centres (C m-3): the sum over carriers.
+    pub charge_total: Vec<f64>,
+    /// Electric potential at centres (V).
+    pub potential: Vec<f64>,
+    /// Vertical electric field E_z on faces (V m-1), positive upward.
+    pub field: Vec<f64>,
+    /// Column-integrated charge (C m-2).
+    pub column_charge: f64,
+    /// Field energy per unit area (J m-2).
+    pub field_energy: f64,
+    /// Status of every breakdown criterion, in `Criterion::ALL` order.
+    pub criteria_status: [CriterionStatus; Criterion::COUNT],
+    /// Flashes so far and their running totals.
+    pub ledger: FlashLedger,
+    /// Work arrays for flashes (allocated once).
+    pub flash_scratch: Scratch,
+}
+
+/// Water entering and leaving the column (kg m-2, accumulated).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct WaterLedger {
+    /// Total water entered through the ground face by advection.
+    pub advected_in_bottom: f64,
+    /// Total water left through the model top by advection.
+    pub advected_out_top: f64,
+    /// Total water gained through the column's sides (the exchange implied by
+    /// a height-dependent mass flux; negative: lost).
+    pub lateral: f64,
+    /// Precipitation that reached the ground.
+    pub precipitation: f64,
+    /// Mass created by removing negative values that the vapour could not
+    /// pay for (normally zero).
+    pub clip_created: f64,
+}
+
+/// Charge moved by transport (C m-2, accumulated).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct ChargeLedger {
+    /// Net charge gained through the column boundaries and sides by advection.
+    pub advected_in: f64,
+    /// Charge carried to the ground by precipitation.
+    pub precipitated: f64,
+    /// Charge added by prescribed sources (layer growth).
+    pub added: f64,
+}
+
+impl State {
+    /// The initial state: the base state at rest, prescribed charge in place,
+    /// and the field it makes.
+    pub fn initial(exp: &Experiment) -> Self {
+        let n = exp.grid.len();
+        let mut charge = vec![vec![0.0; n]; Carrier::ALL.len()];
+
+        charge[Carrier::Prescribed.index()].copy_from_slice(&exp.prescribed.initial);
+        let mut s = State {
+            step: 0,
+            time: 0.0,
+            potential_temperature: exp.base.centre.potential_temperature.clone(),
+            q: {
+                let mut q: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; n]);
+                q[0].copy_from_slice(&exp.base.centre.vapour);
+                q
+            },
+            n_ice: vec![0.0; n],
+            w: vec![0.0; n + 1],
+            fall_speed: std::array::from_fn(|_| vec![0.0; n]),
+            precip_rate: 0.0,
+            water: WaterLedger::default(),
+            charge_transport: ChargeLedger::default(),
+            charging_rates: ChargingRates::new(n),
+            initial_column_charge: 0.0,
+            substeps: (0, 1),
+            transport_scratch: transport::Scratch::new(n),
+            charge,
+            charge_total: vec![0.0; n],
+            potential: vec![0.0; n],
+            field: vec![0.0; n + 1],
+            column_charge: 0.0,
+            field_energy: 0.0,
+            criteria_status: [CriterionStatus::default(); Criterion::COUNT],
+            ledger: FlashLedger::default(),
+            flash_scratch: Scratch::new(n),
+        };
+        if exp.microphysics == Mode::Prescribed {
+            // Imposed hydrometeors are present from the start.
+            crate::column::microphysics::impose(exp, &mut s, 0.0);
+        }
+        transport::apply_forcing(exp, &mut s);
+        transport::update_fall_speeds(exp, &mut s);
+        crate::column::electrostatics::solve(exp, &mut s);
+        crate::column::breakdown::evaluate(exp, &mut s);
+        s.initial_column_charge = s.column_charge;
+        s
+    }
+
+    /// Charge budget residual (C m-2): the column charge minus everything
+    /// that should have made it (start + sources + advection - precipitation
+    /// - charge lowered to ground by flashes). Zero to round-off.
+    pub fn charge_budget_residual(&self) -> f64 {
+        let t = &self.charge_transport;
+        self.column_charge
+            - (self.initial_column_charge + t.added + t.advected_in
+                - t.precipitated
+                - self.ledger.ground_charge)
+    }
+
+    /// Total charge density = sum over carriers.
+    pub fn sum_charge(&mut self) {
+        self.charge_total.fill(0.0);
+        for carrier in &self.charge {
+            for (t, c) in self.charge_total.iter_mut().zip(carrier) {
+                *t += c;
+            }
+        }
+    }
+}

@@ -1,0 +1,53 @@
+//! One step of the column: the operator-split sequence of processes, in the
+//! order the crate documentation lists. Each line calls one process adapter.
+
+use crate::column::state::State;
+use crate::column::{breakdown, charging, discharge, electrostatics, microphysics, transport};
+use crate::error::RunError;
+use crate::setup::experiment::Experiment;
+
+/// Advances the state by one step of `dt` seconds.
+pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
+    step_timed(exp, state, dt, &mut |_, _| {})
+}
+
+/// Names of the phases of a step, in order (for profiles).
+pub const PHASES: [&str; 6] = [
+    "transport",
+    "microphysics",
+    "charging",
+    "poisson",
+    "criteria",
+    "discharge",
+];
+
+/// [`step`], reporting the time each phase took to `lap(phase, elapsed)`.
+pub fn step_timed(
+    exp: &Experiment,
+    state: &mut State,
+    dt: f64,
+    lap: &mut dyn FnMut(usize, std::time::Duration),
+) -> Result<(), RunError> {
+    let mut clock = std::time::Instant::now();
+    let mut mark = |phase: usize| {
+        let now = std::time::Instant::now();
+        lap(phase, now - clock);
+        clock = now;
+    };
+    transport::apply_forcing(exp, state);
+    transport::transport(exp, state, dt);
+    mark(0);
+    microphysics::step(exp, state, dt)?;
+    mark(1);
+    charging::step(exp, state, dt);
+    mark(2);
+    electrostatics::solve(exp, state);
+    mark(3);
+    breakdown::evaluate(exp, state);
+    mark(4);
+    discharge::step(exp, state, exp.schedule.time(state.step + 1));
+    mark(5);
+    state.step += 1;
+    state.time = exp.schedule.time(state.step);
+    Ok(())
+}

@@ -1,0 +1,195 @@
+//! Transport over the column: the prescribed updraft on the faces, advection
+//! of every advected field by it, then sedimentation of the falling species
+//! (the cores are [`crate::physics::kinematics`]). Water and charge that
+//! cross the boundaries are booked in the state's ledgers.
+
+// The transport loops walk several parallel arrays (densities, fluxes,
+// fields) by cell index; iterator zips would obscure the stencils.
+#![allow(clippy::needless_range_loop)]
+
+use crate::column::state::State;
+use crate::physics::carriers::Carrier;
+use crate::physics::kinematics::{advection, sedimentation};
+use crate::physics::microphysics::dsd;
+use crate::physics::microphysics::species::Species;
+use crate::physics::microphysics::Mode;
+use crate::setup::experiment::Experiment;
+
+/// Work arrays, allocated once with the state.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scratch {
+    mass_flux: Vec<f64>,
+    faces: Vec<f64>,
+    field: Vec<f64>,
+    flow: advection::FlowFactors,
+}
+
+impl Scratch {
+    pub fn new(n: usize) -> Self {
+        Scratch {
+            mass_flux: vec![0.0; n + 1],
+            faces: vec![0.0; n + 1],
+            field: vec![0.0; n],
+            flow: advection::FlowFactors::new(n),
+        }
+    }
+}
+
+/// Sets the prescribed updraft on the faces for the state's time.
+pub fn apply_forcing(exp: &Experiment, state: &mut State) {
+    exp.updraft
+        .w_on(&exp.updraft_shape, state.time, &mut state.w);
+}
+
+/// Mass-weighted fall speeds (m s-1) of the falling species at every cell.
+pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
+    let rho = &exp.base.centre.density;
+    let p = exp.micro_params();
+    for (i, sp) in Species::FALLING.iter().enumerate() {
+        let q = &state.q[sp.index()];
+        for (k, env) in exp.cell_env.iter().enumerate() {
+            let [cr, cs, cg] = env.corrections;
+            state.fall_speed[i][k] = match sp {
+                Species::Rain => p.rain.mass_weighted_speed_with(rho[k], q[k], cr),
+                Species::Snow => p.snow.mass_weighted_speed_with(rho[k], q[k], cs),
+                Species::Graupel => p.graupel.mass_weighted_speed_with(rho[k], q[k], cg),
+                _ => dsd::ice::speed(rho[k], q[k]),
+            };
+        }
+    }
+}
+
+/// Advection, then sedimentation, over one step of `dt` s.
+pub fn transport(exp: &Experiment, state: &mut State, dt: f64) {
+    advect_all(exp, state, dt);
+    if exp.microphysics != Mode::Off {
+        sediment_all(exp, state, dt);
+    }
+}
+
+fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
+    let rho = &exp.base.centre.density;
+    let rho_face = &exp.base.face.density;
+    let dz = exp.grid.dz;
+    let n = rho.len();
+    let sc = &mut state.transport_scratch;
+    let mut moving = false;
+    for j in 0..=n {
+        sc.mass_flux[j] = rho_face[j] * state.w[j];
+        moving |= sc.mass_flux[j] != 0.0;
+    }
+    if !moving {
+        return;
+    }
+    let nsub = advection::substeps(&sc.mass_flux, rho, dz, dt);
+    if nsub > 1 {
+        state.substeps.0 += 1;
+        state.substeps.1 = state.substeps.1.max(nsub);
+    }
+    let h = dt / nsub as f64;
+    sc.flow.update(&sc.mass_flux, rho, dz, h);
+    let base_face = &exp.base.face;
+    for _ in 0..nsub {
+        let theta_in = (
+            base_face.potential_temperature[0],
+            base_face.potential_temperature[n],
+        );
+        advection::advect_with(
+            &mut state.potential_temperature,
+            &sc.mass_flux,
+            &sc.flow,
+            h,
+            theta_in,
+            &mut sc.faces,
+        );
+        for sp in Species::ALL {
+            let inflow = if sp == Species::Vapour {
+                (base_face.vapour[0], base_face.vapour[n])
+            } else {
+                (0.0, 0.0)
+            };
+            let b = advection::advect_with(
+                &mut state.q[sp.index()],
+                &sc.mass_flux,
+                &sc.flow,
+                h,
+                inflow,
+                &mut sc.faces,
+            );
+            state.water.advected_in_bottom += b.bottom;
+            state.water.advected_out_top += b.top;
+            state.water.lateral += b.lateral;
+        }
+        advection::advect_with(
+            &mut state.n_ice,
+            &sc.mass_flux,
+            &sc.flow,
+            h,
+            (0.0, 0.0),
+            &mut sc.faces,
+        );
+        for c in Carrier::ALL.iter().filter(|c| c.advected()) {
+            let charge = &mut state.charge[c.index()];
+            for k in 0..n {
+                sc.field[k] = charge[k] * exp.cell_env[k].inv_rho;
+            }
+            let b = advection::advect_with(
+                &mut sc.field,
+                &sc.mass_flux,
+                &sc.flow,
+                h,
+                (0.0, 0.0),
+                &mut sc.faces,
+            );
+            state.charge_transport.advected_in += b.net();
+            for k in 0..n {
+                charge[k] = sc.field[k] * rho[k];
+            }
+        }
+    }
+}
+
+fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
+    let rho = &exp.base.centre.density;
+    let dz = exp.grid.dz;
+    let n = rho.len();
+    update_fall_speeds(exp, state);
+    let nsub = state
+        .fall_speed
+        .iter()
+        .map(|v| sedimentation::substeps(v, dz, dt))
+        .max()
+        .unwrap_or(1);
+    let h = dt / nsub as f64;
+    let mut precip = 0.0;
+    for sub in 0..nsub {
+        if sub > 0 {
+            update_fall_speeds(exp, state);
+        }
+        for (i, sp) in Species::FALLING.iter().enumerate() {
+            let sc = &mut state.transport_scratch;
+            let q = &mut state.q[sp.index()];
+            for k in 0..n {
+                sc.field[k] = rho[k] * q[k];
+            }
+            precip += sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+            for k in 0..n {
+                q[k] = sc.field[k] * exp.cell_env[k].inv_rho;
+            }
+            if *sp == Species::Ice {
+                for k in 0..n {
+                    sc.field[k] = rho[k] * state.n_ice[k];
+                }
+                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+                for k in 0..n {
+                    state.n_ice[k] = sc.field[k] * exp.cell_env[k].inv_rho;
+                }
+            }
+            let c = Carrier::of(*sp).index();
+            let out = sedimentation::settle(&mut state.charge[c], &state.fall_speed[i], dz, h);
+            state.charge_transport.precipitated += out;
+        }
+    }
+    state.water.precipitation += precip;
+    state.precip_rate = precip / dt;
+}

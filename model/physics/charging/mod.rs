@@ -1,0 +1,253 @@
+//! Charge sources: prescribed charge growth ([`prescribed`]), charge that
+//! follows mass in the microphysics ([`follow_mass`], called from there),
+//! non-inductive charge separation in rebounding graupel-ice, graupel-snow
+//! and snow-ice collisions with a published scheme chosen in the
+//! configuration ([`gardiner_1985`], [`saunders_peck_1998`]), and optional
+//! inductive charging ([`inductive`]). Every separation adds to one species
+//! what it takes from the other in the same cell, so it conserves charge to
+//! round-off. Units: charge densities C m-3, rates C m-3 s-1.
+
+pub mod collisions;
+pub mod follow_mass;
+pub mod gardiner_1985;
+pub mod inductive;
+pub mod prescribed;
+pub mod saunders_peck_1998;
+pub mod size_speed;
+
+use crate::physics::carriers::Carrier;
+use crate::physics::constants::{RHO_WATER, T_MELT};
+use crate::physics::microphysics::dsd;
+use crate::physics::microphysics::params::MicroParams;
+
+named_scheme! {
+    #[tag = "scheme"]
+    /// The non-inductive charging scheme (`charging.scheme`), with the
+    /// parameters that belong to it. A new scheme is one file in this folder,
+    /// one variant here and its page in docs/charging.md.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub enum Scheme {
+        /// No non-inductive charging.
+        Off = "off",
+        /// Gardiner et al. (1985), [`gardiner_1985`].
+        Gardiner1985 = "gardiner_1985" {
+            /// Reversal temperature T_r (degC).
+            reversal_temperature: f64,
+        },
+        /// Saunders & Peck (1998), [`saunders_peck_1998`].
+        SaundersPeck1998 = "saunders_peck_1998",
+    }
+}
+
+/// Charging parameters (SI; temperatures in degC where noted).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ChargingParams {
+    pub scheme: Scheme,
+    /// Multiplier on the charge per collision (1).
+    pub scale: f64,
+    /// Largest |charge| per collision (C).
+    pub cap: f64,
+    /// Low-temperature taper: full charging down to `taper_start`, falling
+    /// linearly to zero at `taper_end` (degC).
+    pub taper_start: f64,
+    pub taper_end: f64,
+    pub inductive: bool,
+    pub cos_theta: f64,
+    pub rebound_probability: f64,
+    /// Cloud droplet diameter (m).
+    pub droplet_diameter: f64,
+}
+
+impl ChargingParams {
+    /// Charge gained by the collector per rebounding collision (C) at `t`
+    /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
+    /// impact speed `dv` and collector speed `v` (m s-1).
+    pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> f64 {
+        if t >= 0.0 || t <= self.taper_end {
+            return 0.0;
+        }
+        let raw = match self.scheme {
+            Scheme::Off => 0.0,
+            Scheme::Gardiner1985 {
+                reversal_temperature,
+            } => gardiner_1985::charge_per_collision(t, reversal_temperature, lwc, d, dv),
+            // Effective water content taken as the liquid water content
+            // (collection efficiency 1), RAR = EW V.
+            Scheme::SaundersPeck1998 => saunders_peck_1998::charge_per_collision(t, lwc * v, d, dv),
+        };
+        let taper = if t < self.taper_start {
+            (t - self.taper_end) / (self.taper_start - self.taper_end)
+        } else {
+            1.0
+        };
+        (self.scale * raw * taper).clamp(-self.cap, self.cap)
+    }
+}
+
+/// One cell's charging rates (C m-3 s-1; positive when the collector named
+/// first gains positive charge).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct CellRates {
+    pub graupel_ice: f64,
+    pub graupel_snow: f64,
+    pub snow_ice: f64,
+    pub inductive_graupel: f64,
+    pub inductive_rain: f64,
+}
+
+/// What the charging of one cell needs (SI).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CellInputs {
+    /// Air density (kg m-3).
+    pub rho: f64,
+    /// Temperature (degC).
+    pub t: f64,
+    /// Mixing ratios, `Species` order (kg kg-1).
+    pub q: [f64; 6],
+    /// Cloud-ice number (kg-1).
+    pub n_ice: f64,
+    /// Vertical field at the cell centre (V m-1), positive up.
+    pub e_z: f64,
+    /// Fall-speed density corrections of rain, snow and graupel (1).
+    pub corrections: [f64; 3],
+}
+
+fn separate(charge: &mut [f64; Carrier::COUNT], gainer: Carrier, loser: Carrier, amount: f64) {
+    charge[gainer.index()] += amount;
+    charge[loser.index()] -= amount;
+}
+
+/// Separates charge in one cell over `dt` s: updates the cell's carrier
+/// charge densities `charge` (C m-3, `Carrier::ALL` order) and returns the
+/// rates. Non-inductive separation first, then inductive charging, which
+/// sees the collector charge the first left behind.
+pub fn charge_cell(
+    p: &ChargingParams,
+    f: &MicroParams,
+    c: &CellInputs,
+    charge: &mut [f64; Carrier::COUNT],
+    dt: f64,
+) -> CellRates {
+    let rho = c.rho;
+    let [cr, cs, cg] = c.corrections;
+    let t = c.t;
+    let q = |i: usize| c.q[i].max(0.0);
+    let (qc, qr, qi, qs, qg) = (q(1), q(2), q(3), q(4), q(5));
+    // Every mechanism below needs a collector (graupel, snow or rain);
+    // without one the cell's rates are zero and nothing else is computed.
+    if qg == 0.0 && qs == 0.0 && qr == 0.0 {
+        return CellRates::default();
+    }
+    let lwc = rho * qc * 1e3;
+    // Slopes and their powers once per species: they give the speeds,
+    // the collision kernels and the sweep-out rates below.
+    let (sg, ss, sr) = (
+        f.graupel.slope_powers(rho, qg),
+        f.snow.slope_powers(rho, qs),
+        f.rain.slope_powers(rho, qr),
+    );
+    let (vg, vs, vi) = (
+        sg.map_or(0.0, |s| f.graupel.mass_weighted_speed_at(&s, cg)),
+        ss.map_or(0.0, |s| f.snow.mass_weighted_speed_at(&s, cs)),
+        dsd::ice::speed(rho, qi),
+    );
+    let slope = |s: Option<dsd::SlopePowers>| s.map_or(f64::INFINITY, |s| s.lambda);
+    let (lg, ls) = (slope(sg), slope(ss));
+    let n_ice = rho * c.n_ice;
+    let d_ice = dsd::ice::diameter(qi, c.n_ice);
+    // Rebounding collisions (m-3 s-1) times the charge per collision
+    // (crystal size d, impact speed dv, collector speed v).
+    let rate =
+        |collisions: f64, d: f64, dv: f64, v: f64| collisions * p.per_collision(t, lwc, d, dv, v);
+    let mut out = CellRates::default();
+    if t < 0.0 && !matches!(p.scheme, Scheme::Off) {
+        // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
+        let (e_snow, e_graupel) = crate::physics::microphysics::rates::collection_efficiencies(t);
+        let (sep_g, sep_s) = (1.0 - e_graupel, 1.0 - e_snow);
+        if qg > 0.0 && qi > 0.0 {
+            let dv = (vg - vi).abs();
+            let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
+            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg);
+        }
+        if qg > 0.0 && qs > 0.0 {
+            let dv = (vg - vs).abs();
+            let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
+            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg);
+        }
+        if qs > 0.0 && qi > 0.0 {
+            let dv = (vs - vi).abs();
+            let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls);
+            out.snow_ice = rate(n * sep_s, d_ice, dv, vs);
+        }
+    }
+    for (r, gainer, loser) in [
+        (out.graupel_ice, Carrier::Graupel, Carrier::Ice),
+        (out.graupel_snow, Carrier::Graupel, Carrier::Snow),
+        (out.snow_ice, Carrier::Snow, Carrier::Ice),
+    ] {
+        separate(charge, gainer, loser, r * dt);
+    }
+    if p.inductive && qc > 0.0 {
+        let m_drop = std::f64::consts::PI / 6.0 * RHO_WATER * p.droplet_diameter.powi(3);
+        let drops = rho * qc / m_drop; // m-3
+        for (carrier, dist, powers, correction) in [
+            (Carrier::Graupel, &f.graupel, sg, cg),
+            (Carrier::Rain, &f.rain, sr, cr),
+        ] {
+            let mut r = 0.0;
+            if let Some(s) = powers.filter(|s| s.lambda.is_finite()) {
+                let lam = s.lambda;
+                let number = dist.n0 / lam; // collectors per m3
+                let q_mean = charge[carrier.index()] / number;
+                let rebounds = p.rebound_probability * drops * dist.sweep_at(&s, correction);
+                r = rebounds
+                    * inductive::charge_per_rebound(
+                        p.droplet_diameter,
+                        1.0 / lam,
+                        c.e_z,
+                        p.cos_theta,
+                        q_mean,
+                    );
+                separate(charge, carrier, Carrier::Cloud, r * dt);
+            }
+            if carrier == Carrier::Graupel {
+                out.inductive_graupel = r;
+            } else {
+                out.inductive_rain = r;
+            }
+        }
+    }
+    out
+}
+
+/// Temperature (degC) from potential temperature (K) and the Exner function (1).
+pub fn celsius(theta: f64, exner: f64) -> f64 {
+    theta * exner - T_MELT
+}
+
+/// Surface tension of water used for the Rayleigh limit (N m-1): 0.0728,
+/// as in the check value of check-values.md (IAPWS gives 0.07565 at 0 degC
+/// and 0.07274 at 20 degC).
+pub const SURFACE_TENSION: f64 = 0.0728;
+
+/// Rayleigh charge limit of a drop of radius `r` (m): Q = 8 pi sqrt(eps0 gamma r^3)
+/// (Rayleigh 1882; 6.38e-10 C for r = 1 mm, check-values.md).
+pub fn rayleigh_limit(r: f64) -> f64 {
+    8.0 * std::f64::consts::PI
+        * (crate::physics::constants::EPSILON_0 * SURFACE_TENSION * r.powi(3)).sqrt()
+}
+
+/// Mean charge per particle (C) and mean radius (m) of an exponential
+/// species holding charge density `charge` (C m-3) with mixing ratio `q`.
+pub fn mean_particle_charge(
+    dist: &dsd::Exponential,
+    rho: f64,
+    q: f64,
+    charge: f64,
+) -> Option<(f64, f64)> {
+    if q <= 1e-12 {
+        return None;
+    }
+    let lambda = dist.slope(rho, q);
+    Some((charge * lambda / dist.n0, 0.5 / lambda))
+}

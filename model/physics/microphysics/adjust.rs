@@ -1,0 +1,112 @@
+//! Instantaneous adjustments applied outside the ODE integration: saturation
+//! adjustment of cloud water, homogeneous freezing of cloud water below
+//! -40 degC, melting of cloud ice above 0 degC and ice nucleation.
+
+use super::params::MicroParams;
+use super::rates::{saturation_ratios, CellState};
+use crate::physics::atmosphere::saturation::liquid_pressure_and_slope;
+use crate::physics::constants::{CP_DRY, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
+
+/// Temperature of homogeneous freezing of cloud droplets (K): -40 degC
+/// (common practice; e.g. Pruppacher & Klett 1997, ch. 7).
+pub const T_HOMOGENEOUS: f64 = T_MELT - 40.0;
+
+/// L_v / c_p (K per kg kg-1), the warming per unit condensate.
+const L_OVER_CP: f64 = L_VAPORISATION / CP_DRY;
+
+/// Saturation adjustment (condensation/evaporation of cloud water with latent
+/// heating) at pressure `p` (Pa): finds the condensate c such that
+/// q_v - c = q_sw(T + L_v c / c_p), by Newton's method on that equation (the
+/// classic isobaric adjustment, e.g. Soong & Ogura 1973, JAS 30, here with
+/// Murphy & Koop 2005 saturation, tabulated as in `saturation_ratios`, whose
+/// exact derivative gives the Newton slope). Evaporation is limited to the
+/// cloud water present. Conserves q_v + q_c and the liquid-water static
+/// energy c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
+pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
+    let (qv0, qc0, t0) = (s.q[0], s.q[1], s.t);
+    // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
+    // (zero where e is capped at p/2, as in `saturation_ratios`).
+    let f = |c: f64| {
+        let t = t0 + L_OVER_CP * c;
+        let (e, de) = liquid_pressure_and_slope(t);
+        let (e, de) = if e < 0.5 * p { (e, de) } else { (0.5 * p, 0.0) };
+        let inv = 1.0 / (p - e);
+        let r = EPSILON * e * inv;
+        let dr = EPSILON * p * inv * inv * de;
+        (qv0 - c - r, -1.0 - dr * L_OVER_CP)
+    };
+    let mut fd = f(0.0);
+    if fd.0 <= 0.0 && qc0 <= 0.0 {
+        return 0.0; // subsaturated, no cloud to evaporate
+    }
+    // Newton converges quadratically: the error after a step of size d is
+    // about |f''/(2 f')| d^2, with f''/(2 f') of order 1e2 kg kg-1 (r_s'' (L_v/c_p)^2
+    // over 2 |f'|, from Clausius-Clapeyron) for tropospheric states, so after
+    // a step below 1e-11 kg kg-1 the remaining error (< 1e-19 kg kg-1) is
+    // below the rounding of q_v and no further evaluation is needed.
+    let mut c = 0.0;
+    for _ in 0..30 {
+        let step = fd.0 / fd.1;
+        c -= step;
+        if step.abs() < 1e-11 {
+            break;
+        }
+        fd = f(c);
+    }
+    // Cannot evaporate more cloud than exists.
+    let c = c.max(-qc0);
+    s.q[0] = qv0 - c;
+    s.q[1] = qc0 + c;
+    s.t = t0 + L_OVER_CP * c;
+    c
+}
+
+/// Homogeneous freezing of all cloud water below -40 degC and melting of all
+/// cloud ice above 0 degC (instantaneous, common practice in bulk schemes;
+/// LFO83 treat cloud-ice melting the same way). Frozen droplets become
+/// crystals of `droplet_mass`; melted ice becomes cloud water.
+pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
+    if s.t < T_HOMOGENEOUS && s.q[1] > 0.0 {
+        let qc = s.q[1];
+        s.q[1] = 0.0;
+        s.q[3] += qc;
+        s.n_ice += qc / p.droplet_mass;
+        s.t += L_FUSION * qc / CP_DRY;
+    } else if s.t > T_MELT && s.q[3] > 0.0 {
+        // Melt only as much as the heat above 0 degC allows.
+        let melt = s.q[3].min(CP_DRY * (s.t - T_MELT) / L_FUSION);
+        let frac = melt / s.q[3];
+        s.q[3] -= melt;
+        s.n_ice *= 1.0 - frac;
+        s.q[1] += melt;
+        s.t -= L_FUSION * melt / CP_DRY;
+    }
+}
+
+/// Ice nucleation: raises the crystal number toward the active-nucleus
+/// number of the chosen parameterisation (per kg of air: N / rho), each new
+/// crystal taking `nucleated_mass` from the vapour (deposition heating).
+/// Returns the mass nucleated (kg kg-1).
+pub fn nucleate(s: &mut CellState, p_air: f64, rho: f64, p: &MicroParams) -> f64 {
+    // No nuclei are active at or above 0 degC (`MicroParams::nuclei`).
+    if s.t >= T_MELT {
+        return 0.0;
+    }
+    let (_, qsi) = saturation_ratios(s.t, p_air);
+    let si = s.q[0] / qsi;
+    let target = p.nuclei(s.t, si) / rho;
+    let new = (target - s.n_ice).max(0.0);
+    if new <= 0.0 {
+        return 0.0;
+    }
+    // Never take the vapour below ice saturation.
+    let mass = (new * p.nucleated_mass).min((s.q[0] - qsi).max(0.0));
+    if mass <= 0.0 {
+        return 0.0;
+    }
+    s.n_ice += mass / p.nucleated_mass;
+    s.q[0] -= mass;
+    s.q[3] += mass;
+    s.t += L_SUBLIMATION * mass / CP_DRY;
+    mass
+}

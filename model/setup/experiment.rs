@@ -1,0 +1,225 @@
+//! The resolved run description: checks the relations between keys, builds the
+//! grid, the base state and the time schedule, and inlines sounding files. No
+//! physics runs before this has succeeded.
+
+use crate::error::{ConfigError, ConfigIssue};
+use crate::grid::Grid;
+use crate::physics::atmosphere::analytic::AnalyticProfile;
+use crate::physics::atmosphere::{BaseSource, BaseState};
+use crate::physics::breakdown::Criteria;
+use crate::physics::charging::prescribed::PrescribedCharge;
+use crate::physics::charging::ChargingParams;
+use crate::physics::discharge::DischargeParams;
+use crate::physics::electrostatics::FieldSolver;
+use crate::physics::kinematics::updraft::Updraft;
+use crate::physics::microphysics::params::MicroParams;
+use crate::physics::microphysics::prescribed::PrescribedHydrometeors;
+use crate::physics::microphysics::rates::CellEnv;
+use crate::physics::microphysics::Mode;
+use crate::setup::config::{schema, Config, ProfileKind};
+use crate::setup::{resolve, sounding_input};
+use std::path::Path;
+
+/// Step counts derived from the time section.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Schedule {
+    /// Time step (s).
+    pub dt: f64,
+    /// Number of steps.
+    pub steps: u64,
+    /// Steps between output records.
+    pub output_every: u64,
+}
+
+impl Schedule {
+    /// Model time (s) after `step` steps; a product, not a running sum, so
+    /// output times carry no accumulated rounding.
+    pub fn time(&self, step: u64) -> f64 {
+        step as f64 * self.dt
+    }
+}
+
+/// Everything a run needs, validated.
+#[derive(Debug, Clone)]
+pub struct Experiment {
+    /// The resolved configuration, stored in every output file.
+    pub config: Config,
+    pub grid: Grid,
+    pub base: BaseState,
+    pub schedule: Schedule,
+    /// Prescribed charge layers on the grid.
+    pub prescribed: PrescribedCharge,
+    /// Poisson solver with its precomputed parts.
+    pub field_solver: FieldSolver,
+    /// Breakdown threshold profiles and the trigger.
+    pub criteria_thresholds: Criteria,
+    /// Discharge parameters on the grid.
+    pub discharge_params: DischargeParams,
+    /// The prescribed updraft.
+    pub updraft: Updraft,
+    /// The microphysics that runs.
+    pub microphysics: Mode,
+    /// The imposed hydrometeor layers (empty unless the mode is prescribed).
+    pub prescribed_hydrometeors: PrescribedHydrometeors,
+    /// Bulk microphysics parameters: size distributions and fall laws (used
+    /// for fall speeds in every mode) and the process coefficients.
+    micro: MicroParams,
+    /// Charging scheme and parameters.
+    pub charging_params: ChargingParams,
+    /// Per cell: base-state pressure and density with the factors of the
+    /// microphysics that depend only on them (the base state is fixed).
+    pub cell_env: Vec<CellEnv>,
+    /// The updraft's vertical shape factor on the faces (fixed in time).
+    pub updraft_shape: Vec<f64>,
+}
+
+impl Experiment {
+    /// Bulk microphysics parameters, including the size distributions and
+    /// fall laws of the precipitating species.
+    pub fn micro_params(&self) -> &MicroParams {
+        &self.micro
+    }
+}
+
+/// `a / b` as a whole number when it is one to within 1e-9 relative.
+fn whole_ratio(a: f64, b: f64) -> Option<u64> {
+    let r = a / b;
+    let n = r.round();
+    ((r - n).abs() <= 1e-9 * n.max(1.0) && n >= 1.0).then_some(n as u64)
+}
+
+fn issue_for(path: &str, value: f64, message: String) -> ConfigIssue {
+    let spec = schema::find(path);
+    ConfigIssue::new(path, message)
+        .value(format!("{value}"))
+        .unit(spec.map_or("", |s| s.unit))
+}
+
+impl Experiment {
+    /// Resolves `config`; `base_dir` is where relative paths (sounding files) are looked up.
+    pub fn new(mut config: Config, base_dir: &Path, origin: &str) -> Result<Self, ConfigError> {
+        let err = |issue: ConfigIssue| ConfigError::single(origin, issue);
+
+        // Grid.
+        let g = &config.grid;
+        let n = whole_ratio(g.top, g.spacing).ok_or_else(|| {
+            err(issue_for(
+                "grid.top",
+                g.top,
+                format!("must be a whole number of grid.spacing ({} m)", g.spacing),
+            ))
+        })?;
+        if !(3..=100_000).contains(&n) {
+            return Err(err(issue_for(
+                "grid.spacing",
+                g.spacing,
+                format!("gives {n} cells; between 3 and 100000 are allowed"),
+            )));
+        }
+        let grid = Grid::uniform(n as usize, g.spacing);
+
+        // Time.
+        let t = &config.time;
+        let steps = whole_ratio(t.duration, t.step).ok_or_else(|| {
+            err(issue_for(
+                "time.duration",
+                t.duration,
+                format!("must be a whole number of time.step ({} s)", t.step),
+            ))
+        })?;
+        if t.output_interval > t.duration {
+            return Err(err(issue_for(
+                "time.output_interval",
+                t.output_interval,
+                format!("exceeds time.duration ({} s)", t.duration),
+            )));
+        }
+        let output_every = whole_ratio(t.output_interval, t.step).ok_or_else(|| {
+            err(issue_for(
+                "time.output_interval",
+                t.output_interval,
+                format!("must be a whole number of time.step ({} s)", t.step),
+            ))
+        })?;
+        let schedule = Schedule {
+            dt: t.step,
+            steps,
+            output_every,
+        };
+
+        // Base state.
+        let source = match config.atmosphere.profile {
+            ProfileKind::Standard1976 => BaseSource::Standard1976,
+            ProfileKind::Analytic => {
+                let a = &config.atmosphere.analytic;
+                BaseSource::Analytic(AnalyticProfile {
+                    surface_temperature: a.surface_temperature,
+                    surface_pressure: a.surface_pressure,
+                    surface_rh: a.surface_relative_humidity / 100.0,
+                    tropopause_rh: a.tropopause_relative_humidity / 100.0,
+                    lapse_rate: a.lapse_rate * 1e-3,
+                    tropopause_height: a.tropopause_height,
+                    stratosphere_lapse_rate: a.stratosphere_lapse_rate * 1e-3,
+                })
+            }
+            ProfileKind::Sounding => {
+                sounding_input::resolve(&mut config, base_dir, grid.top(), origin)?
+            }
+        };
+        let base = BaseState::build(&grid, &source).map_err(|why| {
+            let key = match config.atmosphere.profile {
+                ProfileKind::Standard1976 => "grid.top",
+                ProfileKind::Analytic => "atmosphere.analytic",
+                ProfileKind::Sounding => "atmosphere.sounding.rows",
+            };
+            err(ConfigIssue::new(key, why))
+        })?;
+        let prescribed =
+            resolve::prescribed_charge(&config.prescribed_charge.layers, &grid).map_err(err)?;
+        let field_solver = resolve::field_solver(&grid, &config.electrostatics);
+        let criteria_thresholds = resolve::criteria(&config.breakdown, &base.face.density);
+        let discharge_params =
+            resolve::discharge(&config.discharge, &criteria_thresholds, &base.face.density);
+        let updraft = resolve::updraft(&config.updraft).map_err(err)?;
+        let microphysics = config.microphysics.scheme;
+        let prescribed_hydrometeors = if microphysics == Mode::Prescribed {
+            resolve::prescribed_hydrometeors(&config.hydrometeors.layers).map_err(err)?
+        } else {
+            PrescribedHydrometeors::default()
+        };
+        let micro = resolve::micro_params(&config.microphysics);
+        let charging_params = resolve::charging(&config.charging).map_err(err)?;
+        let cell_env = (0..grid.len())
+            .map(|k| CellEnv::new(base.centre.pressure[k], base.centre.density[k], &micro))
+            .collect();
+        let updraft_shape = updraft.shape_factors(&grid.z_face);
+        Ok(Experiment {
+            config,
+            grid,
+            base,
+            schedule,
+            prescribed,
+            field_solver,
+            criteria_thresholds,
+            discharge_params,
+            updraft,
+            microphysics,
+            prescribed_hydrometeors,
+            micro,
+            charging_params,
+            cell_env,
+            updraft_shape,
+        })
+    }
+
+    /// Parses, overrides and resolves in one call.
+    pub fn from_text(
+        text: &str,
+        origin: &str,
+        overrides: &[String],
+        base_dir: &Path,
+    ) -> Result<Self, ConfigError> {
+        let config = crate::setup::config::parse_with_overrides(text, origin, overrides)?;
+        Experiment::new(config, base_dir, origin)
+    }
+}

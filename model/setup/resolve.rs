@@ -1,0 +1,338 @@
+//! Resolution of the configuration sections into the parameter structs of
+//! the physics cores, with the checks between keys that the key table cannot
+//! express. This is the one place where configuration types are turned into
+//! physics types; errors name the key.
+
+use crate::error::ConfigIssue;
+use crate::grid::Grid;
+use crate::physics::breakdown::avalanche::AvalancheParams;
+use crate::physics::breakdown::thresholds::{relative_density, ThresholdParams};
+use crate::physics::breakdown::Criteria;
+use crate::physics::charging::prescribed::{ChargeLayer, PrescribedCharge};
+use crate::physics::charging::ChargingParams;
+use crate::physics::discharge::{trigger_threshold, DischargeParams, Neutralization};
+use crate::physics::electrostatics::{column, planar, FieldSolver};
+use crate::physics::kinematics::updraft::{Envelope, Shape, Updraft};
+use crate::physics::microphysics::dsd;
+use crate::physics::microphysics::params::MicroParams;
+use crate::physics::microphysics::prescribed::{HydroLayer, PrescribedHydrometeors};
+use crate::physics::microphysics::species::Species;
+use crate::physics::profile::{self, Table, TableError};
+use crate::setup::config::{
+    BreakdownConfig, ChargingConfig, DischargeConfig, ElectrostaticsConfig, EnvelopeConfig,
+    EnvelopeKind, Geometry, HydroLayerConfig, HydroName, LayerConfig, LayerShape,
+    MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig,
+    UpdraftShape,
+};
+
+/// One nanocoulomb (C): charge-density keys are given in nC m-3.
+const NANO: f64 = 1e-9;
+
+/// A checked table from the rows of configuration key `key`; `what` names
+/// the two columns with their units for the error message.
+pub fn table(key: &str, rows: Option<&Vec<Vec<f64>>>, what: &str) -> Result<Table, ConfigIssue> {
+    let allowed = format!("at least 2 rows [{what}], finite, first column strictly increasing");
+    let rows = rows.ok_or_else(|| {
+        ConfigIssue::new(key, "this table is required here").allowed(allowed.clone())
+    })?;
+    Table::new(rows).map_err(|e| {
+        let issue = ConfigIssue::new(key, e.to_string()).allowed(allowed);
+        match e {
+            TableError::NotTwoFinite { values, .. } => issue.value(format!("{values:?}")),
+            _ => issue,
+        }
+    })
+}
+
+fn envelope(prefix: &str, c: &EnvelopeConfig) -> Result<Envelope, ConfigIssue> {
+    Ok(match c.envelope {
+        EnvelopeKind::Constant => Envelope::Constant,
+        EnvelopeKind::Pulse => Envelope::Pulse {
+            start: c.start,
+            growth: c.growth,
+            mature: c.mature,
+            decay: c.decay,
+        },
+        EnvelopeKind::Table => Envelope::Table(table(
+            &format!("{prefix}.envelope_points"),
+            c.envelope_points.as_ref(),
+            "time (s), factor",
+        )?),
+    })
+}
+
+/// The updraft of the configuration.
+pub fn updraft(c: &UpdraftConfig) -> Result<Updraft, ConfigIssue> {
+    let shape = match c.shape {
+        UpdraftShape::Sine => {
+            if c.top <= c.bottom {
+                return Err(ConfigIssue::new(
+                    "updraft.top",
+                    format!("must lie above updraft.bottom ({} m)", c.bottom),
+                )
+                .value(format!("{}", c.top))
+                .unit("m"));
+            }
+            Shape::Sine {
+                bottom: c.bottom,
+                top: c.top,
+            }
+        }
+        UpdraftShape::Table => Shape::Table(table(
+            "updraft.profile_points",
+            c.profile_points.as_ref(),
+            "height (m), factor",
+        )?),
+    };
+    Ok(Updraft {
+        shape,
+        envelope: envelope("updraft", &c.timing)?,
+        peak: c.peak_speed,
+        background: c.background,
+    })
+}
+
+/// Bulk-scheme parameters (also used for fall speeds in every mode).
+pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
+    MicroParams {
+        rain: dsd::rain(c.rain_intercept),
+        snow: dsd::snow(c.snow_intercept, c.snow_density),
+        graupel: dsd::graupel(c.graupel_intercept, c.graupel_density),
+        autoconversion_rate: c.autoconversion_rate,
+        autoconversion_threshold: c.autoconversion_threshold,
+        nucleation: c.ice_nucleation,
+        max_nuclei: c.max_ice_nuclei,
+        nuclei_scale: c.ice_nuclei_scale,
+        rime_splintering: c.rime_splintering,
+        integrator: c.integrator,
+        rtol: c.relative_tolerance,
+        atol: c.absolute_tolerance,
+        ..MicroParams::default()
+    }
+}
+
+/// The vertical shape of an imposed layer (`key` names the layer block).
+fn layer_shape(
+    key: &str,
+    shape: LayerShape,
+    center: Option<f64>,
+    thickness: Option<f64>,
+    points: Option<&Vec<Vec<f64>>>,
+) -> Result<profile::LayerShape, ConfigIssue> {
+    let need = |what: &str, v: Option<f64>| {
+        v.ok_or_else(|| {
+            ConfigIssue::new(
+                format!("{key}.{what}"),
+                format!("a {} layer needs `{what}`", shape.name()),
+            )
+        })
+    };
+    match shape {
+        LayerShape::TopHat | LayerShape::Gaussian => {
+            let center = need("center", center)?;
+            let thickness = need("thickness", thickness)?;
+            if points.is_some() {
+                return Err(ConfigIssue::new(
+                    format!("{key}.points"),
+                    "`points` belongs to shape = \"table\" only",
+                ));
+            }
+            Ok(if shape == LayerShape::TopHat {
+                profile::LayerShape::TopHat { center, thickness }
+            } else {
+                profile::LayerShape::Gaussian { center, thickness }
+            })
+        }
+        LayerShape::Table => {
+            if center.is_some() || thickness.is_some() {
+                return Err(ConfigIssue::new(
+                    key,
+                    "a table layer takes its shape from `points`; remove `center` and `thickness`",
+                ));
+            }
+            Ok(profile::LayerShape::Table(table(
+                &format!("{key}.points"),
+                points,
+                "height (m), factor (1)",
+            )?))
+        }
+    }
+}
+
+fn hydro_layer(i: usize, l: &HydroLayerConfig) -> Result<HydroLayer, ConfigIssue> {
+    let key = format!("hydrometeors.layers[{}]", i + 1);
+    let species = match l.species.ok_or_else(|| {
+        ConfigIssue::new(format!("{key}.species"), "every layer names its species")
+    })? {
+        HydroName::Cloud => Species::Cloud,
+        HydroName::Rain => Species::Rain,
+        HydroName::Ice => Species::Ice,
+        HydroName::Snow => Species::Snow,
+        HydroName::Graupel => Species::Graupel,
+    };
+    let mixing_ratio = l.mixing_ratio.ok_or_else(|| {
+        ConfigIssue::new(
+            format!("{key}.mixing_ratio"),
+            "every layer needs its peak mixing ratio",
+        )
+        .unit("kg kg-1")
+    })?;
+    if species == Species::Ice && mixing_ratio > 0.0 && l.number <= 0.0 {
+        return Err(ConfigIssue::new(
+            format!("{key}.number"),
+            "a cloud-ice layer needs a crystal number",
+        )
+        .unit("kg-1"));
+    }
+    Ok(HydroLayer {
+        species,
+        shape: layer_shape(&key, l.shape, l.center, l.thickness, l.points.as_ref())?,
+        envelope: envelope(&key, &l.timing)?,
+        mixing_ratio,
+        number: l.number,
+    })
+}
+
+/// The imposed hydrometeor layers of `microphysics.scheme = "prescribed"`.
+pub fn prescribed_hydrometeors(
+    layers: &[HydroLayerConfig],
+) -> Result<PrescribedHydrometeors, ConfigIssue> {
+    if layers.is_empty() {
+        return Err(ConfigIssue::new(
+            "hydrometeors.layers",
+            "microphysics.scheme = \"prescribed\" needs at least one [[hydrometeors.layers]] block",
+        ));
+    }
+    let layers = layers
+        .iter()
+        .enumerate()
+        .map(|(i, l)| hydro_layer(i, l))
+        .collect::<Result<_, _>>()?;
+    Ok(PrescribedHydrometeors { layers })
+}
+
+/// The prescribed charge layers on the grid.
+pub fn prescribed_charge(
+    layers: &[LayerConfig],
+    grid: &Grid,
+) -> Result<PrescribedCharge, ConfigIssue> {
+    let key = |i: usize| format!("prescribed_charge.layers[{}]", i + 1);
+    let layers = layers
+        .iter()
+        .enumerate()
+        .map(|(i, l)| {
+            Ok(ChargeLayer {
+                shape: layer_shape(&key(i), l.shape, l.center, l.thickness, l.points.as_ref())?,
+                density: l.density * NANO,
+                growth_rate: l.growth_rate * NANO,
+            })
+        })
+        .collect::<Result<Vec<_>, ConfigIssue>>()?;
+    PrescribedCharge::new(&layers, grid).map_err(|i| {
+        ConfigIssue::new(
+            key(i),
+            format!("the layer lies outside the grid (0 to {} m)", grid.top()),
+        )
+    })
+}
+
+/// The charging parameters of the configuration.
+pub fn charging(c: &ChargingConfig) -> Result<ChargingParams, ConfigIssue> {
+    if c.taper_end >= c.taper_start {
+        return Err(ConfigIssue::new(
+            "charging.taper_end",
+            format!(
+                "must be colder than charging.taper_start ({} degC)",
+                c.taper_start
+            ),
+        )
+        .value(format!("{}", c.taper_end))
+        .unit("degC"));
+    }
+    Ok(ChargingParams {
+        scheme: c.scheme,
+        scale: c.scale,
+        cap: c.max_charge_per_collision * 1e-15,
+        taper_start: c.taper_start,
+        taper_end: c.taper_end,
+        inductive: c.inductive,
+        cos_theta: c.inductive_cos_theta,
+        rebound_probability: c.inductive_rebound_probability,
+        droplet_diameter: c.inductive_droplet_diameter,
+    })
+}
+
+/// The field solver of the configuration, with its precomputed parts.
+pub fn field_solver(grid: &Grid, c: &ElectrostaticsConfig) -> FieldSolver {
+    match c.geometry {
+        Geometry::Planar => FieldSolver::Planar(planar::PlanarSolver::new(
+            grid,
+            match c.top_boundary {
+                TopBoundary::FieldFree => planar::Top::FieldFree,
+                TopBoundary::Conductor => planar::Top::Conductor(c.top_potential),
+            },
+        )),
+        Geometry::Column => FieldSolver::Column(column::ColumnSolver::new(grid, c.column_radius)),
+    }
+}
+
+/// The threshold profiles of every criterion on the faces.
+pub fn criteria(b: &BreakdownConfig, face_density: &[f64]) -> Criteria {
+    let params = ThresholdParams {
+        conventional: b.conventional_field,
+        enhancement: b.hydrometeor_enhancement,
+        positive_streamer: b.positive_streamer_field,
+        negative_streamer: b.negative_streamer_field,
+        runaway: b.runaway_field,
+        breakeven_coefficient: b.breakeven_coefficient,
+        avalanche: AvalancheParams {
+            energy_scale: b.avalanche_energy_scale,
+            friction_field: b.avalanche_friction_field,
+        },
+    };
+    Criteria::new(
+        &params,
+        face_density,
+        b.avalanche_required_efolds,
+        b.trigger,
+    )
+}
+
+/// Discharge parameters on the grid's faces.
+pub fn discharge(
+    c: &DischargeConfig,
+    criteria: &Criteria,
+    face_density: &[f64],
+) -> DischargeParams {
+    let thr = &criteria.thresholds[trigger_threshold(criteria.trigger)];
+    let propagation = match c.propagation {
+        PropagationMode::FractionOfTrigger => {
+            thr.iter().map(|t| c.propagation_fraction * t).collect()
+        }
+        PropagationMode::Absolute => face_density
+            .iter()
+            .map(|&rho| {
+                let delta = if c.propagation_density_scaled {
+                    relative_density(rho)
+                } else {
+                    1.0
+                };
+                c.propagation_field * delta
+            })
+            .collect(),
+    };
+    DischargeParams {
+        enabled: c.enabled,
+        max_per_step: c.max_flashes_per_step,
+        min_interval: c.min_interval,
+        require_hydrometeor_breakdown: c.require_hydrometeor_breakdown,
+        propagation,
+        min_charge_density: c.min_charge_density * NANO,
+        follow_charge: c.follow_charge,
+        neutralization: match c.neutralization {
+            NeutralizationMode::Fraction => Neutralization::Fraction(c.neutralization_fraction),
+            NeutralizationMode::TargetField => Neutralization::TargetField(c.target_fraction),
+        },
+        ground_height: c.ground_connection_height,
+    }
+}
