@@ -6,18 +6,22 @@
 //! lightning-safety or forecasting tool.
 //!
 //! ## One step, in order (operator splitting)
-//! 1. [`kinematics::apply_forcing`]: the prescribed updraft w(z, t);
-//! 2. [`kinematics::transport`]: advection by w, then sedimentation (charge rides along);
-//! 3. [`microphysics::step`]: mass conversions, charge moved in proportion to mass;
-//! 4. [`charging::step`]: non-inductive and inductive charge separation;
-//! 5. [`electrostatics::solve`]: potential and field;
-//! 6. [`breakdown::evaluate`]: breakdown and inception criteria;
-//! 7. [`discharge::step`]: flashes while the trigger holds;
+//! 1. [`column::transport::apply_forcing`]: the prescribed updraft w(z, t);
+//! 2. [`column::transport::transport`]: advection by w, then sedimentation (charge rides along);
+//! 3. [`column::microphysics::step`]: mass conversions, charge moved in proportion to mass;
+//! 4. [`column::charging::step`]: non-inductive and inductive charge separation;
+//! 5. [`column::electrostatics::solve`]: potential and field;
+//! 6. [`column::breakdown::evaluate`]: breakdown and inception criteria;
+//! 7. [`column::discharge::step`]: flashes while the trigger holds;
 //! 8. output through [`output::Observer`]s at the output interval.
 //!
-//! See [`timeloop::step`], which reads like this list. Around the model:
-//! [`analysis`] (charge regions and structure classes), [`sweep`] (parameter
-//! sweeps), [`plot`] (pictures), [`mod@bench`] (throughput figures).
+//! See [`column::step::step`], which reads like this list. Each of those is
+//! an adapter that applies a pure process core of [`physics`] over the
+//! column; [`setup`] turns a configuration file into the
+//! [`setup::experiment::Experiment`] that holds the cores' parameters.
+//! Around the model: [`timeloop`] (a whole run), [`analysis`] (charge
+//! regions and structure classes), [`sweep`] (parameter sweeps), [`plot`]
+//! (pictures), [`mod@bench`] (throughput figures).
 //!
 //! ## Conventions
 //! - SI units everywhere inside; conversion only at input (configuration) and output.

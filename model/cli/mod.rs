@@ -138,6 +138,9 @@ pub enum Command {
         /// Print the key reference as Markdown (for docs/configuration.md) instead.
         #[arg(long, conflicts_with = "force")]
         reference: bool,
+        /// Print the output-variable reference as Markdown (for docs/output.md) instead.
+        #[arg(long, conflicts_with_all = ["force", "reference"])]
+        output_reference: bool,
     },
 }
 
@@ -203,6 +206,13 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             reference: true, ..
         } => {
             print!("{}", template::reference_markdown());
+            Ok(())
+        }
+        Command::Init {
+            output_reference: true,
+            ..
+        } => {
+            print!("{}", crate::output::reference_markdown());
             Ok(())
         }
         Command::Init { path, force, .. } => cmd_init(&path, force),

@@ -7,6 +7,7 @@ use crate::column::transport;
 use crate::physics::breakdown::{Criterion, CriterionStatus};
 use crate::physics::carriers::Carrier;
 use crate::physics::discharge::FlashLedger;
+use crate::physics::microphysics::species::Species;
 use crate::physics::microphysics::Mode;
 use crate::setup::experiment::Experiment;
 
@@ -106,7 +107,7 @@ impl State {
             potential_temperature: exp.base.centre.potential_temperature.clone(),
             q: {
                 let mut q: [Vec<f64>; 6] = std::array::from_fn(|_| vec![0.0; n]);
-                q[0].copy_from_slice(&exp.base.centre.vapour);
+                q[Species::Vapour.index()].copy_from_slice(&exp.base.centre.vapour);
                 q
             },
             n_ice: vec![0.0; n],

@@ -94,7 +94,7 @@ impl OutputVar {
         self
     }
 
-    /// Whether the variable has a time dimension.
+    /// Whether the variable has no time dimension (written once).
     pub fn is_static(&self) -> bool {
         self.placement == Placement::StaticFace
     }
@@ -211,7 +211,10 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                     let t = s.potential_temperature[k] * exner(p);
                     let (qsw, qsi) = crate::physics::microphysics::rates::saturation_ratios(t, p);
                     // Ratio of vapour pressures e/e_s from the mixing ratios.
-                    let e = crate::physics::microphysics::rates::vapour_pressure(s.q[0][k], p);
+                    let e = crate::physics::microphysics::rates::vapour_pressure(
+                        s.q[Species::Vapour.index()][k],
+                        p,
+                    );
                     let es = |qs: f64| qs * p / (crate::physics::constants::EPSILON + qs);
                     *x = e / es(if ice { qsi } else { qsw });
                 }
@@ -592,4 +595,74 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         });
     }
     v
+}
+
+/// The output reference of docs/output.md, generated from [`variables`] and
+/// [`flash_variables`] of the embedded demo (finite column); variables that
+/// only the finite-column geometry writes are marked. A test keeps the page
+/// current.
+pub fn reference_markdown() -> String {
+    use crate::setup::config::DEMO_TOML;
+    let column = Experiment::from_text(DEMO_TOML, "demo", &[], std::path::Path::new("."))
+        .expect("the embedded demo resolves");
+    let planar = Experiment::from_text(
+        DEMO_TOML,
+        "demo",
+        &["electrostatics.geometry=\"planar\"".to_string()],
+        std::path::Path::new("."),
+    )
+    .expect("the embedded demo resolves in planar geometry");
+    let planar_names: Vec<String> = variables(&planar).into_iter().map(|v| v.name).collect();
+    let planar_flash: Vec<String> = flash_variables(&planar)
+        .into_iter()
+        .map(|v| v.name)
+        .collect();
+    let cell = |s: &str| s.replace('|', "\\|");
+    let mut out = String::from(
+        "| variable | dimensions | units | standard_name | long_name and comment |\n|---|---|---|---|---|\n",
+    );
+    for v in variables(&column) {
+        let dims = match v.placement {
+            Placement::Centre => "time, z",
+            Placement::Face => "time, z_face",
+            Placement::Series => "time",
+            Placement::StaticFace => "z_face",
+        };
+        let mut text = v.long_name.clone();
+        if !v.comment.is_empty() {
+            text.push_str(". ");
+            text.push_str(v.comment);
+        }
+        if !planar_names.contains(&v.name) {
+            text.push_str(" (finite-column geometry only)");
+        }
+        out.push_str(&format!(
+            "| `{}` | {} | {} | {} | {} |\n",
+            v.name,
+            dims,
+            if v.units.is_empty() { "1" } else { v.units },
+            v.standard_name.unwrap_or(""),
+            cell(&text)
+        ));
+    }
+    out.push_str("\nOn the unlimited `flash` dimension, one record per flash:\n\n");
+    out.push_str("| variable | units | long_name |\n|---|---|---|\n");
+    for v in flash_variables(&column) {
+        let mut text = v.long_name.clone();
+        if let FlashValue::Flag(values, meanings) = v.value {
+            text.push_str(&format!(
+                "; flag_values {values:?}, flag_meanings \"{meanings}\""
+            ));
+        }
+        if !planar_flash.contains(&v.name) {
+            text.push_str(" (finite-column geometry only)");
+        }
+        out.push_str(&format!(
+            "| `{}` | {} | {} |\n",
+            v.name,
+            if v.units.is_empty() { "1" } else { v.units },
+            cell(&text)
+        ));
+    }
+    out
 }

@@ -40,19 +40,16 @@ pub const T_MELT: f64 = 273.15;
 /// Vacuum permittivity eps0 (F m-1). CODATA 2022 recommended value.
 pub const EPSILON_0: f64 = 8.854_187_818_8e-12;
 
-/// Elementary charge e (C), exact by the 2019 SI definition.
-pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
-
 /// Sea-level air density of the U.S. Standard Atmosphere 1976 (kg m-3),
 /// Table I; used for the relative air density delta = rho/rho0 that scales
 /// breakdown thresholds.
 pub const RHO_AIR_SEA_LEVEL: f64 = 1.2250;
 
 /// Latent heat of vaporisation at 0 degC L_v (J kg-1); approximately
-/// constant over the troposphere (check-values.md, [verified approx]).
+/// constant over the troposphere (docs/references.md, verified, approximate).
 pub const L_VAPORISATION: f64 = 2.501e6;
 
-/// Latent heat of fusion at 0 degC L_f (J kg-1) (check-values.md).
+/// Latent heat of fusion at 0 degC L_f (J kg-1) (docs/references.md).
 pub const L_FUSION: f64 = 3.337e5;
 
 /// Latent heat of sublimation at 0 degC L_s = L_v + L_f (J kg-1), 2.834e6.
@@ -61,5 +58,5 @@ pub const L_SUBLIMATION: f64 = L_VAPORISATION + L_FUSION;
 /// Density of liquid water (kg m-3), common practice.
 pub const RHO_WATER: f64 = 1000.0;
 
-/// Density of solid ice (kg m-3), 916.7 at 0 degC (check-values.md, from memory).
+/// Density of solid ice (kg m-3), 916.7 at 0 degC (docs/references.md, from memory).
 pub const RHO_ICE: f64 = 916.7;

@@ -20,9 +20,8 @@ use crate::physics::microphysics::species::Species;
 use crate::physics::profile::{self, Table, TableError};
 use crate::setup::config::{
     BreakdownConfig, ChargingConfig, DischargeConfig, ElectrostaticsConfig, EnvelopeConfig,
-    EnvelopeKind, Geometry, HydroLayerConfig, HydroName, LayerConfig, LayerShape,
-    MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig,
-    UpdraftShape,
+    EnvelopeKind, Geometry, HydroLayerConfig, LayerConfig, LayerShape, MicrophysicsConfig,
+    NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig, UpdraftShape,
 };
 
 /// One nanocoulomb (C): charge-density keys are given in nC m-3.
@@ -161,15 +160,16 @@ fn layer_shape(
 
 fn hydro_layer(i: usize, l: &HydroLayerConfig) -> Result<HydroLayer, ConfigIssue> {
     let key = format!("hydrometeors.layers[{}]", i + 1);
-    let species = match l.species.ok_or_else(|| {
-        ConfigIssue::new(format!("{key}.species"), "every layer names its species")
-    })? {
-        HydroName::Cloud => Species::Cloud,
-        HydroName::Rain => Species::Rain,
-        HydroName::Ice => Species::Ice,
-        HydroName::Snow => Species::Snow,
-        HydroName::Graupel => Species::Graupel,
-    };
+    let species = l
+        .species
+        .filter(|&sp| sp != Species::Vapour)
+        .ok_or_else(|| {
+            ConfigIssue::new(
+                format!("{key}.species"),
+                "every layer names its hydrometeor",
+            )
+            .allowed(format!("{:?}", Species::HYDROMETEOR_NAMES))
+        })?;
     let mixing_ratio = l.mixing_ratio.ok_or_else(|| {
         ConfigIssue::new(
             format!("{key}.mixing_ratio"),

@@ -4,9 +4,7 @@
 
 use crate::error::{ConfigError, ConfigIssue};
 use crate::physics::atmosphere::saturation::{LIQUID_T_MAX, LIQUID_T_MIN};
-use crate::physics::atmosphere::sounding::{
-    Humidity, Sounding, Vertical, HUMIDITY_COLUMNS, TEMPERATURE_COLUMN, VERTICAL_COLUMNS,
-};
+use crate::physics::atmosphere::sounding::{Humidity, Sounding, Vertical, TEMPERATURE_COLUMN};
 use crate::physics::atmosphere::BaseSource;
 use crate::physics::constants::T_MELT;
 use crate::setup::config::{schema, Config};
@@ -25,10 +23,12 @@ pub fn sounding_from_table(
 ) -> Result<Sounding, Vec<ConfigIssue>> {
     let col_err = |msg: String| {
         vec![ConfigIssue::new(key.replace("rows", "columns"), msg)
-                .value(format!("{columns:?}"))
-                .allowed(format!(
-                    "three names: one of {VERTICAL_COLUMNS:?}, then \"{TEMPERATURE_COLUMN}\", then one of {HUMIDITY_COLUMNS:?}"
-                ))]
+            .value(format!("{columns:?}"))
+            .allowed(format!(
+                "three names: one of {:?}, then \"{TEMPERATURE_COLUMN}\", then one of {:?}",
+                Vertical::NAMES,
+                Humidity::NAMES
+            ))]
     };
     if columns.len() != 3 {
         return Err(col_err(format!(
@@ -36,10 +36,11 @@ pub fn sounding_from_table(
             columns.len()
         )));
     }
-    let vertical = match columns[0].as_str() {
-        "height" => Vertical::Height,
-        "pressure" => Vertical::Pressure,
-        other => return Err(col_err(format!("unknown vertical column \"{other}\""))),
+    let Some(&vertical) = Vertical::ALL.iter().find(|v| v.name() == columns[0]) else {
+        return Err(col_err(format!(
+            "unknown vertical column \"{}\"",
+            columns[0]
+        )));
     };
     if columns[1] != TEMPERATURE_COLUMN {
         return Err(col_err(format!(
@@ -47,10 +48,11 @@ pub fn sounding_from_table(
             columns[1]
         )));
     }
-    let humidity_kind = match columns[2].as_str() {
-        "dew_point" => Humidity::DewPoint,
-        "relative_humidity" => Humidity::RelativeHumidity,
-        other => return Err(col_err(format!("unknown humidity column \"{other}\""))),
+    let Some(&humidity_kind) = Humidity::ALL.iter().find(|h| h.name() == columns[2]) else {
+        return Err(col_err(format!(
+            "unknown humidity column \"{}\"",
+            columns[2]
+        )));
     };
 
     let mut issues = Vec::new();

@@ -3,9 +3,11 @@
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
+use stormcharge::column::state::State;
 use stormcharge::output::memory::MemoryRecorder;
 use stormcharge::output::summary::RunSummary;
 use stormcharge::output::Observer;
+use stormcharge::physics::discharge::record::FlashRecord;
 use stormcharge::setup::experiment::Experiment;
 use stormcharge::timeloop;
 
@@ -49,12 +51,12 @@ pub fn experiment(text: &str, overrides: &[&str]) -> Experiment {
     Experiment::from_text(text, "test", &o, Path::new(".")).unwrap()
 }
 
-/// An experiment from a file in configs/.
+/// An experiment from a file in configs/ (relative paths inside it, such as
+/// sounding files, are looked up in configs/).
 pub fn config_file(name: &str, overrides: &[&str]) -> Experiment {
-    experiment(
-        &std::fs::read_to_string(repo(&format!("configs/{name}"))).unwrap(),
-        overrides,
-    )
+    let o: Vec<String> = overrides.iter().map(|s| s.to_string()).collect();
+    let text = std::fs::read_to_string(repo(&format!("configs/{name}"))).unwrap();
+    Experiment::from_text(&text, name, &o, &repo("configs")).unwrap()
 }
 
 /// Runs an experiment into memory.
@@ -98,3 +100,113 @@ macro_rules! still_column {
         )
     };
 }
+
+/// The shipped demo (configs/demo.toml, also embedded in the binary) with
+/// `section.key=value` overrides.
+pub fn demo(overrides: &[&str]) -> Experiment {
+    experiment(stormcharge::setup::config::DEMO_TOML, overrides)
+}
+
+pub const PRESCRIBED: &str = r#"
+[grid]
+top = 12000.0
+spacing = 200.0
+[time]
+step = 5.0
+duration = 600.0
+output_interval = 100.0
+[atmosphere]
+profile = "standard_1976"
+[updraft]
+peak_speed = 5.0
+[microphysics]
+scheme = "prescribed"
+[[hydrometeors.layers]]
+species = "graupel"
+center = 6000.0
+thickness = 1500.0
+mixing_ratio = 2.0e-3
+envelope = "pulse"
+start = 0.0
+growth = 200.0
+mature = 200.0
+decay = 200.0
+[[hydrometeors.layers]]
+species = "ice"
+shape = "table"
+points = [[5000.0, 0.0], [8000.0, 1.0], [10000.0, 0.0]]
+mixing_ratio = 1.0e-4
+number = 1.0e5
+[discharge]
+enabled = false
+"#;
+
+/// The flash-sequence demo: a growing prescribed tripole (configs/tripole_flashes.toml).
+pub fn flash_config() -> String {
+    std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap()
+}
+
+/// Steps until the first flash; returns the state just before and just after it.
+pub fn first_flash(exp: &Experiment) -> (State, State, FlashRecord) {
+    let mut s = State::initial(exp);
+    for _ in 0..exp.schedule.steps {
+        let before = s.clone();
+        stormcharge::column::step::step(exp, &mut s, exp.schedule.dt).unwrap();
+        if let Some(f) = s.ledger.flashes.first() {
+            return (before, s.clone(), *f);
+        }
+    }
+    panic!("no flash in {} steps", exp.schedule.steps);
+}
+
+pub const DIPOLE: &str = crate::still_column!(
+    r#"
+[grid]
+top = 15000.0
+spacing = 100.0
+[time]
+step = 2.0
+duration = 3000.0
+output_interval = 100.0
+[electrostatics]
+geometry = "column"
+column_radius = 3000.0
+[[prescribed_charge.layers]]
+center = 9000.0
+thickness = 1000.0
+density = 0.5
+growth_rate = 0.002
+[[prescribed_charge.layers]]
+center = 6000.0
+thickness = 1000.0
+density = -0.5
+growth_rate = -0.002
+"#
+);
+
+pub const LOW_NEGATIVE: &str = crate::still_column!(
+    r#"
+[grid]
+top = 12000.0
+spacing = 100.0
+[time]
+step = 2.0
+duration = 1200.0
+output_interval = 60.0
+[electrostatics]
+geometry = "column"
+column_radius = 2000.0
+[[prescribed_charge.layers]]
+center = 2500.0
+thickness = 600.0
+density = -2.0
+growth_rate = -0.01
+[[prescribed_charge.layers]]
+center = 7000.0
+thickness = 1000.0
+density = 0.3
+growth_rate = 0.001
+"#
+);
+
+pub const NC: f64 = 1e-9;

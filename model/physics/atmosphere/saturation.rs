@@ -10,8 +10,6 @@
 pub const LIQUID_T_MIN: f64 = 123.0;
 /// Upper validity limit of the liquid formula, Murphy & Koop (2005) Eq. (10) (K).
 pub const LIQUID_T_MAX: f64 = 332.0;
-/// Lower validity limit of the ice formula, Murphy & Koop (2005) Eq. (7) (K).
-pub const ICE_T_MIN: f64 = 110.0;
 
 /// Saturation vapour pressure over plane liquid water e_w (Pa) at temperature
 /// `t` (K). Murphy & Koop (2005), Eq. (10).

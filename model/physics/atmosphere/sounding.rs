@@ -17,22 +17,22 @@ use super::saturation::{mixing_ratio, murphy_koop_2005_liquid, virtual_temperatu
 use crate::physics::constants::{G0, R_DRY, T_MELT};
 
 /// Recognised column names, in the order vertical, temperature, humidity.
-pub const VERTICAL_COLUMNS: [&str; 2] = ["height", "pressure"];
 pub const TEMPERATURE_COLUMN: &str = "temperature";
-pub const HUMIDITY_COLUMNS: [&str; 2] = ["dew_point", "relative_humidity"];
 
-/// The vertical coordinate of a sounding table.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Vertical {
-    Height,
-    Pressure,
+named_choice! {
+    /// The vertical coordinate of a sounding table (its first column's name).
+    pub enum Vertical {
+        Height = "height",
+        Pressure = "pressure",
+    }
 }
 
-/// The humidity column of a sounding table.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub enum Humidity {
-    DewPoint,
-    RelativeHumidity,
+named_choice! {
+    /// The humidity column of a sounding table (its third column's name).
+    pub enum Humidity {
+        DewPoint = "dew_point",
+        RelativeHumidity = "relative_humidity",
+    }
 }
 
 /// A validated sounding on heights (m), with temperature (K) and a humidity

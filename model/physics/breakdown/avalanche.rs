@@ -4,7 +4,7 @@
 //! electron avalanches, GRL 33, L11810: the avalanche e-folding length
 //! lambda = 7.3 MeV / (e E - 0.276 MeV/m * delta), valid for roughly
 //! 0.3-3 MV/m at sea-level density (coefficients from memory, as collected in
-//! ../shared/design/physics.md). With E in V m-1 the energy gain e E in eV
+//! docs/references.md). With E in V m-1 the energy gain e E in eV
 //! m-1 equals E numerically, so lambda (m) = scale / (|E| - friction * delta)
 //! with scale = 7.3e6 V and friction = 2.76e5 V m-1.
 //! The number of e-foldings over a stretch is the integral of dz/lambda.

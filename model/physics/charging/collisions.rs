@@ -10,7 +10,7 @@
 //!   a constant |dV|).
 //!
 //! Multiplied by the separation efficiency 1 - E_coll, the fraction of
-//! collisions that rebound (physics.md section 3).
+//! collisions that rebound (docs/references.md, "Non-inductive charging").
 
 use std::f64::consts::PI;
 

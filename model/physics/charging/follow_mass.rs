@@ -1,4 +1,4 @@
-//! Charge follows mass (physics.md section 5; common practice in published
+//! Charge follows mass (docs/references.md, "Charge follows mass"; common practice in published
 //! bulk models): a conversion of mass from species x to species y moves the
 //! same fraction of x's charge to y. Over a step the fraction is the mass
 //! transferred divided by the mass that passed through x (what x held at the

@@ -1,6 +1,6 @@
 //! Gardiner, Lamb, Pitter, Hallett & Saunders (1985), JGR 90, 6079: charge
 //! gained by graupel per rebounding ice-crystal collision (recalled, as
-//! collected in physics.md section 3; the sign root was checked there):
+//! collected in docs/references.md, "Non-inductive charging"; the sign root was checked there):
 //!
 //!   dq = 7.3 d^4 dV^3 dL f(tau)   (C),
 //!   f(tau) = -1.7e-5 tau^3 - 0.003 tau^2 - 0.05 tau + 0.13,
@@ -11,7 +11,7 @@
 //! temperature and T_r the reversal temperature (degC). f changes sign at
 //! tau = -21.27, i.e. within 1.3 % of T_r; graupel charges positively warmer
 //! than T_r and negatively colder, both reversed below LWC = 0.1 g m-3.
-//! Worked example (physics.md): d = 100 um, dV = 3, dL = 1, tau = -10:
+//! Worked example (docs/references.md): d = 100 um, dV = 3, dL = 1, tau = -10:
 //! 6.8 fC. Clamps (laboratory ranges, from memory): T from -30 to 0 degC,
 //! d 10 um to 1 mm, dV 1 to 10 m s-1, LWC up to 5 g m-3.
 

@@ -1,6 +1,7 @@
 //! Inductive charging of a collector (graupel or rain) by cloud droplets
-//! that touch and rebound from it in the vertical field (physics.md section
-//! 4; form recalled from Sartor 1967 and Ziegler et al. 1991, derived there):
+//! that touch and rebound from it in the vertical field (docs/references.md,
+//! "Inductive charging"; form recalled from Sartor 1967 and Ziegler et al.
+//! 1991, derived there):
 //!
 //! `dq = (pi^3/2) eps0 D_c^2 E_z <cos theta> - (pi^2/6) (D_c/D)^2 Q` (C per rebound),
 //!

@@ -19,6 +19,7 @@ use crate::physics::carriers::Carrier;
 use crate::physics::constants::{RHO_WATER, T_MELT};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::params::MicroParams;
+use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW};
 
 named_scheme! {
     #[tag = "scheme"]
@@ -132,7 +133,7 @@ pub fn charge_cell(
     let [cr, cs, cg] = c.corrections;
     let t = c.t;
     let q = |i: usize| c.q[i].max(0.0);
-    let (qc, qr, qi, qs, qg) = (q(1), q(2), q(3), q(4), q(5));
+    let (qc, qr, qi, qs, qg) = (q(CLOUD), q(RAIN), q(ICE), q(SNOW), q(GRAUPEL));
     // Every mechanism below needs a collector (graupel, snow or rain);
     // without one the cell's rates are zero and nothing else is computed.
     if qg == 0.0 && qs == 0.0 && qr == 0.0 {
@@ -226,12 +227,12 @@ pub fn celsius(theta: f64, exner: f64) -> f64 {
 }
 
 /// Surface tension of water used for the Rayleigh limit (N m-1): 0.0728,
-/// as in the check value of check-values.md (IAPWS gives 0.07565 at 0 degC
+/// as in docs/references.md (IAPWS gives 0.07565 at 0 degC
 /// and 0.07274 at 20 degC).
 pub const SURFACE_TENSION: f64 = 0.0728;
 
 /// Rayleigh charge limit of a drop of radius `r` (m): Q = 8 pi sqrt(eps0 gamma r^3)
-/// (Rayleigh 1882; 6.38e-10 C for r = 1 mm, check-values.md).
+/// (Rayleigh 1882; 6.38e-10 C for r = 1 mm, docs/references.md).
 pub fn rayleigh_limit(r: f64) -> f64 {
     8.0 * std::f64::consts::PI
         * (crate::physics::constants::EPSILON_0 * SURFACE_TENSION * r.powi(3)).sqrt()

@@ -3,7 +3,7 @@
 //! RAR = EW V (g m-2 s-1; EW effective liquid water content, g m-3; V the
 //! graupel speed, m s-1) against a critical rate RAR_c(T) (their abstract:
 //! negative graupel charging at low RAR as warm as -2 degC). Coefficients as
-//! collected in physics.md section 3 (recalled; values checked there):
+//! collected in docs/references.md, "Non-inductive charging" (recalled; values checked there):
 //!
 //!   RAR_c(T) = 1 + 7.9262e-2 T + 4.4847e-2 T^2 + 7.4754e-3 T^3
 //!              + 5.4686e-4 T^4 + 1.6737e-5 T^5 + 1.7613e-7 T^6,  -23.7 <= T <= 0

@@ -2,7 +2,7 @@
 //! impact speed: dq = B d^a V^b q(...) after Saunders, Keith & Mitzeva (1991),
 //! JGR 96, 11007, with the coefficient table used by Saunders & Peck (1998)
 //! (from memory; the table's continuity at its size breakpoints was
-//! checked, see physics.md section 3). d is the crystal diameter (m), V the
+//! checked, see docs/references.md, "Non-inductive charging"). d is the crystal diameter (m), V the
 //! impact speed (m s-1); the factor is dimensionless and multiplies the
 //! charge q in fC given by the scheme.
 

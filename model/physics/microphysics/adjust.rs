@@ -6,6 +6,7 @@ use super::params::MicroParams;
 use super::rates::{saturation_ratios, CellState};
 use crate::physics::atmosphere::saturation::liquid_pressure_and_slope;
 use crate::physics::constants::{CP_DRY, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
+use crate::physics::microphysics::species::{CLOUD, ICE, VAPOUR};
 
 /// Temperature of homogeneous freezing of cloud droplets (K): -40 degC
 /// (common practice; e.g. Pruppacher & Klett 1997, ch. 7).
@@ -23,7 +24,7 @@ const L_OVER_CP: f64 = L_VAPORISATION / CP_DRY;
 /// cloud water present. Conserves q_v + q_c and the liquid-water static
 /// energy c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
 pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
-    let (qv0, qc0, t0) = (s.q[0], s.q[1], s.t);
+    let (qv0, qc0, t0) = (s.q[VAPOUR], s.q[CLOUD], s.t);
     // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
     // (zero where e is capped at p/2, as in `saturation_ratios`).
     let f = |c: f64| {
@@ -55,8 +56,8 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     }
     // Cannot evaporate more cloud than exists.
     let c = c.max(-qc0);
-    s.q[0] = qv0 - c;
-    s.q[1] = qc0 + c;
+    s.q[VAPOUR] = qv0 - c;
+    s.q[CLOUD] = qc0 + c;
     s.t = t0 + L_OVER_CP * c;
     c
 }
@@ -66,19 +67,19 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
 /// LFO83 treat cloud-ice melting the same way). Frozen droplets become
 /// crystals of `droplet_mass`; melted ice becomes cloud water.
 pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
-    if s.t < T_HOMOGENEOUS && s.q[1] > 0.0 {
-        let qc = s.q[1];
-        s.q[1] = 0.0;
-        s.q[3] += qc;
+    if s.t < T_HOMOGENEOUS && s.q[CLOUD] > 0.0 {
+        let qc = s.q[CLOUD];
+        s.q[CLOUD] = 0.0;
+        s.q[ICE] += qc;
         s.n_ice += qc / p.droplet_mass;
         s.t += L_FUSION * qc / CP_DRY;
-    } else if s.t > T_MELT && s.q[3] > 0.0 {
+    } else if s.t > T_MELT && s.q[ICE] > 0.0 {
         // Melt only as much as the heat above 0 degC allows.
-        let melt = s.q[3].min(CP_DRY * (s.t - T_MELT) / L_FUSION);
-        let frac = melt / s.q[3];
-        s.q[3] -= melt;
+        let melt = s.q[ICE].min(CP_DRY * (s.t - T_MELT) / L_FUSION);
+        let frac = melt / s.q[ICE];
+        s.q[ICE] -= melt;
         s.n_ice *= 1.0 - frac;
-        s.q[1] += melt;
+        s.q[CLOUD] += melt;
         s.t -= L_FUSION * melt / CP_DRY;
     }
 }
@@ -93,20 +94,20 @@ pub fn nucleate(s: &mut CellState, p_air: f64, rho: f64, p: &MicroParams) -> f64
         return 0.0;
     }
     let (_, qsi) = saturation_ratios(s.t, p_air);
-    let si = s.q[0] / qsi;
+    let si = s.q[VAPOUR] / qsi;
     let target = p.nuclei(s.t, si) / rho;
     let new = (target - s.n_ice).max(0.0);
     if new <= 0.0 {
         return 0.0;
     }
     // Never take the vapour below ice saturation.
-    let mass = (new * p.nucleated_mass).min((s.q[0] - qsi).max(0.0));
+    let mass = (new * p.nucleated_mass).min((s.q[VAPOUR] - qsi).max(0.0));
     if mass <= 0.0 {
         return 0.0;
     }
     s.n_ice += mass / p.nucleated_mass;
-    s.q[0] -= mass;
-    s.q[3] += mass;
+    s.q[VAPOUR] -= mass;
+    s.q[ICE] += mass;
     s.t += L_SUBLIMATION * mass / CP_DRY;
     mass
 }

@@ -24,6 +24,7 @@ pub mod prescribed;
 pub mod rates;
 pub mod species;
 
+use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 use ode_solvers::{Dopri5, OutputType, SVector, System};
 use params::{Integrator, MicroParams};
 use rates::{CellEnv, CellState};
@@ -44,7 +45,7 @@ named_choice! {
 /// then the time integrals of the N_TRANSFERS mass transfers as extra
 /// variables (that crate has no quadrature outside the error control).
 const NV: usize = 8 + rates::N_TRANSFERS;
-type ReferenceState = SVector<f64, NV>;
+type ReferenceVector = SVector<f64, NV>;
 
 /// The cell's process ODE in the form ode_solvers integrates.
 struct CellOde<'a> {
@@ -52,8 +53,8 @@ struct CellOde<'a> {
     params: &'a MicroParams,
 }
 
-impl System<f64, ReferenceState> for CellOde<'_> {
-    fn system(&self, _t: f64, y: &ReferenceState, dy: &mut ReferenceState) {
+impl System<f64, ReferenceVector> for CellOde<'_> {
+    fn system(&self, _t: f64, y: &ReferenceVector, dy: &mut ReferenceVector) {
         let mut state = [0.0; 8];
         state.copy_from_slice(&y.as_slice()[..8]);
         let (mut d, mut w) = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
@@ -152,7 +153,7 @@ fn integrate_cell(
         Integrator::OdeSolversDopri5 => {
             let mut init = [0.0; NV];
             init[..8].copy_from_slice(&y0);
-            let start = ReferenceState::from_column_slice(&init);
+            let start = ReferenceVector::from_column_slice(&init);
             // Sparse output (every accepted step, the last at t = dt): the
             // dense output of ode_solvers 0.6 with an output increment equal
             // to the whole interval returns an extrapolated, wrong end value
@@ -196,13 +197,13 @@ pub fn step_cell(
     report: &mut CellReport,
 ) -> Result<(), String> {
     *report = CellReport::default();
-    let (qc0, qi0) = (s.q[1], s.q[3]);
+    let (qc0, qi0) = (s.q[CLOUD], s.q[ICE]);
     adjust::freeze_or_melt(s, p);
-    if s.q[1] < qc0 {
-        report.frozen = qc0 - s.q[1];
+    if s.q[CLOUD] < qc0 {
+        report.frozen = qc0 - s.q[CLOUD];
     }
-    if s.q[3] < qi0 {
-        report.melted = qi0 - s.q[3];
+    if s.q[ICE] < qi0 {
+        report.melted = qi0 - s.q[ICE];
         report.ice_before_melt = qi0;
     }
     adjust::nucleate(s, env.p, env.rho, p);
@@ -214,13 +215,22 @@ pub fn step_cell(
     // Without precipitation or ice, cloud water below the autoconversion
     // threshold is the only condensate and every rate is zero (each other
     // process needs rain, ice, snow or graupel), so the evaluation is skipped
-    // (tests/microphysics.rs, light_cloud_alone_has_no_process_rates, guards
+    // (tests/analytic_microphysics.rs, light_cloud_alone_has_no_process_rates, guards
     // this against a process added later).
-    let has_condensate = s.q[1..].iter().any(|&x| x > TINY);
+    let has_condensate = s.q[CLOUD..].iter().any(|&x| x > TINY);
     let only_light_cloud =
-        s.q[2..].iter().all(|&x| x <= 0.0) && s.q[1] <= p.autoconversion_threshold;
+        s.q[RAIN..].iter().all(|&x| x <= 0.0) && s.q[CLOUD] <= p.autoconversion_threshold;
     if has_condensate && !only_light_cloud {
-        let y0 = [s.q[0], s.q[1], s.q[2], s.q[3], s.q[4], s.q[5], s.n_ice, s.t];
+        let y0 = [
+            s.q[VAPOUR],
+            s.q[CLOUD],
+            s.q[RAIN],
+            s.q[ICE],
+            s.q[SNOW],
+            s.q[GRAUPEL],
+            s.n_ice,
+            s.t,
+        ];
         let mut first = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
         evaluate(&y0, env, p, &mut first.0, &mut first.1);
         if first.1.iter().any(|&w| w != 0.0) {
@@ -235,19 +245,19 @@ pub fn step_cell(
     let mut created = 0.0;
     for i in 1..6 {
         if s.q[i] < 0.0 {
-            s.q[0] += s.q[i];
+            s.q[VAPOUR] += s.q[i];
             s.q[i] = 0.0;
         }
     }
-    if s.q[0] < 0.0 {
-        created = -s.q[0];
-        s.q[0] = 0.0;
+    if s.q[VAPOUR] < 0.0 {
+        created = -s.q[VAPOUR];
+        s.q[VAPOUR] = 0.0;
     }
-    if s.q[3] <= 0.0 || s.n_ice < 0.0 {
+    if s.q[ICE] <= 0.0 || s.n_ice < 0.0 {
         s.n_ice = 0.0;
     }
     report.created = created;
-    report.cloud_before_adjust = s.q[1];
+    report.cloud_before_adjust = s.q[CLOUD];
     report.condensed = adjust::saturation_adjustment(s, env.p);
     // A temperature outside the validity of the saturation formulas means the
     // integration has gone wrong; stop with a clear error rather than go on.

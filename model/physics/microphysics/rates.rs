@@ -17,6 +17,7 @@ use crate::physics::atmosphere::saturation::saturation_pressures;
 use crate::physics::constants::{
     EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_WATER, R_VAPOUR, T_MELT,
 };
+use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 
 /// Thermal conductivity of air K_a (J m-1 s-1 K-1), LFO83.
 pub const K_AIR: f64 = 2.43e-2;
@@ -186,7 +187,7 @@ fn slope_sum(ls: f64, lg: f64) -> f64 {
 pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let mut r = Rates::default();
     let q = |i: usize| s.q[i].max(0.0);
-    let (qv, qc, qr, qi, qs, qg) = (q(0), q(1), q(2), q(3), q(4), q(5));
+    let (qv, qc, qr, qi, qs, qg) = (q(VAPOUR), q(CLOUD), q(RAIN), q(ICE), q(SNOW), q(GRAUPEL));
     let t = s.t;
     let rho = env.rho;
     let cold = t < T_MELT;
@@ -401,7 +402,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         - r.graupel_to_rain;
     // Crystals are lost in proportion to the mass lost by conversion,
     // collection and sublimation; splinters add crystals.
-    let qi = s.q[3];
+    let qi = s.q[ICE];
     let mut dn = r.splinter_number;
     if qi > 0.0 {
         let lost = r.ice_to_snow
@@ -447,7 +448,7 @@ impl Rates {
         let dep = self.vapour_to_ice.max(0.0)
             + self.vapour_to_snow.max(0.0)
             + self.vapour_to_graupel.max(0.0);
-        let f = scale(dep, q[0]);
+        let f = scale(dep, q[VAPOUR]);
         for r in [
             &mut self.vapour_to_ice,
             &mut self.vapour_to_snow,
@@ -464,7 +465,7 @@ impl Rates {
             + self.cloud_to_graupel
             + self.cloud_to_rain_shedding
             + self.cloud_to_ice_splinters;
-        let f = scale(sinks, q[1]);
+        let f = scale(sinks, q[CLOUD]);
         if f < 1.0 {
             self.cloud_to_rain_autoconversion *= f;
             self.cloud_to_rain_accretion *= f;
@@ -475,7 +476,7 @@ impl Rates {
             self.splinter_number *= f;
         }
         // Rain.
-        let f = scale(self.rain_to_vapour + self.rain_to_graupel, q[2]);
+        let f = scale(self.rain_to_vapour + self.rain_to_graupel, q[RAIN]);
         self.rain_to_vapour *= f;
         self.rain_to_graupel *= f;
         // Ice (sublimation is the negative part of vapour_to_ice).
@@ -483,7 +484,7 @@ impl Rates {
             + self.ice_to_snow_collection
             + self.ice_to_graupel
             + (-self.vapour_to_ice).max(0.0);
-        let f = scale(sinks, q[3]);
+        let f = scale(sinks, q[ICE]);
         if f < 1.0 {
             self.ice_to_snow *= f;
             self.ice_to_snow_collection *= f;
@@ -497,7 +498,7 @@ impl Rates {
             + self.snow_to_graupel_collection
             + self.snow_to_rain
             + (-self.vapour_to_snow).max(0.0);
-        let f = scale(sinks, q[4]);
+        let f = scale(sinks, q[SNOW]);
         if f < 1.0 {
             self.snow_to_graupel *= f;
             self.snow_to_graupel_collection *= f;
@@ -509,7 +510,7 @@ impl Rates {
         // Graupel.
         let f = scale(
             self.graupel_to_rain + (-self.vapour_to_graupel).max(0.0),
-            q[5],
+            q[GRAUPEL],
         );
         self.graupel_to_rain *= f;
         if self.vapour_to_graupel < 0.0 {

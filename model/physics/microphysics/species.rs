@@ -1,25 +1,31 @@
 //! Water species and their order in the state.
 
-/// Vapour and the five hydrometeor classes of the bulk scheme.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Species {
-    Vapour,
-    Cloud,
-    Rain,
-    Ice,
-    Snow,
-    Graupel,
+named_choice! {
+    /// Vapour and the five hydrometeor classes of the bulk scheme, in state
+    /// order. The name is used in output variables (`q_<name>`) and in
+    /// `hydrometeors.layers.species`.
+    pub enum Species {
+        Vapour = "vapour",
+        Cloud = "cloud",
+        Rain = "rain",
+        Ice = "ice",
+        Snow = "snow",
+        Graupel = "graupel",
+    }
 }
 
+/// Positions in mixing-ratio arrays ordered like [`Species::ALL`], for the
+/// cell-level code that holds them as `[f64; 6]`.
+pub const VAPOUR: usize = Species::Vapour as usize;
+pub const CLOUD: usize = Species::Cloud as usize;
+pub const RAIN: usize = Species::Rain as usize;
+pub const ICE: usize = Species::Ice as usize;
+pub const SNOW: usize = Species::Snow as usize;
+pub const GRAUPEL: usize = Species::Graupel as usize;
+
 impl Species {
-    pub const ALL: [Species; 6] = [
-        Species::Vapour,
-        Species::Cloud,
-        Species::Rain,
-        Species::Ice,
-        Species::Snow,
-        Species::Graupel,
-    ];
+    /// The names of the hydrometeors (everything but vapour).
+    pub const HYDROMETEOR_NAMES: &'static [&'static str] = Species::NAMES.split_at(1).1;
     /// The hydrometeors (everything but vapour).
     pub const HYDROMETEORS: [Species; 5] = [
         Species::Cloud,
@@ -31,22 +37,6 @@ impl Species {
     /// The species that fall.
     pub const FALLING: [Species; 4] =
         [Species::Rain, Species::Ice, Species::Snow, Species::Graupel];
-
-    pub fn index(self) -> usize {
-        self as usize
-    }
-
-    /// Short name used in output variables (`q_<name>`).
-    pub fn name(self) -> &'static str {
-        match self {
-            Species::Vapour => "vapour",
-            Species::Cloud => "cloud",
-            Species::Rain => "rain",
-            Species::Ice => "ice",
-            Species::Snow => "snow",
-            Species::Graupel => "graupel",
-        }
-    }
 
     /// Long name for output metadata.
     pub fn long_name(self) -> &'static str {

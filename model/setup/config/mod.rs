@@ -169,21 +169,11 @@ pub struct MicrophysicsConfig {
     pub absolute_tolerance: f64,
 }
 
-named_choice! {
-    pub enum HydroName {
-        Cloud = "cloud",
-        Rain = "rain",
-        Ice = "ice",
-        Snow = "snow",
-        Graupel = "graupel",
-    }
-}
-
 /// One imposed hydrometeor layer (m, kg kg-1, kg-1, s).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct HydroLayerConfig {
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub species: Option<HydroName>,
+    pub species: Option<crate::physics::microphysics::species::Species>,
     pub shape: LayerShape,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub center: Option<f64>,

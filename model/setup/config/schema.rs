@@ -495,7 +495,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(0.0, true, 1.0e4, false),
         unit: "fC",
         default: Some("100.0"),
-        doc: "Cap on |charge| per collision; laboratory values lie within about 0.1-100 fC (physics.md).",
+        doc: "Cap on |charge| per collision; laboratory values lie within about 0.1-100 fC (docs/references.md).",
     },
     KeySpec {
         path: "charging.taper_start",
@@ -820,7 +820,7 @@ pub const LAYER_KEYS: &[KeySpec] = &[
 pub const HYDRO_LAYER_KEYS: &[KeySpec] = &[
     KeySpec {
         path: "hydrometeors.layers.species",
-        kind: Kind::Choice(super::HydroName::NAMES),
+        kind: Kind::Choice(crate::physics::microphysics::species::Species::HYDROMETEOR_NAMES),
         unit: "",
         default: None,
         doc: "Which species this layer imposes (required).",

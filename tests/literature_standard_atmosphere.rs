@@ -9,7 +9,7 @@ use stormcharge::physics::atmosphere::{BaseSource, BaseState};
 
 /// Geometric height (km), T (K), p (Pa), rho (kg m-3). Source: U.S. Standard
 /// Atmosphere 1976 (NOAA/NASA/USAF), values as listed in
-/// ../shared/design/check-values.md ("U.S. Standard Atmosphere 1976").
+/// docs/references.md ("U.S. Standard Atmosphere 1976").
 const TABLE: [(f64, f64, f64, f64); 9] = [
     (0.0, 288.150, 101325.0, 1.22500),
     (1.0, 281.651, 89876.3, 1.11166),

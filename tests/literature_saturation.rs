@@ -8,7 +8,7 @@ use stormcharge::physics::atmosphere::saturation::{
 };
 
 /// Values at t (degC): (t, e_w Pa, e_i Pa or NaN). Source: Murphy & Koop 2005,
-/// QJRMS 131, Eqs. (7) and (10), as tabulated in ../shared/design/check-values.md
+/// QJRMS 131, Eqs. (7) and (10), as tabulated in docs/references.md
 /// ("Saturation vapour pressure").
 const TABLE: [(f64, f64, f64); 8] = [
     (30.0, 4246.81, f64::NAN),
@@ -72,7 +72,7 @@ fn ice_below_liquid_below_freezing() {
 fn bolton_1980_agreement() {
     // Bolton (1980, MWR 108) e = 611.2 exp(17.67 t/(t + 243.5)) Pa, accurate to
     // 0.1 % for -30..35 degC; it and Murphy & Koop differ by at most 0.25 %
-    // (check-values.md), so agreement within 0.3 % is an independent check.
+    // (docs/references.md), so agreement within 0.3 % is an independent check.
     for t in [-30.0, -15.0, 0.0, 15.0, 35.0_f64] {
         let bolton = 611.2 * (17.67 * t / (t + 243.5)).exp();
         assert!(

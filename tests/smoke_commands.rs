@@ -4,6 +4,8 @@
 
 mod common;
 use common::*;
+use stormcharge::physics::breakdown::Criterion;
+use stormcharge::physics::charging::saunders_peck_1998 as sp98;
 
 use std::path::Path;
 use stormcharge::output::netcdf_writer::{partial_path, CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE};
@@ -167,6 +169,41 @@ fn configuration_reference_is_current() {
 }
 
 #[test]
+fn output_reference_is_current() {
+    // docs/output.md carries the table generated from the output registry
+    // between markers; `stormcharge init --output-reference` prints it
+    // (DEVELOPERS.md, "Adding an output variable").
+    let doc = std::fs::read_to_string(repo("docs/output.md")).unwrap();
+    let start =
+        doc.find("<!-- outputs:start -->").expect("start marker") + "<!-- outputs:start -->".len();
+    let end = doc.find("<!-- outputs:end -->").expect("end marker");
+    let generated = stormcharge::output::reference_markdown();
+    assert_eq!(doc[start..end].trim(), generated.trim());
+    // Every variable the demo writes is on the page (a blank line inside a
+    // Markdown table would end it and hide the rest).
+    let table: Vec<&str> = doc[start..end]
+        .trim()
+        .lines()
+        .take_while(|l| l.starts_with('|'))
+        .collect();
+    let exp = stormcharge::setup::experiment::Experiment::from_text(
+        stormcharge::setup::config::DEMO_TOML,
+        "demo",
+        &[],
+        std::path::Path::new("."),
+    )
+    .unwrap();
+    for v in stormcharge::output::variables(&exp) {
+        let row = format!("| `{}` |", v.name);
+        assert!(
+            table.iter().any(|l| l.starts_with(&row)),
+            "{} missing",
+            v.name
+        );
+    }
+}
+
+#[test]
 fn every_shipped_config_resolves() {
     for entry in std::fs::read_dir(repo("configs")).unwrap() {
         let path = entry.unwrap().path();
@@ -314,4 +351,75 @@ fn closed_output_pipe_is_not_a_panic() {
     let err = String::from_utf8_lossy(&o.stderr);
     assert_eq!(o.status.code(), Some(141), "stderr: {err}");
     assert!(!err.contains("panicked"), "{err}");
+}
+
+#[test]
+fn charging_map_command() {
+    let dir = std::env::temp_dir().join(format!("stormcharge-map-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let csv = dir.join("map.csv");
+    succeed(
+        bin()
+            .args(["charging-map", "--scheme", "saunders_peck_1998", "--csv"])
+            .arg(&csv),
+    );
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let lines: Vec<&str> = text.lines().collect();
+    assert_eq!(lines[0], "temperature_degC,liquid_water_g_m3,charge_fC");
+    assert_eq!(lines.len(), 1 + 16 * 8);
+    // Values are the scheme's own: -5 degC, 0.1 g m-3 (RAR 0.3): negative.
+    let row = lines.iter().find(|l| l.starts_with("-5,0.1,")).unwrap();
+    let q: f64 = row.rsplit(',').next().unwrap().parse().unwrap();
+    assert!((q - sp98::charge_per_collision(-5.0, 0.3, 100e-6, 3.0) * 1e15).abs() < 1e-9);
+    let o = bin()
+        .args(["charging-map", "--scheme", "takahashi"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+}
+
+#[test]
+fn criteria_and_geometries_reach_the_output_file() {
+    let dir = std::env::temp_dir().join(format!("stormcharge-criteria-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let config = repo("configs/teaching_tripole.toml");
+    for geometry in ["column", "planar"] {
+        let out = dir.join(format!("{geometry}.nc"));
+        succeed(
+            bin()
+                .args(["run", "--quiet"])
+                .arg(&config)
+                .arg("-o")
+                .arg(&out)
+                .args(["--set", &format!("electrostatics.geometry={geometry}")]),
+        );
+        let f = netcdf::open(&out).unwrap();
+        let dims = |name: &str| -> Vec<String> {
+            let v = f
+                .variable(name)
+                .unwrap_or_else(|| panic!("{geometry}: {name} missing"));
+            v.dimensions().iter().map(|d| d.name()).collect()
+        };
+        assert_eq!(dims("electric_field"), ["time", "z_face"]);
+        assert_eq!(dims("electric_potential"), ["time", "z"]);
+        assert_eq!(dims("charge_density"), ["time", "z"]);
+        assert_eq!(dims("charge_density_prescribed"), ["time", "z"]);
+        assert_eq!(dims("column_charge"), ["time"]);
+        assert_eq!(dims("field_energy"), ["time"]);
+        for c in Criterion::ALL {
+            assert_eq!(dims(&format!("threshold_{}", c.name())), ["z_face"]);
+            assert_eq!(dims(&format!("field_ratio_{}", c.name())), ["time"]);
+            assert_eq!(dims(&format!("field_ratio_height_{}", c.name())), ["time"]);
+        }
+        assert_eq!(
+            f.variable("column_total_charge").is_some(),
+            geometry == "column"
+        );
+        let e: Vec<f64> = f
+            .variable("electric_field")
+            .unwrap()
+            .get_values(..)
+            .unwrap();
+        assert!(e.iter().all(|x| x.is_finite()) && e.iter().any(|x| x.abs() > 1e3));
+    }
 }

@@ -1,18 +1,15 @@
-//! Electrostatics against analytic solutions (Gauss's law, the disk and
-//! cylinder formulas, the method of images) and the balloon-sounding
-//! inversion rho = eps0 dE/dz.
+//! Poisson solvers against analytic fields: slabs between conductors, a
+//! uniform charge, Gauss's law, the charged disk, the finite column's
+//! planar limit and the image of a compact charge.
 
 mod common;
 use common::*;
 
-use std::path::Path;
 use stormcharge::grid::Grid;
 use stormcharge::physics::constants::EPSILON_0;
 use stormcharge::physics::electrostatics::column::{cylinder_axial_field, ColumnSolver};
 use stormcharge::physics::electrostatics::planar::{PlanarSolver, Top};
 use stormcharge::physics::electrostatics::{column_charge, field_energy};
-
-const NC: f64 = 1e-9;
 
 fn slab(grid: &Grid, lo: f64, hi: f64, rho: f64) -> Vec<f64> {
     grid.z
@@ -31,7 +28,7 @@ fn solve_planar(grid: &Grid, top: Top, rho: &[f64]) -> (Vec<f64>, Vec<f64>) {
 
 #[test]
 fn uniform_slab_between_grounded_conductors() {
-    // Gauss's law for an isolated uniform slab (check-values.md, "Electrostatic
+    // Gauss's law for an isolated uniform slab (docs/references.md, "Electrostatic
     // oracles"): E = +-rho d/(2 eps0) outside = 56,470.45 V/m for 1 nC m-3 and
     // 1 km; rho z/eps0 inside, 28,235.23 V/m at a quarter thickness from the
     // centre. A slab centred between two grounded plates has exactly these
@@ -69,7 +66,7 @@ fn uniform_charge_between_conductors_is_exact() {
     // phi = rho z (L - z)/(2 eps0) solves d2phi/dz2 = -rho/eps0 with phi = 0 at
     // both ends. The solver is exact for cell-uniform charge (and the
     // three-point Laplacian is exact for quadratics), so the match is to
-    // round-off (check-values.md).
+    // round-off (docs/references.md).
     let l = 1000.0;
     let exact = |z: f64| NC * z * (l - z) / (2.0 * EPSILON_0);
     // The oracle's own values: 14.1176 MV at L/2 and 10.5882 MV at 250 m.
@@ -127,7 +124,7 @@ fn gauss_law_round_trip() {
 
 #[test]
 fn disk_field_on_axis() {
-    // Disk of surface charge s = 1 nC m-2, R = 1 km (check-values.md):
+    // Disk of surface charge s = 1 nC m-2, R = 1 km (docs/references.md):
     // 56.470 V/m just above, 16.5398 V/m at 1 km, 1.09662 V/m at 5 km.
     // A cylinder 1 mm thick with rho = s / 1 mm is the disk to 5e-7.
     let d = 1e-3;
@@ -172,7 +169,7 @@ fn finite_column_tends_to_planar() {
 #[test]
 fn ground_image_of_a_compact_charge() {
     // A point charge Q at height h over a conducting plane makes the ground
-    // field -Q/(2 pi eps0 h^2) (method of images; check-values.md: 7190.04 V/m
+    // field -Q/(2 pi eps0 h^2) (method of images; docs/references.md: 7190.04 V/m
     // for 10 C at 5 km). A 100 m tall, 50 m radius cell holding 10 C departs
     // from a point charge by terms of order (size/h)^2 ~ 4e-4, hence 1e-3.
     let grid = Grid::uniform(100, 100.0);
@@ -194,51 +191,4 @@ fn ground_image_of_a_compact_charge() {
     );
     // The ground is an equipotential at 0 V: potential tends to 0 toward it.
     assert!(phi[0].abs() < 0.05 * phi[49].abs());
-}
-
-#[test]
-fn prescribed_layers_hold_their_charge() {
-    // A top hat holds density x thickness per area wherever its edges fall (by
-    // construction of the cell overlap), and grows at growth_rate x thickness.
-    let text = crate::still_column!(
-        r#"
-[grid]
-top = 10000.0
-spacing = 70.0
-[time]
-step = 10.0
-duration = 100.0
-output_interval = 100.0
-[discharge]
-enabled = false
-[[prescribed_charge.layers]]
-center = 5123.0
-thickness = 777.0
-density = -2.5
-growth_rate = 0.01
-[[prescribed_charge.layers]]
-shape = "gaussian"
-center = 2000.0
-thickness = 500.0
-density = 1.0
-"#
-    );
-    let text = text.replace("top = 10000.0", "top = 9800.0");
-    let exp =
-        stormcharge::setup::experiment::Experiment::from_text(&text, "t", &[], Path::new("."))
-            .unwrap();
-    let mut s = stormcharge::column::state::State::initial(&exp);
-    // Gaussian: Simpson cell averages of a well-resolved Gaussian (s = 200 m
-    // on 70 m cells) integrate to density x thickness within 1e-6.
-    let expect0 = (-2.5 * 777.0 + 500.0) * NC;
-    assert!(
-        rel(s.column_charge, expect0) < 1e-6,
-        "{} vs {expect0}",
-        s.column_charge
-    );
-    for _ in 0..10 {
-        stormcharge::column::step::step(&exp, &mut s, 10.0).unwrap();
-    }
-    let expect = expect0 + 0.01 * 100.0 * 777.0 * NC;
-    assert!(rel(s.column_charge, expect) < 1e-6);
 }

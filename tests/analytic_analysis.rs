@@ -1,0 +1,126 @@
+//! The charge-structure analysis on profiles whose answer is known exactly:
+//! synthetic layers and prescribed top hats.
+
+mod common;
+use common::*;
+
+use stormcharge::analysis::{classify, regions, Structure};
+
+fn synthetic(layers: &[(f64, f64, f64)]) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+    // (centre m, half-width m, nC m-3); temperature falling 6.5 K/km from 30 degC.
+    let z: Vec<f64> = (0..150).map(|k| (k as f64 + 0.5) * 100.0).collect();
+    let rho = z
+        .iter()
+        .map(|&h| {
+            layers
+                .iter()
+                .map(|&(c, w, d)| if (h - c).abs() < w { d * 1e-9 } else { 0.0 })
+                .sum()
+        })
+        .collect();
+    let t = z.iter().map(|&h| 303.15 - 6.5e-3 * h).collect();
+    (z, rho, t)
+}
+
+#[test]
+fn structure_detector_on_synthetic_profiles() {
+    // Textbook structures (Williams 1989, JGR 94): normal tripole, dipole and
+    // an inverted tripole built from layers, classified and located.
+    let (z, rho, t) = synthetic(&[
+        (10_000.0, 1000.0, 1.0),
+        (7000.0, 600.0, -2.0),
+        (4500.0, 300.0, 1.0),
+    ]);
+    let r = regions(&z, 100.0, &rho, &t, 0.1);
+    assert_eq!(classify(&r), Structure::NormalTripole);
+    assert_eq!(r.len(), 3);
+    let main = r.iter().find(|x| x.polarity < 0.0).unwrap();
+    assert!((main.height - 7000.0).abs() < 1.0);
+    assert!((main.temperature - (30.0 - 6.5 * 7.0)).abs() < 0.01);
+    assert!((main.charge - -2.0e-9 * 1200.0).abs() < 1e-15);
+
+    let (z, rho, t) = synthetic(&[(10_000.0, 1000.0, 1.0), (7000.0, 600.0, -2.0)]);
+    assert_eq!(
+        classify(&regions(&z, 100.0, &rho, &t, 0.1)),
+        Structure::NormalDipole
+    );
+    let (z, rho, t) = synthetic(&[
+        (10_000.0, 1000.0, -1.0),
+        (7000.0, 600.0, 2.0),
+        (4500.0, 300.0, -1.0),
+    ]);
+    assert_eq!(
+        classify(&regions(&z, 100.0, &rho, &t, 0.1)),
+        Structure::InvertedTripole
+    );
+    let (z, rho, t) = synthetic(&[(10_000.0, 1000.0, -1.0), (7000.0, 600.0, 1.0)]);
+    assert_eq!(
+        classify(&regions(&z, 100.0, &rho, &t, 0.1)),
+        Structure::InvertedDipole
+    );
+    let (z, rho, t) = synthetic(&[]);
+    assert_eq!(
+        classify(&regions(&z, 100.0, &rho, &t, 0.1)),
+        Structure::Other
+    );
+}
+
+#[test]
+fn analyze_command_finds_prescribed_layers() {
+    // Known top-hat layers in (edges on cell faces), known regions out: the
+    // heights, thicknesses and charges per area and in the column are those of
+    // the layers exactly (charge = density x thickness), and the class is a
+    // normal tripole.
+    let text = crate::still_column!(
+        r#"
+[grid]
+top = 15000.0
+spacing = 100.0
+[time]
+step = 10.0
+duration = 100.0
+output_interval = 100.0
+[discharge]
+enabled = false
+[electrostatics]
+geometry = "column"
+column_radius = 2000.0
+[[prescribed_charge.layers]]
+center = 10000.0
+thickness = 2000.0
+density = 1.0
+[[prescribed_charge.layers]]
+center = 7000.0
+thickness = 1000.0
+density = -3.0
+[[prescribed_charge.layers]]
+center = 4000.0
+thickness = 600.0
+density = 1.5
+"#
+    );
+    let cfg = scratch("layers.toml");
+    std::fs::write(&cfg, text).unwrap();
+    let out = scratch("layers.nc");
+    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    let json = scratch("layers.json");
+    let o = succeed(bin().arg("analyze").arg(&out).arg("--json").arg(&json));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let regions = v["records"][0]["regions"].as_array().unwrap();
+    let area = std::f64::consts::PI * 2000.0 * 2000.0;
+    let expect = [
+        (4000.0, 600.0, 1.5e-9 * 600.0),
+        (7000.0, 1000.0, -3e-9 * 1000.0),
+        (10000.0, 2000.0, 1e-9 * 2000.0),
+    ];
+    assert_eq!(regions.len(), 3);
+    for (r, (h, d, q)) in regions.iter().zip(expect) {
+        assert!((r["height"].as_f64().unwrap() - h).abs() < 1e-9);
+        assert!((r["thickness"].as_f64().unwrap() - d).abs() < 1e-9);
+        assert!((r["charge_per_area"].as_f64().unwrap() - q).abs() < 1e-12 * q.abs());
+        assert!((r["charge"].as_f64().unwrap() - q * area).abs() < 1e-9 * (q * area).abs());
+    }
+    assert_eq!(v["records"][0]["structure"], "normal_tripole");
+}
