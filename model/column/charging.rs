@@ -3,39 +3,8 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
-use crate::physics::charging::{celsius, charge_cell, CellInputs, CellRates, Scheme};
+use crate::physics::charging::{celsius, charge_cell, CellInputs, Scheme};
 use crate::setup::experiment::Experiment;
-
-/// Charging rates of the last step (C m-3 s-1 at centres; positive when the
-/// collector named first gains positive charge).
-#[derive(Debug, Clone, PartialEq)]
-pub struct ChargingRates {
-    pub graupel_ice: Vec<f64>,
-    pub graupel_snow: Vec<f64>,
-    pub snow_ice: Vec<f64>,
-    pub inductive_graupel: Vec<f64>,
-    pub inductive_rain: Vec<f64>,
-}
-
-impl ChargingRates {
-    pub fn new(n: usize) -> Self {
-        ChargingRates {
-            graupel_ice: vec![0.0; n],
-            graupel_snow: vec![0.0; n],
-            snow_ice: vec![0.0; n],
-            inductive_graupel: vec![0.0; n],
-            inductive_rain: vec![0.0; n],
-        }
-    }
-
-    fn set(&mut self, k: usize, r: CellRates) {
-        self.graupel_ice[k] = r.graupel_ice;
-        self.graupel_snow[k] = r.graupel_snow;
-        self.snow_ice[k] = r.snow_ice;
-        self.inductive_graupel[k] = r.inductive_graupel;
-        self.inductive_rain[k] = r.inductive_rain;
-    }
-}
 
 /// Charge sources over one step of `dt` s.
 pub fn step(exp: &Experiment, state: &mut State, dt: f64) {

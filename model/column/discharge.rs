@@ -4,45 +4,13 @@
 //! record the flash. docs/discharge.md describes the rule.
 
 use crate::column::state::State;
+use crate::column::work::FlashScratch;
 use crate::physics::breakdown::Criterion;
 use crate::physics::discharge::channel::{self, Channel, ChannelInputs};
 use crate::physics::discharge::neutralization;
 use crate::physics::discharge::record::{FlashKind, FlashRecord};
 use crate::physics::discharge::{trigger_threshold, Neutralization};
 use crate::setup::experiment::Experiment;
-
-/// Work arrays for flashes, allocated once with the state.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Scratch {
-    /// The neutralisation pattern of the current flash (C m-3).
-    pattern: Vec<f64>,
-    g_phi: Vec<f64>,
-    g_e: Vec<f64>,
-    phi_before: Vec<f64>,
-    rho_before: Vec<f64>,
-}
-
-impl Scratch {
-    fn empty() -> Self {
-        Scratch {
-            pattern: Vec::new(),
-            g_phi: Vec::new(),
-            g_e: Vec::new(),
-            phi_before: Vec::new(),
-            rho_before: Vec::new(),
-        }
-    }
-
-    pub fn new(n: usize) -> Self {
-        Scratch {
-            pattern: vec![0.0; n],
-            g_phi: vec![0.0; n],
-            g_e: vec![0.0; n + 1],
-            phi_before: vec![0.0; n],
-            rho_before: vec![0.0; n],
-        }
-    }
-}
 
 /// Runs flashes while the trigger holds, up to the per-step bound. `time` is
 /// the model time at the end of the current step (s).
@@ -93,7 +61,7 @@ fn max_abs(e: &[f64], faces: std::ops::RangeInclusive<usize>) -> f64 {
 pub fn flash(exp: &Experiment, state: &mut State, start: usize, time: f64) -> Option<FlashRecord> {
     // The work arrays leave the state for the duration (moving Vecs does not
     // allocate) so the state can be re-solved while they are in use.
-    let mut sc = std::mem::replace(&mut state.flash_scratch, Scratch::empty());
+    let mut sc = std::mem::replace(&mut state.flash_scratch, FlashScratch::empty());
     let rec = flash_with(exp, state, &mut sc, start, time);
     state.flash_scratch = sc;
     rec
@@ -102,7 +70,7 @@ pub fn flash(exp: &Experiment, state: &mut State, start: usize, time: f64) -> Op
 fn flash_with(
     exp: &Experiment,
     state: &mut State,
-    sc: &mut Scratch,
+    sc: &mut FlashScratch,
     start: usize,
     time: f64,
 ) -> Option<FlashRecord> {

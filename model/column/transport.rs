@@ -15,26 +15,6 @@ use crate::physics::microphysics::species::Species;
 use crate::physics::microphysics::Mode;
 use crate::setup::experiment::Experiment;
 
-/// Work arrays, allocated once with the state.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Scratch {
-    mass_flux: Vec<f64>,
-    faces: Vec<f64>,
-    field: Vec<f64>,
-    flow: advection::FlowFactors,
-}
-
-impl Scratch {
-    pub fn new(n: usize) -> Self {
-        Scratch {
-            mass_flux: vec![0.0; n + 1],
-            faces: vec![0.0; n + 1],
-            field: vec![0.0; n],
-            flow: advection::FlowFactors::new(n),
-        }
-    }
-}
-
 /// Sets the prescribed updraft on the faces for the state's time.
 pub fn apply_forcing(exp: &Experiment, state: &mut State) {
     exp.updraft

@@ -5,8 +5,9 @@
 
 use crate::error::ConfigIssue;
 use crate::grid::Grid;
+use crate::physics::atmosphere::relative_density;
 use crate::physics::breakdown::avalanche::AvalancheParams;
-use crate::physics::breakdown::thresholds::{relative_density, ThresholdParams};
+use crate::physics::breakdown::thresholds::ThresholdParams;
 use crate::physics::breakdown::Criteria;
 use crate::physics::charging::prescribed::{ChargeLayer, PrescribedCharge};
 use crate::physics::charging::ChargingParams;

@@ -58,6 +58,13 @@ impl Profile {
     }
 }
 
+/// Relative air density delta = rho / rho0 (1), rho0 = 1.2250 kg m-3 of the
+/// U.S. Standard Atmosphere 1976 at sea level: the scaling of breakdown and
+/// inception thresholds with air density.
+pub fn relative_density(rho: f64) -> f64 {
+    rho / crate::physics::constants::RHO_AIR_SEA_LEVEL
+}
+
 /// Exner function (p/p_ref)^(R_d/c_p) (1) at pressure `p` (Pa): T = theta
 /// times it (Poisson's equation for dry adiabatic processes; Wallace & Hobbs
 /// 2006, Eq. 3.54).

@@ -9,7 +9,7 @@
 //! with scale = 7.3e6 V and friction = 2.76e5 V m-1.
 //! The number of e-foldings over a stretch is the integral of dz/lambda.
 
-use super::thresholds::relative_density;
+use crate::physics::atmosphere::relative_density;
 
 /// Parameters of the avalanche length (SI).
 #[derive(Debug, Clone, Copy, PartialEq)]

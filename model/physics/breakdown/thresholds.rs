@@ -8,7 +8,7 @@
 
 use super::avalanche::AvalancheParams;
 use super::Criterion;
-use crate::physics::constants::RHO_AIR_SEA_LEVEL;
+use crate::physics::atmosphere::relative_density;
 
 /// Threshold parameters (SI), with the published defaults.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -54,11 +54,6 @@ impl Default for ThresholdParams {
             avalanche: AvalancheParams::default(),
         }
     }
-}
-
-/// Relative air density delta = rho / rho0 (1).
-pub fn relative_density(rho: f64) -> f64 {
-    rho / RHO_AIR_SEA_LEVEL
 }
 
 impl ThresholdParams {
