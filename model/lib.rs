@@ -19,7 +19,8 @@
 //! an adapter that applies a pure process core of [`physics`] over the
 //! column; [`setup`] turns a configuration file into the
 //! [`setup::experiment::Experiment`] that holds the cores' parameters.
-//! Around the model: [`timeloop`] (a whole run), [`analysis`] (charge
+//! Around the model: [`timeloop`] (a whole run), [`convergence`] (the
+//! same experiment at finer steps and grids), [`analysis`] (charge
 //! regions and structure classes), [`sweep`] (parameter sweeps), [`plot`]
 //! (pictures), [`mod@bench`] (throughput figures).
 //!
@@ -41,6 +42,7 @@ pub mod analysis;
 pub mod bench;
 pub mod cli;
 pub mod column;
+pub mod convergence;
 pub mod error;
 pub mod grid;
 pub mod output;

@@ -29,6 +29,7 @@ pub fn run(
         ground_charge: 0.0,
         flash_bound_hits: (0, None),
         precipitation: 0.0,
+        peak_precip_rate: 0.0,
         substeps: (0, 1),
         max_particle_charge: 0.0,
         rayleigh_exceeded: 0,

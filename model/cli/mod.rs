@@ -65,6 +65,28 @@ pub enum Command {
         #[arg(short, long)]
         quiet: bool,
     },
+    /// Run the experiment at its own time step and grid spacing and at
+    /// successive halvings of each; report the observed orders, the
+    /// Richardson extrapolates and the error of the configured settings.
+    Converge {
+        /// Experiment configuration (the built-in demo when not given).
+        config: Option<PathBuf>,
+        /// Levels per refinement, the configured one included (at least 3).
+        #[arg(long, default_value_t = 3)]
+        levels: usize,
+        /// Override one key, as for `run` (repeatable).
+        #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
+        set: Vec<String>,
+        /// Worker threads (0: all cores).
+        #[arg(long, default_value_t = 0)]
+        threads: usize,
+        /// Also write the report as JSON to this file.
+        #[arg(long)]
+        json: Option<PathBuf>,
+        /// Also write the report as CSV to this file.
+        #[arg(long)]
+        csv: Option<PathBuf>,
+    },
     /// Charge regions, structure class and flash statistics of an output file.
     Analyze {
         output: PathBuf,
@@ -200,6 +222,21 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             crystal_diameter,
             impact_speed,
             reversal_temperature,
+            csv.as_deref(),
+        ),
+        Command::Converge {
+            config,
+            levels,
+            set,
+            threads,
+            json,
+            csv,
+        } => cmd_converge(
+            config.as_deref(),
+            levels,
+            &set,
+            threads,
+            json.as_deref(),
             csv.as_deref(),
         ),
         Command::Init {
@@ -407,6 +444,55 @@ fn cmd_run(
                 );
             }
         }
+    }
+    Ok(())
+}
+
+fn cmd_converge(
+    config: Option<&Path>,
+    levels: usize,
+    set: &[String],
+    threads: usize,
+    json: Option<&Path>,
+    csv: Option<&Path>,
+) -> Result<(), RunError> {
+    if !(3..=6).contains(&levels) {
+        return Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("--levels", "out of range")
+                .value(levels.to_string())
+                .allowed("3 to 6 (three levels give an order; each more doubles the cost)"),
+        )));
+    }
+    let (text, origin, dir) = match config {
+        Some(path) => (
+            read_config(path)?,
+            path.display().to_string(),
+            path.parent().unwrap_or(Path::new(".")).to_path_buf(),
+        ),
+        None => (
+            DEMO_TOML.to_string(),
+            "<embedded demo>".to_string(),
+            PathBuf::from("."),
+        ),
+    };
+    let report = crate::convergence::study(&text, &origin, &dir, set, levels, threads)?;
+    print!("{}", report.text());
+    let write = |path: &Path, body: String| {
+        std::fs::write(path, body).map_err(|source| RunError::Io {
+            context: format!("cannot write {}", path.display()),
+            source,
+        })
+    };
+    if let Some(p) = json {
+        let body = serde_json::to_string_pretty(&report).map_err(|e| RunError::Numerics {
+            time: 0.0,
+            message: format!("cannot encode the report as JSON: {e}"),
+        })?;
+        write(p, body)?;
+    }
+    if let Some(p) = csv {
+        write(p, report.csv())?;
     }
     Ok(())
 }

@@ -31,6 +31,8 @@ pub struct RunSummary {
     pub flash_bound_hits: (u64, Option<f64>),
     /// Surface precipitation accumulated (kg m-2).
     pub precipitation: f64,
+    /// Largest surface precipitation rate of any step (kg m-2 s-1).
+    pub peak_precip_rate: f64,
     /// Steps in which transport sub-stepped, and the most sub-steps used.
     pub substeps: (u64, usize),
     /// Largest mean charge per precipitation particle seen (C, magnitude).
@@ -43,6 +45,7 @@ pub struct RunSummary {
 impl RunSummary {
     /// Takes the peaks of one more state into the summary.
     pub fn watch(&mut self, exp: &Experiment, state: &State) {
+        self.peak_precip_rate = self.peak_precip_rate.max(state.precip_rate);
         for (k, e) in state.field.iter().enumerate() {
             if e.abs() > self.peak_field.0 {
                 self.peak_field = (e.abs(), exp.grid.z_face[k], state.time);

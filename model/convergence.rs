@@ -1,0 +1,556 @@
+//! Convergence of an experiment under refinement: the configuration is run
+//! at its own time step and grid spacing and at successive halvings of each
+//! (the time series at the configured spacing, the space series at the
+//! configured step), side by side on a thread pool. For every key outcome
+//! the report gives the values, the observed order of convergence, the
+//! Richardson-extrapolated value and the relative error of the configured
+//! settings; for the charge-density and field profiles it gives the relative
+//! L1 differences between successive levels and their observed order.
+//!
+//! Method (Richardson 1911; Roache 1998, Verification and Validation in
+//! Computational Science and Engineering, ch. 5, as the grid-convergence
+//! procedure; from memory): with three levels f1, f2, f3 at steps h, h/2,
+//! h/4 and f(h) = f* + C h^p, the observed order is
+//! p = log2((f1 - f2)/(f2 - f3)) and the extrapolate f* = f3 - (f2 - f3)/(2^p - 1).
+//! With more levels the three finest are used. Differences of opposite sign
+//! (no monotone convergence) give no order and no extrapolate: the finest
+//! value stands in and the row says so. Profiles of a finer grid are
+//! compared on the coarser one: cell averages of charge density (two fine
+//! cells per coarse cell), the field on the coinciding faces.
+
+use crate::analysis::{main_region, regions, separation, Region};
+use crate::column::state::State;
+use crate::error::RunError;
+use crate::output::summary::RunSummary;
+use crate::output::Observer;
+use crate::physics::microphysics::species::Species;
+use crate::setup::experiment::Experiment;
+use rayon::prelude::*;
+use std::path::Path;
+
+/// Which resolution a series refines.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Refinement {
+    /// Halvings of `time.step` at the configured spacing.
+    Time,
+    /// Halvings of `grid.spacing` at the configured step.
+    Space,
+}
+
+/// The bottom and top (m) of the layer whose mean warming over the base
+/// state is reported (the issue tracker's bound is on this layer).
+const WARMING_LAYER: (f64, f64) = (5000.0, 10000.0);
+
+/// One run of a series.
+#[derive(Debug, Clone)]
+struct LevelRun {
+    dt: f64,
+    dz: f64,
+    outcomes: Vec<(String, &'static str, f64)>,
+    charge: Vec<Vec<f64>>,
+    field: Vec<Vec<f64>>,
+}
+
+/// One row of a report: an outcome across the levels of a series.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Row {
+    pub name: String,
+    pub unit: String,
+    /// Values from the configured setting to the finest.
+    pub values: Vec<f64>,
+    /// Observed order (NaN when the differences do not shrink monotonically;
+    /// infinite when the finest levels agree exactly).
+    pub order: f64,
+    /// Richardson extrapolate (the finest value when there is no order).
+    pub extrapolated: f64,
+    /// |configured value - extrapolate| / |extrapolate|.
+    pub error_of_configured: f64,
+}
+
+/// One refinement series.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Series {
+    pub refinement: Refinement,
+    /// Time steps (s) and spacings (m) of the levels.
+    pub steps: Vec<f64>,
+    pub spacings: Vec<f64>,
+    pub outcomes: Vec<Row>,
+    /// Relative L1 differences between successive levels of the charge
+    /// density and of the field, their observed order and the estimated
+    /// relative error of the configured level.
+    pub profiles: Vec<ProfileRow>,
+}
+
+/// Relative L1 differences of a profile between successive levels.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ProfileRow {
+    pub name: String,
+    /// d_i = |a_i - a_(i+1)|_1 / |a_(i+1)|_1 over every record, i from the
+    /// configured level.
+    pub differences: Vec<f64>,
+    /// log2 of the ratio of the last two differences.
+    pub order: f64,
+    /// d_0 / (1 - 2^-p): the configured level's error when the differences
+    /// are in the asymptotic range.
+    pub error_of_configured: f64,
+}
+
+/// The whole report.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Report {
+    pub origin: String,
+    pub levels: usize,
+    pub series: Vec<Series>,
+}
+
+/// Collects what the outcomes need while a run goes on.
+#[derive(Default)]
+struct Collector {
+    charge: Vec<Vec<f64>>,
+    field: Vec<Vec<f64>>,
+    best_separation: f64,
+    best_regions: Vec<Region>,
+    max_q: [f64; 6],
+    max_rain_content: f64,
+    max_warming: f64,
+    summary: Option<RunSummary>,
+}
+
+fn temperature(exp: &Experiment, state: &State) -> Vec<f64> {
+    (0..exp.grid.len())
+        .map(|k| {
+            state.potential_temperature[k]
+                * crate::physics::atmosphere::exner(exp.base.centre.pressure[k])
+        })
+        .collect()
+}
+
+impl Observer for Collector {
+    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+        self.max_warming = f64::NEG_INFINITY;
+        Ok(())
+    }
+
+    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        self.charge.push(state.charge_total.clone());
+        self.field.push(state.field.clone());
+        let t = temperature(exp, state);
+        let sep = separation(&state.charge_total, exp.grid.dz);
+        if sep > self.best_separation {
+            self.best_separation = sep;
+            self.best_regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        }
+        for sp in Species::HYDROMETEORS {
+            let m = state.q[sp.index()].iter().fold(0.0_f64, |a, &b| a.max(b));
+            self.max_q[sp.index()] = self.max_q[sp.index()].max(m);
+        }
+        let rho = &exp.base.centre.density;
+        for (k, q) in state.q[Species::Rain.index()].iter().enumerate() {
+            self.max_rain_content = self.max_rain_content.max(rho[k] * q);
+        }
+        let (lo, hi) = WARMING_LAYER;
+        let (mut sum, mut n) = (0.0, 0);
+        for (k, &z) in exp.grid.z.iter().enumerate() {
+            if (lo..=hi).contains(&z) {
+                sum += t[k] - exp.base.centre.temperature[k];
+                n += 1;
+            }
+        }
+        if n > 0 {
+            self.max_warming = self.max_warming.max(sum / n as f64);
+        }
+        Ok(())
+    }
+
+    fn finish(&mut self, _: &Experiment, _: &State, s: &RunSummary) -> Result<(), RunError> {
+        self.summary = Some(s.clone());
+        Ok(())
+    }
+}
+
+/// The outcomes of a finished run, in report order.
+fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)> {
+    let s = c.summary.as_ref().expect("the run finished");
+    let mut out: Vec<(String, &'static str, f64)> = vec![
+        ("peak |E_z|".into(), "kV m-1", s.peak_field.0 / 1e3),
+        ("intracloud flashes".into(), "1", s.flash_counts[0] as f64),
+        (
+            "negative ground flashes".into(),
+            "1",
+            s.flash_counts[1] as f64,
+        ),
+        (
+            "positive ground flashes".into(),
+            "1",
+            s.flash_counts[2] as f64,
+        ),
+        ("first flash".into(), "s", s.first_flash.unwrap_or(f64::NAN)),
+        ("surface precipitation".into(), "mm", s.precipitation),
+        (
+            "peak surface rain rate".into(),
+            "mm h-1",
+            s.peak_precip_rate * 3600.0,
+        ),
+        (
+            "largest rain water content".into(),
+            "g m-3",
+            c.max_rain_content * 1e3,
+        ),
+    ];
+    for sp in Species::HYDROMETEORS {
+        out.push((
+            format!("largest q_{}", sp.name()),
+            "g kg-1",
+            c.max_q[sp.index()] * 1e3,
+        ));
+    }
+    out.push((
+        "largest warming of the 5-10 km layer".into(),
+        "K",
+        if c.max_warming.is_finite() {
+            c.max_warming
+        } else {
+            f64::NAN
+        },
+    ));
+    // Charge regions at the record of largest charge separation: the main
+    // negative region, the largest positive region above it and the largest
+    // below it (the three regions of a normal tripole).
+    let area = exp.field_solver.column_area();
+    let (charge_unit, scale) = match area {
+        Some(a) => ("C", a),
+        None => ("C m-2", 1.0),
+    };
+    let r = &c.best_regions;
+    let neg = main_region(r, -1.0).copied();
+    let pick = |above: bool| -> Option<Region> {
+        let n = neg?;
+        r.iter()
+            .filter(|x| x.polarity > 0.0 && (x.height > n.height) == above)
+            .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
+            .copied()
+    };
+    for (label, region) in [
+        ("main negative", neg),
+        ("upper positive", pick(true)),
+        ("lower positive", pick(false)),
+    ] {
+        let g = |f: fn(&Region) -> f64| region.as_ref().map_or(f64::NAN, f);
+        out.push((
+            format!("{label} region charge"),
+            charge_unit,
+            g(|x| x.charge) * scale,
+        ));
+        out.push((
+            format!("{label} region height"),
+            "km",
+            g(|x| x.height) / 1e3,
+        ));
+        out.push((
+            format!("{label} region temperature"),
+            "degC",
+            g(|x| x.temperature),
+        ));
+    }
+    out
+}
+
+/// Runs the experiment of `text` with `overrides` and collects outcomes.
+fn run_level(
+    text: &str,
+    origin: &str,
+    base_dir: &Path,
+    overrides: &[String],
+) -> Result<LevelRun, RunError> {
+    let exp = Experiment::from_text(text, origin, overrides, base_dir)?;
+    let mut c = Collector::default();
+    let mut obs: [&mut dyn Observer; 1] = [&mut c];
+    crate::timeloop::run(&exp, &mut obs, &mut |_| {})?;
+    Ok(LevelRun {
+        dt: exp.schedule.dt,
+        dz: exp.grid.dz,
+        outcomes: outcomes(&exp, &c),
+        charge: std::mem::take(&mut c.charge),
+        field: std::mem::take(&mut c.field),
+    })
+}
+
+/// Order, extrapolate and error of the configured value from values ordered
+/// coarse to fine (at least three).
+fn richardson(values: &[f64]) -> (f64, f64, f64) {
+    let n = values.len();
+    let (a, b, c) = (values[n - 3], values[n - 2], values[n - 1]);
+    let first = values[0];
+    let rel = |x: f64, y: f64| {
+        if x == y {
+            0.0
+        } else {
+            (x - y).abs() / y.abs()
+        }
+    };
+    if values.iter().any(|v| !v.is_finite()) {
+        return (f64::NAN, f64::NAN, f64::NAN);
+    }
+    let (d1, d2) = (a - b, b - c);
+    if d1 == 0.0 && d2 == 0.0 {
+        return (f64::INFINITY, c, rel(first, c));
+    }
+    if d2 == 0.0 || d1 / d2 <= 0.0 {
+        return (f64::NAN, c, rel(first, c));
+    }
+    let p = (d1 / d2).log2();
+    let ext = if p > 0.0 {
+        c - d2 / (p.exp2() - 1.0)
+    } else {
+        c
+    };
+    (p, ext, rel(first, ext))
+}
+
+/// A finer profile on the next coarser grid: cell averages (centres) or the
+/// coinciding faces.
+fn restrict(fine: &[f64], faces: bool) -> Vec<f64> {
+    if faces {
+        fine.iter().step_by(2).copied().collect()
+    } else {
+        fine.chunks(2).map(|p| 0.5 * (p[0] + p[1])).collect()
+    }
+}
+
+fn profile_row(name: &str, runs: &[LevelRun], refinement: Refinement, faces: bool) -> ProfileRow {
+    let get = |r: &LevelRun| {
+        if faces {
+            r.field.clone()
+        } else {
+            r.charge.clone()
+        }
+    };
+    let mut differences = Vec::new();
+    for w in runs.windows(2) {
+        let coarse = get(&w[0]);
+        let fine: Vec<Vec<f64>> = match refinement {
+            Refinement::Time => get(&w[1]),
+            Refinement::Space => get(&w[1]).iter().map(|p| restrict(p, faces)).collect(),
+        };
+        let (mut num, mut den) = (0.0, 0.0);
+        for (a, b) in coarse.iter().zip(&fine) {
+            for (x, y) in a.iter().zip(b) {
+                num += (x - y).abs();
+                den += y.abs();
+            }
+        }
+        differences.push(if den > 0.0 { num / den } else { 0.0 });
+    }
+    let n = differences.len();
+    let order = if n >= 2 && differences[n - 1] > 0.0 {
+        (differences[n - 2] / differences[n - 1]).log2()
+    } else {
+        f64::NAN
+    };
+    let error_of_configured = if order > 0.0 {
+        differences[0] / (1.0 - (-order).exp2())
+    } else {
+        f64::NAN
+    };
+    ProfileRow {
+        name: name.into(),
+        differences,
+        order,
+        error_of_configured,
+    }
+}
+
+/// Runs the convergence study: `levels` (at least 3) levels of each
+/// refinement, on `threads` workers (0: all cores).
+pub fn study(
+    text: &str,
+    origin: &str,
+    base_dir: &Path,
+    overrides: &[String],
+    levels: usize,
+    threads: usize,
+) -> Result<Report, RunError> {
+    let base = Experiment::from_text(text, origin, overrides, base_dir)?;
+    let (dt, dz) = (base.schedule.dt, base.grid.dz);
+    let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
+    for refinement in [Refinement::Time, Refinement::Space] {
+        for level in 0..levels {
+            let f = 0.5_f64.powi(level as i32);
+            let mut o = overrides.to_vec();
+            match refinement {
+                Refinement::Time => o.push(format!("time.step={:?}", dt * f)),
+                Refinement::Space => o.push(format!("grid.spacing={:?}", dz * f)),
+            }
+            jobs.push((refinement, level, o));
+        }
+    }
+    // The configured level is the first of both series: run it once.
+    jobs.retain(|(r, l, _)| !(*r == Refinement::Space && *l == 0));
+    let pool = crate::sweep::thread_pool(threads)?;
+    let results: Vec<Result<LevelRun, RunError>> = pool.install(|| {
+        jobs.par_iter()
+            .map(|(_, _, o)| run_level(text, origin, base_dir, o))
+            .collect()
+    });
+    let mut time = Vec::new();
+    let mut space = Vec::new();
+    for ((r, _, _), run) in jobs.iter().zip(results) {
+        let run = run?;
+        match r {
+            Refinement::Time => time.push(run),
+            Refinement::Space => space.push(run),
+        }
+    }
+    space.insert(0, time[0].clone());
+    let series = [(Refinement::Time, time), (Refinement::Space, space)]
+        .into_iter()
+        .map(|(refinement, runs)| {
+            let outcomes = runs[0]
+                .outcomes
+                .iter()
+                .enumerate()
+                .map(|(i, (name, unit, _))| {
+                    let values: Vec<f64> = runs.iter().map(|r| r.outcomes[i].2).collect();
+                    let (order, extrapolated, error_of_configured) = richardson(&values);
+                    Row {
+                        name: name.clone(),
+                        unit: unit.to_string(),
+                        values,
+                        order,
+                        extrapolated,
+                        error_of_configured,
+                    }
+                })
+                .collect();
+            let profiles = vec![
+                profile_row("charge density", &runs, refinement, false),
+                profile_row("vertical field", &runs, refinement, true),
+            ];
+            Series {
+                refinement,
+                steps: runs.iter().map(|r| r.dt).collect(),
+                spacings: runs.iter().map(|r| r.dz).collect(),
+                outcomes,
+                profiles,
+            }
+        })
+        .collect();
+    Ok(Report {
+        origin: origin.into(),
+        levels,
+        series,
+    })
+}
+
+fn num(x: f64) -> String {
+    if x.is_nan() {
+        "-".into()
+    } else if x.is_infinite() {
+        "exact".into()
+    } else if x == 0.0 {
+        "0".into()
+    } else if x.abs() >= 1e4 || x.abs() < 1e-3 {
+        format!("{x:.3e}")
+    } else {
+        format!("{x:.4}")
+    }
+}
+
+impl Report {
+    /// The report as a text table.
+    pub fn text(&self) -> String {
+        let mut out = format!(
+            "convergence of {} ({} levels per refinement)\n",
+            self.origin, self.levels
+        );
+        for s in &self.series {
+            let (what, levels): (&str, Vec<String>) = match s.refinement {
+                Refinement::Time => (
+                    "time step",
+                    s.steps.iter().map(|d| format!("dt={d} s")).collect(),
+                ),
+                Refinement::Space => (
+                    "grid spacing",
+                    s.spacings.iter().map(|d| format!("dz={d} m")).collect(),
+                ),
+            };
+            out.push_str(&format!("\n== refinement of the {what}\n"));
+            out.push_str(&format!("{:<42} {:<8}", "outcome", "unit"));
+            for l in &levels {
+                out.push_str(&format!(" {l:>12}"));
+            }
+            out.push_str(&format!(
+                " {:>8} {:>12} {:>10}\n",
+                "order", "extrapolate", "error"
+            ));
+            for r in &s.outcomes {
+                out.push_str(&format!("{:<42} {:<8}", r.name, r.unit));
+                for v in &r.values {
+                    out.push_str(&format!(" {:>12}", num(*v)));
+                }
+                let err = if r.error_of_configured.is_nan() {
+                    "-".to_string()
+                } else {
+                    format!("{:.2} %", 100.0 * r.error_of_configured)
+                };
+                out.push_str(&format!(
+                    " {:>8} {:>12} {:>10}\n",
+                    num(r.order),
+                    num(r.extrapolated),
+                    err
+                ));
+            }
+            out.push_str("profiles: relative L1 difference to the next finer level\n");
+            for p in &s.profiles {
+                out.push_str(&format!("{:<42} {:<8}", p.name, "1"));
+                for d in &p.differences {
+                    out.push_str(&format!(" {:>12}", num(*d)));
+                }
+                out.push_str(&format!(" {:>12}", ""));
+                let err = if p.error_of_configured.is_nan() {
+                    "-".to_string()
+                } else {
+                    format!("{:.2} %", 100.0 * p.error_of_configured)
+                };
+                out.push_str(&format!(" {:>8} {:>12} {:>10}\n", num(p.order), "", err));
+            }
+        }
+        out
+    }
+
+    /// The report as CSV: one line per series, outcome and level.
+    pub fn csv(&self) -> String {
+        let mut out =
+            String::from("refinement,outcome,unit,level,step_s,spacing_m,value,order,extrapolated,error_of_configured\n");
+        for s in &self.series {
+            let r = match s.refinement {
+                Refinement::Time => "time",
+                Refinement::Space => "space",
+            };
+            for row in &s.outcomes {
+                for (i, v) in row.values.iter().enumerate() {
+                    out.push_str(&format!(
+                        "{r},{},{},{i},{},{},{v},{},{},{}\n",
+                        row.name,
+                        row.unit,
+                        s.steps[i],
+                        s.spacings[i],
+                        row.order,
+                        row.extrapolated,
+                        row.error_of_configured
+                    ));
+                }
+            }
+            for p in &s.profiles {
+                for (i, d) in p.differences.iter().enumerate() {
+                    out.push_str(&format!(
+                        "{r},{} L1 difference,1,{i},{},{},{d},{},,{}\n",
+                        p.name, s.steps[i], s.spacings[i], p.order, p.error_of_configured
+                    ));
+                }
+            }
+        }
+        out
+    }
+}
