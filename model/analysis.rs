@@ -229,7 +229,7 @@ pub fn analyze_file(
         .and_then(|s| crate::setup::config::parse(&s, "stored").ok())
         .and_then(|c| {
             (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
-                .then(|| std::f64::consts::PI * c.electrostatics.column_radius.powi(2))
+                .then(|| std::f64::consts::PI * c.column.radius.powi(2))
         });
     let record = |r: usize| &rho[r * n..(r + 1) * n];
     let chosen: Vec<usize> = if times.is_empty() {

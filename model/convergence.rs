@@ -276,6 +276,9 @@ fn run_level(
     })
 }
 
+/// Outcome values (in their report units) below this are rounding noise.
+const ROUNDING_ZERO: f64 = 1e-13;
+
 /// Order, extrapolate and error of the configured value from values ordered
 /// coarse to fine (at least three).
 fn richardson(values: &[f64]) -> (f64, f64, f64) {
@@ -291,6 +294,13 @@ fn richardson(values: &[f64]) -> (f64, f64, f64) {
     };
     if values.iter().any(|v| !v.is_finite()) {
         return (f64::NAN, f64::NAN, f64::NAN);
+    }
+    // Values that agree to rounding (or are all rounding-level zeros, such
+    // as the warming of a column whose air does not move) are converged.
+    let big = values.iter().fold(0.0_f64, |m, v| m.max(v.abs()));
+    let spread = values.iter().fold(0.0_f64, |m, v| m.max((v - c).abs()));
+    if big < ROUNDING_ZERO || spread <= 1e-12 * big {
+        return (f64::INFINITY, c, 0.0);
     }
     let (d1, d2) = (a - b, b - c);
     if d1 == 0.0 && d2 == 0.0 {
@@ -343,12 +353,16 @@ fn profile_row(name: &str, runs: &[LevelRun], refinement: Refinement, faces: boo
         differences.push(if den > 0.0 { num / den } else { 0.0 });
     }
     let n = differences.len();
-    let order = if n >= 2 && differences[n - 1] > 0.0 {
+    let order = if differences.iter().all(|&d| d < 1e-12) {
+        f64::INFINITY // identical to rounding at every level
+    } else if n >= 2 && differences[n - 1] > 0.0 {
         (differences[n - 2] / differences[n - 1]).log2()
     } else {
         f64::NAN
     };
-    let error_of_configured = if order > 0.0 {
+    let error_of_configured = if order == f64::INFINITY {
+        differences[0]
+    } else if order > 0.0 {
         differences[0] / (1.0 - (-order).exp2())
     } else {
         f64::NAN

@@ -82,9 +82,10 @@ duration = 100.0
 output_interval = 100.0
 [discharge]
 enabled = false
+[column]
+radius = 2000.0
 [electrostatics]
 geometry = "column"
-column_radius = 2000.0
 [[prescribed_charge.layers]]
 center = 10000.0
 thickness = 2000.0

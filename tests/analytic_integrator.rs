@@ -149,7 +149,8 @@ fn demo_with_default_integrator_matches_a_converged_reference() {
     // The default (Bogacki-Shampine, relative tolerance 1e-4) against the
     // ode_solvers Dormand-Prince integrator at 1e-9 / 1e-15: the same
     // charge structure at the record of largest separation (class, region
-    // signs and heights; region charges within 0.1 %) and the same flashes.
+    // signs and heights; region charges within 0.1 %) and the same flashes
+    // (none since the step order and entrainment of docs/numerics.md).
     let default = experiment(stormcharge::setup::config::DEMO_TOML, &[]);
     let reference = experiment(
         stormcharge::setup::config::DEMO_TOML,
@@ -161,7 +162,6 @@ fn demo_with_default_integrator_matches_a_converged_reference() {
     );
     let (rec_d, _) = run_recorded(&default);
     let (rec_r, _) = run_recorded(&reference);
-    assert!(!rec_r.flashes.is_empty());
     assert_eq!(rec_d.flashes.len(), rec_r.flashes.len());
     for (a, b) in rec_d.flashes.iter().zip(&rec_r.flashes) {
         assert_eq!(a.kind, b.kind);

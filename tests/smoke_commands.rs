@@ -423,3 +423,34 @@ fn criteria_and_geometries_reach_the_output_file() {
         assert!(e.iter().all(|x| x.is_finite()) && e.iter().any(|x| x.abs() > 1e3));
     }
 }
+
+#[test]
+fn converge_command_writes_its_tables() {
+    // `converge` on a short prescribed case: the text table names both
+    // refinements, the JSON parses with both series and the CSV has a row
+    // per outcome and level; too few levels is a usage error naming the
+    // option (exit 2).
+    let json = scratch("converge.json");
+    let csv = scratch("converge.csv");
+    let o = succeed(
+        bin()
+            .arg("converge")
+            .arg(repo("configs/teaching_tripole.toml"))
+            .args(["--set", "time.duration=240", "--threads", "2", "--json"])
+            .arg(&json)
+            .arg("--csv")
+            .arg(&csv),
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("refinement of the time step"));
+    assert!(text.contains("refinement of the grid spacing"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    assert_eq!(v["series"].as_array().unwrap().len(), 2);
+    let rows = std::fs::read_to_string(&csv).unwrap();
+    assert!(rows.lines().count() > 50);
+    assert!(rows.starts_with("refinement,outcome,unit,level"));
+    let o = bin().args(["converge", "--levels", "2"]).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--levels"));
+}

@@ -1,6 +1,6 @@
 //! The plot command writes a PNG that decodes at the requested size and an
-//! SVG document of that size, for the demo output; `analyze` classifies the
-//! same output.
+//! SVG document of that size, for the demo output; `analyze` finds the
+//! charge regions of the same output.
 
 mod common;
 use common::*;
@@ -28,11 +28,18 @@ fn plot_writes_png_and_svg() {
     assert!(svg.contains("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"900\""));
     assert!(svg.contains("time (s)") && svg.contains("nC m-3"));
-    // The analysis of the same output classifies the demo at its largest
-    // charge separation as a normal tripole.
+    // The analysis of the same output finds the demo's charge regions at its
+    // largest charge separation: a negative region with positive charge
+    // above and below it.
     let o = bin().arg("analyze").arg(&out).output().unwrap();
     assert_eq!(o.status.code(), Some(0));
-    assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
+    let text = String::from_utf8_lossy(&o.stdout);
+    let signs: Vec<&str> = text
+        .lines()
+        .filter_map(|l| l.split_whitespace().next())
+        .filter(|w| *w == "positive" || *w == "negative")
+        .collect();
+    assert_eq!(signs, ["positive", "negative", "positive"], "{text}");
     // Bad size: a usage error naming the option.
     let o = bin()
         .arg("plot")

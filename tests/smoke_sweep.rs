@@ -12,7 +12,7 @@ combine = "product"
 key = "discharge.target_fraction"
 values = [0.3, 0.5]
 [[sweep.parameters]]
-key = "electrostatics.column_radius"
+key = "column.radius"
 values = [2000.0, 3000.0, 2500]
 "#;
 
@@ -129,7 +129,7 @@ fn a_failing_member_does_not_stop_the_others() {
 [sweep]
 combine = "zip"
 [[sweep.parameters]]
-key = "electrostatics.column_radius"
+key = "column.radius"
 values = [2000.0, -5.0, 3000.0]
 "#,
     );
@@ -144,7 +144,7 @@ values = [2000.0, -5.0, 3000.0]
     let rows: Vec<&str> = s.lines().skip(1).collect();
     assert!(rows[0].contains(",ok,") && rows[2].contains(",ok,"));
     assert!(
-        rows[1].contains(",failed,") && rows[1].contains("electrostatics.column_radius"),
+        rows[1].contains(",failed,") && rows[1].contains("column.radius"),
         "{}",
         rows[1]
     );

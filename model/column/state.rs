@@ -39,7 +39,7 @@ pub struct State {
     pub substeps: (u64, usize),
     /// Work arrays of the transport (allocated once).
     pub transport_scratch: TransportScratch,
-    /// Charge density of each carrier at centres (C m-3), indexed by [`Carrier::index`].
+    /// Charge density of each carrier at centres (C m-3), indexed by [`crate::physics::carriers::Carrier::index`].
     pub charge: Vec<Vec<f64>>,
     /// Total charge density at centres (C m-3): the sum over carriers.
     pub charge_total: Vec<f64>,

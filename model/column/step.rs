@@ -34,8 +34,13 @@ pub fn step_timed(
         lap(phase, now - clock);
         clock = now;
     };
+    // First-order (Lie) splitting: symmetric (Strang) splitting of the
+    // transport around the local processes was measured and did not pay
+    // (docs/numerics.md).
+    let precipitation = state.water.precipitation;
     transport::apply_forcing(exp, state);
     transport::transport(exp, state, dt);
+    state.precip_rate = (state.water.precipitation - precipitation) / dt;
     mark(0);
     microphysics::step(exp, state, dt)?;
     mark(1);

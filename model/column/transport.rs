@@ -9,6 +9,7 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
+use crate::physics::kinematics::entrainment::{self, relax, Env};
 use crate::physics::kinematics::{advection, sedimentation};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::species::Species;
@@ -17,8 +18,12 @@ use crate::setup::experiment::Experiment;
 
 /// Sets the prescribed updraft on the faces for the state's time.
 pub fn apply_forcing(exp: &Experiment, state: &mut State) {
-    exp.updraft
-        .w_on(&exp.updraft_shape, state.time, &mut state.w);
+    apply_forcing_at(exp, state, state.time);
+}
+
+/// Sets the prescribed updraft on the faces for time `t` (s).
+pub fn apply_forcing_at(exp: &Experiment, state: &mut State, t: f64) {
+    exp.updraft.w_on(&exp.updraft_shape, t, &mut state.w);
 }
 
 /// Mass-weighted fall speeds (m s-1) of the falling species at every cell.
@@ -68,7 +73,22 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
     }
     let h = dt / nsub as f64;
     sc.flow.update(&sc.mass_flux, rho, dz, h);
+    // Lateral entrainment (docs/transport.md): the fraction of each cell's
+    // departure from the environment that survives a sub-step.
+    let entraining = exp.entrainment_rate > 0.0;
+    if entraining {
+        entrainment::survival(
+            &sc.mass_flux,
+            rho,
+            dz,
+            exp.entrainment_rate,
+            h,
+            &mut sc.survival,
+        );
+    }
     let base_face = &exp.base.face;
+    let base = &exp.base.centre;
+    let mass = &exp.cell_mass;
     for _ in 0..nsub {
         let theta_in = (
             base_face.potential_temperature[0],
@@ -82,6 +102,14 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             theta_in,
             &mut sc.faces,
         );
+        if entraining {
+            relax(
+                &mut state.potential_temperature,
+                Env::Profile(&base.potential_temperature),
+                &sc.survival,
+                mass,
+            );
+        }
         for sp in Species::ALL {
             let inflow = if sp == Species::Vapour {
                 (base_face.vapour[0], base_face.vapour[n])
@@ -99,6 +127,14 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             state.water.advected_in_bottom += b.bottom;
             state.water.advected_out_top += b.top;
             state.water.lateral += b.lateral;
+            if entraining {
+                let env = if sp == Species::Vapour {
+                    Env::Profile(&base.vapour)
+                } else {
+                    Env::Uniform(0.0)
+                };
+                state.water.lateral += relax(&mut state.q[sp.index()], env, &sc.survival, mass);
+            }
         }
         advection::advect_with(
             &mut state.n_ice,
@@ -108,6 +144,9 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             (0.0, 0.0),
             &mut sc.faces,
         );
+        if entraining {
+            relax(&mut state.n_ice, Env::Uniform(0.0), &sc.survival, mass);
+        }
         for c in Carrier::ALL.iter().filter(|c| c.advected()) {
             let charge = &mut state.charge[c.index()];
             for k in 0..n {
@@ -122,6 +161,11 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
                 &mut sc.faces,
             );
             state.charge_transport.advected_in += b.net();
+            if entraining {
+                // The environment's air is neutral on the whole.
+                state.charge_transport.advected_in +=
+                    relax(&mut sc.field, Env::Uniform(0.0), &sc.survival, mass);
+            }
             for k in 0..n {
                 charge[k] = sc.field[k] * rho[k];
             }
@@ -152,7 +196,8 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
             for k in 0..n {
                 sc.field[k] = rho[k] * q[k];
             }
-            precip += sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+            precip +=
+                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h, &mut sc.faces);
             for k in 0..n {
                 q[k] = sc.field[k] * exp.cell_env[k].inv_rho;
             }
@@ -160,16 +205,21 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
                 for k in 0..n {
                     sc.field[k] = rho[k] * state.n_ice[k];
                 }
-                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h);
+                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h, &mut sc.faces);
                 for k in 0..n {
                     state.n_ice[k] = sc.field[k] * exp.cell_env[k].inv_rho;
                 }
             }
             let c = Carrier::of(*sp).index();
-            let out = sedimentation::settle(&mut state.charge[c], &state.fall_speed[i], dz, h);
+            let out = sedimentation::settle(
+                &mut state.charge[c],
+                &state.fall_speed[i],
+                dz,
+                h,
+                &mut sc.faces,
+            );
             state.charge_transport.precipitated += out;
         }
     }
     state.water.precipitation += precip;
-    state.precip_rate = precip / dt;
 }

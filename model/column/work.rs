@@ -11,6 +11,8 @@ pub struct TransportScratch {
     pub(crate) faces: Vec<f64>,
     pub(crate) field: Vec<f64>,
     pub(crate) flow: advection::FlowFactors,
+    /// exp(-r dt) of the lateral entrainment per cell (1).
+    pub(crate) survival: Vec<f64>,
 }
 
 impl TransportScratch {
@@ -20,6 +22,7 @@ impl TransportScratch {
             faces: vec![0.0; n + 1],
             field: vec![0.0; n],
             flow: advection::FlowFactors::new(n),
+            survival: vec![1.0; n],
         }
     }
 }

@@ -69,6 +69,11 @@ pub struct Experiment {
     /// Per cell: base-state pressure and density with the factors of the
     /// microphysics that depend only on them (the base state is fixed).
     pub cell_env: Vec<CellEnv>,
+    /// Turbulent fractional entrainment rate epsilon = coefficient / radius
+    /// (m-1); zero when the column is closed (`column.entrainment = "off"`).
+    pub entrainment_rate: f64,
+    /// Air mass per area of each cell, rho dz (kg m-2).
+    pub cell_mass: Vec<f64>,
     /// The updraft's vertical shape factor on the faces (fixed in time).
     pub updraft_shape: Vec<f64>,
 }
@@ -176,7 +181,8 @@ impl Experiment {
         })?;
         let prescribed =
             resolve::prescribed_charge(&config.prescribed_charge.layers, &grid).map_err(err)?;
-        let field_solver = resolve::field_solver(&grid, &config.electrostatics);
+        let field_solver =
+            resolve::field_solver(&grid, &config.electrostatics, config.column.radius);
         let criteria_thresholds = resolve::criteria(&config.breakdown, &base.face.density);
         let discharge_params =
             resolve::discharge(&config.discharge, &criteria_thresholds, &base.face.density);
@@ -193,6 +199,8 @@ impl Experiment {
             .map(|k| CellEnv::new(base.centre.pressure[k], base.centre.density[k], &micro))
             .collect();
         let updraft_shape = updraft.shape_factors(&grid.z_face);
+        let entrainment_rate = resolve::entrainment_rate(&config.column);
+        let cell_mass = base.centre.density.iter().map(|r| r * grid.dz).collect();
         Ok(Experiment {
             config,
             grid,
@@ -208,6 +216,8 @@ impl Experiment {
             micro,
             charging_params,
             cell_env,
+            entrainment_rate,
+            cell_mass,
             updraft_shape,
         })
     }

@@ -13,6 +13,7 @@ use crate::physics::charging::prescribed::{ChargeLayer, PrescribedCharge};
 use crate::physics::charging::ChargingParams;
 use crate::physics::discharge::{trigger_threshold, DischargeParams, Neutralization};
 use crate::physics::electrostatics::{column, planar, FieldSolver};
+use crate::physics::kinematics::entrainment::Entrainment;
 use crate::physics::kinematics::updraft::{Envelope, Shape, Updraft};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::params::MicroParams;
@@ -20,9 +21,10 @@ use crate::physics::microphysics::prescribed::{HydroLayer, PrescribedHydrometeor
 use crate::physics::microphysics::species::Species;
 use crate::physics::profile::{self, Table, TableError};
 use crate::setup::config::{
-    BreakdownConfig, ChargingConfig, DischargeConfig, ElectrostaticsConfig, EnvelopeConfig,
-    EnvelopeKind, Geometry, HydroLayerConfig, LayerConfig, LayerShape, MicrophysicsConfig,
-    NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig, UpdraftShape,
+    BreakdownConfig, ChargingConfig, ColumnConfig, DischargeConfig, ElectrostaticsConfig,
+    EnvelopeConfig, EnvelopeKind, Geometry, HydroLayerConfig, LayerConfig, LayerShape,
+    MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig,
+    UpdraftShape,
 };
 
 /// One nanocoulomb (C): charge-density keys are given in nC m-3.
@@ -263,8 +265,19 @@ pub fn charging(c: &ChargingConfig) -> Result<ChargingParams, ConfigIssue> {
     })
 }
 
+/// The turbulent fractional entrainment rate epsilon (m-1), zero for a
+/// closed column. The continuity part of the exchange needs no parameter:
+/// [`crate::physics::kinematics::entrainment`] takes it from the mass flux
+/// whenever this rate is positive.
+pub fn entrainment_rate(c: &ColumnConfig) -> f64 {
+    match c.entrainment {
+        Entrainment::Off => 0.0,
+        Entrainment::EntrainingPlume => c.entrainment_coefficient / c.radius,
+    }
+}
+
 /// The field solver of the configuration, with its precomputed parts.
-pub fn field_solver(grid: &Grid, c: &ElectrostaticsConfig) -> FieldSolver {
+pub fn field_solver(grid: &Grid, c: &ElectrostaticsConfig, radius: f64) -> FieldSolver {
     match c.geometry {
         Geometry::Planar => FieldSolver::Planar(planar::PlanarSolver::new(
             grid,
@@ -273,7 +286,7 @@ pub fn field_solver(grid: &Grid, c: &ElectrostaticsConfig) -> FieldSolver {
                 TopBoundary::Conductor => planar::Top::Conductor(c.top_potential),
             },
         )),
-        Geometry::Column => FieldSolver::Column(column::ColumnSolver::new(grid, c.column_radius)),
+        Geometry::Column => FieldSolver::Column(column::ColumnSolver::new(grid, radius)),
     }
 }
 

@@ -168,9 +168,10 @@ spacing = 100.0
 step = 2.0
 duration = 3000.0
 output_interval = 100.0
+[column]
+radius = 3000.0
 [electrostatics]
 geometry = "column"
-column_radius = 3000.0
 [[prescribed_charge.layers]]
 center = 9000.0
 thickness = 1000.0
@@ -193,9 +194,10 @@ spacing = 100.0
 step = 2.0
 duration = 1200.0
 output_interval = 60.0
+[column]
+radius = 2000.0
 [electrostatics]
 geometry = "column"
-column_radius = 2000.0
 [[prescribed_charge.layers]]
 center = 2500.0
 thickness = 600.0

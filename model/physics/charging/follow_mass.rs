@@ -35,6 +35,12 @@ pub fn apply(report: &CellReport, q_end: &[f64; 6], charge: &mut [Vec<f64>], k: 
 
 /// [`apply`] on the charges of one cell, in `Carrier::ALL` order.
 fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier::COUNT]) {
+    // Evaporation of cloud water in the adjustment at the start of the step.
+    evaporate(
+        charge,
+        report.condensed_first,
+        report.cloud_before_first_adjust,
+    );
     // Instantaneous freezing and melting at the start of the step.
     if report.frozen > 0.0 {
         let c = charge[Carrier::Cloud.index()];
@@ -49,12 +55,8 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier:
     if report.transfers.iter().any(|&m| m != 0.0) {
         transfers(report, charge);
     }
-    // Evaporation of cloud water in the saturation adjustment.
-    if report.condensed < 0.0 && report.cloud_before_adjust > 0.0 {
-        let c = charge[Carrier::Cloud.index()]
-            * (-report.condensed / report.cloud_before_adjust).min(1.0);
-        mv(charge, Carrier::Cloud, Carrier::Ions, c);
-    }
+    // Evaporation of cloud water in the final saturation adjustment.
+    evaporate(charge, report.condensed, report.cloud_before_adjust);
     // Vanished species give everything to the ions.
     for sp in Species::HYDROMETEORS {
         if q_end[sp.index()] <= VANISHED {
@@ -63,6 +65,15 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier:
                 mv(charge, Carrier::of(sp), Carrier::Ions, c);
             }
         }
+    }
+}
+
+/// Releases to the ions the fraction of cloud charge whose water an
+/// adjustment evaporated (`condensed` < 0 out of `cloud_before`).
+fn evaporate(charge: &mut [f64; Carrier::COUNT], condensed: f64, cloud_before: f64) {
+    if condensed < 0.0 && cloud_before > 0.0 {
+        let c = charge[Carrier::Cloud.index()] * (-condensed / cloud_before).min(1.0);
+        mv(charge, Carrier::Cloud, Carrier::Ions, c);
     }
 }
 

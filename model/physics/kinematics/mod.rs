@@ -18,5 +18,6 @@
 //! behind the mass that carries it.
 
 pub mod advection;
+pub mod entrainment;
 pub mod sedimentation;
 pub mod updraft;

@@ -1,20 +1,32 @@
-//! Sedimentation in flux form with first-order upwind (from above) fluxes:
-//! the flux through the bottom face of cell k is F_k = rho_k q_k V_k (kg m-2
-//! s-1, downward), and
+//! Sedimentation in flux form with second-order, flux-limited fluxes.
 //!
-//!   rho_k q_k <- rho_k q_k + dt/dz (F_{k+1} - F_k),   F_n = 0 at the top.
+//! With the centre flux f_k = V_k d_k of a density-like field d (kg m-3 for
+//! rho q, C m-3 for a charge density) falling at V_k (m s-1, positive
+//! down), the downward flux through the bottom face of cell k is the upwind
+//! flux plus a limited Lax-Wendroff correction,
 //!
-//! This is the first-order upwind scheme (Courant, Isaacson & Rees 1952,
-//! Comm. Pure Appl. Math. 5, 243; from memory) in conservative form, the
-//! usual sedimentation scheme of bulk models (common practice).
-//! Upwind sedimentation is positive definite and monotone for V dt/dz <= 1
-//! and moves a constant-speed profile's centre of mass by exactly V t
-//! (nothing is lost but what leaves through the ground). The flux through the
-//! ground face is the surface precipitation. Sub-steps keep the Courant number
-//! below [`MAX_COURANT`].
+//!   F_{k-1/2} = f_k + 0.5 (1 - C_k) phi(r_k) (f_{k-1} - f_k),
+//!   r_k = (f_k - f_{k+1}) / (f_{k-1} - f_k),  C_k = V_k dt / dz,
+//!
+//! with the monotonised-central limiter phi(r) = max(0, min(2r, (1+r)/2, 2))
+//! of the advection (van Leer 1977, J. Comput. Phys. 23, 276; the TVD
+//! framework of Sweby 1984, SIAM J. Numer. Anal. 21, 995), and
+//!
+//!   d_k <- d_k + dt/dz (F_{k+1/2} - F_{k-1/2}),   F at the model top = 0.
+//!
+//! At the ground face, where no cell lies below, the flux is the upwind
+//! flux f_0 (first order), and that flux is the surface precipitation. The
+//! first-order upwind scheme (Courant, Isaacson & Rees 1952, Comm. Pure
+//! Appl. Math. 5, 243) used before this smeared a falling front over many
+//! cells (numerical diffusivity about V dz/2); the limited scheme keeps a
+//! front within a few cells and is exact for a linear profile. Sub-steps
+//! keep C below [`MAX_COURANT`], where the scheme is total-variation
+//! diminishing for constant V and stays positive (tested on constant-speed
+//! and sheared top hats). Mass is conserved exactly: what one face takes
+//! from a cell it gives to the next.
 
 /// Largest sedimentation Courant number per sub-step.
-pub const MAX_COURANT: f64 = 0.9;
+pub const MAX_COURANT: f64 = 0.5;
 
 /// Sub-steps needed for fall speeds `v` (m s-1, positive downward) over `dt`.
 pub fn substeps(v: &[f64], dz: f64, dt: f64) -> usize {
@@ -22,15 +34,57 @@ pub fn substeps(v: &[f64], dz: f64, dt: f64) -> usize {
     ((vmax * dt / dz) / MAX_COURANT).ceil().max(1.0) as usize
 }
 
-/// One upwind step for a density-like field `d` (e.g. rho q in kg m-3, or a
-/// charge density in C m-3) falling at `v` (m s-1, cell centres, >= 0).
+fn limiter(r: f64) -> f64 {
+    (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
+}
+
+/// The downward flux through the bottom face of cell `k` (field unit times
+/// m s-1) for centre fluxes `f` and Courant number `c` of cell k.
+fn bottom_flux(f: &[f64], k: usize, c: f64) -> f64 {
+    let n = f.len();
+    let up = f[k];
+    if k == 0 {
+        return up;
+    }
+    let down = f[k - 1];
+    let far = if k + 1 < n { f[k + 1] } else { 0.0 };
+    let delta = down - up;
+    if delta == 0.0 {
+        return up;
+    }
+    up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
+}
+
+/// One step of `dt` s for a density-like field `d` falling at `v` (m s-1,
+/// cell centres, >= 0); `flux` is work space of the field's length.
 /// Returns what left through the ground per unit area (field unit times m).
-pub fn settle(d: &mut [f64], v: &[f64], dz: f64, dt: f64) -> f64 {
+pub fn settle(d: &mut [f64], v: &[f64], dz: f64, dt: f64, flux: &mut [f64]) -> f64 {
     let n = d.len();
-    let out = d[0] * v[0] * dt;
-    for k in 0..n {
-        let incoming = if k + 1 < n { d[k + 1] * v[k + 1] } else { 0.0 };
-        d[k] += dt / dz * (incoming - d[k] * v[k]);
+    // Only the support of the field (and the cells below it, which it
+    // falls into) can change; above the highest non-zero cell all fluxes
+    // vanish.
+    let Some(top) = d.iter().rposition(|&x| x != 0.0) else {
+        return 0.0;
+    };
+    for k in 0..=top {
+        flux[k] = v[k] * d[k];
+    }
+    let lim = (top + 2).min(n);
+    for f in flux.iter_mut().take(lim).skip(top + 1) {
+        *f = 0.0;
+    }
+    // Bottom-face fluxes, from the ground up; the face above the support
+    // carries nothing.
+    let mut below = bottom_flux(&flux[..lim], 0, v[0] * dt / dz);
+    let out = below * dt;
+    for k in 0..=top {
+        let above = if k < top {
+            bottom_flux(&flux[..lim], k + 1, v[k + 1] * dt / dz)
+        } else {
+            0.0
+        };
+        d[k] += dt / dz * (above - below);
+        below = above;
     }
     out
 }

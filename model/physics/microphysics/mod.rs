@@ -103,7 +103,11 @@ pub struct CellReport {
     pub q_start: [f64; 6],
     /// Time integrals of the transfers, in `rates::TRANSFER_PAIRS` order (kg kg-1).
     pub transfers: [f64; rates::N_TRANSFERS],
-    /// Cloud water before the saturation adjustment and the condensate it
+    /// Cloud water before the first saturation adjustment (at the start of
+    /// the step) and the condensate it formed (negative: evaporated) (kg kg-1).
+    pub cloud_before_first_adjust: f64,
+    pub condensed_first: f64,
+    /// Cloud water before the final saturation adjustment and the condensate it
     /// formed (negative: evaporated) (kg kg-1).
     pub cloud_before_adjust: f64,
     pub condensed: f64,
@@ -197,6 +201,13 @@ pub fn step_cell(
     report: &mut CellReport,
 ) -> Result<(), String> {
     *report = CellReport::default();
+    // Condensation first: transport has lifted the air and left it
+    // supersaturated over liquid; ice nucleation (exponential in the ice
+    // supersaturation) and deposition must see the vapour that the cloud
+    // water leaves, not the transient excess, or their rates depend on the
+    // step (docs/numerics.md).
+    report.cloud_before_first_adjust = s.q[CLOUD];
+    report.condensed_first = adjust::saturation_adjustment(s, env.p);
     let (qc0, qi0) = (s.q[CLOUD], s.q[ICE]);
     adjust::freeze_or_melt(s, p);
     if s.q[CLOUD] < qc0 {

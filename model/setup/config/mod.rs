@@ -25,6 +25,7 @@ pub struct Config {
     pub time: TimeConfig,
     pub atmosphere: AtmosphereConfig,
     pub updraft: UpdraftConfig,
+    pub column: ColumnConfig,
     pub microphysics: MicrophysicsConfig,
     #[serde(default)]
     pub hydrometeors: HydrometeorsConfig,
@@ -148,6 +149,16 @@ pub struct UpdraftConfig {
     pub background: f64,
 }
 
+/// The column as a whole: its radius (m), shared by the electrostatics and
+/// the lateral entrainment, and the entrainment scheme.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ColumnConfig {
+    pub radius: f64,
+    pub entrainment: crate::physics::kinematics::entrainment::Entrainment,
+    pub entrainment_coefficient: f64,
+}
+
 /// Input units as in the key table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -266,8 +277,6 @@ pub struct ElectrostaticsConfig {
     pub top_boundary: TopBoundary,
     /// V.
     pub top_potential: f64,
-    /// m.
-    pub column_radius: f64,
 }
 
 /// Threshold fields in V m-1 at sea-level air density unless noted.

@@ -348,6 +348,28 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Constant background vertical velocity added everywhere (negative: subsidence).",
     },
     // --- microphysics
+    // --- the column as a whole
+    KeySpec {
+        path: "column.radius",
+        kind: float(10.0, false, 1.0e7, false),
+        unit: "m",
+        default: Some("5000.0"),
+        doc: "Radius of the storm column: the charged cylinder of electrostatics.geometry = \"column\" and the plume radius of the lateral entrainment.",
+    },
+    KeySpec {
+        path: "column.entrainment",
+        kind: Kind::Choice(crate::physics::kinematics::entrainment::Entrainment::NAMES),
+        unit: "",
+        default: Some("\"entraining_plume\""),
+        doc: "Exchange of air with the environment through the column's sides (docs/transport.md): \"entraining_plume\" mixes in environmental air where the mass flux grows with height and at the turbulent rate entrainment_coefficient/radius per metre of rise; \"off\" keeps the column closed (air leaves or enters the sides only with the column's own properties).",
+    },
+    KeySpec {
+        path: "column.entrainment_coefficient",
+        kind: float(0.0, true, 2.0, true),
+        unit: "1",
+        default: Some("0.2"),
+        doc: "Turbulent fractional entrainment rate times the radius, epsilon R: 0.2 after Stommel (1947) as used in one-dimensional entraining cloud models (twice the plume entrainment coefficient of Morton, Taylor & Turner 1956).",
+    },
     KeySpec {
         path: "microphysics.scheme",
         kind: Kind::Choice(crate::physics::microphysics::Mode::NAMES),
@@ -545,7 +567,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Choice(super::Geometry::NAMES),
         unit: "",
         default: Some("\"planar\""),
-        doc: "\"planar\": horizontally infinite layers over a conducting ground. \"column\": charge confined to a vertical cylinder of radius column_radius over a conducting ground (image charges); field and potential on the axis.",
+        doc: "\"planar\": horizontally infinite layers over a conducting ground. \"column\": charge confined to a vertical cylinder of radius column.radius over a conducting ground (image charges); field and potential on the axis.",
     },
     KeySpec {
         path: "electrostatics.top_boundary",
@@ -560,13 +582,6 @@ pub const KEYS: &[KeySpec] = &[
         unit: "V",
         default: Some("0.0"),
         doc: "Potential of the top conductor (planar geometry, top_boundary = \"conductor\").",
-    },
-    KeySpec {
-        path: "electrostatics.column_radius",
-        kind: float(10.0, false, 1.0e7, false),
-        unit: "m",
-        default: Some("5000.0"),
-        doc: "Radius of the charged cylinder (column geometry only).",
     },
     // --- breakdown and inception criteria
     KeySpec {
