@@ -217,6 +217,9 @@ pub fn analyze_file(
     times: &[f64],
 ) -> Result<Report, crate::error::RunError> {
     let out = crate::output::reader::OutputFile::open(path)?;
+    for w in out.usable(&["charge_density", "air_temperature", "electric_field"])? {
+        eprintln!("stormcharge: warning: {w}");
+    }
     let get = |name: &str| out.values(name);
     let z = get("z")?;
     let time = get("time")?;

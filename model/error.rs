@@ -131,6 +131,14 @@ pub enum RunError {
     Output { context: String, message: String },
     #[error("numerical failure at t = {time} s: {message}")]
     Numerics { time: f64, message: String },
+    /// A guard of `crate::column::guards` stopped the run: a quantity left
+    /// the finite numbers or its physical range.
+    #[error("run stopped at t = {time} s after {process}: {message}")]
+    Stopped {
+        time: f64,
+        process: &'static str,
+        message: String,
+    },
 }
 
 impl RunError {

@@ -24,5 +24,24 @@ fn main() {
     }));
     let command_line = std::env::args().collect::<Vec<_>>().join(" ");
     let cli = stormcharge::cli::Cli::parse();
-    std::process::exit(stormcharge::cli::main_with(cli, &command_line));
+    let code = stormcharge::cli::main_with(cli, &command_line);
+    if code != 0 {
+        // After a failed write (a full disk, say) the HDF5 library may hold a
+        // file it could not close, and its exit handler then crashes
+        // (measured: a segmentation fault in its file-close callback). Every
+        // file this program writes is already marked incomplete or closed,
+        // so a failed run leaves without the library's exit handlers.
+        use std::io::Write;
+        let _ = std::io::stdout().flush();
+        let _ = std::io::stderr().flush();
+        // SAFETY: `_exit` ends the process at once with the given status;
+        // nothing is left that needs the exit handlers of a failed run.
+        unsafe { _exit(code) }
+    }
+    std::process::exit(code);
+}
+
+extern "C" {
+    /// POSIX `_exit`: terminate without running `atexit` handlers.
+    fn _exit(status: i32) -> !;
 }

@@ -29,6 +29,9 @@ pub struct PlotData {
 
 fn read(path: &Path) -> Result<PlotData, RunError> {
     let out = crate::output::reader::OutputFile::open(path)?;
+    for w in out.usable(&["charge_density", "electric_field", "electric_potential"])? {
+        eprintln!("stormcharge: warning: {w}");
+    }
     let get = |name: &str| out.values(name);
     let title = out
         .text("title")

@@ -41,20 +41,21 @@ impl Observer for FailAt {
 
 #[test]
 fn failed_run_never_looks_complete() {
+    // A run that fails part-way over an earlier file: the earlier file stays
+    // untouched (it is replaced only by a complete run, in one rename), the
+    // failed run's data are in its own `.incomplete` file marked incomplete,
+    // and its lock is gone.
     let exp = Experiment::from_text(DEMO_TOML, "demo", &[], Path::new(".")).unwrap();
     let out = scratch("failed.nc");
-    // A complete file from an earlier run must not survive under the target name.
-    std::fs::write(&out, b"stale").unwrap();
+    std::fs::write(&out, b"an earlier result").unwrap();
     let mut writer = NetcdfWriter::new(&out, "test");
     let mut fail = FailAt(3, 0);
     let mut observers: [&mut dyn Observer; 2] = [&mut writer, &mut fail];
     let r = timeloop::run(&exp, &mut observers, &mut |_| {});
     assert!(r.is_err());
     drop(writer);
-    assert!(
-        !out.exists(),
-        "a failed run left a file under the final name"
-    );
+    assert_eq!(std::fs::read(&out).unwrap(), b"an earlier result");
+    assert!(!stormcharge::output::netcdf_writer::lock_path(&out).exists());
     let partial = partial_path(&out);
     let f = netcdf::open(&partial).unwrap();
     assert_eq!(text_attr(&f, STATUS_ATTRIBUTE), "incomplete");

@@ -318,14 +318,13 @@ fn cmd_run(
         }
     };
     let target = output.unwrap_or(default_out);
-    if replay.as_deref() == Some(target.as_path()) {
+    let mut inputs: Vec<PathBuf> = exp.input_files.clone();
+    inputs.extend(config.iter().cloned());
+    inputs.extend(replay.iter().cloned());
+    if let Err(e) = crate::output::netcdf_writer::check_output_path(&target, &inputs) {
         return Err(RunError::Config(ConfigError::single(
             "command line",
-            ConfigIssue::new(
-                "--output",
-                "replay would overwrite the file it replays; give -o",
-            )
-            .value(target.display().to_string()),
+            ConfigIssue::new("--output", e.to_string()).value(target.display().to_string()),
         )));
     }
 
@@ -340,7 +339,7 @@ fn cmd_run(
         );
         b
     });
-    let mut writer = NetcdfWriter::new(&target, command_line);
+    let mut writer = NetcdfWriter::new(&target, command_line).with_inputs(inputs);
     let started = std::time::Instant::now();
     let mut observers: [&mut dyn Observer; 1] = [&mut writer];
     let summary = timeloop::run(&exp, &mut observers, &mut |step| {

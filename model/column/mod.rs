@@ -7,6 +7,7 @@ pub mod breakdown;
 pub mod charging;
 pub mod discharge;
 pub mod electrostatics;
+pub mod guards;
 pub mod initial;
 pub mod microphysics;
 pub mod state;

@@ -1,6 +1,7 @@
 //! One step of the column: the operator-split sequence of processes, in the
 //! order the crate documentation lists. Each line calls one process adapter.
 
+use crate::column::guards::{self, Process};
 use crate::column::state::State;
 use crate::column::{breakdown, charging, discharge, electrostatics, microphysics, transport};
 use crate::error::RunError;
@@ -39,18 +40,23 @@ pub fn step_timed(
     // (docs/numerics.md).
     let precipitation = state.water.precipitation;
     transport::apply_forcing(exp, state);
-    transport::transport(exp, state, dt);
+    transport::transport(exp, state, dt)?;
     state.precip_rate = (state.water.precipitation - precipitation) / dt;
+    guards::check(exp, state, Process::Transport)?;
     mark(0);
     microphysics::step(exp, state, dt)?;
+    guards::check(exp, state, Process::Microphysics)?;
     mark(1);
     charging::step(exp, state, dt);
+    guards::check(exp, state, Process::Charging)?;
     mark(2);
     electrostatics::solve(exp, state);
+    guards::check(exp, state, Process::FieldSolve)?;
     mark(3);
     breakdown::evaluate(exp, state);
     mark(4);
     discharge::step(exp, state, exp.schedule.time(state.step + 1));
+    guards::check(exp, state, Process::Discharge)?;
     mark(5);
     state.step += 1;
     state.time = exp.schedule.time(state.step);

@@ -8,6 +8,7 @@
 #![allow(clippy::needless_range_loop)]
 
 use crate::column::state::State;
+use crate::error::RunError;
 use crate::physics::carriers::Carrier;
 use crate::physics::kinematics::entrainment::{self, relax, Env};
 use crate::physics::kinematics::{advection, sedimentation};
@@ -44,15 +45,32 @@ pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
     }
 }
 
-/// Advection, then sedimentation, over one step of `dt` s.
-pub fn transport(exp: &Experiment, state: &mut State, dt: f64) {
-    advect_all(exp, state, dt);
-    if exp.microphysics != Mode::Off {
-        sediment_all(exp, state, dt);
+/// Most sub-steps one transport step may take. More means a Courant number
+/// above 5000 (an updraft or fall speed far outside the physical range for
+/// the step and spacing): a mistake in the configuration, reported instead
+/// of a run that seems to hang.
+pub const MAX_SUBSTEPS: usize = 10_000;
+
+fn too_many(state: &State, what: &str, n: usize) -> RunError {
+    RunError::Stopped {
+        time: state.time,
+        process: "transport",
+        message: format!(
+            "{what} would need {n} sub-steps in one step; at most {MAX_SUBSTEPS} are allowed (shorten time.step or check the speeds)"
+        ),
     }
 }
 
-fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
+/// Advection, then sedimentation, over one step of `dt` s.
+pub fn transport(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
+    advect_all(exp, state, dt)?;
+    if exp.microphysics != Mode::Off {
+        sediment_all(exp, state, dt)?;
+    }
+    Ok(())
+}
+
+fn advect_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
     let rho = &exp.base.centre.density;
     let rho_face = &exp.base.face.density;
     let dz = exp.grid.dz;
@@ -64,9 +82,12 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
         moving |= sc.mass_flux[j] != 0.0;
     }
     if !moving {
-        return;
+        return Ok(());
     }
     let nsub = advection::substeps(&sc.mass_flux, rho, dz, dt);
+    if nsub > MAX_SUBSTEPS {
+        return Err(too_many(state, "advection by the updraft", nsub));
+    }
     if nsub > 1 {
         state.substeps.0 += 1;
         state.substeps.1 = state.substeps.1.max(nsub);
@@ -171,9 +192,10 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) {
             }
         }
     }
+    Ok(())
 }
 
-fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
+fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
     let rho = &exp.base.centre.density;
     let dz = exp.grid.dz;
     let n = rho.len();
@@ -184,6 +206,9 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
         .map(|v| sedimentation::substeps(v, dz, dt))
         .max()
         .unwrap_or(1);
+    if nsub > MAX_SUBSTEPS {
+        return Err(too_many(state, "sedimentation", nsub));
+    }
     let h = dt / nsub as f64;
     let mut precip = 0.0;
     for sub in 0..nsub {
@@ -222,4 +247,5 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) {
         }
     }
     state.water.precipitation += precip;
+    Ok(())
 }

@@ -1,10 +1,20 @@
-//! CF-1.10 NetCDF output.
+//! CF-1.10 NetCDF output, written so that no run loses a good file or leaves
+//! one that looks complete:
 //!
-//! The file is written under `<name>.incomplete` with the global attribute
-//! `run_status = "incomplete"`, synced after every record so a killed run
-//! keeps what it wrote, and only after a successful run marked
-//! `run_status = "complete"` and renamed to `<name>`. A failed run therefore
-//! never leaves a file that looks complete.
+//! - the output path is checked first: it must be a new name or a regular
+//!   file (not a device, directory, pipe or an input of the run);
+//! - a lock file `<name>.lock`, created exclusively and naming the process,
+//!   keeps two runs from writing the same output; a lock whose process has
+//!   ended is taken over;
+//! - the data go to `<name>.<pid>.incomplete` in the same directory, with
+//!   the global attribute `run_status = "incomplete"`; records are handed
+//!   to the operating system after every record and forced to the disk
+//!   (fsync) at most every `output.durable_interval` seconds of wall clock;
+//! - only after the run has succeeded is the file marked
+//!   `run_status = "complete"`, forced to disk and renamed over `<name>` in
+//!   one atomic step, so an earlier good file stays until then. A failed or
+//!   killed run leaves its `.incomplete` file (and nothing under `<name>`
+//!   that was not there before).
 
 use super::{
     flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement,
@@ -25,6 +35,12 @@ pub const STATUS_ATTRIBUTE: &str = "run_status";
 pub struct NetcdfWriter {
     target: PathBuf,
     partial: PathBuf,
+    lock: Option<OutputLock>,
+    /// Paths the run reads; the output may not be any of them.
+    inputs: Vec<PathBuf>,
+    /// Wall-clock interval between forced writes to the disk.
+    durable: std::time::Duration,
+    last_durable: std::time::Instant,
     history: String,
     file: Option<netcdf::FileMut>,
     vars: Vec<OutputVar>,
@@ -41,11 +57,155 @@ fn nc_err(context: &str) -> impl Fn(netcdf::Error) -> RunError + '_ {
     }
 }
 
-/// The name a run writes to before it succeeds.
+/// A NetCDF error while writing `path`, with the operating system's last
+/// error when there is one (the NetCDF library reports a full disk only as
+/// "HDF error").
+fn nc_err_at<'a>(context: &'a str, path: &'a str) -> impl Fn(netcdf::Error) -> RunError + 'a {
+    move |e| {
+        let os = std::io::Error::last_os_error();
+        let reason = match os.raw_os_error() {
+            Some(code) if code != 0 => format!("; operating system: {os}"),
+            _ => String::new(),
+        };
+        RunError::Output {
+            context: format!("{context} of {path}"),
+            message: format!("{e}{reason}"),
+        }
+    }
+}
+
+/// The name this process writes to before its run succeeds:
+/// `<target>.<pid>.incomplete`, beside the target.
 pub fn partial_path(target: &Path) -> PathBuf {
     let mut s = target.as_os_str().to_owned();
-    s.push(".incomplete");
+    s.push(format!(".{}.incomplete", std::process::id()));
     PathBuf::from(s)
+}
+
+/// The lock file that marks a run writing `target`.
+pub fn lock_path(target: &Path) -> PathBuf {
+    let mut s = target.as_os_str().to_owned();
+    s.push(".lock");
+    PathBuf::from(s)
+}
+
+/// An output error naming the file and, where the operating system gave
+/// one, its reason (a full disk reads "No space left on device").
+fn io_error(action: &str, path: &Path, source: std::io::Error) -> RunError {
+    RunError::Io {
+        context: format!("{action} {}", path.display()),
+        source,
+    }
+}
+
+/// Whether process `pid` is alive (Linux: its /proc entry exists).
+fn process_alive(pid: u32) -> bool {
+    Path::new(&format!("/proc/{pid}")).exists()
+}
+
+/// Exclusive claim on an output path for the lifetime of a run.
+#[derive(Debug)]
+struct OutputLock {
+    path: PathBuf,
+}
+
+impl OutputLock {
+    fn acquire(target: &Path) -> Result<Self, RunError> {
+        let path = lock_path(target);
+        for _ in 0..2 {
+            match std::fs::OpenOptions::new()
+                .write(true)
+                .create_new(true)
+                .open(&path)
+            {
+                Ok(mut f) => {
+                    use std::io::Write;
+                    writeln!(f, "{}", std::process::id())
+                        .map_err(|e| io_error("writing the lock", &path, e))?;
+                    return Ok(OutputLock { path });
+                }
+                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
+                    let owner = std::fs::read_to_string(&path)
+                        .ok()
+                        .and_then(|t| t.trim().parse::<u32>().ok());
+                    match owner {
+                        Some(pid) if pid == std::process::id() || process_alive(pid) => {
+                            return Err(RunError::Output {
+                                context: target.display().to_string(),
+                                message: format!(
+                                    "another run (process {pid}) is writing this file (lock {}); wait for it to finish or choose another output path",
+                                    path.display()
+                                ),
+                            });
+                        }
+                        // Left by a run that has ended: take it over.
+                        _ => {
+                            std::fs::remove_file(&path)
+                                .map_err(|e| io_error("removing the stale lock", &path, e))?;
+                        }
+                    }
+                }
+                Err(e) => return Err(io_error("creating the lock", &path, e)),
+            }
+        }
+        Err(RunError::Output {
+            context: target.display().to_string(),
+            message: format!("could not take the lock {}", path.display()),
+        })
+    }
+}
+
+impl Drop for OutputLock {
+    fn drop(&mut self) {
+        // Only our own lock is removed (its content names this process).
+        let ours = std::fs::read_to_string(&self.path)
+            .ok()
+            .and_then(|t| t.trim().parse::<u32>().ok())
+            == Some(std::process::id());
+        if ours {
+            let _ = std::fs::remove_file(&self.path);
+        }
+    }
+}
+
+/// Refuses an output path that is not a new name or a regular file, or that
+/// is one of the run's inputs (compared as canonical paths).
+pub fn check_output_path(target: &Path, inputs: &[PathBuf]) -> Result<(), RunError> {
+    let refuse = |why: String| RunError::Output {
+        context: target.display().to_string(),
+        message: why,
+    };
+    match std::fs::metadata(target) {
+        Ok(m) if !m.is_file() => return Err(refuse(
+            "exists and is not a regular file (a directory, device or pipe); give a new file name"
+                .into(),
+        )),
+        Ok(_) => {}
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
+        Err(e) => return Err(io_error("checking the output", target, e)),
+    }
+    let canonical = |p: &Path| -> Option<PathBuf> {
+        if p.exists() {
+            std::fs::canonicalize(p).ok()
+        } else {
+            // A new file: its directory's canonical path plus its name.
+            let dir = p
+                .parent()
+                .filter(|d| !d.as_os_str().is_empty())
+                .unwrap_or(Path::new("."));
+            Some(std::fs::canonicalize(dir).ok()?.join(p.file_name()?))
+        }
+    };
+    let out = canonical(target);
+    for input in inputs {
+        if out.is_some() && canonical(input) == out {
+            return Err(refuse(format!(
+                "is an input of this run ({}); writing it would destroy that input",
+                input.display()
+            )));
+        }
+    }
+    Ok(())
 }
 
 impl NetcdfWriter {
@@ -54,6 +214,10 @@ impl NetcdfWriter {
         NetcdfWriter {
             target: target.to_path_buf(),
             partial: partial_path(target),
+            lock: None,
+            inputs: Vec::new(),
+            durable: std::time::Duration::from_secs(5),
+            last_durable: std::time::Instant::now(),
             history: format!("{}: {}", utc_now(), command_line),
             file: None,
             vars: Vec::new(),
@@ -64,8 +228,25 @@ impl NetcdfWriter {
         }
     }
 
+    /// The run's input files (configuration, sounding, replayed output):
+    /// the output may not be one of them.
+    pub fn with_inputs(mut self, inputs: Vec<PathBuf>) -> Self {
+        self.inputs = inputs;
+        self
+    }
+
+    /// Forces the written records to the disk (fsync of the partial file).
+    fn make_durable(&mut self) -> Result<(), RunError> {
+        std::fs::File::open(&self.partial)
+            .and_then(|f| f.sync_all())
+            .map_err(|e| io_error("forcing to disk", &self.partial, e))?;
+        self.last_durable = std::time::Instant::now();
+        Ok(())
+    }
+
     fn define(&mut self, exp: &Experiment) -> Result<netcdf::FileMut, RunError> {
-        let e = nc_err("definition");
+        let partial = self.partial.display().to_string();
+        let e = nc_err_at("definition", &partial);
         let mut f = netcdf::create(&self.partial).map_err(&e)?;
         let n = exp.grid.len();
         f.add_unlimited_dimension("time").map_err(&e)?;
@@ -175,14 +356,12 @@ impl NetcdfWriter {
 
 impl Observer for NetcdfWriter {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
-        // A stale complete file under the target name would be mistaken for
-        // this run's result if this run failed, so it goes first.
-        if self.target.exists() {
-            std::fs::remove_file(&self.target).map_err(|source| RunError::Io {
-                context: format!("removing old output {}", self.target.display()),
-                source,
-            })?;
-        }
+        // Nothing is created or truncated before the path is checked and
+        // the lock is ours; an earlier file under the target name stays
+        // until this run has succeeded.
+        check_output_path(&self.target, &self.inputs)?;
+        self.lock = Some(OutputLock::acquire(&self.target)?);
+        self.durable = std::time::Duration::from_secs_f64(exp.config.output.durable_interval);
         self.vars = variables(exp);
         self.flash_vars = flash_variables(exp);
         self.file = Some(self.define(exp)?);
@@ -190,7 +369,8 @@ impl Observer for NetcdfWriter {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
-        let e = nc_err("record");
+        let partial = self.partial.display().to_string();
+        let e = nc_err_at("record", &partial);
         let f = self.file.as_mut().ok_or_else(|| RunError::Output {
             context: "record".into(),
             message: "file not open".into(),
@@ -230,6 +410,9 @@ impl Observer for NetcdfWriter {
         self.flashes_written = state.ledger.flashes.len();
         f.sync().map_err(&e)?;
         self.record += 1;
+        if self.last_durable.elapsed() >= self.durable {
+            self.make_durable()?;
+        }
         Ok(())
     }
 
@@ -239,7 +422,8 @@ impl Observer for NetcdfWriter {
         state: &State,
         _summary: &RunSummary,
     ) -> Result<(), RunError> {
-        let e = nc_err("closing");
+        let partial = self.partial.display().to_string();
+        let e = nc_err_at("closing", &partial);
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
             context: "closing".into(),
             message: "file not open".into(),
@@ -253,6 +437,11 @@ impl Observer for NetcdfWriter {
         self.flashes_written = state.ledger.flashes.len();
         f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
         f.close().map_err(&e)?;
+        // On the disk before it takes the target's name, so a crash after
+        // the rename cannot leave a complete-looking but empty file.
+        self.make_durable()?;
+        // The target may have become a non-file meanwhile; check again.
+        check_output_path(&self.target, &self.inputs)?;
         std::fs::rename(&self.partial, &self.target).map_err(|source| RunError::Io {
             context: format!(
                 "renaming {} to {}",
@@ -260,7 +449,18 @@ impl Observer for NetcdfWriter {
                 self.target.display()
             ),
             source,
-        })
+        })?;
+        // The rename itself is durable once the directory is synced.
+        let dir = self
+            .target
+            .parent()
+            .filter(|d| !d.as_os_str().is_empty())
+            .unwrap_or(Path::new("."));
+        if let Ok(d) = std::fs::File::open(dir) {
+            let _ = d.sync_all();
+        }
+        self.lock = None;
+        Ok(())
     }
 }
 

@@ -52,6 +52,52 @@ impl OutputFile {
         }
     }
 
+    /// Checks that the file can be analysed or drawn: at least one time
+    /// record and one level, and only finite values in `variables`. Returns
+    /// warnings for a usable file that is not marked complete or holds
+    /// fields no air can hold.
+    pub fn usable(&self, variables: &[&str]) -> Result<Vec<String>, RunError> {
+        let len = |d: &str| self.file.dimension(d).map_or(0, |d| d.len());
+        if len("time") == 0 {
+            return Err(self.fail(
+                "has no time records (a run stopped right after writing its header)".into(),
+            ));
+        }
+        if len("z") == 0 {
+            return Err(self.fail("has no levels".into()));
+        }
+        let mut warnings = Vec::new();
+        match self.text(crate::output::netcdf_writer::STATUS_ATTRIBUTE) {
+            Some(s) if s == "complete" => {}
+            Some(s) => warnings.push(format!(
+                "{} is marked run_status = \"{s}\": the run did not finish, so the file holds only what was written before it stopped",
+                self.path.display()
+            )),
+            None => warnings.push(format!(
+                "{} has no run_status attribute: it may not be a stormcharge output",
+                self.path.display()
+            )),
+        }
+        for name in variables {
+            let v = self.values(name)?;
+            if let Some(x) = v.iter().find(|x| !x.is_finite()) {
+                return Err(self.fail(format!(
+                    "variable {name} holds a value that is not a finite number ({x}): the run that wrote it broke down"
+                )));
+            }
+            if *name == "electric_field" {
+                let peak = v.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
+                if peak > 1e7 {
+                    warnings.push(format!(
+                        "{}: |E_z| reaches {peak:.3e} V/m, more than three times the conventional breakdown field at sea level: the run's field ran away",
+                        self.path.display()
+                    ));
+                }
+            }
+        }
+        Ok(warnings)
+    }
+
     /// A text global attribute, if present.
     pub fn text(&self, name: &str) -> Option<String> {
         match self.file.attribute(name).and_then(|a| a.value().ok()) {

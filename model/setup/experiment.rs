@@ -74,6 +74,9 @@ pub struct Experiment {
     pub entrainment_rate: f64,
     /// Air mass per area of each cell, rho dz (kg m-2).
     pub cell_mass: Vec<f64>,
+    /// Files the configuration made the run read (a sounding CSV): an
+    /// output may not overwrite them.
+    pub input_files: Vec<std::path::PathBuf>,
     /// The updraft's vertical shape factor on the faces (fixed in time).
     pub updraft_shape: Vec<f64>,
 }
@@ -86,6 +89,11 @@ impl Experiment {
     }
 }
 
+/// Most steps a run may take: 1e8 steps of the demo column would take
+/// about a day on one core (docs/performance.md); a larger count is a
+/// mistake in the time section, not an experiment.
+pub const MAX_STEPS: u64 = 100_000_000;
+
 /// `a / b` as a whole number when it is one to within 1e-9 relative.
 fn whole_ratio(a: f64, b: f64) -> Option<u64> {
     let r = a / b;
@@ -95,8 +103,13 @@ fn whole_ratio(a: f64, b: f64) -> Option<u64> {
 
 fn issue_for(path: &str, value: f64, message: String) -> ConfigIssue {
     let spec = schema::find(path);
+    let shown = if value == 0.0 || (1e-4..1e9).contains(&value.abs()) {
+        format!("{value}")
+    } else {
+        format!("{value:e}")
+    };
     ConfigIssue::new(path, message)
-        .value(format!("{value}"))
+        .value(shown)
         .unit(spec.map_or("", |s| s.unit))
 }
 
@@ -114,11 +127,11 @@ impl Experiment {
                 format!("must be a whole number of grid.spacing ({} m)", g.spacing),
             ))
         })?;
-        if !(3..=100_000).contains(&n) {
+        if !(3..=80_000).contains(&n) {
             return Err(err(issue_for(
                 "grid.spacing",
                 g.spacing,
-                format!("gives {n} cells; between 3 and 100000 are allowed"),
+                format!("gives {n} cells; between 3 and 80000 are allowed"),
             )));
         }
         let grid = Grid::uniform(n as usize, g.spacing);
@@ -132,6 +145,16 @@ impl Experiment {
                 format!("must be a whole number of time.step ({} s)", t.step),
             ))
         })?;
+        if steps > MAX_STEPS {
+            return Err(err(issue_for(
+                "time.step",
+                t.step,
+                format!(
+                    "gives {steps} steps for time.duration = {} s; at most {MAX_STEPS} are allowed (lengthen the step or shorten the run)",
+                    t.duration
+                ),
+            )));
+        }
         if t.output_interval > t.duration {
             return Err(err(issue_for(
                 "time.output_interval",
@@ -153,6 +176,7 @@ impl Experiment {
         };
 
         // Base state.
+        let mut input_files = Vec::new();
         let source = match config.atmosphere.profile {
             ProfileKind::Standard1976 => BaseSource::Standard1976,
             ProfileKind::Analytic => {
@@ -167,9 +191,13 @@ impl Experiment {
                     stratosphere_lapse_rate: a.stratosphere_lapse_rate * 1e-3,
                 })
             }
-            ProfileKind::Sounding => {
-                sounding_input::resolve(&mut config, base_dir, grid.top(), origin)?
-            }
+            ProfileKind::Sounding => sounding_input::resolve(
+                &mut config,
+                base_dir,
+                grid.top(),
+                origin,
+                &mut input_files,
+            )?,
         };
         let base = BaseState::build(&grid, &source).map_err(|why| {
             let key = match config.atmosphere.profile {
@@ -218,6 +246,7 @@ impl Experiment {
             cell_env,
             entrainment_rate,
             cell_mass,
+            input_files,
             updraft_shape,
         })
     }

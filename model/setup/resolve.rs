@@ -30,20 +30,58 @@ use crate::setup::config::{
 /// One nanocoulomb (C): charge-density keys are given in nC m-3.
 const NANO: f64 = 1e-9;
 
-/// A checked table from the rows of configuration key `key`; `what` names
-/// the two columns with their units for the error message.
-pub fn table(key: &str, rows: Option<&Vec<Vec<f64>>>, what: &str) -> Result<Table, ConfigIssue> {
-    let allowed = format!("at least 2 rows [{what}], finite, first column strictly increasing");
+/// The physical range of a table's columns.
+#[derive(Debug, Clone, Copy)]
+pub struct Columns {
+    /// Names with units, for messages: "height (m), factor".
+    pub what: &'static str,
+    pub x: (f64, f64),
+    pub y: (f64, f64),
+}
+
+/// Heights (m) against a shape factor (1) of imposed layers and the updraft.
+pub const HEIGHT_FACTOR: Columns = Columns {
+    what: "height (m), factor",
+    x: (-1000.0, 100_000.0),
+    y: (-10.0, 10.0),
+};
+
+/// Times (s) against an envelope factor (1).
+pub const TIME_FACTOR: Columns = Columns {
+    what: "time (s), factor",
+    x: (-1.0e7, 1.0e7),
+    y: (-10.0, 10.0),
+};
+
+/// A checked table from the rows of configuration key `key`. Every value
+/// must lie in its column's physical range: a factor of 1e300 passes the
+/// type check but would ask for 1e300 m/s of updraft.
+pub fn table(key: &str, rows: Option<&Vec<Vec<f64>>>, cols: Columns) -> Result<Table, ConfigIssue> {
+    let allowed = format!(
+        "at least 2 rows [{}], finite, first column strictly increasing within [{}, {}], second within [{}, {}]",
+        cols.what, cols.x.0, cols.x.1, cols.y.0, cols.y.1
+    );
     let rows = rows.ok_or_else(|| {
         ConfigIssue::new(key, "this table is required here").allowed(allowed.clone())
     })?;
-    Table::new(rows).map_err(|e| {
-        let issue = ConfigIssue::new(key, e.to_string()).allowed(allowed);
+    let table = Table::new(rows).map_err(|e| {
+        let issue = ConfigIssue::new(key, e.to_string()).allowed(allowed.clone());
         match e {
             TableError::NotTwoFinite { values, .. } => issue.value(format!("{values:?}")),
             _ => issue,
         }
-    })
+    })?;
+    for (i, p) in table.points().iter().enumerate() {
+        let inside = |v: f64, (lo, hi): (f64, f64)| (lo..=hi).contains(&v);
+        if !inside(p[0], cols.x) || !inside(p[1], cols.y) {
+            return Err(
+                ConfigIssue::new(key, format!("row {} is out of range", i + 1))
+                    .value(format!("{p:?}"))
+                    .allowed(allowed),
+            );
+        }
+    }
+    Ok(table)
 }
 
 fn envelope(prefix: &str, c: &EnvelopeConfig) -> Result<Envelope, ConfigIssue> {
@@ -58,7 +96,7 @@ fn envelope(prefix: &str, c: &EnvelopeConfig) -> Result<Envelope, ConfigIssue> {
         EnvelopeKind::Table => Envelope::Table(table(
             &format!("{prefix}.envelope_points"),
             c.envelope_points.as_ref(),
-            "time (s), factor",
+            TIME_FACTOR,
         )?),
     })
 }
@@ -83,7 +121,7 @@ pub fn updraft(c: &UpdraftConfig) -> Result<Updraft, ConfigIssue> {
         UpdraftShape::Table => Shape::Table(table(
             "updraft.profile_points",
             c.profile_points.as_ref(),
-            "height (m), factor",
+            HEIGHT_FACTOR,
         )?),
     };
     Ok(Updraft {
@@ -155,7 +193,7 @@ fn layer_shape(
             Ok(profile::LayerShape::Table(table(
                 &format!("{key}.points"),
                 points,
-                "height (m), factor (1)",
+                HEIGHT_FACTOR,
             )?))
         }
     }

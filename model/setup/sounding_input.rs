@@ -174,6 +174,7 @@ pub fn resolve(
     base_dir: &Path,
     top: f64,
     origin: &str,
+    inputs: &mut Vec<std::path::PathBuf>,
 ) -> Result<BaseSource, ConfigError> {
     let s = &mut config.atmosphere.sounding;
     let many = |issues: Vec<ConfigIssue>| ConfigError {
@@ -197,6 +198,7 @@ pub fn resolve(
             }
             let path = base_dir.join(file);
             let (c, r) = read_csv(&path, "atmosphere.sounding.file").map_err(one)?;
+            inputs.push(path);
             (c, r, "atmosphere.sounding.file")
         }
         (None, Some(rows)) => {

@@ -270,16 +270,23 @@ pub fn step_cell(
     report.created = created;
     report.cloud_before_adjust = s.q[CLOUD];
     report.condensed = adjust::saturation_adjustment(s, env.p);
-    // A temperature outside the validity of the saturation formulas means the
-    // integration has gone wrong; stop with a clear error rather than go on.
-    if !(crate::physics::atmosphere::saturation::LIQUID_T_MIN
-        ..=crate::physics::atmosphere::saturation::LIQUID_T_MAX)
-        .contains(&s.t)
-        || s.q.iter().any(|x| !x.is_finite())
-    {
+    // A state that is not finite, or a temperature outside the validity of
+    // the saturation formulas, means the integration has gone wrong; stop
+    // with a message that says which.
+    if let Some(i) = s.q.iter().position(|x| !x.is_finite()) {
         return Err(format!(
-            "non-finite microphysical state at p = {:.0} Pa",
-            env.p
+            "mixing ratio {i} (vapour, cloud, rain, ice, snow, graupel order) is {} at p = {:.0} Pa",
+            s.q[i], env.p
+        ));
+    }
+    let (lo, hi) = (
+        crate::physics::atmosphere::saturation::LIQUID_T_MIN,
+        crate::physics::atmosphere::saturation::LIQUID_T_MAX,
+    );
+    if !(lo..=hi).contains(&s.t) {
+        return Err(format!(
+            "temperature {:.3} K left the validity range [{lo}, {hi}] K of the Murphy & Koop (2005) saturation formulas at p = {:.0} Pa",
+            s.t, env.p
         ));
     }
     Ok(())

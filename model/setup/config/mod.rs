@@ -361,6 +361,8 @@ pub struct SweepConfig {
 pub struct OutputConfig {
     pub file: String,
     pub title: String,
+    /// s of wall clock.
+    pub durable_interval: f64,
 }
 
 impl Config {

@@ -774,7 +774,14 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Path,
         unit: "",
         default: Some("\"stormcharge_output.nc\""),
-        doc: "NetCDF output file, relative to the working directory. Written as <file>.incomplete and renamed when the run succeeds. `run -o` overrides it.",
+        doc: "NetCDF output file, relative to the working directory. Written as <file>.<process id>.incomplete and renamed over <file> only when the run succeeds (docs/output.md). `run -o` overrides it.",
+    },
+    KeySpec {
+        path: "output.durable_interval",
+        kind: float(0.0, false, 3600.0, false),
+        unit: "s",
+        default: Some("5.0"),
+        doc: "Wall-clock interval at which the records written so far are forced to the disk (fsync); 0: after every record. Records are handed to the operating system after every record in any case.",
     },
     KeySpec {
         path: "output.title",
