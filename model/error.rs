@@ -131,6 +131,13 @@ pub enum RunError {
     Output { context: String, message: String },
     #[error("numerical failure at t = {time} s: {message}")]
     Numerics { time: f64, message: String },
+    /// Some members of a sweep failed (the others' results are written).
+    #[error("{failed} of {total} sweep members failed; see {}", summary.display())]
+    MembersFailed {
+        failed: usize,
+        total: usize,
+        summary: std::path::PathBuf,
+    },
     /// A guard of `crate::column::guards` stopped the run: a quantity left
     /// the finite numbers or its physical range.
     #[error("run stopped at t = {time} s after {process}: {message}")]
@@ -142,10 +149,12 @@ pub enum RunError {
 }
 
 impl RunError {
-    /// Process exit code: 2 for configuration and usage errors, 1 otherwise.
+    /// Process exit code: 2 for configuration and usage errors, 3 for a
+    /// sweep in which some members failed, 1 otherwise.
     pub fn exit_code(&self) -> i32 {
         match self {
             RunError::Config(_) => 2,
+            RunError::MembersFailed { .. } => 3,
             _ => 1,
         }
     }

@@ -40,6 +40,14 @@ pub struct Outcome {
     pub precipitation: f64,
 }
 
+/// Most members one sweep may have: each writes its own output file, and
+/// the expansion is held in memory.
+pub const MAX_MEMBERS: usize = 100_000;
+
+/// Most worker threads: more than this only adds scheduling overhead on
+/// any machine this model runs on (each member is one thread's work).
+pub const MAX_THREADS: usize = 256;
+
 /// Expands the sweep section into members. Errors name the offending key.
 pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member>), ConfigError> {
     let err = |key: String, msg: String| ConfigError::single(origin, ConfigIssue::new(key, msg));
@@ -70,6 +78,16 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
         return Err(err(
             "sweep.parameters".into(),
             "a sweep needs at least one [[sweep.parameters]] block".into(),
+        ));
+    }
+    let count: u128 = match config.sweep.combine {
+        SweepCombine::Zip => lists[0].len() as u128,
+        SweepCombine::Product => lists.iter().map(|l| l.len() as u128).product(),
+    };
+    if count > MAX_MEMBERS as u128 {
+        return Err(err(
+            "sweep.parameters".into(),
+            format!("the sweep has {count} members; at most {MAX_MEMBERS} are allowed (split it into several sweeps)"),
         ));
     }
     let combos: Vec<Vec<String>> = match config.sweep.combine {
@@ -199,6 +217,14 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
 
 /// A rayon pool of `threads` workers (0: one per core).
 pub fn thread_pool(threads: usize) -> Result<rayon::ThreadPool, RunError> {
+    if threads > MAX_THREADS {
+        return Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("--threads", "too many worker threads")
+                .value(threads.to_string())
+                .allowed(format!("0 (one per core) to {MAX_THREADS}")),
+        )));
+    }
     rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
@@ -289,9 +315,16 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
             s.push(',');
             s.push_str(&csv_field(shown(ov)));
         }
-        let status = if o.error.is_some() { "failed" } else { "ok" };
+        if o.error.is_some() {
+            // A failed member has no outcome: empty fields, not zeros.
+            s.push_str(&format!(
+                ",failed,,,,,,,,,{}\n",
+                csv_field(o.error.as_deref().unwrap_or(""))
+            ));
+            continue;
+        }
         s.push_str(&format!(
-            ",{status},{},{},{},{},{},{},{},{},{}\n",
+            ",ok,{},{},{},{},{},{},{},{},\n",
             o.flash_counts[0],
             o.flash_counts[1],
             o.flash_counts[2],
@@ -300,7 +333,6 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
             o.structure,
             o.max_separation,
             o.precipitation,
-            csv_field(o.error.as_deref().unwrap_or(""))
         ));
     }
     s
@@ -312,6 +344,101 @@ fn csv_field(v: &str) -> String {
     } else {
         v.to_string()
     }
+}
+
+/// FNV-1a 64-bit hash of a text (Fowler, Noll & Vo; the published offset
+/// basis and prime), the fingerprint that ties shard summaries to one
+/// configuration.
+pub fn fingerprint(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0000_0100_0000_01b3);
+    }
+    format!("{h:016x}")
+}
+
+/// The side file of a summary that `merge` checks: the configuration's
+/// fingerprint, the sweep's member count and the members of this summary.
+pub fn summary_meta(fingerprint: &str, total: usize, outcomes: &[Outcome]) -> String {
+    let ids: Vec<String> = outcomes
+        .iter()
+        .map(|o| o.member.index.to_string())
+        .collect();
+    format!(
+        "fingerprint {fingerprint}\nmembers {total}\nids {}\n",
+        ids.join(",")
+    )
+}
+
+/// File name of a summary's side file.
+pub fn meta_name(summary: &str) -> String {
+    summary.replace(".csv", ".meta")
+}
+
+/// Makes sure an earlier sweep's files in `dir` cannot be mixed with this
+/// one's: this shard's member files, its summary and member files beyond
+/// this sweep's count are removed with `overwrite` and refused otherwise.
+/// Other shards' files of the same sweep are left alone.
+pub fn prepare_directory(
+    dir: &Path,
+    members: &[Member],
+    shard: Option<(usize, usize)>,
+    summary: &str,
+    overwrite: bool,
+) -> Result<(), RunError> {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return Ok(()); // a new directory
+    };
+    let total = members.len();
+    let mut stale = Vec::new();
+    for entry in entries.flatten() {
+        let path = entry.path();
+        let name = path
+            .file_name()
+            .and_then(|n| n.to_str())
+            .unwrap_or("")
+            .to_string();
+        let member = name
+            .strip_prefix("member_")
+            .and_then(|r| r.get(..4))
+            .and_then(|d| d.parse::<usize>().ok());
+        let conflict = match member {
+            Some(i) => i > total || in_shard(i, shard),
+            None => {
+                name == summary
+                    || name == meta_name(summary)
+                    || name == summary.replace(".csv", ".nc")
+                    || (shard.is_none() && name.starts_with("summary"))
+            }
+        };
+        if conflict {
+            stale.push(path);
+        }
+    }
+    if stale.is_empty() {
+        return Ok(());
+    }
+    if !overwrite {
+        return Err(RunError::Config(ConfigError::single(
+            dir.display().to_string(),
+            ConfigIssue::new(
+                "--output",
+                format!(
+                    "holds {} files of an earlier sweep (e.g. {}); choose an empty directory or pass --overwrite to remove them",
+                    stale.len(),
+                    stale[0].display()
+                ),
+            ),
+        )));
+    }
+    for p in stale {
+        std::fs::remove_file(&p).map_err(|source| RunError::Io {
+            context: format!("removing {}", p.display()),
+            source,
+        })?;
+    }
+    Ok(())
 }
 
 /// File name of a shard's summary.
@@ -362,26 +489,82 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
             return Err(bad(format!("shard {k} of {n} is missing")));
         }
     }
+    if shards.len() != n {
+        return Err(bad(format!(
+            "{} summaries for {n} shards: a shard appears twice",
+            shards.len()
+        )));
+    }
     let mut header = None;
     let mut rows: Vec<(usize, String)> = Vec::new();
+    let mut print: Option<(String, usize)> = None;
     for (_, _, path) in &shards {
         let text =
             std::fs::read_to_string(path).map_err(io(format!("reading {}", path.display())))?;
+        let meta_path = path.with_extension("meta");
+        let meta = std::fs::read_to_string(&meta_path).map_err(|_| {
+            bad(format!(
+                "{} has no side file {} (written by the sweep with the summary)",
+                path.display(),
+                meta_path.display()
+            ))
+        })?;
+        let field = |key: &str| {
+            meta.lines()
+                .find_map(|l| l.strip_prefix(&format!("{key} ")))
+                .unwrap_or("")
+                .to_string()
+        };
+        let (fp, total) = (
+            field("fingerprint"),
+            field("members").parse::<usize>().unwrap_or(0),
+        );
+        match &print {
+            None => print = Some((fp.clone(), total)),
+            Some((f, t)) if *f != fp || *t != total => {
+                return Err(bad(format!(
+                    "{} belongs to another sweep (configuration fingerprint or member count differs)",
+                    path.display()
+                )));
+            }
+            _ => {}
+        }
+        let ids: Vec<usize> = field("ids")
+            .split(',')
+            .filter_map(|x| x.parse().ok())
+            .collect();
         let mut lines = text.lines();
         let h = lines.next().unwrap_or("").to_string();
         if header.get_or_insert_with(|| h.clone()) != &h {
             return Err(bad(format!("{} has a different header", path.display())));
         }
+        let mut found = Vec::new();
         for line in lines {
             let idx = line
                 .split(',')
                 .next()
                 .and_then(|x| x.parse().ok())
                 .unwrap_or(0);
+            found.push(idx);
             rows.push((idx, line.to_string()));
+        }
+        if found != ids {
+            return Err(bad(format!(
+                "{} holds {} rows where its side file lists {} members: it is truncated or was edited",
+                path.display(),
+                found.len(),
+                ids.len()
+            )));
         }
     }
     rows.sort_by_key(|r| r.0);
+    let total = print.map_or(0, |p| p.1);
+    let expected: Vec<usize> = (1..=total).collect();
+    if rows.iter().map(|r| r.0).collect::<Vec<_>>() != expected {
+        return Err(bad(format!(
+            "the shards do not hold members 1 to {total} exactly once"
+        )));
+    }
     let mut out = header.unwrap_or_default();
     out.push('\n');
     for (_, r) in rows {
@@ -461,7 +644,12 @@ pub fn write_summary_netcdf(
         let mut v = f.add_variable::<f64>(name, &["member"]).map_err(e)?;
         v.put_attribute("long_name", long).map_err(e)?;
         v.put_attribute("units", units).map_err(e)?;
-        let data: Vec<f64> = outcomes.iter().map(get).collect();
+        // A failed member has no outcome: the CF fill value, not a zero.
+        v.put_attribute("_FillValue", f64::NAN).map_err(e)?;
+        let data: Vec<f64> = outcomes
+            .iter()
+            .map(|o| if o.error.is_some() { f64::NAN } else { get(o) })
+            .collect();
         v.put_values(&data, ..).map_err(e)?;
     }
     let mut v = f.add_variable::<i32>("status", &["member"]).map_err(e)?;

@@ -133,21 +133,130 @@ key = "column.radius"
 values = [2000.0, -5.0, 3000.0]
 "#,
     );
+    // The others run and the summary is written; the exit code says that
+    // a member failed (3, docs/sweeps.md), and the failed row has empty
+    // outcome fields, not zeros.
     let o = sweep(&cfg, "with_failure", &[]);
     assert_eq!(
         o.status.code(),
-        Some(0),
+        Some(3),
         "{}",
         String::from_utf8_lossy(&o.stderr)
     );
+    assert!(String::from_utf8_lossy(&o.stderr).contains("1 of 3 sweep members failed"));
     let s = read("with_failure", "summary.csv");
     let rows: Vec<&str> = s.lines().skip(1).collect();
     assert!(rows[0].contains(",ok,") && rows[2].contains(",ok,"));
     assert!(
-        rows[1].contains(",failed,") && rows[1].contains("column.radius"),
+        rows[1].contains(",failed,,,,,,,,,") && rows[1].contains("column.radius"),
         "{}",
         rows[1]
     );
     assert!(scratch("with_failure").join("member_0003.nc").exists());
     assert!(!scratch("with_failure").join("member_0002.nc").exists());
+}
+
+#[test]
+fn all_members_failing_is_not_success() {
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+[[sweep.parameters]]
+key = "column.radius"
+values = [-1.0, -2.0]
+"#,
+    );
+    let o = sweep(&cfg, "all_failed", &[]);
+    assert_eq!(o.status.code(), Some(3));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("2 of 2 sweep members failed"));
+}
+
+#[test]
+fn merge_refuses_truncated_duplicate_and_foreign_shards() {
+    let cfg = config_with_sweep(SWEEP);
+    for k in 1..=2 {
+        let o = sweep(&cfg, "merge_checks", &["--shard", &format!("{k}/2")]);
+        assert_eq!(o.status.code(), Some(0));
+    }
+    let dir = scratch("merge_checks");
+    let merge = || bin().arg("sweep-merge").arg(&dir).output().unwrap();
+    assert_eq!(merge().status.code(), Some(0));
+    // Truncated: a row missing from shard 1.
+    let s1 = dir.join("summary_shard_1_of_2.csv");
+    let good = std::fs::read_to_string(&s1).unwrap();
+    let cut: Vec<&str> = good.lines().collect();
+    std::fs::write(&s1, cut[..cut.len() - 1].join("\n") + "\n").unwrap();
+    let o = merge();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("truncated"));
+    std::fs::write(&s1, &good).unwrap();
+    // Duplicate: a third summary claiming to be a shard of 2.
+    std::fs::copy(&s1, dir.join("summary_shard_3_of_2.csv")).unwrap();
+    std::fs::copy(
+        dir.join("summary_shard_1_of_2.meta"),
+        dir.join("summary_shard_3_of_2.meta"),
+    )
+    .unwrap();
+    assert_eq!(merge().status.code(), Some(2));
+    std::fs::remove_file(dir.join("summary_shard_3_of_2.csv")).unwrap();
+    std::fs::remove_file(dir.join("summary_shard_3_of_2.meta")).unwrap();
+    // Foreign: shard 2 of another configuration.
+    let other = config_with_sweep(&SWEEP.replace("0.3, 0.5", "0.4, 0.6"));
+    let o = sweep(&other, "merge_other", &["--shard", "2/2"]);
+    assert_eq!(o.status.code(), Some(0));
+    for ext in ["csv", "meta"] {
+        std::fs::copy(
+            scratch("merge_other").join(format!("summary_shard_2_of_2.{ext}")),
+            dir.join(format!("summary_shard_2_of_2.{ext}")),
+        )
+        .unwrap();
+    }
+    let o = merge();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("another sweep"));
+}
+
+#[test]
+fn a_used_directory_is_refused_or_cleaned() {
+    // A bigger sweep, then a smaller one into the same directory: refused
+    // (exit 2) because the old members would be mixed with the new; with
+    // --overwrite the stale members are removed.
+    let big = config_with_sweep(SWEEP);
+    assert_eq!(sweep(&big, "reused", &[]).status.code(), Some(0));
+    let small = config_with_sweep(
+        r#"
+[sweep]
+[[sweep.parameters]]
+key = "discharge.target_fraction"
+values = [0.3, 0.5]
+"#,
+    );
+    let o = sweep(&small, "reused", &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("earlier sweep"));
+    assert_eq!(
+        sweep(&small, "reused", &["--overwrite"]).status.code(),
+        Some(0)
+    );
+    let dir = scratch("reused");
+    assert!(dir.join("member_0002.nc").exists());
+    assert!(!dir.join("member_0003.nc").exists());
+    assert_eq!(read("reused", "summary.csv").lines().count(), 3);
+}
+
+#[test]
+fn work_is_bounded() {
+    // Thread count and member count have limits with clear errors (exit 2).
+    let cfg = config_with_sweep(SWEEP);
+    let o = sweep(&cfg, "threads", &["--threads", "3000"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--threads"));
+    let values: Vec<String> = (0..500).map(|i| format!("{}.0", 1000 + i)).collect();
+    let huge = config_with_sweep(&format!(
+        "[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [{v}]\n[[sweep.parameters]]\nkey = \"updraft.peak_speed\"\nvalues = [{v}]\n",
+        v = values.join(", ")
+    ));
+    let o = sweep(&huge, "huge", &[]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("at most 100000"));
 }

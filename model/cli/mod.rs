@@ -61,6 +61,11 @@ pub enum Command {
         /// Run only shard K of N (every N-th member from the K-th), e.g. 2/4.
         #[arg(long, value_name = "K/N")]
         shard: Option<String>,
+        /// Remove the output files of an earlier sweep (this shard's
+        /// members and summary, and members beyond this sweep's count)
+        /// instead of refusing to run into a used directory.
+        #[arg(long)]
+        overwrite: bool,
         /// No progress bar, no summary.
         #[arg(short, long)]
         quiet: bool,
@@ -183,7 +188,15 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             threads,
             shard,
             quiet,
-        } => cmd_sweep(&config, &output, threads, shard.as_deref(), quiet),
+            overwrite,
+        } => cmd_sweep(
+            &config,
+            &output,
+            threads,
+            shard.as_deref(),
+            quiet,
+            overwrite,
+        ),
         Command::Analyze {
             output,
             times,
@@ -300,6 +313,20 @@ fn cmd_run(
                     "stormcharge: note: {} is marked {status}; replaying its configuration anyway",
                     nc.display()
                 );
+            }
+            // stormcharge stores soundings inline, never as a file name: a
+            // stored configuration that names a file was edited, and reading
+            // that file would let an output file make the program read (and
+            // quote in errors) any local file.
+            let stored = crate::setup::config::parse(&text, &nc.display().to_string())?;
+            if stored.atmosphere.sounding.file.is_some() {
+                return Err(RunError::Config(ConfigError::single(
+                    nc.display().to_string(),
+                    ConfigIssue::new(
+                        "atmosphere.sounding.file",
+                        "a stored configuration names a file; stormcharge stores soundings inline, so this file was edited and is not replayed",
+                    ),
+                )));
             }
             let exp = Experiment::from_text(
                 &text,
@@ -644,6 +671,7 @@ fn cmd_sweep(
     threads: usize,
     shard: Option<&str>,
     quiet: bool,
+    overwrite: bool,
 ) -> Result<(), RunError> {
     let shard = shard.map(parse_shard).transpose()?;
     let text = read_config(config)?;
@@ -662,12 +690,23 @@ fn cmd_sweep(
             b.inc(1);
         }
     };
+    let name = crate::sweep::shard_summary_name(shard);
+    crate::sweep::prepare_directory(dir, &members, shard, &name, overwrite)?;
     let outcomes = crate::sweep::run(&text, base_dir, &members, dir, threads, shard, &tick)?;
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
-    let name = crate::sweep::shard_summary_name(shard);
     let csv = dir.join(&name);
+    let meta = dir.join(crate::sweep::meta_name(&name));
+    let print = crate::sweep::fingerprint(&resolved.to_toml());
+    std::fs::write(
+        &meta,
+        crate::sweep::summary_meta(&print, members.len(), &outcomes),
+    )
+    .map_err(|source| RunError::Io {
+        context: format!("writing {}", meta.display()),
+        source,
+    })?;
     std::fs::write(&csv, crate::sweep::summary_csv(&keys, &outcomes)).map_err(|source| {
         RunError::Io {
             context: format!("writing {}", csv.display()),
@@ -686,6 +725,14 @@ fn cmd_sweep(
             nc.display()
         );
         print!("{}", crate::sweep::summary_csv(&keys, &outcomes));
+    }
+    let failed = outcomes.iter().filter(|o| o.error.is_some()).count();
+    if failed > 0 {
+        return Err(RunError::MembersFailed {
+            failed,
+            total: outcomes.len(),
+            summary: csv,
+        });
     }
     Ok(())
 }

@@ -61,6 +61,9 @@ pub struct OutputVar {
     pub placement: Placement,
     /// Extra explanation written as the `comment` attribute (may be empty).
     pub comment: &'static str,
+    /// Whether the variable may hold NaN for "no value" (written with the
+    /// CF `_FillValue` NaN so readers treat it as missing).
+    pub may_be_missing: bool,
     /// Writes the values into `out` (length by placement).
     pub fill: Fill,
 }
@@ -76,6 +79,7 @@ impl OutputVar {
         OutputVar {
             name: name.into(),
             standard_name: None,
+            may_be_missing: false,
             long_name: long_name.into(),
             units,
             placement,
@@ -91,6 +95,12 @@ impl OutputVar {
 
     fn comment(mut self, c: &'static str) -> Self {
         self.comment = c;
+        self
+    }
+
+    /// Marks the variable as holding NaN where it has no value.
+    fn missing(mut self) -> Self {
+        self.may_be_missing = true;
         self
     }
 
@@ -473,13 +483,16 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             )
             .comment(ratio_comment),
         );
-        v.push(OutputVar::new(
-            format!("field_ratio_height_{}", c.name()),
-            format!("height of the largest field_ratio_{}", c.name()),
-            "m",
-            Series,
-            Box::new(move |_, s, o| o[0] = s.criteria_status[i].height),
-        ));
+        v.push(
+            OutputVar::new(
+                format!("field_ratio_height_{}", c.name()),
+                format!("height of the largest field_ratio_{}", c.name()),
+                "m",
+                Series,
+                Box::new(move |_, s, o| o[0] = s.criteria_status[i].height),
+            )
+            .missing(),
+        );
     }
     v
 }

@@ -319,6 +319,9 @@ impl NetcdfWriter {
             if !var.comment.is_empty() {
                 v.put_attribute("comment", var.comment).map_err(&e)?;
             }
+            if var.may_be_missing {
+                v.put_attribute("_FillValue", f64::NAN).map_err(&e)?;
+            }
         }
         let mut ft = f
             .add_variable::<f64>("flash_time", &["flash"])

@@ -85,7 +85,14 @@ pub fn sounding_from_table(
                 issues.push(
                     ConfigIssue::new(
                         key,
-                        format!("level {level}, column \"{}\": missing value", columns[c]),
+                        if v.is_nan() {
+                            format!("level {level}, column \"{}\": missing value", columns[c])
+                        } else {
+                            format!(
+                                "level {level}, column \"{}\": not a finite number",
+                                columns[c]
+                            )
+                        },
                     )
                     .value(format!("{v}")),
                 );
@@ -255,6 +262,9 @@ pub fn resolve(
     })
 }
 
+/// Largest sounding file read (bytes): a million levels of a few numbers.
+pub const MAX_SOUNDING_BYTES: u64 = 16 * 1024 * 1024;
+
 /// Reads a sounding CSV: a header line of column names, then one level per
 /// line; blank lines and lines starting with `#` are skipped. An empty field,
 /// `NA` or `nan` is a missing value, reported by the validation.
@@ -262,10 +272,35 @@ pub fn read_csv(
     path: &std::path::Path,
     key: &str,
 ) -> Result<(Vec<String>, Vec<Vec<f64>>), ConfigIssue> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        ConfigIssue::new(key, format!("cannot read sounding file: {e}"))
-            .value(format!("\"{}\"", path.display()))
+    let shown = format!("\"{}\"", path.display());
+    // Only a regular file of bounded size is read: a device or a pipe could
+    // hand out data for ever or block.
+    let meta = std::fs::metadata(path).map_err(|e| {
+        ConfigIssue::new(key, format!("cannot read sounding file: {e}")).value(shown.clone())
     })?;
+    if !meta.is_file() {
+        return Err(ConfigIssue::new(
+            key,
+            "the sounding file is not a regular file (a device, pipe or directory)",
+        )
+        .value(shown));
+    }
+    if meta.len() > MAX_SOUNDING_BYTES {
+        return Err(ConfigIssue::new(
+            key,
+            format!(
+                "the sounding file holds {} bytes; at most {MAX_SOUNDING_BYTES} are read",
+                meta.len()
+            ),
+        )
+        .value(shown));
+    }
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        ConfigIssue::new(key, format!("cannot read sounding file: {e}")).value(shown.clone())
+    })?;
+    // A byte-order mark (as some spreadsheet programs write) is not part of
+    // the first column's name.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(&text);
     let mut lines = text
         .lines()
         .enumerate()
@@ -277,7 +312,7 @@ pub fn read_csv(
     let mut rows = Vec::new();
     for (lineno, line) in lines {
         let mut row = Vec::new();
-        for field in line.split(',') {
+        for (column, field) in line.split(',').enumerate() {
             let f = field.trim();
             let v = if f.is_empty() || f.eq_ignore_ascii_case("na") || f.eq_ignore_ascii_case("nan")
             {
@@ -286,7 +321,14 @@ pub fn read_csv(
                 f.parse::<f64>().map_err(|_| {
                     ConfigIssue::new(
                         key,
-                        format!("{}:{}: \"{f}\" is not a number", path.display(), lineno + 1),
+                        // The field itself is not echoed: an error never
+                        // prints the contents of a file.
+                        format!(
+                            "{}:{}: field {} is not a number",
+                            path.display(),
+                            lineno + 1,
+                            column + 1
+                        ),
                     )
                 })?
             };

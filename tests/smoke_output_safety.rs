@@ -1,0 +1,364 @@
+//! Output safety against a hostile user and a busy cluster (docs/output.md,
+//! "What a run leaves behind"). Every check runs the program as a child
+//! process and reads results through the program itself (`analyze`), so no
+//! NetCDF file is open in this test process while children run (HDF5 file
+//! locks would be inherited).
+
+mod common;
+use common::*;
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+/// A private directory holding a copy of the demo configuration.
+fn workdir(name: &str) -> (PathBuf, PathBuf) {
+    let dir = scratch(name);
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let cfg = dir.join("demo.toml");
+    std::fs::copy(repo("configs/demo.toml"), &cfg).unwrap();
+    (dir, cfg)
+}
+
+fn run(cfg: &Path, out: &Path, set: &[&str]) -> Command {
+    let mut c = bin();
+    c.args(["run", "--quiet"]).arg(cfg).arg("-o").arg(out);
+    for s in set {
+        c.args(["--set", s]);
+    }
+    c
+}
+
+/// `analyze` of a file: exit code and whether it warned that the file is
+/// incomplete.
+fn analyze(path: &Path) -> (Option<i32>, bool, String) {
+    let o = bin().arg("analyze").arg(path).output().unwrap();
+    let text = String::from_utf8_lossy(&o.stdout).into_owned();
+    (o.status.code(), stderr(&o).contains("incomplete"), text)
+}
+
+#[test]
+fn two_runs_never_write_the_same_output() {
+    // Item 1: the first run is kept alive (10 h of model time); the second
+    // to the same path stops at once naming the path and the other process;
+    // the first finishes with a complete, readable file.
+    let (dir, cfg) = workdir("concurrent");
+    let out = dir.join("c.nc");
+    let mut first = run(&cfg, &out, &["time.duration=36000"]).spawn().unwrap();
+    let lock = stormcharge::output::netcdf_writer::lock_path(&out);
+    let started = std::time::Instant::now();
+    while !lock.exists() && started.elapsed().as_secs() < 30 {
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    assert!(lock.exists(), "the first run took no lock");
+    let second = run(&cfg, &out, &[]).output().unwrap();
+    assert_eq!(second.status.code(), Some(1));
+    let msg = stderr(&second);
+    assert!(msg.contains("another run") && msg.contains("c.nc"), "{msg}");
+    assert!(first.wait().unwrap().success());
+    let (code, incomplete, text) = analyze(&out);
+    assert_eq!(code, Some(0));
+    assert!(!incomplete, "{text}");
+    assert!(!lock.exists());
+}
+
+#[test]
+fn a_failing_or_killed_run_keeps_the_good_file() {
+    // Item 2: a good file, then a run to the same path that a guard stops,
+    // then one that is killed: the good file is still there, complete and
+    // unchanged; each failed run left its own .incomplete file.
+    let (dir, cfg) = workdir("keep_good");
+    let out = dir.join("good.nc");
+    assert!(run(&cfg, &out, &["time.duration=600"])
+        .status()
+        .unwrap()
+        .success());
+    let before = std::fs::read(&out).unwrap();
+    let failed = run(
+        &cfg,
+        &out,
+        &[
+            "charging.inductive_rebound_probability=1",
+            "charging.inductive_cos_theta=1",
+            "discharge.enabled=false",
+        ],
+    )
+    .output()
+    .unwrap();
+    assert_eq!(failed.status.code(), Some(1), "{}", stderr(&failed));
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+    let mut killed = run(&cfg, &out, &["time.duration=36000"]).spawn().unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(700));
+    killed.kill().unwrap();
+    let _ = killed.wait();
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+    let partials = std::fs::read_dir(&dir)
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .file_name()
+                .to_string_lossy()
+                .ends_with(".incomplete")
+        })
+        .count();
+    assert_eq!(partials, 2);
+    // A later run takes over the killed run's stale lock.
+    assert!(run(&cfg, &out, &["time.duration=600"])
+        .status()
+        .unwrap()
+        .success());
+}
+
+#[test]
+fn outputs_never_overwrite_inputs_or_devices() {
+    // Item 3: the configuration, the sounding CSV it reads, the replayed
+    // file (as a different spelling of the same path) and a device are all
+    // refused with exit 2, and left as they were.
+    let (dir, cfg) = workdir("inputs");
+    let text = std::fs::read_to_string(&cfg).unwrap();
+    let o = run(&cfg, &cfg, &[]).output().unwrap();
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains("input"));
+    assert_eq!(std::fs::read_to_string(&cfg).unwrap(), text);
+    std::fs::create_dir_all(dir.join("soundings")).unwrap();
+    let csv = dir.join("soundings/kelderfield_evening.csv");
+    std::fs::copy(repo("configs/soundings/kelderfield_evening.csv"), &csv).unwrap();
+    let scfg = dir.join("sounding.toml");
+    std::fs::copy(repo("configs/sounding_csv.toml"), &scfg).unwrap();
+    let csv_text = std::fs::read_to_string(&csv).unwrap();
+    let o = run(&scfg, &csv, &[]).output().unwrap();
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert_eq!(std::fs::read_to_string(&csv).unwrap(), csv_text);
+    let out = dir.join("rp.nc");
+    assert!(run(&cfg, &out, &["time.duration=300"])
+        .status()
+        .unwrap()
+        .success());
+    let o = bin()
+        .current_dir(&dir)
+        .args(["run", "--quiet", "--replay", "rp.nc", "-o", "./rp.nc"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    let o = run(&cfg, Path::new("/dev/null"), &[]).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    use std::os::unix::fs::FileTypeExt;
+    assert!(std::fs::metadata("/dev/null")
+        .unwrap()
+        .file_type()
+        .is_char_device());
+}
+
+#[test]
+fn a_full_disk_is_reported_not_crashed() {
+    // Item 4: on a 300 kB tmpfs the run stops with exit 1 (not a crash),
+    // naming the file and the operating system's reason. Mounting needs
+    // root and a kernel that allows it; otherwise the test says why it
+    // skips.
+    let (dir, cfg) = workdir("full_disk");
+    let mnt = dir.join("small");
+    std::fs::create_dir_all(&mnt).unwrap();
+    let mounted = Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=300k", "tmpfs"])
+        .arg(&mnt)
+        .output()
+        .map(|o| o.status.success())
+        .unwrap_or(false);
+    if !mounted {
+        eprintln!("skipped: cannot mount a small tmpfs here (needs root)");
+        return;
+    }
+    let o = run(&cfg, &mnt.join("x.nc"), &[]).output().unwrap();
+    let _ = Command::new("umount").arg(&mnt).status();
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let msg = stderr(&o);
+    assert!(
+        msg.contains("No space left on device") && msg.contains("x.nc"),
+        "{msg}"
+    );
+}
+
+#[test]
+fn records_are_forced_to_disk() {
+    // Item 5: with output.durable_interval = 0 every record is forced to
+    // the disk (fsync), counted with strace where it is installed; a
+    // negative interval is a configuration error.
+    let (dir, cfg) = workdir("durable");
+    let o = run(&cfg, &dir.join("d.nc"), &["output.durable_interval=-1"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    let have_strace = Command::new("strace").arg("-V").output().is_ok();
+    if !have_strace {
+        eprintln!("skipped the fsync count: strace is not installed");
+        return;
+    }
+    let o = Command::new("strace")
+        .args(["-f", "-c", "-e", "trace=fsync"])
+        .arg(env!("CARGO_BIN_EXE_stormcharge"))
+        .args(["run", "--quiet"])
+        .arg(&cfg)
+        .arg("-o")
+        .arg(dir.join("d.nc"))
+        .args([
+            "--set",
+            "output.durable_interval=0",
+            "--set",
+            "time.duration=600",
+        ])
+        .output()
+        .unwrap();
+    let table = stderr(&o);
+    let calls: u64 = table
+        .lines()
+        .find(|l| l.trim_end().ends_with("fsync"))
+        .and_then(|l| l.split_whitespace().nth(3))
+        .and_then(|x| x.parse().ok())
+        .unwrap_or(0);
+    // 11 records, plus the final force before the rename and the directory.
+    assert!(calls >= 11, "{table}");
+}
+
+#[test]
+fn runaway_runs_stop_with_the_quantity_and_height() {
+    // Item 6: charging that runs away with discharges off, and a prescribed
+    // charge layer of absurd density: stopped with exit 1, the message names
+    // the quantity, the height and the time, and nothing complete is left.
+    let (dir, cfg) = workdir("runaway");
+    let out = dir.join("r.nc");
+    let o = run(
+        &cfg,
+        &out,
+        &[
+            "charging.inductive_rebound_probability=1",
+            "charging.inductive_cos_theta=1",
+            "discharge.enabled=false",
+        ],
+    )
+    .output()
+    .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let msg = stderr(&o);
+    assert!(
+        msg.contains("conventional breakdown") && msg.contains("z = ") && msg.contains("t = "),
+        "{msg}"
+    );
+    assert!(!out.exists());
+    let flashes = run(
+        &cfg,
+        &out,
+        &[
+            "charging.inductive_rebound_probability=1",
+            "charging.inductive_cos_theta=1",
+        ],
+    )
+    .output()
+    .unwrap();
+    assert_eq!(flashes.status.code(), Some(1));
+    assert!(stderr(&flashes).contains("flashes did not bring it down"));
+    assert!(!out.exists());
+}
+
+#[test]
+fn configurations_that_would_hang_are_refused() {
+    // Item 7: a table factor of 1e300 and a step of 1e-300 s pass the type
+    // check but not the ranges: `check` refuses them at once (exit 2).
+    let (dir, _) = workdir("hang");
+    let cfg = dir.join("table.toml");
+    std::fs::write(
+        &cfg,
+        "[updraft]\nshape = \"table\"\nprofile_points = [[0.0, 0.0], [5000.0, 1e300], [12000.0, 0.0]]\n",
+    )
+    .unwrap();
+    let started = std::time::Instant::now();
+    let o = bin().arg("check").arg(&cfg).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("updraft.profile_points"));
+    let o = bin()
+        .args(["check"])
+        .arg(&cfg)
+        .args([
+            "--set",
+            "updraft.shape=\"sine\"",
+            "--set",
+            "time.step=1e-300",
+        ])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("at most 100000000"));
+    assert!(started.elapsed().as_secs() < 30);
+}
+
+#[test]
+fn sounding_files_are_bounded_and_read_carefully() {
+    // Items 8 and 11: a device and a pipe are not read (exit 2, no hang); a
+    // byte-order mark is not part of the first column's name; "inf" is not
+    // called a missing value; an error never quotes the file's contents.
+    let (dir, _) = workdir("sounding_files");
+    let base = std::fs::read_to_string(repo("configs/sounding_csv.toml")).unwrap();
+    let with_file = |name: &str, file: &str| {
+        let p = dir.join(name);
+        std::fs::write(&p, base.replace("soundings/kelderfield_evening.csv", file)).unwrap();
+        p
+    };
+    let o = bin()
+        .arg("check")
+        .arg(with_file("dev.toml", "/dev/urandom"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("not a regular file"));
+    let csv = std::fs::read_to_string(repo("configs/soundings/kelderfield_evening.csv")).unwrap();
+    std::fs::write(dir.join("bom.csv"), format!("\u{feff}{csv}")).unwrap();
+    let o = bin()
+        .arg("check")
+        .arg(with_file("bom.toml", "bom.csv"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let mut lines: Vec<String> = csv.lines().map(String::from).collect();
+    let last = lines.len() - 1;
+    let cols: Vec<&str> = lines[last].split(',').collect();
+    lines[last] = format!("{},inf,{}", cols[0], cols[2]);
+    std::fs::write(dir.join("inf.csv"), lines.join("\n")).unwrap();
+    let o = bin()
+        .arg("check")
+        .arg(with_file("inf.toml", "inf.csv"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("not a finite number"), "{}", stderr(&o));
+    std::fs::write(
+        dir.join("secret.csv"),
+        "height,temperature,dew_point\nTOPSECRET,1,2\n",
+    )
+    .unwrap();
+    let o = bin()
+        .arg("check")
+        .arg(with_file("secret.toml", "secret.csv"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(!stderr(&o).contains("TOPSECRET"), "{}", stderr(&o));
+    let fifo = dir.join("pipe.csv");
+    if Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .is_ok_and(|s| s.success())
+    {
+        let o = bin()
+            .arg("check")
+            .arg(with_file("pipe.toml", "pipe.csv"))
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(2));
+    } else {
+        eprintln!("skipped the pipe: mkfifo is not available");
+    }
+}
