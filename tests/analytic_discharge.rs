@@ -88,3 +88,44 @@ fn gates_and_bound() {
     }
     assert!(s.ledger.bound_hits > 0 && s.ledger.first_bound_hit.is_some());
 }
+
+#[test]
+fn flash_records_are_streamed_not_kept() {
+    // The run loop hands flashes to the observers at each output record and
+    // then forgets them (item 8 of the output-safety issue): the ledger's
+    // pending list never holds more than the flashes of one output
+    // interval, while the count, the first time and every record still
+    // reach the observers (the memory recorder gets all 13 of the flash
+    // sequence, in order).
+    use stormcharge::column::state::State;
+    use stormcharge::error::RunError;
+    use stormcharge::output::memory::MemoryRecorder;
+    use stormcharge::output::summary::RunSummary;
+    use stormcharge::output::Observer;
+    use stormcharge::setup::experiment::Experiment;
+    #[derive(Default)]
+    struct Pending(usize);
+    impl Observer for Pending {
+        fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+            Ok(())
+        }
+        fn record(&mut self, _: &Experiment, s: &State) -> Result<(), RunError> {
+            self.0 = self.0.max(s.ledger.flashes.len());
+            Ok(())
+        }
+        fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
+            Ok(())
+        }
+    }
+    let exp = experiment(&flash_config(), &[]);
+    let mut rec = MemoryRecorder::default();
+    let mut pending = Pending::default();
+    let mut obs: [&mut dyn Observer; 2] = [&mut rec, &mut pending];
+    let s = stormcharge::timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+    let total: u64 = s.flash_counts.iter().sum();
+    assert_eq!(total, 13);
+    assert_eq!(rec.flashes.len(), 13);
+    assert_eq!(s.first_flash, Some(rec.flashes[0].time));
+    assert!(rec.flashes.windows(2).all(|w| w[0].time <= w[1].time));
+    assert!(pending.0 >= 1 && pending.0 < 13, "{} pending", pending.0);
+}

@@ -25,8 +25,8 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
         if !status.met {
             return;
         }
-        if let Some(last) = state.ledger.flashes.last() {
-            if time - last.time < p.min_interval {
+        if let Some(last) = state.ledger.last_time {
+            if time - last < p.min_interval {
                 return;
             }
         }
@@ -40,10 +40,7 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
         let Some(rec) = flash(exp, state, start, time) else {
             return;
         };
-        let ledger = &mut state.ledger;
-        ledger.ground_charge += rec.charge_to_ground;
-        ledger.counts[rec.kind.index()] += 1;
-        ledger.flashes.push(rec);
+        state.ledger.push(rec);
         crate::column::breakdown::evaluate(exp, state);
     }
     if state.criteria_status[trigger].met {

@@ -34,8 +34,10 @@ impl MemoryRecorder {
 impl MemoryRecorder {
     /// Copies the flashes the state holds beyond those already kept.
     fn catch_up(&mut self, state: &State) {
-        let new = &state.ledger.flashes[self.flashes.len()..];
-        self.flashes.extend_from_slice(new);
+        // The pending flashes: the run loop hands each on once.
+        let new = &state.ledger.flashes;
+        let have = self.flashes.len() - state.ledger.first_pending().min(self.flashes.len());
+        self.flashes.extend_from_slice(&new[have..]);
     }
 }
 

@@ -45,7 +45,6 @@ pub struct NetcdfWriter {
     file: Option<netcdf::FileMut>,
     vars: Vec<OutputVar>,
     flash_vars: Vec<FlashVar>,
-    flashes_written: usize,
     record: usize,
     buffer: Vec<f64>,
 }
@@ -222,7 +221,6 @@ impl NetcdfWriter {
             file: None,
             vars: Vec::new(),
             flash_vars: Vec::new(),
-            flashes_written: 0,
             record: 0,
             buffer: Vec::new(),
         }
@@ -408,9 +406,8 @@ impl Observer for NetcdfWriter {
             f,
             &self.flash_vars,
             &state.ledger.flashes,
-            self.flashes_written,
+            state.ledger.first_pending(),
         )?;
-        self.flashes_written = state.ledger.flashes.len();
         f.sync().map_err(&e)?;
         self.record += 1;
         if self.last_durable.elapsed() >= self.durable {
@@ -435,9 +432,8 @@ impl Observer for NetcdfWriter {
             &mut f,
             &self.flash_vars,
             &state.ledger.flashes,
-            self.flashes_written,
+            state.ledger.first_pending(),
         )?;
-        self.flashes_written = state.ledger.flashes.len();
         f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
         f.close().map_err(&e)?;
         // On the disk before it takes the target's name, so a crash after
@@ -467,19 +463,20 @@ impl Observer for NetcdfWriter {
     }
 }
 
-/// Appends `flashes[from..]` on the `flash` dimension.
+/// Writes the pending `flashes` on the `flash` dimension from position `at`.
 fn write_flashes(
     f: &mut netcdf::FileMut,
     vars: &[FlashVar],
     flashes: &[FlashRecord],
-    from: usize,
+    at: usize,
 ) -> Result<(), RunError> {
     let e = nc_err("flash records");
     let missing = |name: &str| RunError::Output {
         context: "flash records".into(),
         message: format!("variable {name} missing"),
     };
-    for (i, rec) in flashes.iter().enumerate().skip(from) {
+    for (j, rec) in flashes.iter().enumerate() {
+        let i = at + j;
         f.variable_mut("flash_time")
             .ok_or_else(|| missing("flash_time"))?
             .put_value(rec.time, [i])

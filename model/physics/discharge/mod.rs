@@ -62,8 +62,15 @@ pub fn trigger_threshold(trigger: Criterion) -> usize {
 /// Flash bookkeeping carried in the state.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct FlashLedger {
-    /// Every flash so far, in order.
+    /// The flashes not yet handed to the output observers, in order. The run
+    /// loop empties it after every output record, so memory does not grow
+    /// with the number of flashes of a run.
     pub flashes: Vec<FlashRecord>,
+    /// Flashes so far, including those already handed on.
+    pub total: usize,
+    /// Model times of the first and of the latest flash (s).
+    pub first_time: Option<f64>,
+    pub last_time: Option<f64>,
     /// Cumulative charge lowered to ground (C m-2), signed.
     pub ground_charge: f64,
     /// Cumulative flash counts by kind, in `FlashKind::ALL` order.
@@ -72,4 +79,22 @@ pub struct FlashLedger {
     pub bound_hits: u64,
     /// Model time of the first such step (s).
     pub first_bound_hit: Option<f64>,
+}
+
+impl FlashLedger {
+    /// Books a flash.
+    pub fn push(&mut self, rec: FlashRecord) {
+        self.ground_charge += rec.charge_to_ground;
+        self.counts[rec.kind.index()] += 1;
+        self.total += 1;
+        self.first_time.get_or_insert(rec.time);
+        self.last_time = Some(rec.time);
+        self.flashes.push(rec);
+    }
+
+    /// The position on the output's `flash` dimension of the first pending
+    /// flash.
+    pub fn first_pending(&self) -> usize {
+        self.total - self.flashes.len()
+    }
 }
