@@ -20,14 +20,14 @@ use rayon::prelude::*;
 use std::path::{Path, PathBuf};
 
 /// One member: its index (from 1) and `key=value` overrides.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Member {
     pub index: usize,
     pub overrides: Vec<String>,
 }
 
 /// What one member produced.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
 pub struct Outcome {
     pub member: Member,
     /// `None` when the member ran; the error otherwise.
@@ -212,7 +212,46 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
+    if out.error.is_none() {
+        // The outcome beside the member's file, so that --resume can reuse
+        // a complete member without reading its whole file back.
+        let path = outcome_path(dir, member.index);
+        let tmp = path.with_extension(format!("json.{}", std::process::id()));
+        let written = serde_json::to_string(&out)
+            .ok()
+            .and_then(|t| std::fs::write(&tmp, t).ok())
+            .and_then(|_| std::fs::rename(&tmp, &path).ok());
+        if written.is_none() {
+            let _ = std::fs::remove_file(&tmp);
+        }
+    }
     out
+}
+
+/// The outcome side file of member `index`.
+pub fn outcome_path(dir: &Path, index: usize) -> PathBuf {
+    dir.join(format!("member_{index:04}.outcome.json"))
+}
+
+/// The outcome of a member that an earlier run of the same sweep completed:
+/// its file is marked complete, its stored configuration is exactly the one
+/// this member resolves to, and its outcome side file names the same
+/// member. `None` when any of that does not hold (the member is run again).
+pub fn reusable(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Option<Outcome> {
+    let file = dir.join(format!("member_{:04}.nc", member.index));
+    let (stored, status) = crate::output::netcdf_writer::read_stored_configuration(&file).ok()?;
+    if status != "complete" {
+        return None;
+    }
+    let mut overrides = member.overrides.clone();
+    overrides.push("sweep.parameters=[]".into());
+    let exp = Experiment::from_text(base_text, "resume", &overrides, base_dir).ok()?;
+    if exp.config.to_toml() != stored {
+        return None;
+    }
+    let text = std::fs::read_to_string(outcome_path(dir, member.index)).ok()?;
+    let outcome: Outcome = serde_json::from_str(&text).ok()?;
+    (outcome.member == *member && outcome.error.is_none()).then_some(outcome)
 }
 
 /// A rayon pool of `threads` workers (0: one per core).
@@ -245,6 +284,7 @@ pub fn in_shard(index: usize, shard: Option<(usize, usize)>) -> bool {
 
 /// Runs the members of shard `shard` = (K, N) (all when `None`) on `threads`
 /// threads (0: all cores), calling `progress` after each member.
+#[allow(clippy::too_many_arguments)]
 pub fn run(
     base_text: &str,
     base_dir: &Path,
@@ -252,6 +292,7 @@ pub fn run(
     dir: &Path,
     threads: usize,
     shard: Option<(usize, usize)>,
+    resume: bool,
     progress: &(dyn Fn() + Sync),
 ) -> Result<Vec<Outcome>, RunError> {
     std::fs::create_dir_all(dir).map_err(|source| RunError::Io {
@@ -267,7 +308,10 @@ pub fn run(
         chosen
             .par_iter()
             .map(|m| {
-                let o = run_member(base_text, base_dir, m, dir);
+                let o = resume
+                    .then(|| reusable(base_text, base_dir, m, dir))
+                    .flatten()
+                    .unwrap_or_else(|| run_member(base_text, base_dir, m, dir));
                 progress();
                 o
             })
@@ -386,6 +430,7 @@ pub fn prepare_directory(
     shard: Option<(usize, usize)>,
     summary: &str,
     overwrite: bool,
+    resume: bool,
 ) -> Result<(), RunError> {
     let Ok(entries) = std::fs::read_dir(dir) else {
         return Ok(()); // a new directory
@@ -404,7 +449,10 @@ pub fn prepare_directory(
             .and_then(|r| r.get(..4))
             .and_then(|d| d.parse::<usize>().ok());
         let conflict = match member {
-            Some(i) => i > total || in_shard(i, shard),
+            // Resuming keeps this sweep's members (each is checked before
+            // it is reused); members beyond its count are never its own.
+            Some(i) => i > total || (in_shard(i, shard) && !resume),
+            None if resume => false,
             None => {
                 name == summary
                     || name == meta_name(summary)

@@ -19,7 +19,12 @@ values = [2000.0, 3000.0, 2500]
 fn config_with_sweep(extra: &str) -> std::path::PathBuf {
     let base = std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap();
     let text = base.replace("duration = 10800.0", "duration = 3600.0") + extra;
-    let p = scratch(&format!("sweep_{}.toml", text.len()));
+    // Named by the text's hash: tests running side by side with different
+    // configurations of the same length must not share a file.
+    let p = scratch(&format!(
+        "sweep_{}.toml",
+        stormcharge::sweep::fingerprint(&text)
+    ));
     std::fs::write(&p, text).unwrap();
     p
 }
@@ -259,4 +264,44 @@ fn work_is_bounded() {
     let o = sweep(&huge, "huge", &[]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("at most 100000"));
+}
+
+#[test]
+fn an_interrupted_sweep_resumes() {
+    // A sweep whose member 2 never finished (its file is gone, as after a
+    // kill): --resume reuses members 1 and 3 (their files are not written
+    // again) and runs member 2; the summary equals the uninterrupted one.
+    let cfg = config_with_sweep(SWEEP);
+    assert_eq!(sweep(&cfg, "resumed", &[]).status.code(), Some(0));
+    let dir = scratch("resumed");
+    let full = read("resumed", "summary.csv");
+    let modified = |i: usize| {
+        std::fs::metadata(dir.join(format!("member_{i:04}.nc")))
+            .unwrap()
+            .modified()
+            .unwrap()
+    };
+    let (m1, m3) = (modified(1), modified(3));
+    std::fs::remove_file(dir.join("member_0002.nc")).unwrap();
+    std::fs::remove_file(dir.join("summary.csv")).unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(20));
+    let o = sweep(&cfg, "resumed", &["--resume"]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert_eq!(read("resumed", "summary.csv"), full);
+    assert_eq!((modified(1), modified(3)), (m1, m3));
+    assert!(dir.join("member_0002.nc").exists());
+    // A changed configuration is not reused: every member runs again.
+    let changed = std::fs::read_to_string(&cfg)
+        .unwrap()
+        .replace("duration = 3600.0", "duration = 3000.0");
+    let other = scratch("resumed_changed.toml");
+    std::fs::write(&other, changed).unwrap();
+    let o = sweep(&other, "resumed", &["--resume"]);
+    assert_eq!(o.status.code(), Some(0));
+    assert!(modified(1) > m1);
 }

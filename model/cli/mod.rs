@@ -64,8 +64,12 @@ pub enum Command {
         /// Remove the output files of an earlier sweep (this shard's
         /// members and summary, and members beyond this sweep's count)
         /// instead of refusing to run into a used directory.
-        #[arg(long)]
+        #[arg(long, conflicts_with = "resume")]
         overwrite: bool,
+        /// Reuse the members an interrupted run of the same sweep completed
+        /// (file complete, stored configuration identical) and run the rest.
+        #[arg(long)]
+        resume: bool,
         /// No progress bar, no summary.
         #[arg(short, long)]
         quiet: bool,
@@ -189,6 +193,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             shard,
             quiet,
             overwrite,
+            resume,
         } => cmd_sweep(
             &config,
             &output,
@@ -196,6 +201,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             shard.as_deref(),
             quiet,
             overwrite,
+            resume,
         ),
         Command::Analyze {
             output,
@@ -672,6 +678,7 @@ fn cmd_sweep(
     shard: Option<&str>,
     quiet: bool,
     overwrite: bool,
+    resume: bool,
 ) -> Result<(), RunError> {
     let shard = shard.map(parse_shard).transpose()?;
     let text = read_config(config)?;
@@ -691,8 +698,10 @@ fn cmd_sweep(
         }
     };
     let name = crate::sweep::shard_summary_name(shard);
-    crate::sweep::prepare_directory(dir, &members, shard, &name, overwrite)?;
-    let outcomes = crate::sweep::run(&text, base_dir, &members, dir, threads, shard, &tick)?;
+    crate::sweep::prepare_directory(dir, &members, shard, &name, overwrite, resume)?;
+    let outcomes = crate::sweep::run(
+        &text, base_dir, &members, dir, threads, shard, resume, &tick,
+    )?;
     if let Some(b) = &bar {
         b.finish_and_clear();
     }
