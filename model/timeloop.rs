@@ -30,6 +30,7 @@ pub fn run(
         flash_bound_hits: (0, None),
         precipitation: 0.0,
         peak_precip_rate: 0.0,
+        charging_cap_hits: 0,
         substeps: (0, 1),
         max_particle_charge: 0.0,
         rayleigh_exceeded: 0,
@@ -68,6 +69,7 @@ pub fn run(
     summary.flash_bound_hits = (state.ledger.bound_hits, state.ledger.first_bound_hit);
     summary.precipitation = state.water.precipitation;
     summary.substeps = state.substeps;
+    summary.charging_cap_hits = state.charging_cap_hits;
     for o in observers.iter_mut() {
         o.finish(exp, &state, &summary)?;
     }

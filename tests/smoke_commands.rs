@@ -366,11 +366,24 @@ fn charging_map_command() {
     let text = std::fs::read_to_string(&csv).unwrap();
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines[0], "temperature_degC,liquid_water_g_m3,charge_fC");
-    assert_eq!(lines.len(), 1 + 16 * 8);
-    // Values are the scheme's own: -5 degC, 0.1 g m-3 (RAR 0.3): negative.
-    let row = lines.iter().find(|l| l.starts_with("-5,0.1,")).unwrap();
-    let q: f64 = row.rsplit(',').next().unwrap().parse().unwrap();
+    // 17 temperatures from 0 to -40 degC, 9 liquid water contents.
+    assert_eq!(lines.len(), 1 + 17 * 9);
+    // Values are the scheme's own where no taper or cap acts: -5 degC,
+    // 0.1 g m-3 (RAR 0.3): negative.
+    let value = |prefix: &str| -> f64 {
+        let row = lines.iter().find(|l| l.starts_with(prefix)).unwrap();
+        row.rsplit(',').next().unwrap().parse().unwrap()
+    };
+    let q = value("-5,0.1,");
     assert!((q - sp98::charge_per_collision(-5.0, 0.3, 100e-6, 3.0) * 1e15).abs() < 1e-9);
+    // What the model applies: zero at 0 degC and below the taper's end
+    // (-40 degC), and never beyond the 100 fC cap (the key table's defaults).
+    assert_eq!(value("0,1,"), 0.0);
+    assert_eq!(value("-40,1,"), 0.0);
+    for l in &lines[1..] {
+        let q: f64 = l.rsplit(',').next().unwrap().parse().unwrap();
+        assert!(q.abs() <= 100.0 + 1e-9, "{l}");
+    }
     let o = bin()
         .args(["charging-map", "--scheme", "takahashi"])
         .output()

@@ -249,12 +249,15 @@ fn runaway_runs_stop_with_the_quantity_and_height() {
         "{msg}"
     );
     assert!(!out.exists());
+    // The reproduction charged rain inductively too (then the
+    // default); with it, flashes cannot keep up.
     let flashes = run(
         &cfg,
         &out,
         &[
             "charging.inductive_rebound_probability=1",
             "charging.inductive_cos_theta=1",
+            "charging.inductive_rain=true",
         ],
     )
     .output()

@@ -429,6 +429,12 @@ fn cmd_run(
                 crate::physics::kinematics::advection::MAX_COURANT
             );
         }
+        if summary.charging_cap_hits > 0 {
+            println!(
+                "  the cap on the charge per collision bound in {} cell-steps (a safety limit; docs/charging.md)",
+                summary.charging_cap_hits
+            );
+        }
         if summary.max_particle_charge > 0.0 {
             println!(
                 "  largest mean charge per precipitation particle: {:.1} pC",
@@ -573,7 +579,7 @@ fn cmd_charging_map(
         _ => {
             let names: Vec<String> = Scheme::NAMES
                 .iter()
-                .filter(|n| **n != Scheme::Off.name())
+                .filter(|n| **n != Scheme::Off.name() && **n != "table")
                 .map(|n| format!("\"{n}\""))
                 .collect();
             return Err(usage(
@@ -608,21 +614,28 @@ fn cmd_charging_map(
             "[-30, -5]",
         ));
     }
-    let params = crate::physics::charging::ChargingParams {
-        scheme,
-        scale: 1.0,
-        cap: f64::INFINITY,
-        taper_start: -40.0,
-        taper_end: -41.0,
-        inductive: false,
-        cos_theta: 0.0,
-        rebound_probability: 0.0,
-        droplet_diameter: 2e-5,
+    // What the model applies: the default scale, cap and low-temperature
+    // taper of the key table, as a run without a [charging] section uses.
+    let defaults = crate::setup::config::parse("", "defaults")?;
+    let mut params =
+        crate::setup::resolve::charging(&defaults.charging, Path::new("."), &mut Vec::new())
+            .map_err(|issue| RunError::Config(ConfigError::single("defaults", issue)))?;
+    params.scheme = scheme;
+    let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0, 8.0];
+    // 0.0 - x, not -x: the first row prints as 0, not -0.
+    let temps: Vec<f64> = (0..=16).map(|i| 0.0 - 2.5 * i as f64).collect();
+    // The laboratory ranges of the formulas (docs/charging.md): outside,
+    // the formula is held at its edge values; such cells carry a '*'.
+    let outside = |t: f64, l: f64| match params.scheme {
+        Scheme::Gardiner1985 { .. } => !(-30.0..=0.0).contains(&t) || l > 5.0,
+        _ => !(-30.0..=0.0).contains(&t) || l * v > 10.0,
     };
-    let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0];
-    let temps: Vec<f64> = (1..=16).map(|i| -2.5 * i as f64).collect();
     println!(
-        "charge gained by graupel per rebounding collision (fC); crystal {:.0} um, impact speed {} m/s",
+        "charge gained by graupel per rebounding collision as the model applies it (fC): scale {}, cap {} fC, taper {} to {} degC; crystal {:.0} um, impact speed {} m/s; * outside the laboratory range (held at its edge)",
+        params.scale,
+        params.cap * 1e15,
+        params.taper_start,
+        params.taper_end,
         d * 1e6,
         v
     );
@@ -635,8 +648,10 @@ fn cmd_charging_map(
     for &t in &temps {
         print!("{t:>8.1}");
         for &l in &lwcs {
-            let q = params.per_collision(t, l, d, v, v) * 1e15;
-            print!("{q:>9.3}");
+            // Adding 0 turns a negative zero into zero.
+            let q = params.per_collision(t, l, d, v, v) * 1e15 + 0.0;
+            let mark = if outside(t, l) { "*" } else { " " };
+            print!("{q:>8.3}{mark}");
             out.push_str(&format!("{t},{l},{q}\n"));
         }
         println!();

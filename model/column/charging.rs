@@ -31,5 +31,6 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
             carrier[k] = c;
         }
         state.charging_rates.set(k, rates);
+        state.charging_cap_hits += u64::from(rates.capped);
     }
 }

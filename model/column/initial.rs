@@ -35,6 +35,7 @@ impl State {
             water: WaterLedger::default(),
             charge_transport: ChargeLedger::default(),
             charging_rates: ChargingRates::new(n),
+            charging_cap_hits: 0,
             initial_column_charge: 0.0,
             substeps: (0, 1),
             transport_scratch: TransportScratch::new(n),

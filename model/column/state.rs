@@ -33,6 +33,10 @@ pub struct State {
     pub charge_transport: ChargeLedger,
     /// Charging rates of the last step.
     pub charging_rates: ChargingRates,
+    /// Cell-steps and collision kinds in which the safety cap on the charge
+    /// per collision bound (a diagnostic: a cap that binds in a normal storm
+    /// would be shaping the result).
+    pub charging_cap_hits: u64,
     /// Column charge at the start (C m-2), for the charge budget.
     pub initial_column_charge: f64,
     /// Steps in which transport had to sub-step, and the largest number of sub-steps.

@@ -33,6 +33,9 @@ pub struct RunSummary {
     pub precipitation: f64,
     /// Largest surface precipitation rate of any step (kg m-2 s-1).
     pub peak_precip_rate: f64,
+    /// Cell-steps (times collision kinds) in which the charge-per-collision
+    /// cap bound.
+    pub charging_cap_hits: u64,
     /// Steps in which transport sub-stepped, and the most sub-steps used.
     pub substeps: (u64, usize),
     /// Largest mean charge per precipitation particle seen (C, magnitude).

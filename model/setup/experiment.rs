@@ -222,7 +222,8 @@ impl Experiment {
             PrescribedHydrometeors::default()
         };
         let micro = resolve::micro_params(&config.microphysics);
-        let charging_params = resolve::charging(&config.charging).map_err(err)?;
+        let charging_params =
+            resolve::charging(&config.charging, base_dir, &mut input_files).map_err(err)?;
         let cell_env = (0..grid.len())
             .map(|k| CellEnv::new(base.centre.pressure[k], base.centre.density[k], &micro))
             .collect();

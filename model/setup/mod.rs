@@ -4,6 +4,7 @@
 //! [`sounding_input`]), and the experiment that holds them. This is the
 //! only place where configuration types meet physics types.
 
+pub mod charge_table_input;
 pub mod config;
 pub mod experiment;
 pub mod resolve;

@@ -278,7 +278,20 @@ pub fn prescribed_charge(
 }
 
 /// The charging parameters of the configuration.
-pub fn charging(c: &ChargingConfig) -> Result<ChargingParams, ConfigIssue> {
+pub fn charging(
+    c: &ChargingConfig,
+    base_dir: &std::path::Path,
+    inputs: &mut Vec<std::path::PathBuf>,
+) -> Result<ChargingParams, ConfigIssue> {
+    let table = match &c.scheme {
+        crate::physics::charging::Scheme::Table { table_file } => {
+            let path = base_dir.join(table_file);
+            let t = crate::setup::charge_table_input::read(&path)?;
+            inputs.push(path);
+            Some(std::sync::Arc::new(t))
+        }
+        _ => None,
+    };
     if c.taper_end >= c.taper_start {
         return Err(ConfigIssue::new(
             "charging.taper_end",
@@ -291,12 +304,15 @@ pub fn charging(c: &ChargingConfig) -> Result<ChargingParams, ConfigIssue> {
         .unit("degC"));
     }
     Ok(ChargingParams {
-        scheme: c.scheme,
+        scheme: c.scheme.clone(),
+        table,
         scale: c.scale,
         cap: c.max_charge_per_collision * 1e-15,
         taper_start: c.taper_start,
         taper_end: c.taper_end,
         inductive: c.inductive,
+        inductive_rain: c.inductive_rain,
+        graupel_snow: c.graupel_snow,
         cos_theta: c.inductive_cos_theta,
         rebound_probability: c.inductive_rebound_probability,
         droplet_diameter: c.inductive_droplet_diameter,

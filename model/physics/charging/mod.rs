@@ -14,6 +14,7 @@ pub mod inductive;
 pub mod prescribed;
 pub mod saunders_peck_1998;
 pub mod size_speed;
+pub mod table;
 
 use crate::physics::carriers::Carrier;
 use crate::physics::constants::{RHO_WATER, T_MELT};
@@ -26,7 +27,7 @@ named_scheme! {
     /// The non-inductive charging scheme (`charging.scheme`), with the
     /// parameters that belong to it. A new scheme is one file in this folder,
     /// one variant here and its page in docs/charging.md.
-    #[derive(Debug, Clone, Copy, PartialEq)]
+    #[derive(Debug, Clone, PartialEq)]
     pub enum Scheme {
         /// No non-inductive charging.
         Off = "off",
@@ -37,13 +38,21 @@ named_scheme! {
         },
         /// Saunders & Peck (1998), [`saunders_peck_1998`].
         SaundersPeck1998 = "saunders_peck_1998",
+        /// The user's table of q over temperature and liquid water or rime
+        /// accretion rate, [`table`].
+        Table = "table" {
+            /// CSV file, relative to the configuration file.
+            table_file: String,
+        },
     }
 }
 
 /// Charging parameters (SI; temperatures in degC where noted).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct ChargingParams {
     pub scheme: Scheme,
+    /// The table of `Scheme::Table`, read and checked by the setup.
+    pub table: Option<std::sync::Arc<table::ChargeTable>>,
     /// Multiplier on the charge per collision (1).
     pub scale: f64,
     /// Largest |charge| per collision (C).
@@ -53,6 +62,10 @@ pub struct ChargingParams {
     pub taper_start: f64,
     pub taper_end: f64,
     pub inductive: bool,
+    /// Inductive charging of rain as well as graupel.
+    pub inductive_rain: bool,
+    /// Non-inductive charging in graupel-snow collisions.
+    pub graupel_snow: bool,
     pub cos_theta: f64,
     pub rebound_probability: f64,
     /// Cloud droplet diameter (m).
@@ -64,8 +77,13 @@ impl ChargingParams {
     /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
     /// impact speed `dv` and collector speed `v` (m s-1).
     pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> f64 {
+        self.per_collision_capped(t, lwc, d, dv, v).0
+    }
+
+    /// [`Self::per_collision`] and whether the safety cap bound it.
+    pub fn per_collision_capped(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> (f64, bool) {
         if t >= 0.0 || t <= self.taper_end {
-            return 0.0;
+            return (0.0, false);
         }
         let raw = match self.scheme {
             Scheme::Off => 0.0,
@@ -75,13 +93,18 @@ impl ChargingParams {
             // Effective water content taken as the liquid water content
             // (collection efficiency 1), RAR = EW V.
             Scheme::SaundersPeck1998 => saunders_peck_1998::charge_per_collision(t, lwc * v, d, dv),
+            Scheme::Table { .. } => self
+                .table
+                .as_ref()
+                .map_or(0.0, |tab| tab.charge_per_collision(t, lwc, d, dv, v)),
         };
         let taper = if t < self.taper_start {
             (t - self.taper_end) / (self.taper_start - self.taper_end)
         } else {
             1.0
         };
-        (self.scale * raw * taper).clamp(-self.cap, self.cap)
+        let q = self.scale * raw * taper;
+        (q.clamp(-self.cap, self.cap), q.abs() > self.cap)
     }
 }
 
@@ -94,6 +117,9 @@ pub struct CellRates {
     pub snow_ice: f64,
     pub inductive_graupel: f64,
     pub inductive_rain: f64,
+    /// How many of the cell's three collision kinds had their charge per
+    /// collision bound by the safety cap.
+    pub capped: u8,
 }
 
 /// What the charging of one cell needs (SI).
@@ -158,8 +184,14 @@ pub fn charge_cell(
     let d_ice = dsd::ice::diameter(qi, c.n_ice);
     // Rebounding collisions (m-3 s-1) times the charge per collision
     // (crystal size d, impact speed dv, collector speed v).
-    let rate =
-        |collisions: f64, d: f64, dv: f64, v: f64| collisions * p.per_collision(t, lwc, d, dv, v);
+    let capped = std::cell::Cell::new(0u8);
+    let rate = |collisions: f64, d: f64, dv: f64, v: f64| {
+        let (q, cap) = p.per_collision_capped(t, lwc, d, dv, v);
+        if cap && collisions > 0.0 {
+            capped.set(capped.get() + 1);
+        }
+        collisions * q
+    };
     let mut out = CellRates::default();
     if t < 0.0 && !matches!(p.scheme, Scheme::Off) {
         // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
@@ -170,7 +202,7 @@ pub fn charge_cell(
             let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
             out.graupel_ice = rate(n * sep_g, d_ice, dv, vg);
         }
-        if qg > 0.0 && qs > 0.0 {
+        if p.graupel_snow && qg > 0.0 && qs > 0.0 {
             let dv = (vg - vs).abs();
             let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
             out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg);
@@ -181,6 +213,7 @@ pub fn charge_cell(
             out.snow_ice = rate(n * sep_s, d_ice, dv, vs);
         }
     }
+    out.capped = capped.get();
     for (r, gainer, loser) in [
         (out.graupel_ice, Carrier::Graupel, Carrier::Ice),
         (out.graupel_snow, Carrier::Graupel, Carrier::Snow),
@@ -196,7 +229,8 @@ pub fn charge_cell(
             (Carrier::Rain, &f.rain, sr, cr),
         ] {
             let mut r = 0.0;
-            if let Some(s) = powers.filter(|s| s.lambda.is_finite()) {
+            let on = carrier == Carrier::Graupel || p.inductive_rain;
+            if let Some(s) = powers.filter(|s| on && s.lambda.is_finite()) {
                 let lam = s.lambda;
                 let number = dist.n0 / lam; // collectors per m3
                 let q_mean = charge[carrier.index()] / number;

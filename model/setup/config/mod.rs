@@ -251,6 +251,8 @@ pub struct ChargingConfig {
     pub taper_start: f64,
     pub taper_end: f64,
     pub inductive: bool,
+    pub inductive_rain: bool,
+    pub graupel_snow: bool,
     pub inductive_cos_theta: f64,
     pub inductive_rebound_probability: f64,
     pub inductive_droplet_diameter: f64,

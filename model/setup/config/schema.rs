@@ -506,6 +506,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Reversal temperature T_r of gardiner_1985 (graupel charges positively warmer, negatively colder).",
     },
     KeySpec {
+        path: "charging.table_file",
+        kind: Kind::Path,
+        unit: "",
+        default: None,
+        doc: "CSV of the table scheme (scheme = \"table\"), relative to the configuration file: temperature_degC,liquid_water_g_m3,charge_fC (or rime_accretion_rate_g_m2_s as the second column), one row per grid point of a complete grid; charge_fC is q of dq = B d^a V^b q (docs/charging.md).",
+    },
+    KeySpec {
         path: "charging.scale",
         kind: float(0.0, false, 1000.0, false),
         unit: "1",
@@ -538,7 +545,21 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Bool,
         unit: "",
         default: Some("false"),
-        doc: "Inductive charging of graupel and rain by rebounding cloud droplets in the vertical field.",
+        doc: "Inductive charging of graupel by rebounding cloud droplets in the vertical field (and of rain with inductive_rain).",
+    },
+    KeySpec {
+        path: "charging.inductive_rain",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("false"),
+        doc: "Also charge rain inductively. Off by default: the laboratory support (Jennings 1975) is for droplets rebounding from ice targets; droplets meeting drops mostly coalesce (docs/charging.md).",
+    },
+    KeySpec {
+        path: "charging.graupel_snow",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Non-inductive charging in graupel-snow collisions. The laboratory laws were measured with vapour-grown crystals of tens to a few hundred micrometres, not with snow aggregates, so the size law is extrapolated to snow (docs/charging.md); switch off to see the storm without it.",
     },
     KeySpec {
         path: "charging.inductive_cos_theta",
