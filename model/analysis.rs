@@ -360,3 +360,94 @@ impl Report {
         s
     }
 }
+
+/// The structure classes of a sweep's members, read from `summary.csv`.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct EnsembleReport {
+    /// Members that ran.
+    pub members: usize,
+    /// Members that failed.
+    pub failed: usize,
+    /// For each class found: its name, share of the members that ran, and
+    /// the members (number and swept values).
+    pub classes: Vec<(String, f64, Vec<String>)>,
+}
+
+impl EnsembleReport {
+    /// The report as text.
+    pub fn text(&self) -> String {
+        let mut out = format!(
+            "{} members ran ({} failed); structure at the largest charge separation:\n",
+            self.members, self.failed
+        );
+        for (name, share, list) in &self.classes {
+            out.push_str(&format!(
+                "  {name:<18} {:>5.1} %  ({} members)\n",
+                100.0 * share,
+                list.len()
+            ));
+            for m in list {
+                out.push_str(&format!("      {m}\n"));
+            }
+        }
+        out
+    }
+}
+
+/// Reads a sweep directory's `summary.csv` and counts the structure classes.
+pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::error::RunError> {
+    let path = dir.join("summary.csv");
+    let fail = |m: String| crate::error::RunError::Output {
+        context: format!("reading {}", path.display()),
+        message: m,
+    };
+    let text = std::fs::read_to_string(&path).map_err(|e| {
+        fail(format!(
+            "{e} (run the sweep, or sweep-merge its shards, first)"
+        ))
+    })?;
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap_or("").split(',').collect();
+    let col = |name: &str| {
+        header
+            .iter()
+            .position(|h| *h == name)
+            .ok_or_else(|| fail(format!("no column {name}: not a sweep summary")))
+    };
+    let (status, structure) = (col("status")?, col("structure_at_peak_separation")?);
+    let keys = &header[1..status];
+    let mut report = EnsembleReport {
+        members: 0,
+        failed: 0,
+        classes: Vec::new(),
+    };
+    for line in lines {
+        let f: Vec<&str> = line.split(',').collect();
+        if f.len() <= structure {
+            return Err(fail(format!("a row has {} fields: truncated", f.len())));
+        }
+        if f[status] != "ok" {
+            report.failed += 1;
+            continue;
+        }
+        report.members += 1;
+        let values: Vec<String> = keys
+            .iter()
+            .zip(&f[1..status])
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect();
+        let member = format!("member {}: {}", f[0], values.join(", "));
+        match report.classes.iter_mut().find(|c| c.0 == f[structure]) {
+            Some(c) => c.2.push(member),
+            None => report
+                .classes
+                .push((f[structure].to_string(), 0.0, vec![member])),
+        }
+    }
+    let n = report.members.max(1) as f64;
+    for c in &mut report.classes {
+        c.1 = c.2.len() as f64 / n;
+    }
+    report.classes.sort_by(|a, b| b.1.total_cmp(&a.1));
+    Ok(report)
+}

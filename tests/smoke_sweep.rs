@@ -305,3 +305,38 @@ fn an_interrupted_sweep_resumes() {
     assert_eq!(o.status.code(), Some(0));
     assert!(modified(1) > m1);
 }
+
+#[test]
+fn analyze_reports_the_structure_shares_of_a_sweep() {
+    // `analyze DIR` counts the summary's structure classes: the shares add
+    // up to 100 %, every member that ran is listed once under its class,
+    // and the counts equal those of the summary's own column.
+    let cfg = config_with_sweep(SWEEP);
+    assert_eq!(sweep(&cfg, "shares", &[]).status.code(), Some(0));
+    let json = scratch("shares.json");
+    let o = succeed(
+        bin()
+            .arg("analyze")
+            .arg(scratch("shares"))
+            .arg("--json")
+            .arg(&json),
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("6 members ran (0 failed)"), "{text}");
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let classes = v["classes"].as_array().unwrap();
+    let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
+    assert!((total - 1.0).abs() < 1e-12);
+    let summary = read("shares", "summary.csv");
+    for c in classes {
+        let name = c[0].as_str().unwrap();
+        let listed = c[2].as_array().unwrap().len();
+        let in_csv = summary
+            .lines()
+            .skip(1)
+            .filter(|l| l.split(',').nth(9) == Some(name))
+            .count();
+        assert_eq!(listed, in_csv, "{name}");
+    }
+}

@@ -96,7 +96,8 @@ pub enum Command {
         #[arg(long)]
         csv: Option<PathBuf>,
     },
-    /// Charge regions, structure class and flash statistics of an output file.
+    /// Charge regions, structure class and flash statistics of an output
+    /// file; for a sweep directory, the share of each structure class.
     Analyze {
         output: PathBuf,
         /// Times to analyse (s; the nearest record); default: the record of
@@ -762,6 +763,22 @@ fn cmd_sweep(
 }
 
 fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {
+    if path.is_dir() {
+        // A sweep directory: the share of each structure class.
+        let report = crate::analysis::analyze_sweep(path)?;
+        print!("{}", report.text());
+        if let Some(j) = json {
+            let text = serde_json::to_string_pretty(&report).map_err(|e| RunError::Output {
+                context: "JSON report".into(),
+                message: e.to_string(),
+            })?;
+            std::fs::write(j, text).map_err(|source| RunError::Io {
+                context: format!("writing {}", j.display()),
+                source,
+            })?;
+        }
+        return Ok(());
+    }
     let report = crate::analysis::analyze_file(path, times)?;
     print!("{}", report.text());
     if let Some(j) = json {
