@@ -7,7 +7,6 @@ use crate::column::step::step;
 use crate::error::RunError;
 use crate::output::summary::RunSummary;
 use crate::output::Observer;
-use crate::physics::breakdown::Criterion;
 use crate::setup::experiment::Experiment;
 
 /// Runs the experiment from its initial state. `on_step` is called after each
@@ -18,23 +17,7 @@ pub fn run(
     on_step: &mut dyn FnMut(u64),
 ) -> Result<RunSummary, RunError> {
     let mut state = State::initial(exp);
-    let mut summary = RunSummary {
-        steps: 0,
-        records: 0,
-        model_time: 0.0,
-        peak_field: (0.0, f64::NAN, 0.0),
-        peak_ratio: [0.0; Criterion::COUNT],
-        flash_counts: [0; 3],
-        first_flash: None,
-        ground_charge: 0.0,
-        flash_bound_hits: (0, None),
-        precipitation: 0.0,
-        peak_precip_rate: 0.0,
-        charging_cap_hits: 0,
-        substeps: (0, 1),
-        max_particle_charge: 0.0,
-        rayleigh_exceeded: 0,
-    };
+    let mut summary = RunSummary::new();
     summary.watch(exp, &state);
     for o in observers.iter_mut() {
         o.begin(exp)?;

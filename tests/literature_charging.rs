@@ -116,3 +116,32 @@ fn rayleigh_limit_check_value() {
     // 6.3809e-10 C for r = 1 mm and gamma = 0.0728 N/m (docs/references.md).
     assert!((rayleigh_limit(1e-3) - 6.3809e-10).abs() < 1e-13);
 }
+
+#[test]
+fn surface_shared_charge_adds_up_and_grows_with_size() {
+    // Sharing the charge density over an exponential size distribution in
+    // proportion to surface area (docs/charging.md): integrating
+    // q(D) N(D) dD over all sizes returns the charge density (analytic: the
+    // second moment of the exponential is 2 N0 / lambda^3), and q grows as
+    // D^2.
+    use stormcharge::physics::charging::charge_at_diameter;
+    use stormcharge::physics::microphysics::dsd;
+    let g = dsd::graupel(4.0e6, 400.0);
+    let (rho, q, charge) = (0.8, 2e-3, 1e-9);
+    let lambda = g.slope(rho, q);
+    let n = 200_000;
+    let dmax = 60.0 / lambda;
+    let h = dmax / n as f64;
+    let mut total = 0.0;
+    for i in 0..n {
+        let d = (i as f64 + 0.5) * h;
+        let each = charge_at_diameter(&g, rho, q, charge, d).unwrap();
+        total += each * g.n0 * (-lambda * d).exp() * h;
+    }
+    assert!((total - charge).abs() < 1e-6 * charge, "{total}");
+    let (a, b) = (
+        charge_at_diameter(&g, rho, q, charge, 1e-3).unwrap(),
+        charge_at_diameter(&g, rho, q, charge, 2e-3).unwrap(),
+    );
+    assert!((b / a - 4.0).abs() < 1e-12);
+}

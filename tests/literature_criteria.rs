@@ -65,3 +65,17 @@ fn coleman_dwyer_avalanche_length() {
     // At half density the friction halves: lambda = 7.3e6/(4e5 - 1.38e5).
     assert!(rel(p.length(-4.0e5, 0.6125), 7.3e6 / 2.62e5) < 1e-12);
 }
+
+#[test]
+fn price_rind_flash_rate_relation() {
+    // Price & Rind (1992), continental: F = 3.44e-5 H^4.9 flashes per minute
+    // with H the cloud-top height in km (coefficients from memory,
+    // docs/references.md): 2.73 per minute at 10 km (derived), and the rate
+    // grows by 2^4.9 = 29.9 when H doubles.
+    let mut s = stormcharge::output::summary::RunSummary::new();
+    s.max_cloud_top = 10_000.0;
+    let f10 = s.price_rind_1992_rate();
+    assert!((f10 - 2.7325).abs() < 1e-3, "{f10}");
+    s.max_cloud_top = 20_000.0;
+    assert!((s.price_rind_1992_rate() / f10 - 2f64.powf(4.9)).abs() < 1e-9);
+}

@@ -438,13 +438,22 @@ fn cmd_run(
         }
         if summary.max_particle_charge > 0.0 {
             println!(
-                "  largest mean charge per precipitation particle: {:.1} pC",
-                summary.max_particle_charge * 1e12
+                "  largest mean charge per precipitation particle: {:.1} pC; on a 2.5 mm drop {:.1} pC, on 2.5 mm graupel {:.1} pC (charge shared by surface area)",
+                summary.max_particle_charge * 1e12,
+                summary.max_charge_2p5mm[0] * 1e12,
+                summary.max_charge_2p5mm[1] * 1e12
             );
         }
         if exp.discharge_params.enabled {
             let [ic, ng, pg] = summary.flash_counts;
             println!("  flashes: {ic} intracloud, {ng} negative ground, {pg} positive ground");
+            println!(
+                "  flash rate: {:.2} per minute over the run, {:.1} per minute in the busiest 10 minutes; Price & Rind (1992) give {:.1} per minute for its {:.1} km cloud top (docs/discharge.md)",
+                (ic + ng + pg) as f64 / (summary.model_time / 60.0).max(1e-9),
+                summary.max_flashes_per_10_min as f64 / 10.0,
+                summary.price_rind_1992_rate(),
+                summary.max_cloud_top / 1e3
+            );
             if let Some(t) = summary.first_flash {
                 println!("  first flash at t = {t} s");
             }

@@ -6,6 +6,11 @@ use crate::physics::carriers::Carrier;
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
+/// Condensate mixing ratio (kg kg-1) that counts as cloud for the cloud-top
+/// height: 0.01 g/kg, a modelling choice of this project (about the
+/// smallest ice content aircraft probes report as cloud).
+pub const CLOUD_TOP_CONDENSATE: f64 = 1e-5;
+
 /// What a finished run reports.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunSummary {
@@ -43,11 +48,82 @@ pub struct RunSummary {
     /// Cell-steps in which a species' mean particle charge exceeded the
     /// Rayleigh limit of its mean radius.
     pub rayleigh_exceeded: u64,
+    /// Largest charge of a 2.5 mm rain drop and a 2.5 mm graupel particle
+    /// (C, magnitude), the charge density shared over the size distribution
+    /// by surface area ([`crate::physics::charging::charge_at_diameter`]).
+    pub max_charge_2p5mm: [f64; 2],
+    /// Highest cloud top of the run (m): the highest cell holding at least
+    /// [`CLOUD_TOP_CONDENSATE`] of condensate.
+    pub max_cloud_top: f64,
+    /// Most flashes in one 10-minute window of model time (aligned to
+    /// multiples of 600 s), and the bookkeeping that finds it.
+    pub max_flashes_per_10_min: u64,
+    window: (u64, u64, usize),
+}
+
+impl Default for RunSummary {
+    fn default() -> Self {
+        Self::new()
+    }
 }
 
 impl RunSummary {
+    /// A summary before the first step.
+    pub fn new() -> Self {
+        RunSummary {
+            steps: 0,
+            records: 0,
+            model_time: 0.0,
+            peak_field: (0.0, f64::NAN, 0.0),
+            peak_ratio: [0.0; Criterion::COUNT],
+            flash_counts: [0; 3],
+            first_flash: None,
+            ground_charge: 0.0,
+            flash_bound_hits: (0, None),
+            precipitation: 0.0,
+            peak_precip_rate: 0.0,
+            charging_cap_hits: 0,
+            max_charge_2p5mm: [0.0; 2],
+            max_cloud_top: 0.0,
+            max_flashes_per_10_min: 0,
+            window: (0, 0, 0),
+            substeps: (0, 1),
+            max_particle_charge: 0.0,
+            rayleigh_exceeded: 0,
+        }
+    }
+
+    /// The flash rate (per minute) that the continental relation of Price &
+    /// Rind (1992, JGR 97, 9919), F = 3.44e-5 H^4.9 with H the cloud-top
+    /// height in km (coefficients from memory; the fifth-power dependence
+    /// on storm height goes back to Vonnegut 1963 and Williams 1985), gives
+    /// for this run's highest cloud top.
+    pub fn price_rind_1992_rate(&self) -> f64 {
+        3.44e-5 * (self.max_cloud_top / 1e3).powf(4.9)
+    }
+
     /// Takes the peaks of one more state into the summary.
     pub fn watch(&mut self, exp: &Experiment, state: &State) {
+        // Flashes per 10-minute window of model time.
+        let bin = (state.time / 600.0).floor() as u64;
+        let (current, count, seen) = &mut self.window;
+        if bin != *current {
+            *current = bin;
+            *count = 0;
+        }
+        *count += (state.ledger.total - *seen) as u64;
+        *seen = state.ledger.total;
+        self.max_flashes_per_10_min = self.max_flashes_per_10_min.max(*count);
+        for k in (0..exp.grid.len()).rev() {
+            let condensate: f64 = Species::HYDROMETEORS
+                .iter()
+                .map(|sp| state.q[sp.index()][k])
+                .sum();
+            if condensate >= CLOUD_TOP_CONDENSATE {
+                self.max_cloud_top = self.max_cloud_top.max(exp.grid.z[k]);
+                break;
+            }
+        }
         self.peak_precip_rate = self.peak_precip_rate.max(state.precip_rate);
         for (k, e) in state.field.iter().enumerate() {
             if e.abs() > self.peak_field.0 {
@@ -72,6 +148,23 @@ impl RunSummary {
                 let charge = &state.charge[Carrier::of(sp).index()];
                 for (k, &c) in charge.iter().enumerate() {
                     let rho = exp.base.centre.density[k];
+                    let slot = match sp {
+                        Species::Rain => Some(0),
+                        Species::Graupel => Some(1),
+                        _ => None,
+                    };
+                    if let (Some(i), Some(big)) = (
+                        slot,
+                        crate::physics::charging::charge_at_diameter(
+                            dist,
+                            rho,
+                            state.q[sp.index()][k],
+                            c,
+                            2.5e-3,
+                        ),
+                    ) {
+                        self.max_charge_2p5mm[i] = self.max_charge_2p5mm[i].max(big.abs());
+                    }
                     if let Some((q, r)) = crate::physics::charging::mean_particle_charge(
                         dist,
                         rho,

@@ -28,7 +28,7 @@ pub struct ChargeTable {
     pub t: Vec<f64>,
     /// Second-axis values, strictly increasing.
     pub x: Vec<f64>,
-    /// q (fC) at (t[i], x[j]) stored at i * x.len() + j.
+    /// q (fC) at (`t[i]`, `x[j]`) stored at `i * x.len() + j`.
     pub q: Vec<f64>,
 }
 
