@@ -145,3 +145,37 @@ fn surface_shared_charge_adds_up_and_grows_with_size() {
     );
     assert!((b / a - 4.0).abs() < 1e-12);
 }
+
+#[test]
+fn size_speed_factor_never_leaves_its_laboratory_values() {
+    // Property over wide inputs (diameters 1 nm to 1 m, speeds 0 to
+    // 1000 m/s, NaN-free): the factor B d^a V^b of Saunders, Keith & Mitzeva
+    // (1991) is increasing in d and V, so over the laboratory box it lies
+    // between its values at the box's corners; outside the box it is held
+    // there, never extrapolated.
+    use stormcharge::physics::charging::size_speed::{factor, DIAMETER_RANGE, SPEED_RANGE};
+    for positive in [true, false] {
+        let lo = factor(positive, DIAMETER_RANGE.0, SPEED_RANGE.0);
+        let hi = factor(positive, DIAMETER_RANGE.1, SPEED_RANGE.1);
+        assert!(lo > 0.0 && hi > lo);
+        let mut x: u64 = 0x9e37_79b9_7f4a_7c15;
+        for _ in 0..100_000 {
+            // A simple linear congruential sequence (Knuth's MMIX constants).
+            x = x
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let u = (x >> 11) as f64 / (1u64 << 53) as f64;
+            x = x
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1_442_695_040_888_963_407);
+            let w = (x >> 11) as f64 / (1u64 << 53) as f64;
+            let d = 10f64.powf(-9.0 + 9.0 * u);
+            let v = 1000.0 * w;
+            let f = factor(positive, d, v);
+            assert!(
+                f >= lo * (1.0 - 1e-12) && f <= hi * (1.0 + 1e-12),
+                "d {d}, v {v}: {f}"
+            );
+        }
+    }
+}
