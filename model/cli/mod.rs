@@ -533,11 +533,7 @@ fn cmd_converge(
         })
     };
     if let Some(p) = json {
-        let body = serde_json::to_string_pretty(&report).map_err(|e| RunError::Numerics {
-            time: 0.0,
-            message: format!("cannot encode the report as JSON: {e}"),
-        })?;
-        write(p, body)?;
+        write_json(p, &report)?;
     }
     if let Some(p) = csv {
         write(p, report.csv())?;
@@ -771,36 +767,28 @@ fn cmd_sweep(
     Ok(())
 }
 
+/// Writes `value` as pretty JSON to `path`.
+fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<(), RunError> {
+    let text = serde_json::to_string_pretty(value).map_err(|e| RunError::Output {
+        context: "JSON report".into(),
+        message: e.to_string(),
+    })?;
+    std::fs::write(path, text).map_err(|source| RunError::Io {
+        context: format!("writing {}", path.display()),
+        source,
+    })
+}
+
 fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {
     if path.is_dir() {
         // A sweep directory: the share of each structure class.
         let report = crate::analysis::analyze_sweep(path)?;
         print!("{}", report.text());
-        if let Some(j) = json {
-            let text = serde_json::to_string_pretty(&report).map_err(|e| RunError::Output {
-                context: "JSON report".into(),
-                message: e.to_string(),
-            })?;
-            std::fs::write(j, text).map_err(|source| RunError::Io {
-                context: format!("writing {}", j.display()),
-                source,
-            })?;
-        }
-        return Ok(());
+        return json.map_or(Ok(()), |j| write_json(j, &report));
     }
     let report = crate::analysis::analyze_file(path, times)?;
     print!("{}", report.text());
-    if let Some(j) = json {
-        let text = serde_json::to_string_pretty(&report).map_err(|e| RunError::Output {
-            context: "JSON report".into(),
-            message: e.to_string(),
-        })?;
-        std::fs::write(j, text).map_err(|source| RunError::Io {
-            context: format!("writing {}", j.display()),
-            source,
-        })?;
-    }
-    Ok(())
+    json.map_or(Ok(()), |j| write_json(j, &report))
 }
 
 fn cmd_plot(
