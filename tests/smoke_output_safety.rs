@@ -295,6 +295,21 @@ fn configurations_that_would_hang_are_refused() {
         .unwrap();
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("at most 100000000"));
+    // A prescribed charge layer whose table factor is 1e300 (item 6: it
+    // used to give an infinite potential in a file marked complete).
+    let charge = dir.join("charge.toml");
+    std::fs::write(
+        &charge,
+        "[[prescribed_charge.layers]]\nshape = \"table\"\ndensity = 1.0\ngrowth_rate = 0.0\npoints = [[1000.0, 0.0], [5000.0, 1e300], [9000.0, 0.0]]\n",
+    )
+    .unwrap();
+    let o = bin().arg("check").arg(&charge).output().unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("prescribed_charge.layers[1].points"),
+        "{}",
+        stderr(&o)
+    );
     assert!(started.elapsed().as_secs() < 30);
 }
 

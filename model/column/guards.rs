@@ -44,7 +44,7 @@ impl Process {
             Process::Microphysics => "microphysics",
             Process::Charging => "charging",
             Process::FieldSolve => "the field solve",
-            Process::Discharge => "the flashes of this step",
+            Process::Discharge => "the end of the step (after any flashes)",
         }
     }
 }
