@@ -385,6 +385,14 @@ pub fn study(
     levels: usize,
     threads: usize,
 ) -> Result<Report, RunError> {
+    if levels < 3 {
+        return Err(RunError::Config(crate::error::ConfigError::single(
+            origin,
+            crate::error::ConfigIssue::new("--levels", "an order needs three levels")
+                .value(levels.to_string())
+                .allowed("3 or more"),
+        )));
+    }
     let base = Experiment::from_text(text, origin, overrides, base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();

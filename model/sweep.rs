@@ -620,7 +620,7 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
         out.push('\n');
     }
     let target = dir.join("summary.csv");
-    std::fs::write(&target, out).map_err(io(format!("writing {}", target.display())))?;
+    crate::output::write_atomically(&target, out.as_bytes())?;
     Ok(target)
 }
 

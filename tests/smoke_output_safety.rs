@@ -380,3 +380,27 @@ fn sounding_files_are_bounded_and_read_carefully() {
         eprintln!("skipped the pipe: mkfifo is not available");
     }
 }
+
+#[test]
+fn summaries_and_reports_are_replaced_in_one_step() {
+    // Summaries, reports and tables are written beside their target and
+    // renamed over it: the old content stays until the new one is complete,
+    // a failed write (here: the target is a directory) leaves the old
+    // content and no temporary file behind.
+    use stormcharge::output::write_atomically;
+    let (dir, _) = workdir("atomic");
+    let target = dir.join("summary.csv");
+    std::fs::write(&target, "old\n").unwrap();
+    write_atomically(&target, b"new\n").unwrap();
+    assert_eq!(std::fs::read_to_string(&target).unwrap(), "new\n");
+    let blocked = dir.join("blocked");
+    std::fs::create_dir_all(blocked.join("inside")).unwrap();
+    assert!(write_atomically(&blocked, b"x").is_err());
+    assert!(blocked.join("inside").is_dir());
+    let leftovers: Vec<_> = std::fs::read_dir(&dir)
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "{leftovers:?}");
+}

@@ -526,12 +526,7 @@ fn cmd_converge(
     };
     let report = crate::convergence::study(&text, &origin, &dir, set, levels, threads)?;
     print!("{}", report.text());
-    let write = |path: &Path, body: String| {
-        std::fs::write(path, body).map_err(|source| RunError::Io {
-            context: format!("cannot write {}", path.display()),
-            source,
-        })
-    };
+    let write = |path: &Path, body: String| crate::output::write_atomically(path, body.as_bytes());
     if let Some(p) = json {
         write_json(p, &report)?;
     }
@@ -555,10 +550,7 @@ fn cmd_init(path: &Path, force: bool) -> Result<(), RunError> {
                 .value(path.display().to_string()),
         )));
     }
-    std::fs::write(path, template::init_text()).map_err(|source| RunError::Io {
-        context: format!("writing {}", path.display()),
-        source,
-    })?;
+    crate::output::write_atomically(path, template::init_text().as_bytes())?;
     println!("stormcharge: wrote {}", path.display());
     Ok(())
 }
@@ -663,10 +655,7 @@ fn cmd_charging_map(
         println!();
     }
     if let Some(path) = csv {
-        std::fs::write(path, out).map_err(|source| RunError::Io {
-            context: format!("writing {}", path.display()),
-            source,
-        })?;
+        crate::output::write_atomically(path, out.as_bytes())?;
         println!("stormcharge: wrote {}", path.display());
     }
     Ok(())
@@ -729,20 +718,12 @@ fn cmd_sweep(
     let csv = dir.join(&name);
     let meta = dir.join(crate::sweep::meta_name(&name));
     let print = crate::sweep::fingerprint(&resolved.to_toml());
-    std::fs::write(
+    // The side file first: a summary is never on disk without it.
+    crate::output::write_atomically(
         &meta,
-        crate::sweep::summary_meta(&print, members.len(), &outcomes),
-    )
-    .map_err(|source| RunError::Io {
-        context: format!("writing {}", meta.display()),
-        source,
-    })?;
-    std::fs::write(&csv, crate::sweep::summary_csv(&keys, &outcomes)).map_err(|source| {
-        RunError::Io {
-            context: format!("writing {}", csv.display()),
-            source,
-        }
-    })?;
+        crate::sweep::summary_meta(&print, members.len(), &outcomes).as_bytes(),
+    )?;
+    crate::output::write_atomically(&csv, crate::sweep::summary_csv(&keys, &outcomes).as_bytes())?;
     let nc = csv.with_extension("nc");
     crate::sweep::write_summary_netcdf(&nc, &keys, &outcomes)?;
     if !quiet {
@@ -773,10 +754,7 @@ fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<(), RunErro
         context: "JSON report".into(),
         message: e.to_string(),
     })?;
-    std::fs::write(path, text).map_err(|source| RunError::Io {
-        context: format!("writing {}", path.display()),
-        source,
-    })
+    crate::output::write_atomically(path, text.as_bytes())
 }
 
 fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {

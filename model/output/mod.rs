@@ -679,3 +679,30 @@ pub fn reference_markdown() -> String {
     }
     out
 }
+
+/// Writes `contents` to `path` so that a reader never sees a half-written
+/// file and a failed write never destroys an earlier good one: the bytes go
+/// to `<path>.<pid>.tmp` beside it, are forced to disk, and the file is
+/// renamed over `path` in one step (for summaries, reports and tables;
+/// NetCDF output has its own protocol in [`netcdf_writer`]).
+pub fn write_atomically(path: &std::path::Path, contents: &[u8]) -> Result<(), RunError> {
+    use std::io::Write;
+    let mut tmp = path.as_os_str().to_owned();
+    tmp.push(format!(".{}.tmp", std::process::id()));
+    let tmp = std::path::PathBuf::from(tmp);
+    let io = |action: &str, p: &std::path::Path, source| RunError::Io {
+        context: format!("{action} {}", p.display()),
+        source,
+    };
+    let result = std::fs::File::create(&tmp)
+        .and_then(|mut f| {
+            f.write_all(contents)?;
+            f.sync_all()
+        })
+        .map_err(|e| io("writing", &tmp, e))
+        .and_then(|()| std::fs::rename(&tmp, path).map_err(|e| io("renaming to", path, e)));
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}
