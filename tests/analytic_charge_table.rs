@@ -63,7 +63,7 @@ fn a_table_of_saunders_peck_reproduces_its_run() {
     // charging off, 30 minutes: the charge density of the two runs agrees
     // within 1 % (relative L1 over every record).
     let csv = write("sp98_table.csv", &sp98_table(0.25, 0.05));
-    let tab = read(&csv).unwrap();
+    let (_, _, tab) = read(&csv).unwrap();
     let mut worst: f64 = 0.0;
     for i in 0..400 {
         for j in 0..200 {
@@ -141,4 +141,28 @@ fn bad_tables_name_file_line_and_column() {
         assert!(e.contains(expect) && e.contains(name), "{name}: {e}");
         assert!(!e.contains("abc"), "{name}: quotes the file: {e}");
     }
+}
+
+#[test]
+fn the_resolved_configuration_holds_the_table_inline() {
+    // Like soundings, a table file is read once and stored inline in the
+    // resolved configuration, so the configuration an output file stores
+    // reproduces the run without the file: resolving that text elsewhere
+    // gives the same table.
+    let csv = write("inline_table.csv", &sp98_table(1.0, 0.5));
+    let exp = demo(&[
+        "charging.scheme=\"table\"",
+        &format!("charging.table_file=\"{}\"", csv.display()),
+    ]);
+    let text = exp.config.to_toml();
+    assert!(!text.contains("table_file") && text.contains("table_rows"));
+    let again = stormcharge::setup::experiment::Experiment::from_text(
+        &text,
+        "stored",
+        &[],
+        std::path::Path::new("/"),
+    )
+    .unwrap();
+    assert_eq!(exp.charging_params.table, again.charging_params.table);
+    assert!(exp.charging_params.table.is_some());
 }

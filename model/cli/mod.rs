@@ -326,12 +326,23 @@ fn cmd_run(
             // that file would let an output file make the program read (and
             // quote in errors) any local file.
             let stored = crate::setup::config::parse(&text, &nc.display().to_string())?;
-            if stored.atmosphere.sounding.file.is_some() {
+            let table_file = matches!(
+                &stored.charging.scheme,
+                crate::physics::charging::Scheme::Table {
+                    table_file: Some(_),
+                    ..
+                }
+            );
+            if stored.atmosphere.sounding.file.is_some() || table_file {
                 return Err(RunError::Config(ConfigError::single(
                     nc.display().to_string(),
                     ConfigIssue::new(
-                        "atmosphere.sounding.file",
-                        "a stored configuration names a file; stormcharge stores soundings inline, so this file was edited and is not replayed",
+                        if table_file {
+                            "charging.table_file"
+                        } else {
+                            "atmosphere.sounding.file"
+                        },
+                        "a stored configuration names a file; stormcharge stores soundings and charge tables inline, so this file was edited and is not replayed",
                     ),
                 )));
             }
@@ -614,9 +625,9 @@ fn cmd_charging_map(
     }
     // What the model applies: the default scale, cap and low-temperature
     // taper of the key table, as a run without a [charging] section uses.
-    let defaults = crate::setup::config::parse("", "defaults")?;
+    let mut defaults = crate::setup::config::parse("", "defaults")?;
     let mut params =
-        crate::setup::resolve::charging(&defaults.charging, Path::new("."), &mut Vec::new())
+        crate::setup::resolve::charging(&mut defaults.charging, Path::new("."), &mut Vec::new())
             .map_err(|issue| RunError::Config(ConfigError::single("defaults", issue)))?;
     params.scheme = scheme;
     let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0, 8.0];

@@ -16,8 +16,20 @@ pub const MAX_TABLE_BYTES: u64 = 16 * 1024 * 1024;
 
 const KEY: &str = "charging.table_file";
 
+/// The header names a table may have (units in the names).
+const LIQUID: [&str; 3] = ["temperature_degC", "liquid_water_g_m3", "charge_fC"];
+const RIME: [&str; 3] = [
+    "temperature_degC",
+    "rime_accretion_rate_g_m2_s",
+    "charge_fC",
+];
+
+/// A table file as read: the header's names, the rows, and the table they
+/// make.
+pub type TableFile = (Vec<String>, Vec<Vec<f64>>, ChargeTable);
+
 /// Reads and checks the table at `path`.
-pub fn read(path: &Path) -> Result<ChargeTable, ConfigIssue> {
+pub fn read(path: &Path) -> Result<TableFile, ConfigIssue> {
     let shown = format!("\"{}\"", path.display());
     let fail = |m: String| ConfigIssue::new(KEY, m).value(shown.clone());
     let meta = std::fs::metadata(path).map_err(|e| fail(format!("cannot read the table: {e}")))?;
@@ -36,54 +48,82 @@ pub fn read(path: &Path) -> Result<ChargeTable, ConfigIssue> {
     let (_, header) = lines
         .next()
         .ok_or_else(|| fail("the table is empty".into()))?;
-    let names: Vec<&str> = header.split(',').map(str::trim).collect();
-    let axis = match names.as_slice() {
-        ["temperature_degC", "liquid_water_g_m3", "charge_fC"] => Axis::LiquidWater,
-        ["temperature_degC", "rime_accretion_rate_g_m2_s", "charge_fC"] => {
-            Axis::RimeAccretionRate
+    let names: Vec<String> = header.split(',').map(|x| x.trim().to_string()).collect();
+    let mut rows = Vec::new();
+    let mut places = Vec::new();
+    for (i, line) in lines {
+        let at = format!("{}:{}", path.display(), i + 1);
+        let mut row = Vec::new();
+        for (c, f) in line.split(',').map(str::trim).enumerate() {
+            // The field itself is never quoted: errors show no file contents.
+            row.push(
+                f.parse::<f64>()
+                    .map_err(|_| fail(format!("{at}, column {}: not a number", c + 1)))?,
+            );
         }
-        _ => {
-            return Err(fail(
-                "the header must be temperature_degC,liquid_water_g_m3,charge_fC or temperature_degC,rime_accretion_rate_g_m2_s,charge_fC (units in the names)".into(),
-            ))
-        }
+        rows.push(row);
+        places.push(at);
+    }
+    let table = build(&names, &rows, &|i| places[i].clone(), &fail)?;
+    Ok((names, rows, table))
+}
+
+/// The table of inline `charging.table_columns` and `charging.table_rows`
+/// (as a stored configuration holds them).
+pub fn from_rows(columns: &[String], rows: &[Vec<f64>]) -> Result<ChargeTable, ConfigIssue> {
+    let fail = |m: String| ConfigIssue::new("charging.table_rows", m);
+    build(columns, rows, &|i| format!("row {}", i + 1), &fail)
+}
+
+/// Checks the header, every value and the grid; `place(i)` names row i.
+fn build(
+    names: &[String],
+    rows: &[Vec<f64>],
+    place: &dyn Fn(usize) -> String,
+    fail: &dyn Fn(String) -> ConfigIssue,
+) -> Result<ChargeTable, ConfigIssue> {
+    let axis = if names == LIQUID {
+        Axis::LiquidWater
+    } else if names == RIME {
+        Axis::RimeAccretionRate
+    } else {
+        return Err(fail(format!(
+            "the header must be {} or {} (units in the names)",
+            LIQUID.join(","),
+            RIME.join(",")
+        )));
     };
     let ranges = [(-60.0, 0.0), (0.0, 50.0), (-1.0e4, 1.0e4)];
     let mut points = Vec::new();
-    for (i, line) in lines {
-        let at = |col: usize| format!("{}:{}, column {col}", path.display(), i + 1);
-        let fields: Vec<&str> = line.split(',').map(str::trim).collect();
-        if fields.len() != 3 {
+    for (i, r) in rows.iter().enumerate() {
+        if r.len() != 3 {
             return Err(fail(format!(
                 "{}: expected 3 values, found {}",
-                at(1),
-                fields.len()
+                place(i),
+                r.len()
             )));
         }
-        let mut row = [0.0; 3];
-        for (c, f) in fields.iter().enumerate() {
-            let v: f64 = f
-                .parse()
-                .map_err(|_| fail(format!("{} ({}): not a number", at(c + 1), names[c])))?;
+        for (c, &v) in r.iter().enumerate() {
             if !v.is_finite() {
                 return Err(fail(format!(
-                    "{} ({}): not a finite number",
-                    at(c + 1),
+                    "{}, column {} ({}): not a finite number",
+                    place(i),
+                    c + 1,
                     names[c]
                 )));
             }
             let (lo, hi) = ranges[c];
             if !(lo..=hi).contains(&v) {
                 return Err(fail(format!(
-                    "{} ({}): out of range [{lo}, {hi}]",
-                    at(c + 1),
+                    "{}, column {} ({}): out of range [{lo}, {hi}]",
+                    place(i),
+                    c + 1,
                     names[c]
                 ))
                 .allowed(format!("[{lo}, {hi}]")));
             }
-            row[c] = v;
         }
-        points.push((i + 1, row));
+        points.push((i, [r[0], r[1], r[2]]));
     }
     let axis_values = |c: usize| {
         let mut v: Vec<f64> = points.iter().map(|p| p.1[c]).collect();
@@ -98,15 +138,12 @@ pub fn read(path: &Path) -> Result<ChargeTable, ConfigIssue> {
         ));
     }
     let mut q = vec![f64::NAN; t.len() * x.len()];
-    for (line, [tv, xv, qv]) in &points {
-        let i = t.partition_point(|&a| a < *tv);
-        let j = x.partition_point(|&a| a < *xv);
-        let cell = &mut q[i * x.len() + j];
+    for (i, [tv, xv, qv]) in &points {
+        let a = t.partition_point(|&v| v < *tv);
+        let b = x.partition_point(|&v| v < *xv);
+        let cell = &mut q[a * x.len() + b];
         if !cell.is_nan() {
-            return Err(fail(format!(
-                "{}:{line}: this point appears twice",
-                path.display()
-            )));
+            return Err(fail(format!("{}: this point appears twice", place(*i))));
         }
         *cell = *qv;
     }

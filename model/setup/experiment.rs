@@ -223,7 +223,7 @@ impl Experiment {
         };
         let micro = resolve::micro_params(&config.microphysics);
         let charging_params =
-            resolve::charging(&config.charging, base_dir, &mut input_files).map_err(err)?;
+            resolve::charging(&mut config.charging, base_dir, &mut input_files).map_err(err)?;
         let cell_env = (0..grid.len())
             .map(|k| CellEnv::new(base.centre.pressure[k], base.centre.density[k], &micro))
             .collect();

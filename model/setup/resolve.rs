@@ -279,15 +279,46 @@ pub fn prescribed_charge(
 
 /// The charging parameters of the configuration.
 pub fn charging(
-    c: &ChargingConfig,
+    c: &mut ChargingConfig,
     base_dir: &std::path::Path,
     inputs: &mut Vec<std::path::PathBuf>,
 ) -> Result<ChargingParams, ConfigIssue> {
-    let table = match &c.scheme {
-        crate::physics::charging::Scheme::Table { table_file } => {
-            let path = base_dir.join(table_file);
-            let t = crate::setup::charge_table_input::read(&path)?;
-            inputs.push(path);
+    use crate::physics::charging::Scheme;
+    use crate::setup::charge_table_input as input;
+    let table = match &mut c.scheme {
+        Scheme::Table {
+            table_file,
+            table_columns,
+            table_rows,
+        } => {
+            let t =
+                match (
+                    table_file.take(),
+                    table_columns.as_ref(),
+                    table_rows.as_ref(),
+                ) {
+                    (Some(file), None, None) => {
+                        let path = base_dir.join(&file);
+                        let (names, rows, t) = input::read(&path)?;
+                        inputs.push(path);
+                        // Inline, as soundings are: the stored configuration
+                        // then reproduces the run without the file.
+                        *table_columns = Some(names);
+                        *table_rows = Some(rows);
+                        t
+                    }
+                    (None, Some(cols), Some(rows)) => input::from_rows(cols, rows)?,
+                    (None, _, _) => return Err(ConfigIssue::new(
+                        "charging.table_file",
+                        "scheme = \"table\" needs table_file (or table_columns with table_rows)",
+                    )),
+                    (Some(_), _, _) => {
+                        return Err(ConfigIssue::new(
+                            "charging.table_file",
+                            "give either table_file or table_columns with table_rows, not both",
+                        ))
+                    }
+                };
             Some(std::sync::Arc::new(t))
         }
         _ => None,

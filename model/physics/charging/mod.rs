@@ -41,8 +41,16 @@ named_scheme! {
         /// The user's table of q over temperature and liquid water or rime
         /// accretion rate, [`table`].
         Table = "table" {
-            /// CSV file, relative to the configuration file.
-            table_file: String,
+            /// CSV file, relative to the configuration file; read once and
+            /// replaced by the inline columns and rows below in the
+            /// resolved configuration (so an output file alone reproduces
+            /// its run).
+            #[serde(default, skip_serializing_if = "Option::is_none")]
+            table_file: Option<String>,
+            #[serde(default, skip_serializing_if = "Option::is_none")]
+            table_columns: Option<Vec<String>>,
+            #[serde(default, skip_serializing_if = "Option::is_none")]
+            table_rows: Option<Vec<Vec<f64>>>,
         },
     }
 }

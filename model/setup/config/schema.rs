@@ -510,7 +510,21 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Path,
         unit: "",
         default: None,
-        doc: "CSV of the table scheme (scheme = \"table\"), relative to the configuration file: temperature_degC,liquid_water_g_m3,charge_fC (or rime_accretion_rate_g_m2_s as the second column), one row per grid point of a complete grid; charge_fC is q of dq = B d^a V^b q (docs/charging.md).",
+        doc: "CSV of the table scheme (scheme = \"table\"), relative to the configuration file: temperature_degC,liquid_water_g_m3,charge_fC (or rime_accretion_rate_g_m2_s as the second column), one row per grid point of a complete grid; charge_fC is q of dq = B d^a V^b q (docs/charging.md). The resolved configuration holds the table inline instead (table_columns, table_rows).",
+    },
+    KeySpec {
+        path: "charging.table_columns",
+        kind: Kind::Names,
+        unit: "",
+        default: None,
+        doc: "Inline table of the table scheme: the three column names, as in a table file's header (a resolved configuration holds the file's table this way).",
+    },
+    KeySpec {
+        path: "charging.table_rows",
+        kind: Kind::Rows,
+        unit: "",
+        default: None,
+        doc: "Inline table of the table scheme: rows [temperature (degC), liquid water (g m-3) or rime accretion rate (g m-2 s-1), charge (fC)].",
     },
     KeySpec {
         path: "charging.scale",
