@@ -10,6 +10,14 @@ use common::*;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
+/// Inductive charging at its largest settings with discharges off: the
+/// charge and field run away (the output-safety issue's reproduction).
+const RUNAWAY: &[&str] = &[
+    "charging.inductive_rebound_probability=1",
+    "charging.inductive_cos_theta=1",
+    "discharge.enabled=false",
+];
+
 fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
@@ -78,17 +86,7 @@ fn a_failing_or_killed_run_keeps_the_good_file() {
         .unwrap()
         .success());
     let before = std::fs::read(&out).unwrap();
-    let failed = run(
-        &cfg,
-        &out,
-        &[
-            "charging.inductive_rebound_probability=1",
-            "charging.inductive_cos_theta=1",
-            "discharge.enabled=false",
-        ],
-    )
-    .output()
-    .unwrap();
+    let failed = run(&cfg, &out, RUNAWAY).output().unwrap();
     assert_eq!(failed.status.code(), Some(1), "{}", stderr(&failed));
     assert_eq!(std::fs::read(&out).unwrap(), before);
     let mut killed = run(&cfg, &out, &["time.duration=36000"]).spawn().unwrap();
@@ -231,17 +229,7 @@ fn runaway_runs_stop_with_the_quantity_and_height() {
     // the quantity, the height and the time, and nothing complete is left.
     let (dir, cfg) = workdir("runaway");
     let out = dir.join("r.nc");
-    let o = run(
-        &cfg,
-        &out,
-        &[
-            "charging.inductive_rebound_probability=1",
-            "charging.inductive_cos_theta=1",
-            "discharge.enabled=false",
-        ],
-    )
-    .output()
-    .unwrap();
+    let o = run(&cfg, &out, RUNAWAY).output().unwrap();
     assert_eq!(o.status.code(), Some(1));
     let msg = stderr(&o);
     assert!(
