@@ -117,15 +117,6 @@ struct Collector {
     summary: Option<RunSummary>,
 }
 
-fn temperature(exp: &Experiment, state: &State) -> Vec<f64> {
-    (0..exp.grid.len())
-        .map(|k| {
-            state.potential_temperature[k]
-                * crate::physics::atmosphere::exner(exp.base.centre.pressure[k])
-        })
-        .collect()
-}
-
 impl Observer for Collector {
     fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
         self.max_warming = f64::NEG_INFINITY;
@@ -135,7 +126,7 @@ impl Observer for Collector {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
-        let t = temperature(exp, state);
+        let t = state.temperatures(exp);
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best_separation {
             self.best_separation = sep;
@@ -329,22 +320,27 @@ fn restrict(fine: &[f64], faces: bool) -> Vec<f64> {
 }
 
 fn profile_row(name: &str, runs: &[LevelRun], refinement: Refinement, faces: bool) -> ProfileRow {
-    let get = |r: &LevelRun| {
+    fn profiles(r: &LevelRun, faces: bool) -> &[Vec<f64>] {
         if faces {
-            r.field.clone()
+            &r.field
         } else {
-            r.charge.clone()
+            &r.charge
         }
-    };
+    }
     let mut differences = Vec::new();
     for w in runs.windows(2) {
-        let coarse = get(&w[0]);
-        let fine: Vec<Vec<f64>> = match refinement {
-            Refinement::Time => get(&w[1]),
-            Refinement::Space => get(&w[1]).iter().map(|p| restrict(p, faces)).collect(),
-        };
         let (mut num, mut den) = (0.0, 0.0);
-        for (a, b) in coarse.iter().zip(&fine) {
+        for (a, fine) in profiles(&w[0], faces).iter().zip(profiles(&w[1], faces)) {
+            // The fine profile on the coarse points (only a space
+            // refinement changes the points).
+            let restricted;
+            let b: &[f64] = match refinement {
+                Refinement::Time => fine,
+                Refinement::Space => {
+                    restricted = restrict(fine, faces);
+                    &restricted
+                }
+            };
             for (x, y) in a.iter().zip(b) {
                 num += (x - y).abs();
                 den += y.abs();

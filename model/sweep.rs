@@ -152,12 +152,7 @@ impl Observer for Watch {
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best {
             self.best = sep;
-            let t: Vec<f64> = (0..exp.grid.len())
-                .map(|k| {
-                    state.potential_temperature[k]
-                        * crate::physics::atmosphere::exner(exp.base.centre.pressure[k])
-                })
-                .collect();
+            let t = state.temperatures(exp);
             let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
             self.structure = classify(&r).name().into();
         }
@@ -215,14 +210,10 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
     if out.error.is_none() {
         // The outcome beside the member's file, so that --resume can reuse
         // a complete member without reading its whole file back.
-        let path = outcome_path(dir, member.index);
-        let tmp = path.with_extension(format!("json.{}", std::process::id()));
-        let written = serde_json::to_string(&out)
-            .ok()
-            .and_then(|t| std::fs::write(&tmp, t).ok())
-            .and_then(|_| std::fs::rename(&tmp, &path).ok());
-        if written.is_none() {
-            let _ = std::fs::remove_file(&tmp);
+        // Best effort: without it --resume reruns the member.
+        if let Ok(text) = serde_json::to_string(&out) {
+            let _ =
+                crate::output::write_atomically(&outcome_path(dir, member.index), text.as_bytes());
         }
     }
     out

@@ -297,7 +297,7 @@ fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
     Ok(match config {
         Some(path) => {
             let text = read_config(path)?;
-            let dir = path.parent().unwrap_or(Path::new("."));
+            let dir = crate::output::directory_of(path);
             Experiment::from_text(&text, &path.display().to_string(), set, dir)?
         }
         None => Experiment::from_text(DEMO_TOML, "<embedded demo>", set, Path::new("."))?,
@@ -458,12 +458,21 @@ fn cmd_run(
         if exp.discharge_params.enabled {
             let [ic, ng, pg] = summary.flash_counts;
             println!("  flashes: {ic} intracloud, {ng} negative ground, {pg} positive ground");
+            // The height relation needs a cloud; a prescribed-charge column
+            // without microphysics has none.
+            let expected = if summary.max_cloud_top > 0.0 {
+                format!(
+                    "Price & Rind (1992) give {:.1} per minute for its {:.1} km cloud top",
+                    summary.price_rind_1992_rate(),
+                    summary.max_cloud_top / 1e3
+                )
+            } else {
+                "no cloud top to compare with Price & Rind (1992)".to_string()
+            };
             println!(
-                "  flash rate: {:.2} per minute over the run, {:.1} per minute in the busiest 10 minutes; Price & Rind (1992) give {:.1} per minute for its {:.1} km cloud top (docs/discharge.md)",
+                "  flash rate: {:.2} per minute over the run, {:.1} per minute in the busiest 10 minutes; {expected} (docs/discharge.md)",
                 (ic + ng + pg) as f64 / (summary.model_time / 60.0).max(1e-9),
                 summary.max_flashes_per_10_min as f64 / 10.0,
-                summary.price_rind_1992_rate(),
-                summary.max_cloud_top / 1e3
             );
             if let Some(t) = summary.first_flash {
                 println!("  first flash at t = {t} s");
@@ -527,7 +536,7 @@ fn cmd_converge(
         Some(path) => (
             read_config(path)?,
             path.display().to_string(),
-            path.parent().unwrap_or(Path::new(".")).to_path_buf(),
+            crate::output::directory_of(path).to_path_buf(),
         ),
         None => (
             DEMO_TOML.to_string(),
@@ -704,7 +713,7 @@ fn cmd_sweep(
     let shard = shard.map(parse_shard).transpose()?;
     let text = read_config(config)?;
     let origin = config.display().to_string();
-    let base_dir = config.parent().unwrap_or(Path::new("."));
+    let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse(&text, &origin)?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;
     let count = members

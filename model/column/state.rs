@@ -92,6 +92,20 @@ pub struct ChargeLedger {
 }
 
 impl State {
+    /// Air temperature (K) of cell `k`: T = theta Pi, with the base state's
+    /// Exner function Pi = (p/p_ref)^(R_d/c_p) held per cell in
+    /// `exp.cell_env` (the inverse of Poisson's equation).
+    pub fn temperature(&self, exp: &crate::setup::experiment::Experiment, k: usize) -> f64 {
+        self.potential_temperature[k] * exp.cell_env[k].exner
+    }
+
+    /// Air temperatures (K) of every cell, for diagnostics between steps.
+    pub fn temperatures(&self, exp: &crate::setup::experiment::Experiment) -> Vec<f64> {
+        (0..self.potential_temperature.len())
+            .map(|k| self.temperature(exp, k))
+            .collect()
+    }
+
     /// Charge budget residual (C m-2): the column charge minus everything
     /// that should have made it (start + sources + advection - precipitation
     /// - charge lowered to ground by flashes). Zero to round-off.

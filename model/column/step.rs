@@ -55,8 +55,10 @@ pub fn step_timed(
     mark(3);
     breakdown::evaluate(exp, state);
     mark(4);
+    let flashes = state.ledger.total;
     discharge::step(exp, state, exp.schedule.time(state.step + 1));
-    guards::check(exp, state, Process::Discharge)?;
+    let flashed = state.ledger.total != flashes;
+    guards::check(exp, state, Process::Discharge { flashed })?;
     mark(5);
     state.step += 1;
     state.time = exp.schedule.time(state.step);

@@ -19,12 +19,8 @@ use crate::setup::experiment::Experiment;
 
 /// Sets the prescribed updraft on the faces for the state's time.
 pub fn apply_forcing(exp: &Experiment, state: &mut State) {
-    apply_forcing_at(exp, state, state.time);
-}
-
-/// Sets the prescribed updraft on the faces for time `t` (s).
-pub fn apply_forcing_at(exp: &Experiment, state: &mut State, t: f64) {
-    exp.updraft.w_on(&exp.updraft_shape, t, &mut state.w);
+    exp.updraft
+        .w_on(&exp.updraft_shape, state.time, &mut state.w);
 }
 
 /// Mass-weighted fall speeds (m s-1) of the falling species at every cell.

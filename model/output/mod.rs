@@ -11,12 +11,12 @@ pub mod summary;
 use crate::column::state::State;
 use crate::error::RunError;
 use crate::output::summary::RunSummary;
-use crate::physics::atmosphere::exner;
 use crate::physics::breakdown::Criterion;
 use crate::physics::carriers::Carrier;
 use crate::physics::discharge::record::{FlashKind, FlashRecord};
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
+use std::path::{Path, PathBuf};
 
 /// Receives the state at output times.
 pub trait Observer {
@@ -136,10 +136,9 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             "air temperature",
             "K",
             Centre,
-            // T = theta (p/p_ref)^(R_d/c_p), the inverse of Poisson's equation.
             Box::new(|e, s, o| {
                 for (k, x) in o.iter_mut().enumerate() {
-                    *x = s.potential_temperature[k] * exner(e.base.centre.pressure[k]);
+                    *x = s.temperature(e, k);
                 }
             }),
         )
@@ -218,7 +217,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             Box::new(move |e, s, o| {
                 for (k, x) in o.iter_mut().enumerate() {
                     let p = e.base.centre.pressure[k];
-                    let t = s.potential_temperature[k] * exner(p);
+                    let t = s.temperature(e, k);
                     let (qsw, qsi) = crate::physics::microphysics::rates::saturation_ratios(t, p);
                     // Ratio of vapour pressures e/e_s from the mixing ratios.
                     let e = crate::physics::microphysics::rates::vapour_pressure(
@@ -680,27 +679,61 @@ pub fn reference_markdown() -> String {
     out
 }
 
+/// `path` with `suffix` appended to its file name (`out.nc` + `.lock` gives
+/// `out.nc.lock`): the side files of an output live beside it, in the same
+/// directory, so that a rename between them never crosses file systems.
+pub fn beside(path: &Path, suffix: &str) -> PathBuf {
+    let mut s = path.as_os_str().to_owned();
+    s.push(suffix);
+    PathBuf::from(s)
+}
+
+/// The directory holding `path` (`.` for a bare file name).
+pub fn directory_of(path: &Path) -> &Path {
+    path.parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."))
+}
+
+/// An I/O error naming the action and the file; the operating system's
+/// reason (a full disk reads "No space left on device") rides along.
+pub fn io_error(action: &str, path: &Path, source: std::io::Error) -> RunError {
+    RunError::Io {
+        context: format!("{action} {}", path.display()),
+        source,
+    }
+}
+
+/// Gives the finished, already-synced file `done` the name `target` in one
+/// step and makes the rename itself durable by syncing the directory: the
+/// last move of every output this program writes.
+pub fn commit_file(done: &Path, target: &Path) -> Result<(), RunError> {
+    std::fs::rename(done, target).map_err(|source| RunError::Io {
+        context: format!("renaming {} to {}", done.display(), target.display()),
+        source,
+    })?;
+    if let Ok(d) = std::fs::File::open(directory_of(target)) {
+        // Best effort: some file systems refuse to sync a directory.
+        let _ = d.sync_all();
+    }
+    Ok(())
+}
+
 /// Writes `contents` to `path` so that a reader never sees a half-written
 /// file and a failed write never destroys an earlier good one: the bytes go
 /// to `<path>.<pid>.tmp` beside it, are forced to disk, and the file is
 /// renamed over `path` in one step (for summaries, reports and tables;
 /// NetCDF output has its own protocol in [`netcdf_writer`]).
-pub fn write_atomically(path: &std::path::Path, contents: &[u8]) -> Result<(), RunError> {
+pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), RunError> {
     use std::io::Write;
-    let mut tmp = path.as_os_str().to_owned();
-    tmp.push(format!(".{}.tmp", std::process::id()));
-    let tmp = std::path::PathBuf::from(tmp);
-    let io = |action: &str, p: &std::path::Path, source| RunError::Io {
-        context: format!("{action} {}", p.display()),
-        source,
-    };
+    let tmp = beside(path, &format!(".{}.tmp", std::process::id()));
     let result = std::fs::File::create(&tmp)
         .and_then(|mut f| {
             f.write_all(contents)?;
             f.sync_all()
         })
-        .map_err(|e| io("writing", &tmp, e))
-        .and_then(|()| std::fs::rename(&tmp, path).map_err(|e| io("renaming to", path, e)));
+        .map_err(|e| io_error("writing", &tmp, e))
+        .and_then(|()| commit_file(&tmp, path));
     if result.is_err() {
         let _ = std::fs::remove_file(&tmp);
     }

@@ -17,7 +17,8 @@
 //!   that was not there before).
 
 use super::{
-    flash_variables, record_len, variables, FlashValue, FlashVar, Observer, OutputVar, Placement,
+    beside, commit_file, directory_of, flash_variables, io_error, record_len, variables,
+    FlashValue, FlashVar, Observer, OutputVar, Placement,
 };
 use crate::column::state::State;
 use crate::error::RunError;
@@ -58,7 +59,9 @@ fn nc_err(context: &str) -> impl Fn(netcdf::Error) -> RunError + '_ {
 
 /// A NetCDF error while writing `path`, with the operating system's last
 /// error when there is one (the NetCDF library reports a full disk only as
-/// "HDF error").
+/// "HDF error"). errno is not cleared on success, so the added reason may
+/// be older than the failure; it is reported as a hint beside the NetCDF
+/// message, never instead of it.
 fn nc_err_at<'a>(context: &'a str, path: &'a str) -> impl Fn(netcdf::Error) -> RunError + 'a {
     move |e| {
         let os = std::io::Error::last_os_error();
@@ -76,25 +79,19 @@ fn nc_err_at<'a>(context: &'a str, path: &'a str) -> impl Fn(netcdf::Error) -> R
 /// The name this process writes to before its run succeeds:
 /// `<target>.<pid>.incomplete`, beside the target.
 pub fn partial_path(target: &Path) -> PathBuf {
-    let mut s = target.as_os_str().to_owned();
-    s.push(format!(".{}.incomplete", std::process::id()));
-    PathBuf::from(s)
+    beside(target, &format!(".{}.incomplete", std::process::id()))
 }
 
 /// The lock file that marks a run writing `target`.
 pub fn lock_path(target: &Path) -> PathBuf {
-    let mut s = target.as_os_str().to_owned();
-    s.push(".lock");
-    PathBuf::from(s)
+    beside(target, ".lock")
 }
 
-/// An output error naming the file and, where the operating system gave
-/// one, its reason (a full disk reads "No space left on device").
-fn io_error(action: &str, path: &Path, source: std::io::Error) -> RunError {
-    RunError::Io {
-        context: format!("{action} {}", path.display()),
-        source,
-    }
+/// The process a lock file names, if it can be read.
+fn lock_owner(lock: &Path) -> Option<u32> {
+    std::fs::read_to_string(lock)
+        .ok()
+        .and_then(|t| t.trim().parse::<u32>().ok())
 }
 
 /// Whether process `pid` is alive (Linux: its /proc entry exists).
@@ -124,10 +121,7 @@ impl OutputLock {
                     return Ok(OutputLock { path });
                 }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-                    let owner = std::fs::read_to_string(&path)
-                        .ok()
-                        .and_then(|t| t.trim().parse::<u32>().ok());
-                    match owner {
+                    match lock_owner(&path) {
                         Some(pid) if pid == std::process::id() || process_alive(pid) => {
                             return Err(RunError::Output {
                                 context: target.display().to_string(),
@@ -157,11 +151,7 @@ impl OutputLock {
 impl Drop for OutputLock {
     fn drop(&mut self) {
         // Only our own lock is removed (its content names this process).
-        let ours = std::fs::read_to_string(&self.path)
-            .ok()
-            .and_then(|t| t.trim().parse::<u32>().ok())
-            == Some(std::process::id());
-        if ours {
+        if lock_owner(&self.path) == Some(std::process::id()) {
             let _ = std::fs::remove_file(&self.path);
         }
     }
@@ -188,11 +178,11 @@ pub fn check_output_path(target: &Path, inputs: &[PathBuf]) -> Result<(), RunErr
             std::fs::canonicalize(p).ok()
         } else {
             // A new file: its directory's canonical path plus its name.
-            let dir = p
-                .parent()
-                .filter(|d| !d.as_os_str().is_empty())
-                .unwrap_or(Path::new("."));
-            Some(std::fs::canonicalize(dir).ok()?.join(p.file_name()?))
+            Some(
+                std::fs::canonicalize(directory_of(p))
+                    .ok()?
+                    .join(p.file_name()?),
+            )
         }
     };
     let out = canonical(target);
@@ -441,23 +431,7 @@ impl Observer for NetcdfWriter {
         self.make_durable()?;
         // The target may have become a non-file meanwhile; check again.
         check_output_path(&self.target, &self.inputs)?;
-        std::fs::rename(&self.partial, &self.target).map_err(|source| RunError::Io {
-            context: format!(
-                "renaming {} to {}",
-                self.partial.display(),
-                self.target.display()
-            ),
-            source,
-        })?;
-        // The rename itself is durable once the directory is synced.
-        let dir = self
-            .target
-            .parent()
-            .filter(|d| !d.as_os_str().is_empty())
-            .unwrap_or(Path::new("."));
-        if let Ok(d) = std::fs::File::open(dir) {
-            let _ = d.sync_all();
-        }
+        commit_file(&self.partial, &self.target)?;
         self.lock = None;
         Ok(())
     }

@@ -3,6 +3,7 @@
 use crate::column::state::State;
 use crate::physics::breakdown::Criterion;
 use crate::physics::carriers::Carrier;
+use crate::physics::charging::{rayleigh_limit, SharedCharge};
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
@@ -10,6 +11,22 @@ use crate::setup::experiment::Experiment;
 /// height: 0.01 g/kg, a modelling choice of this project (about the
 /// smallest ice content aircraft probes report as cloud).
 pub const CLOUD_TOP_CONDENSATE: f64 = 1e-5;
+
+/// Diameter (m) of the particle whose charge the summary reports: 2.5 mm,
+/// millimetre precipitation like that whose charges Marshall & Winn (1982,
+/// J. Geophys. Res.) measured from balloons (docs/references.md).
+pub const SIZE_DIAGNOSTIC_DIAMETER: f64 = 2.5e-3;
+
+/// The bookkeeping of the flashes-per-window peak.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+struct FlashWindow {
+    /// Index of the current 10-minute window (model time / 600 s).
+    index: u64,
+    /// Flashes counted in it so far.
+    count: u64,
+    /// Ledger total at the last watched state.
+    seen: usize,
+}
 
 /// What a finished run reports.
 #[derive(Debug, Clone, PartialEq)]
@@ -50,7 +67,7 @@ pub struct RunSummary {
     pub rayleigh_exceeded: u64,
     /// Largest charge of a 2.5 mm rain drop and a 2.5 mm graupel particle
     /// (C, magnitude), the charge density shared over the size distribution
-    /// by surface area ([`crate::physics::charging::charge_at_diameter`]).
+    /// by surface area ([`SharedCharge::at_diameter`]).
     pub max_charge_2p5mm: [f64; 2],
     /// Highest cloud top of the run (m): the highest cell holding at least
     /// [`CLOUD_TOP_CONDENSATE`] of condensate.
@@ -58,7 +75,7 @@ pub struct RunSummary {
     /// Most flashes in one 10-minute window of model time (aligned to
     /// multiples of 600 s), and the bookkeeping that finds it.
     pub max_flashes_per_10_min: u64,
-    window: (u64, u64, usize),
+    window: FlashWindow,
 }
 
 impl Default for RunSummary {
@@ -86,7 +103,7 @@ impl RunSummary {
             max_charge_2p5mm: [0.0; 2],
             max_cloud_top: 0.0,
             max_flashes_per_10_min: 0,
-            window: (0, 0, 0),
+            window: FlashWindow::default(),
             substeps: (0, 1),
             max_particle_charge: 0.0,
             rayleigh_exceeded: 0,
@@ -106,14 +123,14 @@ impl RunSummary {
     pub fn watch(&mut self, exp: &Experiment, state: &State) {
         // Flashes per 10-minute window of model time.
         let bin = (state.time / 600.0).floor() as u64;
-        let (current, count, seen) = &mut self.window;
-        if bin != *current {
-            *current = bin;
-            *count = 0;
+        let w = &mut self.window;
+        if bin != w.index {
+            w.index = bin;
+            w.count = 0;
         }
-        *count += (state.ledger.total - *seen) as u64;
-        *seen = state.ledger.total;
-        self.max_flashes_per_10_min = self.max_flashes_per_10_min.max(*count);
+        w.count += (state.ledger.total - w.seen) as u64;
+        w.seen = state.ledger.total;
+        self.max_flashes_per_10_min = self.max_flashes_per_10_min.max(w.count);
         for k in (0..exp.grid.len()).rev() {
             let condensate: f64 = Species::HYDROMETEORS
                 .iter()
@@ -140,41 +157,27 @@ impl RunSummary {
             .any(|c| c.iter().any(|&x| x != 0.0))
         {
             let f = exp.micro_params();
-            for (sp, dist) in [
-                (Species::Rain, &f.rain),
-                (Species::Snow, &f.snow),
-                (Species::Graupel, &f.graupel),
+            // Slot of the 2.5 mm diagnostic: rain and graupel only.
+            for (sp, dist, slot) in [
+                (Species::Rain, &f.rain, Some(0)),
+                (Species::Snow, &f.snow, None),
+                (Species::Graupel, &f.graupel, Some(1)),
             ] {
                 let charge = &state.charge[Carrier::of(sp).index()];
                 for (k, &c) in charge.iter().enumerate() {
                     let rho = exp.base.centre.density[k];
-                    let slot = match sp {
-                        Species::Rain => Some(0),
-                        Species::Graupel => Some(1),
-                        _ => None,
+                    let Some(shared) = SharedCharge::of(dist, rho, state.q[sp.index()][k], c)
+                    else {
+                        continue;
                     };
-                    if let (Some(i), Some(big)) = (
-                        slot,
-                        crate::physics::charging::charge_at_diameter(
-                            dist,
-                            rho,
-                            state.q[sp.index()][k],
-                            c,
-                            2.5e-3,
-                        ),
-                    ) {
-                        self.max_charge_2p5mm[i] = self.max_charge_2p5mm[i].max(big.abs());
+                    if let Some(i) = slot {
+                        let big = shared.at_diameter(SIZE_DIAGNOSTIC_DIAMETER).abs();
+                        self.max_charge_2p5mm[i] = self.max_charge_2p5mm[i].max(big);
                     }
-                    if let Some((q, r)) = crate::physics::charging::mean_particle_charge(
-                        dist,
-                        rho,
-                        state.q[sp.index()][k],
-                        c,
-                    ) {
-                        self.max_particle_charge = self.max_particle_charge.max(q.abs());
-                        if q.abs() > crate::physics::charging::rayleigh_limit(r) {
-                            self.rayleigh_exceeded += 1;
-                        }
+                    let q = shared.mean().abs();
+                    self.max_particle_charge = self.max_particle_charge.max(q);
+                    if q > rayleigh_limit(shared.mean_radius()) {
+                        self.rayleigh_exceeded += 1;
                     }
                 }
             }

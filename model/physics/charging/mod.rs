@@ -280,30 +280,73 @@ pub fn rayleigh_limit(r: f64) -> f64 {
         * (crate::physics::constants::EPSILON_0 * SURFACE_TENSION * r.powi(3)).sqrt()
 }
 
+/// The charge density `charge` (C m-3) of an exponential species with
+/// mixing ratio `q` shared over its particles: the slope lambda (m-1) and
+/// intercept N0 (m-4) of N(D) = N0 exp(-lambda D) (Marshall & Palmer 1948,
+/// J. Meteor. 5, 165), from which every per-particle diagnostic follows.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SharedCharge {
+    /// Charge density (C m-3).
+    pub density: f64,
+    /// Slope of the size distribution (m-1).
+    pub lambda: f64,
+    /// Intercept of the size distribution (m-4).
+    pub n0: f64,
+}
+
+impl SharedCharge {
+    /// The sharing for a species holding `q` (kg kg-1) in air of density
+    /// `rho` (kg m-3); `None` when the species is absent (q <= 1e-12).
+    pub fn of(dist: &dsd::Exponential, rho: f64, q: f64, charge: f64) -> Option<Self> {
+        if q <= 1e-12 {
+            return None;
+        }
+        Some(SharedCharge {
+            density: charge,
+            lambda: dist.slope(rho, q),
+            n0: dist.n0,
+        })
+    }
+
+    /// Mean charge per particle (C): the density over the number
+    /// concentration N0/lambda.
+    pub fn mean(&self) -> f64 {
+        self.density * self.lambda / self.n0
+    }
+
+    /// Mean radius (m), 1/(2 lambda).
+    pub fn mean_radius(&self) -> f64 {
+        0.5 / self.lambda
+    }
+
+    /// Charge (C) of a particle of diameter `d` (m) when the charge is
+    /// shared in proportion to surface area:
+    /// q(D) = charge D^2 / integral D^2 N(D) dD = charge D^2 lambda^3 / (2 N0)
+    /// (the exponential's second moment 2 N0 / lambda^3, derived). Sharing by
+    /// surface follows the diffusion-limited ion and contact charging the
+    /// particles acquire (common practice for bulk models' size-resolved
+    /// diagnostics); it gives the large particles the charge balloon-borne
+    /// instruments measure on millimetre precipitation.
+    pub fn at_diameter(&self, d: f64) -> f64 {
+        self.density * d * d * self.lambda.powi(3) / (2.0 * self.n0)
+    }
+}
+
 /// Mean charge per particle (C) and mean radius (m) of an exponential
-/// species holding charge density `charge` (C m-3) with mixing ratio `q`.
+/// species holding charge density `charge` (C m-3) with mixing ratio `q`
+/// ([`SharedCharge`]).
 pub fn mean_particle_charge(
     dist: &dsd::Exponential,
     rho: f64,
     q: f64,
     charge: f64,
 ) -> Option<(f64, f64)> {
-    if q <= 1e-12 {
-        return None;
-    }
-    let lambda = dist.slope(rho, q);
-    Some((charge * lambda / dist.n0, 0.5 / lambda))
+    SharedCharge::of(dist, rho, q, charge).map(|s| (s.mean(), s.mean_radius()))
 }
 
-/// Charge (C) of a particle of diameter `d` (m) when the charge density
-/// `charge` (C m-3) of an exponential species (mixing ratio `q`) is shared
-/// over its particles in proportion to their surface area:
-/// q(D) = charge D^2 / integral D^2 N(D) dD = charge D^2 lambda^3 / (2 N0)
-/// (the exponential's second moment 2 N0 / lambda^3, derived). Sharing by
-/// surface follows the diffusion-limited ion and contact charging the
-/// particles acquire (common practice for bulk models' size-resolved
-/// diagnostics); it gives the large particles the charge balloon-borne
-/// instruments measure on millimetre precipitation.
+/// Charge (C) of a particle of diameter `d` (m) of an exponential species
+/// holding charge density `charge` (C m-3) with mixing ratio `q`, shared by
+/// surface area ([`SharedCharge::at_diameter`]).
 pub fn charge_at_diameter(
     dist: &dsd::Exponential,
     rho: f64,
@@ -311,9 +354,5 @@ pub fn charge_at_diameter(
     charge: f64,
     d: f64,
 ) -> Option<f64> {
-    if q <= 1e-12 {
-        return None;
-    }
-    let lambda = dist.slope(rho, q);
-    Some(charge * d * d * lambda.powi(3) / (2.0 * dist.n0))
+    SharedCharge::of(dist, rho, q, charge).map(|s| s.at_diameter(d))
 }

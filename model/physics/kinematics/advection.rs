@@ -62,7 +62,10 @@ pub fn substeps(mass_flux: &[f64], rho: &[f64], dz: f64, dt: f64) -> usize {
     (c / MAX_COURANT).ceil().max(1.0) as usize
 }
 
-fn limiter(r: f64) -> f64 {
+/// The monotonised-central flux limiter phi(r) = max(0, min(2r, (1+r)/2, 2))
+/// of van Leer (1977, J. Comput. Phys. 23, 276), dimensionless; shared by
+/// advection and sedimentation.
+pub(crate) fn limiter(r: f64) -> f64 {
     (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
 }
 

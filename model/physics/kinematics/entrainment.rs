@@ -41,7 +41,7 @@ named_choice! {
     }
 }
 
-/// The exchange rate r (s-1) of every cell from the face mass fluxes `m`
+/// The exchange rate r (s-1) of cell `k` from the face mass fluxes `m`
 /// (n + 1 values, kg m-2 s-1), cell densities `rho` (kg m-3), spacing `dz`
 /// (m) and the turbulent fractional rate `epsilon` = coefficient/R (m-1).
 pub fn exchange_rate(m: &[f64], rho: &[f64], dz: f64, epsilon: f64, k: usize) -> f64 {
@@ -68,8 +68,9 @@ pub enum Env<'a> {
 /// Relaxes `q` toward the environment's values over a sub-step whose
 /// survival fractions are `factor` ([`survival`]):
 /// q <- q_env + (q - q_env) factor. Returns the change of the column integral
-/// of `weight * q` (`weight` per cell: rho dz for a mixing ratio, giving
-/// kg m-2 times q's unit; dz for a charge density).
+/// of `weight * q` (`weight` per cell: rho dz, kg m-2, for any specific
+/// quantity, a mixing ratio or a charge per unit mass of air; the change is
+/// then in kg m-2 times q's unit).
 pub fn relax(q: &mut [f64], env: Env<'_>, factor: &[f64], weight: &[f64]) -> f64 {
     let mut change = 0.0;
     for k in 0..q.len() {

@@ -25,6 +25,8 @@
 //! and sheared top hats). Mass is conserved exactly: what one face takes
 //! from a cell it gives to the next.
 
+use super::advection::limiter;
+
 /// Largest sedimentation Courant number per sub-step.
 pub const MAX_COURANT: f64 = 0.5;
 
@@ -32,10 +34,6 @@ pub const MAX_COURANT: f64 = 0.5;
 pub fn substeps(v: &[f64], dz: f64, dt: f64) -> usize {
     let vmax = v.iter().fold(0.0_f64, |a, &b| a.max(b));
     ((vmax * dt / dz) / MAX_COURANT).ceil().max(1.0) as usize
-}
-
-fn limiter(r: f64) -> f64 {
-    (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
 }
 
 /// The downward flux through the bottom face of cell `k` (field unit times
