@@ -407,7 +407,7 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         ))
     })?;
     let mut lines = text.lines();
-    let header: Vec<&str> = lines.next().unwrap_or("").split(',').collect();
+    let header = crate::sweep::csv_fields(lines.next().unwrap_or(""));
     let col = |name: &str| {
         header
             .iter()
@@ -422,7 +422,8 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         classes: Vec::new(),
     };
     for line in lines {
-        let f: Vec<&str> = line.split(',').collect();
+        // Swept values and error messages may hold quoted commas.
+        let f = crate::sweep::csv_fields(line);
         if f.len() <= structure {
             return Err(fail(format!("a row has {} fields: truncated", f.len())));
         }

@@ -340,3 +340,18 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
         assert_eq!(listed, in_csv, "{name}");
     }
 }
+
+/// Summary fields with commas and quotes survive the round trip through
+/// the CSV text, quoted and unquoted as RFC 4180 (2005) section 2 specifies
+/// (its example `"aaa","b""bb","ccc"` reads back as aaa, b"bb, ccc).
+#[test]
+fn summary_csv_fields_round_trip_with_commas_and_quotes() {
+    use stormcharge::sweep::{csv_field, csv_fields};
+    assert_eq!(
+        csv_fields(r#""aaa","b""bb","ccc""#),
+        ["aaa", "b\"bb", "ccc"]
+    );
+    let values = ["7", "[1.0, 2.0]", "said \"no\", twice", "", "ok"];
+    let line: Vec<String> = values.iter().map(|v| csv_field(v)).collect();
+    assert_eq!(csv_fields(&line.join(",")), values);
+}
