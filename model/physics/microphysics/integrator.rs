@@ -61,6 +61,18 @@ pub const BOGACKI_SHAMPINE_1989: EmbeddedPair<4> = EmbeddedPair {
     lower_order: 2,
 };
 
+/// The fifth-order weights of Dormand & Prince (1980), which are also the
+/// last stage's row of the tableau (first same as last).
+const DORMAND_PRINCE_1980_B: [f64; 7] = [
+    35.0 / 384.0,
+    0.0,
+    500.0 / 1113.0,
+    125.0 / 192.0,
+    -2187.0 / 6784.0,
+    11.0 / 84.0,
+    0.0,
+];
+
 /// Dormand & Prince (1980), orders 5 and 4.
 pub const DORMAND_PRINCE_1980: EmbeddedPair<7> = EmbeddedPair {
     name: "dormand_prince_1980",
@@ -87,25 +99,9 @@ pub const DORMAND_PRINCE_1980: EmbeddedPair<7> = EmbeddedPair {
             0.0,
             0.0,
         ],
-        [
-            35.0 / 384.0,
-            0.0,
-            500.0 / 1113.0,
-            125.0 / 192.0,
-            -2187.0 / 6784.0,
-            11.0 / 84.0,
-            0.0,
-        ],
+        DORMAND_PRINCE_1980_B,
     ],
-    b: [
-        35.0 / 384.0,
-        0.0,
-        500.0 / 1113.0,
-        125.0 / 192.0,
-        -2187.0 / 6784.0,
-        11.0 / 84.0,
-        0.0,
-    ],
+    b: DORMAND_PRINCE_1980_B,
     // b - b_hat with b_hat = (5179/57600, 0, 7571/16695, 393/640,
     // -92097/339200, 187/2100, 1/40).
     e: [
