@@ -382,9 +382,10 @@ impl EnsembleReport {
         );
         for (name, share, list) in &self.classes {
             out.push_str(&format!(
-                "  {name:<18} {:>5.1} %  ({} members)\n",
+                "  {name:<18} {:>5.1} %  ({} member{})\n",
                 100.0 * share,
-                list.len()
+                list.len(),
+                if list.len() == 1 { "" } else { "s" }
             ));
             for m in list {
                 out.push_str(&format!("      {m}\n"));
