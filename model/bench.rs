@@ -24,7 +24,7 @@ pub struct BenchReport {
     pub fastest: f64,
     pub repeats: usize,
     /// Share of the step spent in each of `PHASES`.
-    pub shares: [f64; 6],
+    pub shares: [f64; PHASES.len()],
     pub threads: usize,
     /// Members per second with one thread and with all threads, and the
     /// parallel efficiency (speed-up / threads), medians over `repeats`
@@ -55,7 +55,7 @@ pub fn run(
     member_duration: f64,
     overrides: &[String],
 ) -> Result<BenchReport, RunError> {
-    let mut phase = [Duration::ZERO; 6];
+    let mut phase = [Duration::ZERO; PHASES.len()];
     let mut rates = Vec::with_capacity(repeats);
     let (mut cells, mut steps) = (0, 0);
     for _ in 0..repeats.max(1) {

@@ -38,6 +38,9 @@ pub struct Outcome {
     pub structure: String,
     pub max_separation: f64,
     pub precipitation: f64,
+    /// Particle charge neutralised by ion capture (C m-2; 0 with ions off).
+    #[serde(default)]
+    pub ion_neutralised: f64,
 }
 
 /// Most members one sweep may have: each writes its own output file, and
@@ -175,6 +178,7 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         structure: String::new(),
         max_separation: f64::NAN,
         precipitation: f64::NAN,
+        ion_neutralised: f64::NAN,
     };
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
@@ -204,6 +208,7 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             out.structure = watch.structure;
             out.max_separation = watch.best;
             out.precipitation = s.precipitation;
+            out.ion_neutralised = s.conduction.neutralised;
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -312,7 +317,7 @@ pub fn run(
     Ok(outcomes)
 }
 
-const HEADER_OUTCOMES: [&str; 9] = [
+const HEADER_OUTCOMES: [&str; 10] = [
     "status",
     "flashes_intracloud",
     "flashes_negative_ground",
@@ -322,6 +327,7 @@ const HEADER_OUTCOMES: [&str; 9] = [
     "structure_at_peak_separation",
     "peak_separation_C_m2",
     "precipitation_kg_m2",
+    "ion_neutralised_C_m2",
 ];
 
 /// A swept value as shown in summaries: TOML strings without their quotes.
@@ -353,13 +359,13 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
         if o.error.is_some() {
             // A failed member has no outcome: empty fields, not zeros.
             s.push_str(&format!(
-                ",failed,,,,,,,,,{}\n",
+                ",failed,,,,,,,,,,{}\n",
                 csv_field(o.error.as_deref().unwrap_or(""))
             ));
             continue;
         }
         s.push_str(&format!(
-            ",ok,{},{},{},{},{},{},{},{},\n",
+            ",ok,{},{},{},{},{},{},{},{},{},\n",
             o.flash_counts[0],
             o.flash_counts[1],
             o.flash_counts[2],
@@ -368,6 +374,7 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
             o.structure,
             o.max_separation,
             o.precipitation,
+            o.ion_neutralised,
         ));
     }
     s
@@ -667,7 +674,7 @@ pub fn write_summary_netcdf(
         &'static str,
         fn(&Outcome) -> f64,
     );
-    let numbers: [Column; 8] = [
+    let numbers: [Column; 9] = [
         ("member", "member number", "1", |o| o.member.index as f64),
         ("flashes_intracloud", "intracloud flashes", "1", |o| {
             o.flash_counts[0] as f64
@@ -701,6 +708,12 @@ pub fn write_summary_netcdf(
             "accumulated surface precipitation",
             "kg m-2",
             |o| o.precipitation,
+        ),
+        (
+            "ion_neutralised",
+            "particle charge neutralised by the capture of small ions",
+            "C m-2",
+            |o| o.ion_neutralised,
         ),
     ];
     for (name, long, units, get) in numbers {

@@ -49,6 +49,12 @@ pub fn run(
     summary.flash_counts = state.ledger.counts;
     summary.first_flash = state.ledger.first_time;
     summary.ground_charge = state.ledger.ground_charge;
+    summary.conduction = crate::output::summary::Conduction {
+        into_ground: state.charge_transport.conducted_to_ground,
+        out_top: state.charge_transport.conducted_out_top,
+        corona: state.charge_transport.corona,
+        neutralised: state.ion_neutralised,
+    };
     summary.flash_bound_hits = (state.ledger.bound_hits, state.ledger.first_bound_hit);
     summary.precipitation = state.water.precipitation;
     summary.substeps = state.substeps;

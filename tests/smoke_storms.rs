@@ -29,8 +29,12 @@ fn demo_storm_charges_and_is_plausible() {
     // during the mature stage its main negative region sits at -31 to
     // -36 degC, colder than the -10 to -25 degC observed (docs/numerics.md,
     // "What changed in the demo"); the charge-structure test below checks the
-    // temperature at the largest separation.
-    let exp = demo(&[]);
+    // temperature at the largest separation. These structure checks run
+    // with non-conducting air (ions.enabled = false): they test what the
+    // charging and the microphysics build; conduction, on by default, then
+    // shrinks the charge and removes the lower positive region
+    // (docs/ions.md, tests/smoke_ions.rs).
+    let exp = demo(&["ions.enabled=false"]);
     let (rec, s) = run_recorded(&exp);
     assert!(
         s.peak_ratio[0] < 1.0,
@@ -66,8 +70,8 @@ fn demo_storm_has_the_tripole_layers_at_peak_separation() {
     // and positive charge below it. (The lower positive region holds more
     // charge than the upper one, so the project's classifier, which takes
     // the largest positive region as the main one, does not call it a
-    // normal tripole: docs/numerics.md.)
-    let exp = demo(&[]);
+    // normal tripole: docs/numerics.md.) Non-conducting air, as above.
+    let exp = demo(&["ions.enabled=false"]);
     let (rec, _) = run_recorded(&exp);
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");

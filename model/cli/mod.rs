@@ -490,6 +490,13 @@ fn cmd_run(
                 ),
             }
         }
+        if exp.ions.enabled {
+            let c = summary.conduction;
+            println!(
+                "  conducting air: {:.3e} C m-2 of particle charge neutralised by ion capture; ions carried {:.3e} C m-2 into the ground and {:.3e} out through the top; point discharge put {:.3e} C m-2 into the air",
+                c.neutralised, c.into_ground, c.out_top, c.corona
+            );
+        }
         let (e, z, t) = summary.peak_field;
         if e > 0.0 {
             println!(

@@ -1,7 +1,7 @@
 //! The initial state of the column: the base state at rest, prescribed
 //! charge and imposed hydrometeors in place, and the field they make.
 
-use crate::column::state::{ChargeLedger, State, WaterLedger};
+use crate::column::state::{ChargeLedger, IonScratch, State, WaterLedger};
 use crate::column::transport;
 use crate::column::work::{ChargingRates, FlashScratch, TransportScratch};
 use crate::physics::breakdown::{Criterion, CriterionStatus};
@@ -48,6 +48,22 @@ impl State {
             criteria_status: [CriterionStatus::default(); Criterion::COUNT],
             ledger: FlashLedger::default(),
             flash_scratch: FlashScratch::new(n),
+            n_ion: if exp.ions.enabled {
+                [exp.ions.environment.clone(), exp.ions.environment.clone()]
+            } else {
+                [Vec::new(), Vec::new()]
+            },
+            conduction_current: vec![0.0; n + 1],
+            ion_neutralised: 0.0,
+            corona_current: 0.0,
+            ion_scratch: if exp.ions.enabled {
+                IonScratch {
+                    flux_pos: vec![0.0; n + 1],
+                    flux_neg: vec![0.0; n + 1],
+                }
+            } else {
+                IonScratch::default()
+            },
         };
         if exp.microphysics == Mode::Prescribed {
             // Imposed hydrometeors are present from the start.

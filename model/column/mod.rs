@@ -9,6 +9,7 @@ pub mod discharge;
 pub mod electrostatics;
 pub mod guards;
 pub mod initial;
+pub mod ions;
 pub mod microphysics;
 pub mod state;
 pub mod step;

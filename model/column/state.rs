@@ -61,6 +61,28 @@ pub struct State {
     pub ledger: FlashLedger,
     /// Work arrays for flashes (allocated once).
     pub flash_scratch: FlashScratch,
+    /// Positive and negative small ions at centres (m-3); empty when ions
+    /// are off.
+    pub n_ion: [Vec<f64>; 2],
+    /// Mean conduction current density on faces over the last step (A m-2,
+    /// positive up; ion drift and point discharge).
+    pub conduction_current: Vec<f64>,
+    /// Mean point-discharge current density at the ground over the last step
+    /// (A m-2, positive up).
+    pub corona_current: f64,
+    /// Work arrays of the ion drift (allocated once).
+    pub ion_scratch: IonScratch,
+    /// Hydrometeor and aerosol charge neutralised by the capture of small
+    /// ions of the opposite sign since the start (C m-2, a gross
+    /// diagnostic: the storm's charge lost to the conducting air inside it).
+    pub ion_neutralised: f64,
+}
+
+/// Work arrays of the ion drift: number fluxes on faces.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct IonScratch {
+    pub(crate) flux_pos: Vec<f64>,
+    pub(crate) flux_neg: Vec<f64>,
 }
 
 /// Water entering and leaving the column (kg m-2, accumulated).
@@ -89,6 +111,12 @@ pub struct ChargeLedger {
     pub precipitated: f64,
     /// Charge added by prescribed sources (layer growth).
     pub added: f64,
+    /// Net charge carried into the ground by ion conduction.
+    pub conducted_to_ground: f64,
+    /// Net charge carried out through the model top by ion conduction.
+    pub conducted_out_top: f64,
+    /// Charge put into the air by point discharge at the ground.
+    pub corona: f64,
 }
 
 impl State {
@@ -107,13 +135,16 @@ impl State {
     }
 
     /// Charge budget residual (C m-2): the column charge minus everything
-    /// that should have made it (start + sources + advection - precipitation
-    /// - charge lowered to ground by flashes). Zero to round-off.
+    /// that should have made it: start, sources, advection and point
+    /// discharge in; precipitation, flashes to ground and conduction through
+    /// the ground and the top out. Zero to round-off.
     pub fn charge_budget_residual(&self) -> f64 {
         let t = &self.charge_transport;
         self.column_charge
-            - (self.initial_column_charge + t.added + t.advected_in
+            - (self.initial_column_charge + t.added + t.advected_in + t.corona
                 - t.precipitated
+                - t.conducted_to_ground
+                - t.conducted_out_top
                 - self.ledger.ground_charge)
     }
 

@@ -3,7 +3,9 @@
 
 use crate::column::guards::{self, Process};
 use crate::column::state::State;
-use crate::column::{breakdown, charging, discharge, electrostatics, microphysics, transport};
+use crate::column::{
+    breakdown, charging, discharge, electrostatics, ions, microphysics, transport,
+};
 use crate::error::RunError;
 use crate::setup::experiment::Experiment;
 
@@ -13,7 +15,8 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
 }
 
 /// Names of the phases of a step, in order (for profiles).
-pub const PHASES: [&str; 6] = [
+pub const PHASES: [&str; 7] = [
+    "ions",
     "transport",
     "microphysics",
     "charging",
@@ -38,28 +41,34 @@ pub fn step_timed(
     // First-order (Lie) splitting: symmetric (Strang) splitting of the
     // transport around the local processes was measured and did not pay
     // (docs/numerics.md).
+    // Small ions first: their drift uses the field solved at the end of the
+    // last step, which matches the charge the step starts from.
+    ions::step(exp, state, dt);
+    mark(0);
     let precipitation = state.water.precipitation;
     transport::apply_forcing(exp, state);
     transport::transport(exp, state, dt)?;
     state.precip_rate = (state.water.precipitation - precipitation) / dt;
     guards::check(exp, state, Process::Transport)?;
-    mark(0);
+    mark(1);
     microphysics::step(exp, state, dt)?;
     guards::check(exp, state, Process::Microphysics)?;
-    mark(1);
+    mark(2);
     charging::step(exp, state, dt);
     guards::check(exp, state, Process::Charging)?;
-    mark(2);
+    mark(3);
     electrostatics::solve(exp, state);
     guards::check(exp, state, Process::FieldSolve)?;
-    mark(3);
-    breakdown::evaluate(exp, state);
     mark(4);
+    breakdown::evaluate(exp, state);
+    mark(5);
     let flashes = state.ledger.total;
     discharge::step(exp, state, exp.schedule.time(state.step + 1));
     let flashed = state.ledger.total != flashes;
     guards::check(exp, state, Process::Discharge { flashed })?;
-    mark(5);
+    // Charge that evaporation and flashes gave the ion carrier becomes ions.
+    ions::reconcile(exp, state);
+    mark(6);
     state.step += 1;
     state.time = exp.schedule.time(state.step);
     Ok(())

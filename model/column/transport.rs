@@ -164,7 +164,23 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunErr
         if entraining {
             relax(&mut state.n_ice, Env::Uniform(0.0), &sc.survival, mass);
         }
-        for c in Carrier::ALL.iter().filter(|c| c.advected()) {
+        if exp.ions.enabled {
+            advect_ions(
+                exp,
+                IonTransport {
+                    ions: &mut state.n_ion,
+                    charge: &mut state.charge[Carrier::Ions.index()],
+                    advected_in: &mut state.charge_transport.advected_in,
+                },
+                sc,
+                h,
+                entraining,
+            );
+        }
+        for c in Carrier::ALL
+            .iter()
+            .filter(|c| c.advected() && !(exp.ions.enabled && **c == Carrier::Ions))
+        {
             let charge = &mut state.charge[c.index()];
             for k in 0..n {
                 sc.field[k] = charge[k] * exp.cell_env[k].inv_rho;
@@ -189,6 +205,64 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunErr
         }
     }
     Ok(())
+}
+
+/// Advects the small ions (as numbers per kilogram of air) over one
+/// sub-step; air entering the column and entrained air carry the clear-air
+/// concentrations. Their net charge is booked as advected and set on the
+/// ion carrier.
+fn advect_ions(
+    exp: &Experiment,
+    out: IonTransport,
+    sc: &mut crate::column::work::TransportScratch,
+    h: f64,
+    entraining: bool,
+) {
+    let rho = &exp.base.centre.density;
+    let n = rho.len();
+    let env = &exp.ions.environment;
+    let inflow = (env[0] / rho[0], env[n - 1] / rho[n - 1]);
+    let mut net = [0.0; 2];
+    for (s, ions) in out.ions.iter_mut().enumerate() {
+        for k in 0..n {
+            sc.field[k] = ions[k] * exp.cell_env[k].inv_rho;
+        }
+        let b = advection::advect_with(
+            &mut sc.field,
+            &sc.mass_flux,
+            &sc.flow,
+            h,
+            inflow,
+            &mut sc.faces,
+        );
+        net[s] += b.net();
+        if entraining {
+            for k in 0..n {
+                sc.faces[k] = env[k] * exp.cell_env[k].inv_rho;
+            }
+            net[s] += relax(
+                &mut sc.field,
+                Env::Profile(&sc.faces[..n]),
+                &sc.survival,
+                &exp.cell_mass,
+            );
+        }
+        for k in 0..n {
+            ions[k] = sc.field[k] * rho[k];
+        }
+    }
+    let e = crate::physics::constants::ELEMENTARY_CHARGE;
+    *out.advected_in += e * (net[0] - net[1]);
+    for k in 0..n {
+        out.charge[k] = e * (out.ions[0][k] - out.ions[1][k]);
+    }
+}
+
+/// What [`advect_ions`] changes besides the work arrays.
+struct IonTransport<'a> {
+    ions: &'a mut [Vec<f64>; 2],
+    charge: &'a mut [f64],
+    advected_in: &'a mut f64,
 }
 
 fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {

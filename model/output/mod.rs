@@ -379,6 +379,73 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         )
         .comment("positive when the field points upward (E_z = -dphi/dz)"),
     );
+    if exp.ions.enabled {
+        for (i, sign) in ["positive", "negative"].into_iter().enumerate() {
+            v.push(OutputVar::new(
+                format!("n_ion_{sign}"),
+                format!("number concentration of {sign} small ions"),
+                "m-3",
+                Centre,
+                Box::new(move |_, s, o| o.copy_from_slice(&s.n_ion[i])),
+            ));
+        }
+        v.push(OutputVar::new(
+            "ion_pair_production_rate",
+            "ion pairs produced per unit volume and time (cosmic rays and radioactivity)",
+            "m-3 s-1",
+            Centre,
+            Box::new(|e, _, o| o.copy_from_slice(&e.ions.production)),
+        ));
+        v.push(
+            OutputVar::new(
+                "air_conductivity",
+                "electrical conductivity of the air from small ions",
+                "S m-1",
+                Centre,
+                Box::new(|e, s, o| {
+                    for (k, x) in o.iter_mut().enumerate() {
+                        *x = crate::physics::ions::conductivity(
+                            s.n_ion[0][k],
+                            s.n_ion[1][k],
+                            e.ions.mu_pos[k],
+                            e.ions.mu_neg[k],
+                        );
+                    }
+                }),
+            )
+            .comment("e (n+ mu+ + n- mu-)"),
+        );
+        v.push(
+            OutputVar::new(
+                "conduction_current_density",
+                "vertical conduction current density of small ions (mean over the last step)",
+                "A m-2",
+                Face,
+                Box::new(|_, s, o| o.copy_from_slice(&s.conduction_current)),
+            )
+            .comment("positive upward; at the ground face it includes point discharge"),
+        );
+        v.push(
+            OutputVar::new(
+                "corona_current_density",
+                "point-discharge current density at the ground (mean over the last step)",
+                "A m-2",
+                Series,
+                Box::new(|_, s, o| o[0] = s.corona_current),
+            )
+            .comment("positive upward"),
+        );
+        v.push(
+            OutputVar::new(
+                "energetic_electron_flux",
+                "flux of energetic secondary cosmic-ray electrons (seed of runaway avalanches)",
+                "m-2 s-1",
+                Centre,
+                Box::new(|e, _, o| o.copy_from_slice(&e.ions.electron_flux)),
+            )
+            .comment("follows the cosmic-ray ionisation profile (docs/ions.md)"),
+        );
+    }
     v.push(OutputVar::new(
         "column_charge",
         "column-integrated electric charge per unit area",

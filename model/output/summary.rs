@@ -28,6 +28,15 @@ struct FlashWindow {
     seen: usize,
 }
 
+/// Charge moved by the conducting air over a run (C m-2).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Conduction {
+    pub into_ground: f64,
+    pub out_top: f64,
+    pub corona: f64,
+    pub neutralised: f64,
+}
+
 /// What a finished run reports.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RunSummary {
@@ -48,6 +57,10 @@ pub struct RunSummary {
     pub first_flash: Option<f64>,
     /// Charge lowered to ground (C m-2), signed.
     pub ground_charge: f64,
+    /// Conduction (C m-2): net charge carried into the ground and out
+    /// through the top by drifting ions, charge put into the air by point
+    /// discharge, and hydrometeor and aerosol charge neutralised by ion capture.
+    pub conduction: Conduction,
     /// Steps that ended with the trigger still met after the per-step flash
     /// bound, and the first such time (s).
     pub flash_bound_hits: (u64, Option<f64>),
@@ -96,6 +109,7 @@ impl RunSummary {
             flash_counts: [0; 3],
             first_flash: None,
             ground_charge: 0.0,
+            conduction: Conduction::default(),
             flash_bound_hits: (0, None),
             precipitation: 0.0,
             peak_precip_rate: 0.0,

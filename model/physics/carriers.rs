@@ -17,9 +17,14 @@ named_choice! {
         Ice = "ice",
         Snow = "snow",
         Graupel = "graupel",
-        /// The small-ion reservoir: charge released by evaporating or
+        /// Small ions: with `ions.enabled` the net charge e (n+ - n-) of the
+        /// prognostic ion fields (which drift in the field); otherwise a
+        /// passive reservoir. Takes the charge released by evaporating or
         /// sublimating hydrometeors and by species that vanish. Moves with the air.
         Ions = "ions",
+        /// Aerosol particles that took up small ions (large ions); move with
+        /// the air and do not drift.
+        Aerosol = "aerosol",
     }
 }
 
@@ -45,7 +50,7 @@ impl Carrier {
     /// The hydrometeor species that carries this charge, if any.
     pub fn species(self) -> Option<Species> {
         match self {
-            Carrier::Prescribed | Carrier::Ions => None,
+            Carrier::Prescribed | Carrier::Ions | Carrier::Aerosol => None,
             Carrier::Cloud => Some(Species::Cloud),
             Carrier::Rain => Some(Species::Rain),
             Carrier::Ice => Some(Species::Ice),

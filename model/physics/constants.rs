@@ -60,3 +60,9 @@ pub const RHO_WATER: f64 = 1000.0;
 
 /// Density of solid ice (kg m-3), 916.7 at 0 degC (docs/references.md, from memory).
 pub const RHO_ICE: f64 = 916.7;
+
+/// Elementary charge e (C), exact in the SI since 2019.
+pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
+
+/// Boltzmann constant k_B (J K-1), exact in the SI since 2019.
+pub const BOLTZMANN: f64 = 1.380_649e-23;

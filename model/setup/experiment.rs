@@ -79,6 +79,8 @@ pub struct Experiment {
     pub input_files: Vec<std::path::PathBuf>,
     /// The updraft's vertical shape factor on the faces (fixed in time).
     pub updraft_shape: Vec<f64>,
+    /// Small ions: production, losses and mobilities per cell.
+    pub ions: crate::physics::ions::IonColumn,
 }
 
 impl Experiment {
@@ -230,6 +232,7 @@ impl Experiment {
         let updraft_shape = updraft.shape_factors(&grid.z_face);
         let entrainment_rate = resolve::entrainment_rate(&config.column);
         let cell_mass = base.centre.density.iter().map(|r| r * grid.dz).collect();
+        let ions = resolve::ions(&config.ions, &grid.z, &base.centre).map_err(err)?;
         Ok(Experiment {
             config,
             grid,
@@ -249,6 +252,7 @@ impl Experiment {
             cell_mass,
             input_files,
             updraft_shape,
+            ions,
         })
     }
 

@@ -22,9 +22,9 @@ use crate::physics::microphysics::species::Species;
 use crate::physics::profile::{self, Table, TableError};
 use crate::setup::config::{
     BreakdownConfig, ChargingConfig, ColumnConfig, DischargeConfig, ElectrostaticsConfig,
-    EnvelopeConfig, EnvelopeKind, Geometry, HydroLayerConfig, LayerConfig, LayerShape,
-    MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary, UpdraftConfig,
-    UpdraftShape,
+    EnvelopeConfig, EnvelopeKind, Geometry, HydroLayerConfig, IonisationSource, IonsConfig,
+    LayerConfig, LayerShape, MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary,
+    UpdraftConfig, UpdraftShape,
 };
 
 /// One nanocoulomb (C): charge-density keys are given in nC m-3.
@@ -434,4 +434,71 @@ pub fn discharge(
         },
         ground_height: c.ground_connection_height,
     }
+}
+
+/// Heights (m) against an ion-pair production (m-3 s-1).
+pub const HEIGHT_PRODUCTION: Columns = Columns {
+    what: "height (m), ion-pair production (m-3 s-1)",
+    x: (-1000.0, 100_000.0),
+    y: (0.0, 1.0e12),
+};
+
+/// The ion physics on the grid: production from cosmic rays (Slyunyaev et
+/// al. 2015) or the user's table, times the scale, plus radioactivity;
+/// mobilities, recombination and aerosol sink from the base state.
+pub fn ions(
+    c: &IonsConfig,
+    z: &[f64],
+    base: &crate::physics::atmosphere::Profile,
+) -> Result<crate::physics::ions::IonColumn, ConfigIssue> {
+    use crate::physics::ions::{conduction::Corona, ionisation, IonColumn, IonInputs, Mobility};
+    if !c.enabled {
+        return Ok(IonColumn::default());
+    }
+    let cosmic = ionisation::CosmicRayProfile::new(c.geomagnetic_latitude, c.solar_cycle_phase);
+    let table = match c.ionisation {
+        IonisationSource::Table => Some(table(
+            "ions.ionisation_points",
+            c.ionisation_points.as_ref(),
+            HEIGHT_PRODUCTION,
+        )?),
+        IonisationSource::Slyunyaev2015 => None,
+    };
+    let production = (0..z.len())
+        .map(|k| {
+            let q = match &table {
+                Some(t) => t.lookup(z[k], None),
+                None => cosmic.rate(z[k], base.pressure[k], base.temperature[k]),
+            };
+            c.ionisation_scale * q
+                + ionisation::radioactivity(
+                    z[k],
+                    c.surface_radioactivity,
+                    c.radioactivity_scale_height,
+                )
+        })
+        .collect();
+    let inputs = IonInputs {
+        mobility: Mobility {
+            positive: c.positive_mobility,
+            negative: c.negative_mobility,
+        },
+        aerosol_number: c.aerosol_number,
+        aerosol_scale_height: c.aerosol_scale_height,
+        aerosol_attachment: c.aerosol_attachment,
+        cloud_droplet_number: c.cloud_droplet_number,
+        corona: c.ground_corona.then_some(Corona {
+            threshold: c.corona_threshold,
+            coefficient: c.corona_coefficient,
+        }),
+        seed_electron_flux: c.seed_electron_flux * c.ionisation_scale,
+    };
+    Ok(IonColumn::build(
+        &inputs,
+        z,
+        &base.pressure,
+        &base.temperature,
+        production,
+        &cosmic,
+    ))
 }

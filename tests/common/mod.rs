@@ -95,7 +95,7 @@ pub fn var_text_attr(v: &netcdf::Variable, name: &str) -> String {
 macro_rules! still_column {
     ($($rest:expr),* $(,)?) => {
         concat!(
-            "[atmosphere]\nprofile = \"standard_1976\"\n[updraft]\npeak_speed = 0.0\n[microphysics]\nscheme = \"off\"\n",
+            "[atmosphere]\nprofile = \"standard_1976\"\n[updraft]\npeak_speed = 0.0\n[microphysics]\nscheme = \"off\"\n[ions]\nenabled = false\n",
             $($rest),*
         )
     };

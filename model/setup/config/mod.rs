@@ -33,6 +33,7 @@ pub struct Config {
     pub prescribed_charge: PrescribedChargeConfig,
     pub charging: ChargingConfig,
     pub electrostatics: ElectrostaticsConfig,
+    pub ions: IonsConfig,
     pub breakdown: BreakdownConfig,
     pub discharge: DischargeConfig,
     pub sweep: SweepConfig,
@@ -279,6 +280,43 @@ pub struct ElectrostaticsConfig {
     pub top_boundary: TopBoundary,
     /// V.
     pub top_potential: f64,
+}
+
+named_choice! {
+    /// Where the ion-pair production comes from.
+    pub enum IonisationSource {
+        /// Galactic cosmic rays after Slyunyaev et al. (2015), plus the
+        /// optional surface radioactivity.
+        Slyunyaev2015 = "slyunyaev_2015",
+        /// A user table of production against height (`ions.ionisation_points`).
+        Table = "table",
+    }
+}
+
+/// Small ions, ionisation, conduction and point discharge. Input units as
+/// in the key table (m-3, m-3 s-1, m2 V-1 s-1, m3 s-1, V m-1, degrees).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct IonsConfig {
+    pub enabled: bool,
+    pub ionisation: IonisationSource,
+    pub geomagnetic_latitude: f64,
+    pub solar_cycle_phase: f64,
+    pub ionisation_scale: f64,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ionisation_points: Option<Vec<Vec<f64>>>,
+    pub surface_radioactivity: f64,
+    pub radioactivity_scale_height: f64,
+    pub positive_mobility: f64,
+    pub negative_mobility: f64,
+    pub aerosol_number: f64,
+    pub aerosol_scale_height: f64,
+    pub aerosol_attachment: f64,
+    pub cloud_droplet_number: f64,
+    pub ground_corona: bool,
+    pub corona_threshold: f64,
+    pub corona_coefficient: f64,
+    pub seed_electron_flux: f64,
 }
 
 /// Threshold fields in V m-1 at sea-level air density unless noted.

@@ -1,0 +1,177 @@
+//! Conduction: small ions drifting in the field, and point discharge at the
+//! ground.
+//!
+//! Ions of mobility mu drift at mu E (positive along the field, negative
+//! against it), so across a face the charge flux is the conduction current
+//! J = e (n+ mu+ + n- mu-) E = sigma E, each sign taken from its upwind
+//! cell. Explicit drift would be unstable for steps longer than the
+//! relaxation time eps0/sigma, so each face's flux is integrated with the
+//! field that its own flux removes: for horizontally uniform layers moving
+//! charge Q (C m-2) up across a face lowers the field there by Q/eps0
+//! (Gauss's law), so dE/dt = -sigma E/eps0 at fixed sigma and the charge
+//! crossing in a sub-step h is eps0 E (1 - exp(-sigma h/eps0)), exact for
+//! that local relaxation and stable for any h. The ions move at most a
+//! quarter of a cell per sub-step (drift Courant number 0.25: a cell can lose
+//! through both faces and the ions stay positive), so sub-steps are counted
+//! from the largest mu |E|. The field so updated is a stand-in inside the
+//! step; the column's solver recomputes the field from the charge after
+//! (docs/ions.md).
+//!
+//! Point discharge: above a threshold surface field E_0 ground objects go
+//! into corona and inject ions of the sign of the ground's induced charge at
+//! the areal current density J = A (E^2 - E_0^2) sign(E) (the quadratic
+//! current-field law of point discharge, Whipple & Scrase 1936; from memory;
+//! docs/references.md). Injection never takes the surface field below the
+//! threshold within a sub-step.
+
+use crate::physics::constants::{ELEMENTARY_CHARGE, EPSILON_0};
+
+/// Drift Courant number per sub-step (fraction of a cell).
+pub const DRIFT_COURANT: f64 = 0.25;
+
+/// Point discharge at the ground.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Corona {
+    /// Onset field magnitude E_0 (V m-1).
+    pub threshold: f64,
+    /// Areal coefficient A (A m-2 per (V m-1)^2).
+    pub coefficient: f64,
+}
+
+impl Corona {
+    /// Corona current density (A m-2, positive up) for surface field `e` (V m-1).
+    pub fn current(&self, e: f64) -> f64 {
+        let excess = e * e - self.threshold * self.threshold;
+        if excess <= 0.0 {
+            0.0
+        } else {
+            self.coefficient * excess * e.signum()
+        }
+    }
+}
+
+/// The ion fields and their mobilities over the column.
+pub struct DriftColumn<'a> {
+    /// Positive and negative small ions at centres (m-3).
+    pub n_pos: &'a mut [f64],
+    pub n_neg: &'a mut [f64],
+    /// Mobilities at centres (m2 V-1 s-1).
+    pub mu_pos: &'a [f64],
+    pub mu_neg: &'a [f64],
+    /// E_z on faces (V m-1), relaxed in place as the ions move.
+    pub field: &'a mut [f64],
+    /// Work arrays on faces: the number fluxes of one sub-step.
+    pub flux_pos: &'a mut [f64],
+    pub flux_neg: &'a mut [f64],
+    /// Mean conduction current density on faces over the step (A m-2, positive up).
+    pub current: &'a mut [f64],
+}
+
+/// Charge moved across the column's boundaries in one call (C m-2).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct DriftTotals {
+    /// Net charge carried down into the ground by conduction.
+    pub into_ground: f64,
+    /// Net charge carried up out through the model top.
+    pub out_top: f64,
+    /// Charge injected into the air by point discharge at the ground.
+    pub corona: f64,
+    /// Mean corona current density over the step (A m-2, positive up).
+    pub corona_current: f64,
+    /// Sub-steps taken.
+    pub substeps: usize,
+}
+
+/// Sub-steps for the drift over `dt` (s) on spacing `dz` (m).
+pub fn substeps(col: &DriftColumn, dz: f64, dt: f64) -> usize {
+    let n = col.n_pos.len();
+    let mut fastest: f64 = 0.0;
+    for (j, e) in col.field.iter().enumerate() {
+        let below = j.saturating_sub(1).min(n - 1);
+        let above = j.min(n - 1);
+        let mu = col.mu_pos[below]
+            .max(col.mu_pos[above])
+            .max(col.mu_neg[below])
+            .max(col.mu_neg[above]);
+        fastest = fastest.max(mu * e.abs());
+    }
+    ((fastest * dt / (DRIFT_COURANT * dz)).ceil() as usize).max(1)
+}
+
+/// Drifts the ions for `dt` seconds. Ions enter through the top from air
+/// like the top cell's (zero gradient) and leave through it freely; the
+/// ground absorbs arriving ions and emits only by point discharge.
+pub fn drift(col: &mut DriftColumn, dz: f64, dt: f64, corona: Option<Corona>) -> DriftTotals {
+    let n = col.n_pos.len();
+    let nsub = substeps(col, dz, dt);
+    let h = dt / nsub as f64;
+    let e_c = ELEMENTARY_CHARGE;
+    let mut totals = DriftTotals {
+        substeps: nsub,
+        ..DriftTotals::default()
+    };
+    col.current.fill(0.0);
+    for _ in 0..nsub {
+        for j in 0..=n {
+            let e = col.field[j];
+            if e == 0.0 {
+                col.flux_pos[j] = 0.0;
+                col.flux_neg[j] = 0.0;
+                continue;
+            }
+            // Upwind cells: positive ions move with E, negative against it.
+            // Below the ground there are no ions; above the top, air like
+            // the top cell's.
+            let below = if j == 0 { None } else { Some(j - 1) };
+            let above = if j == n { Some(n - 1) } else { Some(j) };
+            let (src_pos, src_neg) = if e > 0.0 {
+                (below, above)
+            } else {
+                (above, below)
+            };
+            let (np, mp) = src_pos.map_or((0.0, 0.0), |k| (col.n_pos[k], col.mu_pos[k]));
+            let (nn, mn) = src_neg.map_or((0.0, 0.0), |k| (col.n_neg[k], col.mu_neg[k]));
+            let sigma = e_c * (np * mp + nn * mn);
+            let x = sigma * h / EPSILON_0;
+            let h_eff = if x > 1e-12 {
+                -(-x).exp_m1() * EPSILON_0 / sigma
+            } else {
+                h
+            };
+            col.flux_pos[j] = np * mp * e * h_eff;
+            col.flux_neg[j] = -nn * mn * e * h_eff;
+            let charge = e_c * (col.flux_pos[j] - col.flux_neg[j]);
+            col.field[j] -= charge / EPSILON_0;
+            col.current[j] += charge;
+        }
+        for k in 0..n {
+            col.n_pos[k] += (col.flux_pos[k] - col.flux_pos[k + 1]) / dz;
+            col.n_neg[k] += (col.flux_neg[k] - col.flux_neg[k + 1]) / dz;
+        }
+        totals.into_ground -= e_c * (col.flux_pos[0] - col.flux_neg[0]);
+        totals.out_top += e_c * (col.flux_pos[n] - col.flux_neg[n]);
+        if let Some(c) = corona {
+            let e = col.field[0];
+            let j = c.current(e);
+            if j != 0.0 {
+                // Never below the threshold within the sub-step.
+                let most = EPSILON_0 * (e.abs() - c.threshold);
+                let q = (j.abs() * h).min(most) * e.signum();
+                let ions = q.abs() / (e_c * dz);
+                if q > 0.0 {
+                    col.n_pos[0] += ions;
+                } else {
+                    col.n_neg[0] += ions;
+                }
+                col.field[0] -= q / EPSILON_0;
+                totals.corona += q;
+                col.current[0] += q;
+            }
+        }
+    }
+    for c in col.current.iter_mut() {
+        *c /= dt;
+    }
+    totals.corona_current = totals.corona / dt;
+    totals
+}
