@@ -196,6 +196,17 @@ pub struct FlashReport {
     /// The same in C and J for a finite column.
     pub mean_charge: Option<f64>,
     pub mean_energy: Option<f64>,
+    /// Per flash: time (s), |E| at initiation over the runaway threshold,
+    /// and the criteria that held.
+    pub initiation: Vec<FlashInitiation>,
+}
+
+/// What held when one flash started.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct FlashInitiation {
+    pub time: f64,
+    pub over_runaway: f64,
+    pub criteria_met: Vec<String>,
 }
 
 /// Everything `stormcharge analyze` reports.
@@ -293,7 +304,29 @@ pub fn analyze_file(
     });
     let charge = flash_f64("flash_charge_neutralized")?;
     let energy = flash_f64("flash_energy")?;
-    let first_flash_time = flash_f64("flash_time")?.first().copied();
+    let times = flash_f64("flash_time")?;
+    let first_flash_time = times.first().copied();
+    let over_runaway = flash_f64("flash_ratio_runaway_avalanche")?;
+    let mut met: Vec<(String, Vec<f64>)> = Vec::new();
+    for c in crate::physics::breakdown::Criterion::ALL {
+        met.push((
+            c.name().to_string(),
+            out.optional::<f64>(&format!("flash_criterion_{}", c.name()))?,
+        ));
+    }
+    let initiation = times
+        .iter()
+        .enumerate()
+        .map(|(i, &time)| FlashInitiation {
+            time,
+            over_runaway: over_runaway.get(i).copied().unwrap_or(f64::NAN),
+            criteria_met: met
+                .iter()
+                .filter(|(_, v)| v.get(i).is_some_and(|&x| x > 0.5))
+                .map(|(n, _)| n.clone())
+                .collect(),
+        })
+        .collect();
     Ok(Report {
         file: path.display().to_string(),
         records,
@@ -307,6 +340,7 @@ pub fn analyze_file(
             mean_energy_per_area: mean(&energy),
             mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),
             mean_energy: mean(&energy).zip(area).map(|(m, a)| m * a),
+            initiation,
         },
     })
 }
@@ -356,6 +390,28 @@ impl Report {
                 s.push_str(&format!(" ({qc:.1} C, {wc:.2e} J)"));
             }
             s.push('\n');
+        }
+        if !fl.initiation.is_empty() {
+            let mut r: Vec<f64> = fl.initiation.iter().map(|f| f.over_runaway).collect();
+            let [lo, mid, hi] = crate::sweep::spread(&mut r);
+            s.push_str(&format!(
+                "field at initiation over the runaway threshold: median {mid:.2} ({lo:.2}-{hi:.2}; observed before flashes 1.1-3.3, Stolzenburg et al. 2007)\n"
+            ));
+            const SHOWN: usize = 20;
+            for f in fl.initiation.iter().take(SHOWN) {
+                s.push_str(&format!(
+                    "  flash at {} s: {:.2} x runaway threshold; held: {}\n",
+                    f.time,
+                    f.over_runaway,
+                    f.criteria_met.join(", ")
+                ));
+            }
+            if fl.initiation.len() > SHOWN {
+                s.push_str(&format!(
+                    "  ... and {} more flashes (--json lists them all)\n",
+                    fl.initiation.len() - SHOWN
+                ));
+            }
         }
         s
     }

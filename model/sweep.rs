@@ -41,6 +41,29 @@ pub struct Outcome {
     /// Particle charge neutralised by ion capture (C m-2; 0 with ions off).
     #[serde(default)]
     pub ion_neutralised: f64,
+    /// Smallest, median and largest field at flash initiation over the
+    /// runaway threshold (1; NaN without flashes).
+    #[serde(default = "no_ratios")]
+    pub initiation_ratio: [f64; 3],
+}
+
+fn no_ratios() -> [f64; 3] {
+    [f64::NAN; 3]
+}
+
+/// Smallest, median and largest of `v` (NaN when empty).
+pub fn spread(v: &mut [f64]) -> [f64; 3] {
+    if v.is_empty() {
+        return no_ratios();
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    let median = if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    };
+    [v[0], median, v[n - 1]]
 }
 
 /// Most members one sweep may have: each writes its own output file, and
@@ -143,6 +166,8 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
 struct Watch {
     best: f64,
     structure: String,
+    /// |E|/runaway threshold of every flash at initiation.
+    ratios: Vec<f64>,
 }
 
 impl Observer for Watch {
@@ -152,6 +177,14 @@ impl Observer for Watch {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
+        self.ratios.extend(
+            state
+                .ledger
+                .flashes
+                .iter()
+                .map(|f| f.criteria_ratio[runaway]),
+        );
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best {
             self.best = sep;
@@ -179,6 +212,7 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         max_separation: f64::NAN,
         precipitation: f64::NAN,
         ion_neutralised: f64::NAN,
+        initiation_ratio: no_ratios(),
     };
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
@@ -209,6 +243,8 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             out.max_separation = watch.best;
             out.precipitation = s.precipitation;
             out.ion_neutralised = s.conduction.neutralised;
+            let mut ratios = watch.ratios;
+            out.initiation_ratio = spread(&mut ratios);
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -317,7 +353,7 @@ pub fn run(
     Ok(outcomes)
 }
 
-const HEADER_OUTCOMES: [&str; 10] = [
+const HEADER_OUTCOMES: [&str; 13] = [
     "status",
     "flashes_intracloud",
     "flashes_negative_ground",
@@ -328,6 +364,9 @@ const HEADER_OUTCOMES: [&str; 10] = [
     "peak_separation_C_m2",
     "precipitation_kg_m2",
     "ion_neutralised_C_m2",
+    "initiation_over_runaway_min",
+    "initiation_over_runaway_median",
+    "initiation_over_runaway_max",
 ];
 
 /// A swept value as shown in summaries: TOML strings without their quotes.
@@ -359,13 +398,13 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
         if o.error.is_some() {
             // A failed member has no outcome: empty fields, not zeros.
             s.push_str(&format!(
-                ",failed,,,,,,,,,,{}\n",
+                ",failed,,,,,,,,,,,,,{}\n",
                 csv_field(o.error.as_deref().unwrap_or(""))
             ));
             continue;
         }
         s.push_str(&format!(
-            ",ok,{},{},{},{},{},{},{},{},{},\n",
+            ",ok,{},{},{},{},{},{},{},{},{},{},{},{},\n",
             o.flash_counts[0],
             o.flash_counts[1],
             o.flash_counts[2],
@@ -375,6 +414,9 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
             o.max_separation,
             o.precipitation,
             o.ion_neutralised,
+            o.initiation_ratio[0],
+            o.initiation_ratio[1],
+            o.initiation_ratio[2],
         ));
     }
     s
@@ -674,7 +716,7 @@ pub fn write_summary_netcdf(
         &'static str,
         fn(&Outcome) -> f64,
     );
-    let numbers: [Column; 9] = [
+    let numbers: [Column; 10] = [
         ("member", "member number", "1", |o| o.member.index as f64),
         ("flashes_intracloud", "intracloud flashes", "1", |o| {
             o.flash_counts[0] as f64
@@ -714,6 +756,12 @@ pub fn write_summary_netcdf(
             "particle charge neutralised by the capture of small ions",
             "C m-2",
             |o| o.ion_neutralised,
+        ),
+        (
+            "initiation_over_runaway_median",
+            "median field at flash initiation over the runaway threshold",
+            "1",
+            |o| o.initiation_ratio[1],
         ),
     ];
     for (name, long, units, get) in numbers {

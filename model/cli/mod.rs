@@ -505,7 +505,7 @@ fn cmd_run(
                 z,
                 t
             );
-            println!("  largest ratio |E|/threshold over the run (avalanche: e-folding count):");
+            println!("  largest value of each initiation criterion over the run (1 where it holds, except avalanche_multiplication: e-foldings against breakdown.avalanche_required_efolds):");
             for c in crate::physics::breakdown::Criterion::ALL {
                 let trigger = if c == exp.criteria_thresholds.trigger {
                     "  (flash trigger)"

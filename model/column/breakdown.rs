@@ -1,11 +1,35 @@
 //! Breakdown and inception criteria on the column's field, every step.
 
+use crate::column::particle_limits;
 use crate::column::state::State;
+use crate::physics::breakdown::Extras;
 use crate::setup::experiment::Experiment;
 
-/// Evaluates every criterion on the current field and stores the result in the state.
+/// Evaluates every criterion on the current field and the largest
+/// particles' charges, and stores the result and the strongest runaway
+/// avalanche in the state.
 pub fn evaluate(exp: &Experiment, state: &mut State) {
-    state.criteria_status =
-        exp.criteria_thresholds
-            .evaluate(&state.field, &exp.grid.z_face, &exp.base.face.density);
+    let mut sc = std::mem::take(&mut state.initiation_scratch);
+    particle_limits::corona_ratios(exp, state, &mut sc.corona);
+    let flux = &exp.ions.electron_flux;
+    let n = flux.len();
+    if n > 0 {
+        sc.seed[0] = flux[0];
+        sc.seed[n] = flux[n - 1];
+        for j in 1..n {
+            sc.seed[j] = 0.5 * (flux[j - 1] + flux[j]);
+        }
+    }
+    let (status, avalanche) = exp.criteria_thresholds.evaluate(
+        &state.field,
+        &exp.grid.z_face,
+        &exp.base.face.density,
+        &Extras {
+            corona: &sc.corona,
+            seed: &sc.seed,
+        },
+    );
+    state.criteria_status = status;
+    state.avalanche = avalanche;
+    state.initiation_scratch = sc;
 }

@@ -23,6 +23,13 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
     for _ in 0..p.max_per_step {
         let status = state.criteria_status[trigger];
         if !status.met {
+            state.trigger_since = None;
+            return;
+        }
+        // Initiation is an event: the trigger must have held for the
+        // persistence time (the field keeps growing meanwhile).
+        let since = *state.trigger_since.get_or_insert(time);
+        if time - since < p.persistence {
             return;
         }
         if let Some(last) = state.ledger.last_time {
@@ -75,12 +82,15 @@ fn flash_with(
     let grid = &exp.grid;
     let dz = grid.dz;
     let criteria_met = state.criteria_status.map(|c| c.met);
+    let criteria_ratio = state.criteria_status.map(|c| c.ratio);
+    let sign0 = state.field[start].signum();
     let Channel { mut bottom, top } = channel::grow(
         &ChannelInputs {
             field: &state.field,
             propagation: &p.propagation,
             charge: &state.charge_total,
             follow_min: p.follow_charge.then_some(p.min_charge_density),
+            negative_factor: p.negative_end_factor,
         },
         start,
     )?;
@@ -165,5 +175,17 @@ fn flash_with(
         field_before,
         field_after: max_abs(&state.field, faces),
         criteria_met,
+        criteria_ratio,
+        // With E_z > 0 at initiation the upper end is the positive one.
+        positive_end: if sign0 > 0.0 {
+            grid.z_face[top] - grid.z_face[start]
+        } else {
+            grid.z_face[start] - grid.z_face[bottom]
+        },
+        negative_end: if sign0 > 0.0 {
+            grid.z_face[start] - grid.z_face[bottom]
+        } else {
+            grid.z_face[top] - grid.z_face[start]
+        },
     })
 }

@@ -1,7 +1,7 @@
 //! The initial state of the column: the base state at rest, prescribed
 //! charge and imposed hydrometeors in place, and the field they make.
 
-use crate::column::state::{ChargeLedger, IonScratch, State, WaterLedger};
+use crate::column::state::{ChargeLedger, InitiationScratch, IonScratch, State, WaterLedger};
 use crate::column::transport;
 use crate::column::work::{ChargingRates, FlashScratch, TransportScratch};
 use crate::physics::breakdown::{Criterion, CriterionStatus};
@@ -55,6 +55,14 @@ impl State {
             },
             conduction_current: vec![0.0; n + 1],
             ion_neutralised: 0.0,
+            avalanche: Default::default(),
+            initiation_scratch: InitiationScratch {
+                corona: vec![0.0; n],
+                seed: vec![0.0; n + 1],
+            },
+            trigger_since: None,
+            particle_corona: 0.0,
+            particle_disruption: 0.0,
             corona_current: 0.0,
             ion_scratch: if exp.ions.enabled {
                 IonScratch {

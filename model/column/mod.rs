@@ -11,6 +11,7 @@ pub mod guards;
 pub mod initial;
 pub mod ions;
 pub mod microphysics;
+pub mod particle_limits;
 pub mod state;
 pub mod step;
 pub mod transport;

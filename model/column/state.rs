@@ -76,6 +76,24 @@ pub struct State {
     /// ions of the opposite sign since the start (C m-2, a gross
     /// diagnostic: the storm's charge lost to the conducting air inside it).
     pub ion_neutralised: f64,
+    /// The strongest runaway avalanche of the last evaluation.
+    pub avalanche: crate::physics::initiation::runaway::Avalanche,
+    /// Work arrays of the criteria (allocated once).
+    pub initiation_scratch: InitiationScratch,
+    /// Time since when the trigger has held without a break (s), if it holds.
+    pub trigger_since: Option<f64>,
+    /// Particle charge moved off by corona and by drop disruption since the
+    /// start (C m-2, gross).
+    pub particle_corona: f64,
+    pub particle_disruption: f64,
+}
+
+/// Work arrays of the criteria: the corona ratio per cell and the seed
+/// flux on faces.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct InitiationScratch {
+    pub(crate) corona: Vec<f64>,
+    pub(crate) seed: Vec<f64>,
 }
 
 /// Work arrays of the ion drift: number fluxes on faces.

@@ -4,7 +4,7 @@
 use crate::column::guards::{self, Process};
 use crate::column::state::State;
 use crate::column::{
-    breakdown, charging, discharge, electrostatics, ions, microphysics, transport,
+    breakdown, charging, discharge, electrostatics, ions, microphysics, particle_limits, transport,
 };
 use crate::error::RunError;
 use crate::setup::experiment::Experiment;
@@ -44,6 +44,12 @@ pub fn step_timed(
     // Small ions first: their drift uses the field solved at the end of the
     // last step, which matches the charge the step starts from.
     ions::step(exp, state, dt);
+    if exp.config.breakdown.particle_charge_limits {
+        let (corona, disrupted) = particle_limits::limit(exp, state);
+        state.particle_corona += corona;
+        state.particle_disruption += disrupted;
+        ions::reconcile(exp, state);
+    }
     mark(0);
     let precipitation = state.water.precipitation;
     transport::apply_forcing(exp, state);

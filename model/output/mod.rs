@@ -446,6 +446,26 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
             .comment("follows the cosmic-ray ionisation profile (docs/ions.md)"),
         );
     }
+    v.push(
+        OutputVar::new(
+            "runaway_electron_flux",
+            "largest flux of runaway electrons leaving a stretch above the runaway threshold",
+            "m-2 s-1",
+            Series,
+            Box::new(|_, s, o| o[0] = s.avalanche.flux),
+        )
+        .comment("seed flux of energetic electrons times the avalanche multiplication; the source of gamma-ray glows"),
+    );
+    v.push(
+        OutputVar::new(
+            "runaway_electron_flux_height",
+            "height where the largest runaway electron flux leaves its stretch",
+            "m",
+            Series,
+            Box::new(|_, s, o| o[0] = s.avalanche.flux_height),
+        )
+        .missing(),
+    );
     v.push(OutputVar::new(
         "column_charge",
         "column-integrated electric charge per unit area",
@@ -672,7 +692,28 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
             value: FlashValue::Flag(MET_VALUES, MET_MEANINGS),
             get: Box::new(move |f| f64::from(u8::from(f.criteria_met[i]))),
         });
+        v.push(real(
+            &format!("flash_ratio_{}", c.name()),
+            &format!(
+                "value of the {} criterion at initiation (1 where it starts to hold)",
+                c.description()
+            ),
+            "1",
+            Box::new(move |f| f.criteria_ratio[i]),
+        ));
     }
+    v.push(real(
+        "flash_positive_end_length",
+        "length of the channel's positive end from the initiation height",
+        "m",
+        Box::new(|f| f.positive_end),
+    ));
+    v.push(real(
+        "flash_negative_end_length",
+        "length of the channel's negative end from the initiation height",
+        "m",
+        Box::new(|f| f.negative_end),
+    ));
     v
 }
 

@@ -15,6 +15,7 @@ pub mod charging;
 pub mod constants;
 pub mod discharge;
 pub mod electrostatics;
+pub mod initiation;
 pub mod ions;
 pub mod kinematics;
 pub mod microphysics;

@@ -213,9 +213,13 @@ impl Experiment {
             resolve::prescribed_charge(&config.prescribed_charge.layers, &grid).map_err(err)?;
         let field_solver =
             resolve::field_solver(&grid, &config.electrostatics, config.column.radius);
-        let criteria_thresholds = resolve::criteria(&config.breakdown, &base.face.density);
-        let discharge_params =
-            resolve::discharge(&config.discharge, &criteria_thresholds, &base.face.density);
+        let criteria_thresholds = resolve::criteria(&config.breakdown, &base.face);
+        let discharge_params = resolve::discharge(
+            &config.discharge,
+            &criteria_thresholds,
+            &base.face.density,
+            config.breakdown.persistence_time,
+        );
         let updraft = resolve::updraft(&config.updraft).map_err(err)?;
         let microphysics = config.microphysics.scheme;
         let prescribed_hydrometeors = if microphysics == Mode::Prescribed {

@@ -376,7 +376,7 @@ pub fn field_solver(grid: &Grid, c: &ElectrostaticsConfig, radius: f64) -> Field
 }
 
 /// The threshold profiles of every criterion on the faces.
-pub fn criteria(b: &BreakdownConfig, face_density: &[f64]) -> Criteria {
+pub fn criteria(b: &BreakdownConfig, face: &crate::physics::atmosphere::Profile) -> Criteria {
     let params = ThresholdParams {
         conventional: b.conventional_field,
         enhancement: b.hydrometeor_enhancement,
@@ -389,12 +389,19 @@ pub fn criteria(b: &BreakdownConfig, face_density: &[f64]) -> Criteria {
             friction_field: b.avalanche_friction_field,
         },
     };
-    Criteria::new(
-        &params,
-        face_density,
-        b.avalanche_required_efolds,
-        b.trigger,
-    )
+    let rules = crate::physics::breakdown::Rules {
+        onset: crate::physics::initiation::hydrometeor::CoronaOnset {
+            drop_1000: b.drop_corona_onset_1000,
+            drop_500: b.drop_corona_onset_500,
+            ice_500: b.ice_corona_onset_500,
+            ice_cutoff: b.ice_corona_cutoff,
+        },
+        fit_floor: b.avalanche_fit_floor,
+        required_efolds: b.avalanche_required_efolds,
+        streamer_depth: b.streamer_zone_depth,
+        stem_charge: b.leader_stem_charge,
+    };
+    Criteria::new(&params, &face.density, &face.pressure, &rules, b.trigger)
 }
 
 /// Discharge parameters on the grid's faces.
@@ -402,6 +409,7 @@ pub fn discharge(
     c: &DischargeConfig,
     criteria: &Criteria,
     face_density: &[f64],
+    persistence_time: f64,
 ) -> DischargeParams {
     let thr = &criteria.thresholds[trigger_threshold(criteria.trigger)];
     let propagation = match c.propagation {
@@ -433,6 +441,8 @@ pub fn discharge(
             NeutralizationMode::TargetField => Neutralization::TargetField(c.target_fraction),
         },
         ground_height: c.ground_connection_height,
+        negative_end_factor: c.negative_end_factor,
+        persistence: persistence_time,
     }
 }
 
@@ -452,10 +462,27 @@ pub fn ions(
     base: &crate::physics::atmosphere::Profile,
 ) -> Result<crate::physics::ions::IonColumn, ConfigIssue> {
     use crate::physics::ions::{conduction::Corona, ionisation, IonColumn, IonInputs, Mobility};
-    if !c.enabled {
-        return Ok(IonColumn::default());
-    }
     let cosmic = ionisation::CosmicRayProfile::new(c.geomagnetic_latitude, c.solar_cycle_phase);
+    if !c.enabled {
+        // The energetic-electron seed of runaway avalanches is there
+        // whether or not the air conducts.
+        let ground = crate::physics::ions::MOBILITY_REFERENCE;
+        return Ok(IonColumn {
+            electron_flux: (0..z.len())
+                .map(|k| {
+                    ionisation::energetic_electron_flux(
+                        &cosmic,
+                        z[k],
+                        base.pressure[k],
+                        base.temperature[k],
+                        ground,
+                        c.seed_electron_flux * c.ionisation_scale,
+                    )
+                })
+                .collect(),
+            ..IonColumn::default()
+        });
+    }
     let table = match c.ionisation {
         IonisationSource::Table => Some(table(
             "ions.ionisation_points",

@@ -27,6 +27,9 @@ named_choice! {
         RunawayAvalanche = "runaway_avalanche",
         RunawayBreakeven = "runaway_breakeven",
         AvalancheMultiplication = "avalanche_multiplication",
+        HydrometeorCorona = "hydrometeor_corona",
+        HydrometeorStreamers = "hydrometeor_streamers",
+        StreamerLeader = "streamer_leader",
     }
 }
 
@@ -43,7 +46,16 @@ impl Criterion {
             Criterion::RunawayAvalanche => "relativistic runaway electron avalanche threshold",
             Criterion::RunawayBreakeven => "runaway breakeven field",
             Criterion::AvalancheMultiplication => {
-                "relativistic runaway avalanche multiplication (e-folding count)"
+                "relativistic runaway avalanche gain as a feedback proxy (e-folding count over the required count)"
+            }
+            Criterion::HydrometeorCorona => {
+                "corona at the largest charged, polarised hydrometeors (surface field over onset)"
+            }
+            Criterion::HydrometeorStreamers => {
+                "positive streamers from corona-active hydrometeors (zone depth over the required depth)"
+            }
+            Criterion::StreamerLeader => {
+                "streamer-zone-to-leader transition (zone charge over the stem charge)"
             }
         }
     }
@@ -65,64 +77,139 @@ pub struct CriterionStatus {
     pub face: usize,
 }
 
-/// Threshold profiles on faces (V m-1), one per criterion, and the avalanche
-/// parameters, computed once per experiment.
+/// Threshold profiles on faces (V m-1), one per criterion, and the
+/// parameters of the criteria that are not a threshold alone, computed once
+/// per experiment.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Criteria {
+    /// For the hydrometeor criteria the ambient field at which an uncharged
+    /// sphere reaches corona onset (hydrometeor_corona) or the
+    /// positive-streamer field (streamers, leader); for the avalanche count
+    /// the runaway threshold that bounds its stretches.
     pub thresholds: [Vec<f64>; Criterion::COUNT],
-    pub avalanche: avalanche::AvalancheParams,
+    pub growth: crate::physics::initiation::runaway::Growth,
     pub required_efolds: f64,
+    /// Depth of streamer zone that counts as streamers from hydrometeors (m).
+    pub streamer_depth: f64,
+    /// Charge through a common stem that heats a leader (C).
+    pub stem_charge: f64,
+    /// Corona-onset fields of drops and ice.
+    pub onset: crate::physics::initiation::hydrometeor::CoronaOnset,
+    /// Field enhancement at a hydrometeor's surface (1).
+    pub enhancement: f64,
     pub trigger: Criterion,
 }
 
+/// What the criteria need besides the field, per step.
+pub struct Extras<'a> {
+    /// Largest surface field over the corona-onset surface field of the
+    /// hydrometeors of each cell (1; 0 without particles).
+    pub corona: &'a [f64],
+    /// Seed flux of energetic electrons on faces (m-2 s-1).
+    pub seed: &'a [f64],
+}
+
 impl Criteria {
-    /// Threshold profiles from the face air densities (kg m-3).
+    /// Threshold profiles from the face air densities (kg m-3) and
+    /// pressures (Pa).
     pub fn new(
         params: &thresholds::ThresholdParams,
         face_density: &[f64],
-        required_efolds: f64,
+        face_pressure: &[f64],
+        rules: &Rules,
         trigger: Criterion,
     ) -> Self {
         let thresholds = Criterion::ALL.map(|c| {
             face_density
                 .iter()
-                .map(|&rho| params.threshold(c, rho))
+                .zip(face_pressure)
+                .map(|(&rho, &p)| match c {
+                    Criterion::HydrometeorCorona => rules.onset.drop(p),
+                    _ => params.threshold(c, rho),
+                })
                 .collect()
         });
         Criteria {
             thresholds,
-            avalanche: params.avalanche,
-            required_efolds,
+            growth: crate::physics::initiation::runaway::Growth {
+                energy_scale: params.avalanche.energy_scale,
+                friction_field: params.avalanche.friction_field,
+                threshold: params.runaway,
+                fit_floor: rules.fit_floor,
+            },
+            required_efolds: rules.required_efolds,
+            streamer_depth: rules.streamer_depth,
+            stem_charge: rules.stem_charge,
+            onset: rules.onset,
+            enhancement: params.enhancement,
             trigger,
         }
     }
 
-    /// Evaluates every criterion on the face field `e` (V m-1) at heights `z_face` (m).
+    /// Evaluates every criterion on the face field `e` (V m-1) at heights
+    /// `z_face` (m), with the hydrometeor and seed inputs of `extras`; also
+    /// returns the strongest runaway avalanche.
     pub fn evaluate(
         &self,
         e: &[f64],
         z_face: &[f64],
         face_density: &[f64],
-    ) -> [CriterionStatus; Criterion::COUNT] {
-        Criterion::ALL.map(|c| match c {
-            Criterion::AvalancheMultiplication => {
-                let (count, height) = avalanche::max_efoldings(
-                    e,
-                    z_face,
-                    face_density,
-                    &self.thresholds[Criterion::RunawayAvalanche.index()],
-                    &self.avalanche,
-                );
-                let dz = z_face[1] - z_face[0];
-                let face = if height.is_finite() {
-                    ((height - z_face[0]) / dz).round() as usize
+        extras: &Extras,
+    ) -> (
+        [CriterionStatus; Criterion::COUNT],
+        crate::physics::initiation::runaway::Avalanche,
+    ) {
+        use crate::physics::initiation::{leader, runaway};
+        let aval = runaway::avalanches(e, z_face, face_density, extras.seed, &self.growth);
+        let n_cells = extras.corona.len();
+        // A face is corona-active when a neighbouring cell is.
+        let active = |k: usize| {
+            (k > 0 && extras.corona[k - 1] >= 1.0) || (k < n_cells && extras.corona[k] >= 1.0)
+        };
+        let streamer = &self.thresholds[Criterion::PositiveStreamer.index()];
+        let status = Criterion::ALL.map(|c| match c {
+            Criterion::AvalancheMultiplication => CriterionStatus {
+                ratio: aval.efolds,
+                height: aval.height,
+                met: aval.efolds >= self.required_efolds,
+                face: aval.face,
+            },
+            Criterion::HydrometeorCorona => {
+                let mut best = CriterionStatus {
+                    height: f64::NAN,
+                    ..CriterionStatus::default()
+                };
+                for (k, &r) in extras.corona.iter().enumerate() {
+                    if r > best.ratio {
+                        // The cell's stronger face starts the discharge.
+                        let face = if e[k].abs() >= e[k + 1].abs() {
+                            k
+                        } else {
+                            k + 1
+                        };
+                        best = CriterionStatus {
+                            ratio: r,
+                            height: z_face[face],
+                            met: r >= 1.0,
+                            face,
+                        };
+                    }
+                }
+                best
+            }
+            Criterion::HydrometeorStreamers | Criterion::StreamerLeader => {
+                let needs_corona = c == Criterion::HydrometeorStreamers;
+                let accept = |a: usize, b: usize| !needs_corona || (a..=b).any(active);
+                let (length, face) = leader::longest_zone(e, streamer, z_face, &accept);
+                let ratio = if needs_corona {
+                    length / self.streamer_depth
                 } else {
-                    0
+                    leader::zone_charge(length, streamer[face]) / self.stem_charge
                 };
                 CriterionStatus {
-                    ratio: count,
-                    height,
-                    met: count >= self.required_efolds,
+                    ratio,
+                    height: if length > 0.0 { z_face[face] } else { f64::NAN },
+                    met: ratio >= 1.0,
                     face,
                 }
             }
@@ -145,6 +232,17 @@ impl Criteria {
                 best.met = best.ratio >= 1.0;
                 best
             }
-        })
+        });
+        (status, aval)
     }
+}
+
+/// The parameters of the criteria that are not a threshold alone.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Rules {
+    pub onset: crate::physics::initiation::hydrometeor::CoronaOnset,
+    pub fit_floor: f64,
+    pub required_efolds: f64,
+    pub streamer_depth: f64,
+    pub stem_charge: f64,
 }

@@ -65,7 +65,15 @@ impl ThresholdParams {
             Criterion::ConventionalBreakdown => self.conventional * delta,
             // Ambient field at which the enhanced surface field reaches E_k.
             Criterion::HydrometeorBreakdown => self.conventional * delta / self.enhancement,
-            Criterion::PositiveStreamer => self.positive_streamer * delta,
+            // The streamer zones of the hydrometeor-streamer and leader
+            // criteria are where the positive-streamer field is exceeded.
+            Criterion::PositiveStreamer
+            | Criterion::HydrometeorStreamers
+            | Criterion::StreamerLeader => self.positive_streamer * delta,
+            // Needs the pressure: `Criteria::new` puts the laboratory onset
+            // profile in its place; this is the fallback of an uncharged sphere
+            // reaching conventional breakdown.
+            Criterion::HydrometeorCorona => self.conventional * delta / self.enhancement,
             Criterion::NegativeStreamer => self.negative_streamer * delta,
             Criterion::RunawayAvalanche | Criterion::AvalancheMultiplication => {
                 self.runaway * delta

@@ -48,6 +48,10 @@ pub struct DischargeParams {
     pub neutralization: Neutralization,
     /// Ground connection height (m).
     pub ground_height: f64,
+    /// Factor on the propagation field for the channel's negative end (1).
+    pub negative_end_factor: f64,
+    /// Time the trigger must hold before a flash starts (s).
+    pub persistence: f64,
 }
 
 /// Index of the threshold profile a trigger is measured against (the

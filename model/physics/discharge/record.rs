@@ -61,4 +61,11 @@ pub struct FlashRecord {
     pub field_after: f64,
     /// Which criteria held at initiation, in `Criterion::ALL` order.
     pub criteria_met: [bool; crate::physics::breakdown::Criterion::COUNT],
+    /// Each criterion's ratio at initiation (for avalanche multiplication
+    /// the e-folding count), in `Criterion::ALL` order.
+    pub criteria_ratio: [f64; crate::physics::breakdown::Criterion::COUNT],
+    /// Lengths (m) of the channel's positive and negative ends from the
+    /// initiation height (a ground connection counts in the lower end).
+    pub positive_end: f64,
+    pub negative_end: f64,
 }

@@ -335,6 +335,16 @@ pub struct BreakdownConfig {
     pub avalanche_energy_scale: f64,
     pub avalanche_friction_field: f64,
     pub avalanche_required_efolds: f64,
+    pub avalanche_fit_floor: f64,
+    pub persistence_time: f64,
+    pub drop_corona_onset_1000: f64,
+    pub drop_corona_onset_500: f64,
+    pub ice_corona_onset_500: f64,
+    /// degC.
+    pub ice_corona_cutoff: f64,
+    pub particle_charge_limits: bool,
+    pub streamer_zone_depth: f64,
+    pub leader_stem_charge: f64,
 }
 
 named_choice! {
@@ -369,6 +379,7 @@ pub struct DischargeConfig {
     pub target_fraction: f64,
     pub neutralization_fraction: f64,
     pub ground_connection_height: f64,
+    pub negative_end_factor: f64,
 }
 
 named_choice! {
