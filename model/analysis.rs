@@ -36,9 +36,17 @@ pub enum Structure {
     NormalDipole,
     /// Negative above positive only.
     InvertedDipole,
-    /// Anything else (including no charge).
+    /// Anything else.
     Other,
+    /// No charge density above [`NOISE_FLOOR`] anywhere.
+    Uncharged,
 }
+
+/// Charge density (C m-3) below which a profile counts as uncharged:
+/// 0.01 nC m-3, a twentieth of the weakest charge region balloon soundings
+/// report (0.2 nC m-3, Marshall & Rust 1991, docs/references.md), far above
+/// round-off and below any storm's regions.
+pub const NOISE_FLOOR: f64 = 1e-11;
 
 impl Structure {
     pub fn name(self) -> &'static str {
@@ -48,6 +56,7 @@ impl Structure {
             Structure::NormalDipole => "normal_dipole",
             Structure::InvertedDipole => "inverted_dipole",
             Structure::Other => "other",
+            Structure::Uncharged => "uncharged",
         }
     }
 }
@@ -56,7 +65,7 @@ impl Structure {
 /// charge density (C m-3), `t` temperature (K).
 pub fn regions(z: &[f64], dz: f64, rho: &[f64], t: &[f64], min_fraction: f64) -> Vec<Region> {
     let peak = rho.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
-    if peak == 0.0 {
+    if peak < NOISE_FLOOR {
         return Vec::new();
     }
     let floor = min_fraction * peak;
@@ -126,6 +135,9 @@ pub fn main_region(regions: &[Region], polarity: f64) -> Option<&Region> {
 /// inverted family, a tripole when some negative region below P holds less
 /// charge than P. Only one polarity: other.
 pub fn classify(regions: &[Region]) -> Structure {
+    if regions.is_empty() {
+        return Structure::Uncharged;
+    }
     let (Some(n), Some(p)) = (main_region(regions, -1.0), main_region(regions, 1.0)) else {
         return Structure::Other;
     };

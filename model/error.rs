@@ -127,7 +127,7 @@ pub enum RunError {
         #[source]
         source: std::io::Error,
     },
-    #[error("NetCDF output {context}: {message}")]
+    #[error("{context}: {message}")]
     Output { context: String, message: String },
     #[error("numerical failure at t = {time} s: {message}")]
     Numerics { time: f64, message: String },

@@ -98,7 +98,7 @@ fn flash_colour(kind: i32) -> RGBColor {
 
 fn err<E: std::fmt::Display>(e: E) -> RunError {
     RunError::Output {
-        context: "drawing".into(),
+        context: "drawing the picture".into(),
         message: e.to_string(),
     }
 }
@@ -345,14 +345,23 @@ fn draw<DB: DrawingBackend>(
     Ok(())
 }
 
-/// Draws `output` into `prefix`.png and `prefix`.svg of `size` pixels, the
-/// profile panels at the record nearest `time` (default: largest |E_z|).
+/// Draws `output` into `prefix`.png (and `prefix`.svg when `svg`) of `size`
+/// pixels, the profile panels at the record nearest `time` (default:
+/// largest |E_z|).
 pub fn plot(
     output: &Path,
     prefix: &Path,
     size: (u32, u32),
     time: Option<f64>,
+    svg: bool,
 ) -> Result<(), RunError> {
+    let dir = crate::output::directory_of(prefix);
+    if !dir.is_dir() {
+        return Err(RunError::Output {
+            context: format!("writing {}", prefix.with_extension("png").display()),
+            message: format!("the directory {} does not exist", dir.display()),
+        });
+    }
     let d = read(output)?;
     let nf = d.z_face.len();
     let nt = d.time.len();
@@ -372,8 +381,10 @@ pub fn plot(
             .unwrap_or(0),
     };
     let png = prefix.with_extension("png");
-    let svg = prefix.with_extension("svg");
     draw(BitMapBackend::new(&png, size).into_drawing_area(), &d, rec)?;
-    draw(SVGBackend::new(&svg, size).into_drawing_area(), &d, rec)?;
+    if svg {
+        let svg = prefix.with_extension("svg");
+        draw(SVGBackend::new(&svg, size).into_drawing_area(), &d, rec)?;
+    }
     Ok(())
 }

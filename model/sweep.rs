@@ -172,7 +172,7 @@ struct Watch {
 
 impl Observer for Watch {
     fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
-        self.structure = "other".into();
+        self.structure = "uncharged".into();
         Ok(())
     }
 
@@ -197,6 +197,48 @@ impl Observer for Watch {
 
     fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
         Ok(())
+    }
+}
+
+/// Resolves every member of this shard before any runs, so a value out of
+/// range or a relation between keys that fails stops the sweep at once
+/// with every offending member named (not hours later, half-way through).
+pub fn validate(
+    base_text: &str,
+    base_dir: &Path,
+    members: &[Member],
+    shard: Option<(usize, usize)>,
+    origin: &str,
+) -> Result<(), ConfigError> {
+    let mut issues = Vec::new();
+    let mut failed = 0;
+    for m in members.iter().filter(|m| in_shard(m.index, shard)) {
+        let mut overrides = m.overrides.clone();
+        overrides.push("sweep.parameters=[]".into());
+        let label = format!("member {} ({})", m.index, m.overrides.join(", "));
+        if let Err(e) = Experiment::from_text(base_text, &label, &overrides, base_dir) {
+            failed += 1;
+            if issues.len() < 20 {
+                for mut issue in e.issues {
+                    issue.message = format!("{label}: {}", issue.message);
+                    issues.push(issue);
+                }
+            }
+        }
+    }
+    if issues.is_empty() {
+        Ok(())
+    } else {
+        if failed > 1 {
+            issues.push(ConfigIssue::new(
+                "sweep.parameters",
+                format!("{failed} members fail; nothing was run"),
+            ));
+        }
+        Err(ConfigError {
+            origin: origin.to_string(),
+            issues,
+        })
     }
 }
 
@@ -300,7 +342,7 @@ pub fn thread_pool(threads: usize) -> Result<rayon::ThreadPool, RunError> {
         .num_threads(threads)
         .build()
         .map_err(|e| RunError::Output {
-            context: "thread pool".into(),
+            context: "sweep thread pool".into(),
             message: e.to_string(),
         })
 }

@@ -9,12 +9,23 @@ use crate::output::summary::RunSummary;
 use crate::output::Observer;
 use crate::setup::experiment::Experiment;
 
+/// Where a run is, reported after every step.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Progress {
+    /// Steps taken.
+    pub step: u64,
+    /// Model time (s).
+    pub time: f64,
+    /// Flashes so far.
+    pub flashes: usize,
+}
+
 /// Runs the experiment from its initial state. `on_step` is called after each
-/// step with the step count (for a progress bar).
+/// step with its progress (for a progress bar).
 pub fn run(
     exp: &Experiment,
     observers: &mut [&mut dyn Observer],
-    on_step: &mut dyn FnMut(u64),
+    on_step: &mut dyn FnMut(Progress),
 ) -> Result<RunSummary, RunError> {
     let mut state = State::initial(exp);
     let mut summary = RunSummary::new();
@@ -41,7 +52,11 @@ pub fn run(
             // bounded however many flashes a run makes.
             state.ledger.flashes.clear();
         }
-        on_step(state.step);
+        on_step(Progress {
+            step: state.step,
+            time: state.time,
+            flashes: state.ledger.total,
+        });
     }
     summary.steps = state.step;
     summary.records = records;

@@ -259,3 +259,71 @@ fn envelope_tables_reject_misspelt_keys() {
         ],
     );
 }
+
+#[test]
+fn native_toml_datetime_is_a_start_time() {
+    // start = 2026-07-14T15:00:00Z (a TOML date-time, RFC 3339) is the same
+    // time as its quoted text.
+    let p = write(
+        "native_datetime.toml",
+        "[time]\nstart = 2026-07-14T15:00:00Z\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("2026-07-14T15:00:00Z"));
+}
+
+#[test]
+fn a_sounding_in_kelvin_gets_one_message_with_the_file_line() {
+    let dir = scratch("kelvin_sounding");
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("k.csv"),
+        "# kelvin by mistake\nheight,temperature,dew_point\n0,302.6,294.1\n1000,295.1,290.6\n20000,220.0,200.0\n",
+    )
+    .unwrap();
+    let cfg = dir.join("k.toml");
+    std::fs::write(
+        &cfg,
+        "[grid]\ntop = 20000.0\n[atmosphere]\nprofile = \"sounding\"\n[atmosphere.sounding]\nfile = \"k.csv\"\nsurface_pressure = 98000.0\n",
+    )
+    .unwrap();
+    let o = bin().args(["check"]).arg(&cfg).output().unwrap();
+    assert_config_error(&o, &["looks like kelvin", "k.csv:3", "subtract 273.15"]);
+    assert!(stderr(&o).contains("2 problems"), "{}", stderr(&o));
+    // A single bad value names the file line, not a level number.
+    std::fs::write(
+        dir.join("k.csv"),
+        "height,temperature,dew_point\n0,30,20\n\n1000,80,15\n20000,-50,-60\n",
+    )
+    .unwrap();
+    let o = bin().args(["check"]).arg(&cfg).output().unwrap();
+    assert_config_error(&o, &["k.csv:4", "temperature", "out of range"]);
+}
+
+#[test]
+fn an_output_file_given_as_configuration_points_to_replay() {
+    let out = scratch("replay_hint.nc");
+    succeed(
+        bin()
+            .args(["run", "--quiet", "--set", "time.duration=120", "-o"])
+            .arg(&out),
+    );
+    let o = bin().args(["check"]).arg(&out).output().unwrap();
+    assert_config_error(&o, &["NetCDF output file", "--replay"]);
+}
+
+#[test]
+fn a_missing_output_directory_is_named() {
+    let o = bin()
+        .args(["run", "--quiet", "-o"])
+        .arg(scratch("absent_dir").join("x.nc"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let err = stderr(&o);
+    assert!(
+        err.contains("absent_dir") && err.contains("does not exist"),
+        "{err}"
+    );
+}

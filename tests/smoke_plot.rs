@@ -16,14 +16,9 @@ fn plot_writes_png_and_svg() {
             .arg(&out),
     );
     let prefix = scratch("plot_demo_pictures");
-    succeed(
-        bin()
-            .arg("plot")
-            .arg(&out)
-            .arg("-o")
-            .arg(&prefix)
-            .args(["--width", "1200", "--height", "900", "--time", "1800"]),
-    );
+    succeed(bin().arg("plot").arg(&out).arg("-o").arg(&prefix).args([
+        "--width", "1200", "--height", "900", "--time", "1800", "--svg",
+    ]));
     let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
     assert_eq!((png.width(), png.height()), (1200, 900));
     // Not blank: the diverging colour scale puts saturated reds and blues in.
@@ -46,6 +41,24 @@ fn plot_writes_png_and_svg() {
         .filter(|w| *w == "positive" || *w == "negative")
         .collect();
     assert_eq!(signs, ["positive", "negative", "positive"], "{text}");
+    // SVG only when asked; a missing directory is named, with the reason.
+    let plain = scratch("plot_demo_png_only");
+    succeed(bin().arg("plot").arg(&out).arg("-o").arg(&plain));
+    assert!(plain.with_extension("png").exists() && !plain.with_extension("svg").exists());
+    let o = bin()
+        .arg("plot")
+        .arg(&out)
+        .arg("-o")
+        .arg(scratch("no_such_dir").join("pic"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("no_such_dir") && err.contains("does not exist"),
+        "{err}"
+    );
+    assert!(!err.contains("Os {"), "{err}");
     // Bad size: a usage error naming the option.
     let o = bin()
         .arg("plot")

@@ -129,13 +129,19 @@ fn shards_merge_into_the_unsharded_summary() {
 
 #[test]
 fn a_failing_member_does_not_stop_the_others() {
+    // Member 2 is a valid configuration that fails while it runs: with
+    // discharges off and a conventional-breakdown field of 100 kV/m the
+    // growing tripole's field passes breakdown and the run guard stops it.
     let cfg = config_with_sweep(
         r#"
 [sweep]
 combine = "zip"
 [[sweep.parameters]]
-key = "column.radius"
-values = [2000.0, -5.0, 3000.0]
+key = "discharge.enabled"
+values = [true, false, true]
+[[sweep.parameters]]
+key = "breakdown.conventional_field"
+values = [3.0e6, 1.0e5, 3.0e6]
 "#,
     );
     // The others run and the summary is written; the exit code says that
@@ -153,7 +159,7 @@ values = [2000.0, -5.0, 3000.0]
     let rows: Vec<&str> = s.lines().skip(1).collect();
     assert!(rows[0].contains(",ok,") && rows[2].contains(",ok,"));
     assert!(
-        rows[1].contains(",failed,,,,,,,,,") && rows[1].contains("column.radius"),
+        rows[1].contains(",failed,,,,,,,,,") && rows[1].contains("conventional breakdown"),
         "{}",
         rows[1]
     );
@@ -165,15 +171,39 @@ values = [2000.0, -5.0, 3000.0]
 fn all_members_failing_is_not_success() {
     let cfg = config_with_sweep(
         r#"
+[discharge]
+enabled = false
 [sweep]
 [[sweep.parameters]]
-key = "column.radius"
-values = [-1.0, -2.0]
+key = "breakdown.conventional_field"
+values = [1.0e5, 2.0e5]
 "#,
     );
     let o = sweep(&cfg, "all_failed", &[]);
     assert_eq!(o.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&o.stderr).contains("2 of 2 sweep members failed"));
+}
+
+#[test]
+fn members_with_bad_values_stop_the_sweep_before_anything_runs() {
+    // Every member is resolved first: out-of-range values are reported
+    // together, member by member, with exit 2, and nothing is created.
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+combine = "zip"
+[[sweep.parameters]]
+key = "column.radius"
+values = [2000.0, -5.0, 3000.0, -7.0]
+"#,
+    );
+    let o = sweep(&cfg, "bad_values", &[]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("member 2 (column.radius=-5.0)"), "{err}");
+    assert!(err.contains("member 4 (column.radius=-7.0)"), "{err}");
+    assert!(err.contains("2 members fail; nothing was run"), "{err}");
+    assert!(!scratch("bad_values").exists());
 }
 
 #[test]

@@ -111,9 +111,12 @@ pub enum Command {
     /// Quick-look pictures (PNG and SVG) of an output file.
     Plot {
         output: PathBuf,
-        /// Picture files: PREFIX.png and PREFIX.svg (default: next to OUTPUT).
+        /// Picture files: PREFIX.png, and PREFIX.svg with --svg (default: next to OUTPUT).
         #[arg(short = 'o', long = "prefix")]
         prefix: Option<PathBuf>,
+        /// Also write the picture as SVG (large for long runs).
+        #[arg(long)]
+        svg: bool,
         /// Time (s) of the profile panels (default: the record of largest |E_z|).
         #[arg(long)]
         time: Option<f64>,
@@ -212,10 +215,11 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
         Command::Plot {
             output,
             prefix,
+            svg,
             time,
             width,
             height,
-        } => cmd_plot(&output, prefix, time, (width, height)),
+        } => cmd_plot(&output, prefix, time, (width, height), svg),
         Command::Bench {
             repeats,
             members,
@@ -285,12 +289,22 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
 
 /// Reads a configuration file; a missing or unreadable file is a configuration error.
 fn read_config(path: &Path) -> Result<String, RunError> {
-    std::fs::read_to_string(path).map_err(|err| {
+    let fail = |why: String| {
         RunError::Config(ConfigError::single(
             path.display().to_string(),
-            ConfigIssue::new("(file)", format!("cannot read configuration file: {err}")),
+            ConfigIssue::new("(file)", why),
         ))
-    })
+    };
+    let bytes = std::fs::read(path)
+        .map_err(|err| fail(format!("cannot read configuration file: {err}")))?;
+    // NetCDF classic ("CDF") and NetCDF-4/HDF5 ("\x89HDF") signatures.
+    if bytes.starts_with(b"CDF") || bytes.starts_with(b"\x89HDF") {
+        return Err(fail(
+            "this is a NetCDF output file, not a configuration; to rerun the experiment it stores use --replay FILE".into(),
+        ));
+    }
+    String::from_utf8(bytes)
+        .map_err(|_| fail("cannot read configuration file: it is not UTF-8 text".into()))
 }
 
 fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
@@ -378,7 +392,7 @@ fn cmd_run(
         let b = indicatif::ProgressBar::new(exp.schedule.steps);
         b.set_style(
             indicatif::ProgressStyle::with_template(
-                "{bar:40} {pos}/{len} steps, {elapsed} elapsed, {eta} left",
+                "{bar:40} {msg}, {elapsed} elapsed, {eta} left",
             )
             .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
         );
@@ -387,10 +401,16 @@ fn cmd_run(
     let mut writer = NetcdfWriter::new(&target, command_line).with_inputs(inputs);
     let started = std::time::Instant::now();
     let mut observers: [&mut dyn Observer; 1] = [&mut writer];
-    let summary = timeloop::run(&exp, &mut observers, &mut |step| {
+    let summary = timeloop::run(&exp, &mut observers, &mut |p| {
         if let Some(b) = &bar {
-            if step % 50 == 0 || step == exp.schedule.steps {
-                b.set_position(step);
+            if p.step % 50 == 0 || p.step == exp.schedule.steps {
+                b.set_position(p.step);
+                b.set_message(format!(
+                    "model time {:.1} of {:.1} min, {} flashes",
+                    p.time / 60.0,
+                    exp.config.time.duration / 60.0,
+                    p.flashes
+                ));
             }
         }
     })?;
@@ -723,12 +743,21 @@ fn cmd_sweep(
     let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse(&text, &origin)?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;
+    crate::sweep::validate(&text, base_dir, &members, shard, &origin)?;
     let count = members
         .iter()
         .filter(|m| crate::sweep::in_shard(m.index, shard))
         .count() as u64;
-    let bar =
-        (!quiet && std::io::stderr().is_terminal()).then(|| indicatif::ProgressBar::new(count));
+    let bar = (!quiet && std::io::stderr().is_terminal()).then(|| {
+        let b = indicatif::ProgressBar::new(count);
+        b.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{bar:40} {pos}/{len} members, {elapsed} elapsed, about {eta} left",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        );
+        b
+    });
     let tick = || {
         if let Some(b) = &bar {
             b.inc(1);
@@ -801,6 +830,7 @@ fn cmd_plot(
     prefix: Option<PathBuf>,
     time: Option<f64>,
     size: (u32, u32),
+    svg: bool,
 ) -> Result<(), RunError> {
     if !(400..=8000).contains(&size.0) || !(300..=8000).contains(&size.1) {
         return Err(RunError::Config(ConfigError::single(
@@ -811,11 +841,18 @@ fn cmd_plot(
         )));
     }
     let prefix = prefix.unwrap_or_else(|| output.with_extension(""));
-    crate::plot::plot(output, &prefix, size, time)?;
-    println!(
-        "stormcharge: wrote {} and {}",
-        prefix.with_extension("png").display(),
-        prefix.with_extension("svg").display()
-    );
+    crate::plot::plot(output, &prefix, size, time, svg)?;
+    if svg {
+        println!(
+            "stormcharge: wrote {} and {}",
+            prefix.with_extension("png").display(),
+            prefix.with_extension("svg").display()
+        );
+    } else {
+        println!(
+            "stormcharge: wrote {}",
+            prefix.with_extension("png").display()
+        );
+    }
     Ok(())
 }

@@ -52,7 +52,7 @@ pub struct NetcdfWriter {
 
 fn nc_err(context: &str) -> impl Fn(netcdf::Error) -> RunError + '_ {
     move |e| RunError::Output {
-        context: context.to_string(),
+        context: format!("NetCDF output {context}"),
         message: e.to_string(),
     }
 }
@@ -70,7 +70,7 @@ fn nc_err_at<'a>(context: &'a str, path: &'a str) -> impl Fn(netcdf::Error) -> R
             _ => String::new(),
         };
         RunError::Output {
-            context: format!("{context} of {path}"),
+            context: format!("NetCDF output {context} of {path}"),
             message: format!("{e}{reason}"),
         }
     }
@@ -107,6 +107,13 @@ struct OutputLock {
 
 impl OutputLock {
     fn acquire(target: &Path) -> Result<Self, RunError> {
+        let dir = crate::output::directory_of(target);
+        if !dir.is_dir() {
+            return Err(RunError::Output {
+                context: format!("NetCDF output {}", target.display()),
+                message: format!("the output directory {} does not exist", dir.display()),
+            });
+        }
         let path = lock_path(target);
         for _ in 0..2 {
             match std::fs::OpenOptions::new()
@@ -124,7 +131,7 @@ impl OutputLock {
                     match lock_owner(&path) {
                         Some(pid) if pid == std::process::id() || process_alive(pid) => {
                             return Err(RunError::Output {
-                                context: target.display().to_string(),
+                                context: format!("NetCDF output {}", target.display()),
                                 message: format!(
                                     "another run (process {pid}) is writing this file (lock {}); wait for it to finish or choose another output path",
                                     path.display()
@@ -142,7 +149,7 @@ impl OutputLock {
             }
         }
         Err(RunError::Output {
-            context: target.display().to_string(),
+            context: format!("NetCDF output {}", target.display()),
             message: format!("could not take the lock {}", path.display()),
         })
     }
@@ -161,7 +168,7 @@ impl Drop for OutputLock {
 /// is one of the run's inputs (compared as canonical paths).
 pub fn check_output_path(target: &Path, inputs: &[PathBuf]) -> Result<(), RunError> {
     let refuse = |why: String| RunError::Output {
-        context: target.display().to_string(),
+        context: format!("NetCDF output {}", target.display()),
         message: why,
     };
     match std::fs::metadata(target) {
@@ -363,13 +370,13 @@ impl Observer for NetcdfWriter {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("record", &partial);
         let f = self.file.as_mut().ok_or_else(|| RunError::Output {
-            context: "record".into(),
+            context: "NetCDF output record".into(),
             message: "file not open".into(),
         })?;
         let t = self.record;
         f.variable_mut("time")
             .ok_or_else(|| RunError::Output {
-                context: "record".into(),
+                context: "NetCDF output record".into(),
                 message: "variable time missing".into(),
             })?
             .put_value(state.time, [t])
@@ -382,7 +389,7 @@ impl Observer for NetcdfWriter {
             self.buffer.resize(len, 0.0);
             (var.fill)(exp, state, &mut self.buffer[..len]);
             let mut v = f.variable_mut(&var.name).ok_or_else(|| RunError::Output {
-                context: "record".into(),
+                context: "NetCDF output record".into(),
                 message: format!("variable {} missing", var.name),
             })?;
             match var.placement {
@@ -415,7 +422,7 @@ impl Observer for NetcdfWriter {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("closing", &partial);
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
-            context: "closing".into(),
+            context: "NetCDF output closing".into(),
             message: "file not open".into(),
         })?;
         write_flashes(

@@ -11,15 +11,30 @@ use crate::setup::config::{schema, Config};
 use std::path::Path;
 
 fn fmt_allowed(lo: f64, hi: f64) -> String {
-    format!("[{lo}, {hi}]")
+    let r = |x: f64| (x * 100.0).round() / 100.0;
+    format!("[{}, {}]", r(lo), r(hi))
 }
 
+/// Most problems listed for one sounding: past that they are counted.
+const MAX_LISTED: usize = 8;
+
 /// Checks a sounding table and builds the sounding. `key` names the
-/// configuration key that held it, for errors.
+/// configuration key that held it, for errors; levels are named "level N".
 pub fn sounding_from_table(
     columns: &[String],
     rows: &[Vec<f64>],
     key: &str,
+) -> Result<Sounding, Vec<ConfigIssue>> {
+    sounding_from_table_at(columns, rows, key, &|level| format!("level {level}"))
+}
+
+/// [`sounding_from_table`] with `place(level)` naming level `level` (from 1)
+/// in messages: "FILE:LINE" for a CSV file.
+pub fn sounding_from_table_at(
+    columns: &[String],
+    rows: &[Vec<f64>],
+    key: &str,
+    place: &dyn Fn(usize) -> String,
 ) -> Result<Sounding, Vec<ConfigIssue>> {
     let col_err = |msg: String| {
         vec![ConfigIssue::new(key.replace("rows", "columns"), msg)
@@ -65,16 +80,48 @@ pub fn sounding_from_table(
     }
     let t_lo = LIQUID_T_MIN - T_MELT;
     let t_hi = LIQUID_T_MAX - T_MELT;
-    for (i, row) in rows.iter().enumerate() {
-        let level = i + 1;
-        if row.len() != 3 {
+    // A table in kelvin: one message, not one per value.
+    for (c, name) in columns.iter().enumerate().skip(1) {
+        let is_temperature = c == 1 || humidity_kind == Humidity::DewPoint;
+        let values: Vec<(usize, f64)> = rows
+            .iter()
+            .enumerate()
+            .filter_map(|(i, r)| r.get(c).map(|v| (i + 1, *v)))
+            .filter(|(_, v)| v.is_finite())
+            .collect();
+        if is_temperature && !values.is_empty() && values.iter().all(|(_, v)| *v > 150.0) {
+            let (level, v) = values[0];
             issues.push(
                 ConfigIssue::new(
                     key,
                     format!(
-                        "level {level} has {} values, expected 3: a missing value",
-                        row.len()
+                        "column \"{name}\" looks like kelvin (every value above 150, the first {v} at {}); give degC (subtract 273.15)",
+                        place(level)
                     ),
+                )
+                .unit("degC"),
+            );
+        }
+    }
+    if !issues.is_empty() {
+        return Err(issues);
+    }
+    for (i, row) in rows.iter().enumerate() {
+        let level = i + 1;
+        let at = place(level);
+        if issues.len() >= MAX_LISTED {
+            let rest = rows.len() - i;
+            issues.push(ConfigIssue::new(
+                key,
+                format!("the checks stopped here; {rest} more levels were not checked"),
+            ));
+            break;
+        }
+        if row.len() != 3 {
+            issues.push(
+                ConfigIssue::new(
+                    key,
+                    format!("{at} has {} values, expected 3: a missing value", row.len()),
                 )
                 .value(format!("{row:?}")),
             );
@@ -86,12 +133,9 @@ pub fn sounding_from_table(
                     ConfigIssue::new(
                         key,
                         if v.is_nan() {
-                            format!("level {level}, column \"{}\": missing value", columns[c])
+                            format!("{at}, column \"{}\": missing value", columns[c])
                         } else {
-                            format!(
-                                "level {level}, column \"{}\": not a finite number",
-                                columns[c]
-                            )
+                            format!("{at}, column \"{}\": not a finite number", columns[c])
                         },
                     )
                     .value(format!("{v}")),
@@ -103,13 +147,10 @@ pub fn sounding_from_table(
             |issues: &mut Vec<ConfigIssue>, col: &str, v: f64, unit: &str, lo: f64, hi: f64| {
                 if v.is_finite() && !(lo..=hi).contains(&v) {
                     issues.push(
-                        ConfigIssue::new(
-                            key,
-                            format!("level {level}, column \"{col}\" out of range"),
-                        )
-                        .value(format!("{v}"))
-                        .unit(unit)
-                        .allowed(fmt_allowed(lo, hi)),
+                        ConfigIssue::new(key, format!("{at}, column \"{col}\" out of range"))
+                            .value(format!("{v}"))
+                            .unit(unit)
+                            .allowed(fmt_allowed(lo, hi)),
                     );
                 }
             };
@@ -126,9 +167,7 @@ pub fn sounding_from_table(
                     issues.push(
                         ConfigIssue::new(
                             key,
-                            format!(
-                                "level {level}: dew point {h} degC exceeds temperature {t} degC"
-                            ),
+                            format!("{at}: dew point {h} degC exceeds temperature {t} degC"),
                         )
                         .value(format!("{row:?}")),
                     );
@@ -156,9 +195,9 @@ pub fn sounding_from_table(
             issues.push(ConfigIssue::new(
                 key,
                 format!(
-                    "levels {} and {} are not monotonic: the table must have {dir}",
-                    i,
-                    i + 1
+                    "{} and {} are not monotonic: the table must have {dir}",
+                    place(i),
+                    place(i + 1)
                 ),
             ));
         }
@@ -169,7 +208,7 @@ pub fn sounding_from_table(
     Sounding::from_levels(vertical, humidity_kind, rows).map_err(|level| {
         vec![ConfigIssue::new(
             key,
-            format!("level {level}: vapour pressure exceeds air pressure"),
+            format!("{}: vapour pressure exceeds air pressure", place(level)),
         )]
     })
 }
@@ -189,6 +228,7 @@ pub fn resolve(
         issues,
     };
     let one = |issue: ConfigIssue| many(vec![issue]);
+    let mut file_lines: Option<(String, Vec<usize>)> = None;
     let (columns, rows, key) = match (&s.file, &s.rows) {
         (Some(_), Some(_)) => {
             return Err(one(ConfigIssue::new(
@@ -204,7 +244,8 @@ pub fn resolve(
                 )));
             }
             let path = base_dir.join(file);
-            let (c, r) = read_csv(&path, "atmosphere.sounding.file").map_err(one)?;
+            let (c, r, lines) = read_csv(&path, "atmosphere.sounding.file").map_err(one)?;
+            file_lines = Some((path.display().to_string(), lines));
             inputs.push(path);
             (c, r, "atmosphere.sounding.file")
         }
@@ -224,7 +265,11 @@ pub fn resolve(
             )))
         }
     };
-    let sounding = sounding_from_table(&columns, &rows, key).map_err(many)?;
+    let place = |level: usize| match &file_lines {
+        Some((file, lines)) => format!("{file}:{}", lines[level - 1]),
+        None => format!("level {level}"),
+    };
+    let sounding = sounding_from_table_at(&columns, &rows, key, &place).map_err(many)?;
     sounding.check_span(top).map_err(|(lo, hi)| {
         one(ConfigIssue::new(
             key,
@@ -262,16 +307,17 @@ pub fn resolve(
     })
 }
 
+/// A sounding CSV as read: the column names, the rows, and the file line
+/// of each row (for messages).
+pub type CsvSounding = (Vec<String>, Vec<Vec<f64>>, Vec<usize>);
+
 /// Largest sounding file read (bytes): a million levels of a few numbers.
 pub const MAX_SOUNDING_BYTES: u64 = 16 * 1024 * 1024;
 
 /// Reads a sounding CSV: a header line of column names, then one level per
 /// line; blank lines and lines starting with `#` are skipped. An empty field,
 /// `NA` or `nan` is a missing value, reported by the validation.
-pub fn read_csv(
-    path: &std::path::Path,
-    key: &str,
-) -> Result<(Vec<String>, Vec<Vec<f64>>), ConfigIssue> {
+pub fn read_csv(path: &std::path::Path, key: &str) -> Result<CsvSounding, ConfigIssue> {
     let shown = format!("\"{}\"", path.display());
     // Only a regular file of bounded size is read: a device or a pipe could
     // hand out data for ever or block.
@@ -310,7 +356,9 @@ pub fn read_csv(
     })?;
     let columns: Vec<String> = header.split(',').map(|s| s.trim().to_string()).collect();
     let mut rows = Vec::new();
+    let mut line_numbers = Vec::new();
     for (lineno, line) in lines {
+        line_numbers.push(lineno + 1);
         let mut row = Vec::new();
         for (column, field) in line.split(',').enumerate() {
             let f = field.trim();
@@ -336,5 +384,5 @@ pub fn read_csv(
         }
         rows.push(row);
     }
-    Ok((columns, rows))
+    Ok((columns, rows, line_numbers))
 }

@@ -315,6 +315,11 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
             }
         }
         Kind::Timestamp => {
+            // A native TOML date-time (start = 2026-07-14T15:00:00Z) is the
+            // same time as its quoted text: take it as that text.
+            if let Value::Datetime(dt) = value {
+                *value = Value::String(dt.to_string());
+            }
             let Value::String(s) = value else {
                 return Err(err(format!(
                     "expected a quoted time string, found {}",
