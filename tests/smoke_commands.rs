@@ -421,8 +421,14 @@ fn criteria_and_geometries_reach_the_output_file() {
         assert_eq!(dims("field_energy"), ["time"]);
         for c in Criterion::ALL {
             assert_eq!(dims(&format!("threshold_{}", c.name())), ["z_face"]);
-            assert_eq!(dims(&format!("field_ratio_{}", c.name())), ["time"]);
-            assert_eq!(dims(&format!("field_ratio_height_{}", c.name())), ["time"]);
+            // The avalanche criterion's value is a count, named as one.
+            let value = if c == Criterion::AvalancheMultiplication {
+                "efold_count"
+            } else {
+                "field_ratio"
+            };
+            assert_eq!(dims(&format!("{value}_{}", c.name())), ["time"]);
+            assert_eq!(dims(&format!("{value}_height_{}", c.name())), ["time"]);
         }
         assert_eq!(
             f.variable("column_total_charge").is_some(),
@@ -466,4 +472,36 @@ fn converge_command_writes_its_tables() {
     let o = bin().args(["converge", "--levels", "2"]).output().unwrap();
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--levels"));
+}
+
+#[test]
+fn init_examples_are_complete_and_check_says_valid() {
+    // Every commented-out example in the init text has a value (an empty
+    // `key = ` would not parse when uncommented), `init --demo` writes the
+    // built-in demo, and `check` ends with a "valid" line.
+    let text = template::init_text();
+    for line in text.lines() {
+        let l = line.trim_start_matches('#').trim();
+        if let Some((key, value)) = l.split_once(" =") {
+            let is_key = !key.is_empty()
+                && key
+                    .chars()
+                    .all(|c| c.is_ascii_lowercase() || c == '_' || c.is_ascii_digit());
+            if is_key {
+                assert!(!value.trim().is_empty(), "empty example: {line}");
+            }
+        }
+    }
+    let p = scratch("init_demo.toml");
+    let _ = std::fs::remove_file(&p);
+    succeed(bin().args(["init", "--demo"]).arg(&p));
+    assert_eq!(
+        std::fs::read_to_string(&p).unwrap(),
+        stormcharge::setup::config::DEMO_TOML
+    );
+    let o = succeed(bin().arg("check").arg(&p));
+    let out = String::from_utf8_lossy(&o.stdout);
+    let last = out.lines().last().unwrap_or("");
+    assert!(last.contains("is valid"), "{last}");
+    assert!(out.contains("left out as unused by this run: [hydrometeors]"));
 }

@@ -176,6 +176,9 @@ pub enum Command {
         /// Print the output-variable reference as Markdown (for docs/output.md) instead.
         #[arg(long, conflicts_with_all = ["force", "reference"])]
         output_reference: bool,
+        /// Write the built-in demo's configuration (configs/demo.toml) instead.
+        #[arg(long, conflicts_with_all = ["reference", "output_reference"])]
+        demo: bool,
     },
 }
 
@@ -276,7 +279,9 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             print!("{}", crate::output::reference_markdown());
             Ok(())
         }
-        Command::Init { path, force, .. } => cmd_init(&path, force),
+        Command::Init {
+            path, force, demo, ..
+        } => cmd_init(&path, force, demo),
     };
     match result {
         Ok(()) => 0,
@@ -398,7 +403,13 @@ fn cmd_run(
         );
         b
     });
-    let mut writer = NetcdfWriter::new(&target, command_line).with_inputs(inputs);
+    let earlier = replay
+        .as_deref()
+        .and_then(|nc| crate::output::reader::OutputFile::open(nc).ok())
+        .and_then(|f| f.text("history"));
+    let mut writer = NetcdfWriter::new(&target, command_line)
+        .with_inputs(inputs)
+        .after_history(earlier);
     let started = std::time::Instant::now();
     let mut observers: [&mut dyn Observer; 1] = [&mut writer];
     let summary = timeloop::run(&exp, &mut observers, &mut |p| {
@@ -585,11 +596,30 @@ fn cmd_converge(
 
 fn cmd_check(config: &Path, set: &[String]) -> Result<(), RunError> {
     let exp = load(Some(config), set)?;
-    print!("{}", exp.config.to_toml());
+    let (text, left_out) = template::used_sections(&exp.config);
+    print!("{text}");
+    if !left_out.is_empty() {
+        println!(
+            "# left out as unused by this run: {}",
+            left_out
+                .iter()
+                .map(|s| format!("[{s}]"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        );
+    }
+    println!(
+        "# stormcharge: {} is valid: {} cells of {} m, {} steps of {} s",
+        config.display(),
+        exp.grid.len(),
+        exp.grid.dz,
+        exp.schedule.steps,
+        exp.schedule.dt
+    );
     Ok(())
 }
 
-fn cmd_init(path: &Path, force: bool) -> Result<(), RunError> {
+fn cmd_init(path: &Path, force: bool, demo: bool) -> Result<(), RunError> {
     if path.exists() && !force {
         return Err(RunError::Config(ConfigError::single(
             "command line",
@@ -597,7 +627,12 @@ fn cmd_init(path: &Path, force: bool) -> Result<(), RunError> {
                 .value(path.display().to_string()),
         )));
     }
-    crate::output::write_atomically(path, template::init_text().as_bytes())?;
+    let text = if demo {
+        crate::setup::config::DEMO_TOML.to_string()
+    } else {
+        template::init_text()
+    };
+    crate::output::write_atomically(path, text.as_bytes())?;
     println!("stormcharge: wrote {}", path.display());
     Ok(())
 }

@@ -209,10 +209,11 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         ),
         (true, "relative_humidity_ice", "relative humidity over ice"),
     ] {
+        // Percent, as the configuration's humidities are given.
         let mut var = OutputVar::new(
             name,
             long,
-            "1",
+            "%",
             Centre,
             Box::new(move |e, s, o| {
                 for (k, x) in o.iter_mut().enumerate() {
@@ -225,7 +226,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                         p,
                     );
                     let es = |qs: f64| qs * p / (crate::physics::constants::EPSILON + qs);
-                    *x = e / es(if ice { qsi } else { qsw });
+                    *x = 100.0 * e / es(if ice { qsi } else { qsw });
                 }
             }),
         );
@@ -269,7 +270,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
     for c in Carrier::ALL {
         v.push(OutputVar::new(
             format!("charge_density_{}", c.name()),
-            format!("electric charge density carried by {}", c.name()),
+            format!("electric charge density carried by {}", c.long_name()),
             "C m-3",
             Centre,
             Box::new(move |_, s, o| o.copy_from_slice(&s.charge[c.index()])),
@@ -536,7 +537,7 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                 c.description()
             )
         } else {
-            format!("threshold field for {}", c.description())
+            format!("threshold field of the criterion: {}", c.description())
         };
         v.push(OutputVar::new(
             format!("threshold_{}", c.name()),
@@ -559,9 +560,21 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                 "the criterion holds where the ratio reaches 1",
             )
         };
+        // The avalanche criterion's value is a count, not a field ratio.
+        let (value_name, height_name) = if c == Criterion::AvalancheMultiplication {
+            (
+                format!("efold_count_{}", c.name()),
+                format!("efold_count_height_{}", c.name()),
+            )
+        } else {
+            (
+                format!("field_ratio_{}", c.name()),
+                format!("field_ratio_height_{}", c.name()),
+            )
+        };
         v.push(
             OutputVar::new(
-                format!("field_ratio_{}", c.name()),
+                value_name.clone(),
                 ratio_long,
                 "1",
                 Series,
@@ -571,8 +584,8 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
         );
         v.push(
             OutputVar::new(
-                format!("field_ratio_height_{}", c.name()),
-                format!("height of the largest field_ratio_{}", c.name()),
+                height_name,
+                format!("height of the largest {value_name}"),
                 "m",
                 Series,
                 Box::new(move |_, s, o| o[0] = s.criteria_status[i].height),

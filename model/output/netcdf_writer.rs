@@ -230,6 +230,15 @@ impl NetcdfWriter {
         self
     }
 
+    /// Puts the `history` of the file a run replays before this run's line
+    /// (CF: history lists every program that made the data, newest last).
+    pub fn after_history(mut self, earlier: Option<String>) -> Self {
+        if let Some(h) = earlier.filter(|h| !h.trim().is_empty()) {
+            self.history = format!("{}\n{}", h.trim_end(), self.history);
+        }
+        self
+    }
+
     /// Forces the written records to the disk (fsync of the partial file).
     fn make_durable(&mut self) -> Result<(), RunError> {
         std::fs::File::open(&self.partial)
@@ -251,7 +260,7 @@ impl NetcdfWriter {
 
         let cfg = &exp.config;
         let start = cfg.time.start.replace('T', " ").replace('Z', "");
-        let globals: [(&str, String); 9] = [
+        let globals: [(&str, String); 8] = [
             ("Conventions", "CF-1.10".into()),
             ("title", cfg.output.title.clone()),
             ("source", format!("stormcharge {}", env!("CARGO_PKG_VERSION"))),
@@ -263,7 +272,6 @@ impl NetcdfWriter {
                  and licensed practice."
                     .into(),
             ),
-            ("featureType", "profile".into()),
             (CONFIG_ATTRIBUTE, cfg.to_toml()),
             (STATUS_ATTRIBUTE, "incomplete".into()),
             ("flash_trigger_criterion", cfg.breakdown.trigger.name().into()),
@@ -294,8 +302,24 @@ impl NetcdfWriter {
             v.put_attribute("units", "m").map_err(&e)?;
             v.put_attribute("positive", "up").map_err(&e)?;
             v.put_attribute("axis", "Z").map_err(&e)?;
+            if name == "z" {
+                v.put_attribute("bounds", "z_bounds").map_err(&e)?;
+            }
             v.put_values(values, ..).map_err(&e)?;
         }
+        // Cell bounds of the centres (CF section 7.1): the faces below and above.
+        f.add_dimension("nv", 2).map_err(&e)?;
+        let bounds: Vec<f64> = exp
+            .grid
+            .z_face
+            .windows(2)
+            .flat_map(|w| [w[0], w[1]])
+            .collect();
+        let mut zb = f
+            .add_variable::<f64>("z_bounds", &["z", "nv"])
+            .map_err(&e)?;
+        zb.put_attribute("units", "m").map_err(&e)?;
+        zb.put_values(&bounds, ..).map_err(&e)?;
 
         for var in &self.vars {
             let dims: &[&str] = match var.placement {
@@ -316,6 +340,10 @@ impl NetcdfWriter {
             }
             if var.may_be_missing {
                 v.put_attribute("_FillValue", f64::NAN).map_err(&e)?;
+            }
+            let level = exp.config.output.deflate_level;
+            if level > 0 && var.placement != Placement::StaticFace {
+                v.set_compression(level as i32, true).map_err(&e)?;
             }
         }
         let mut ft = f

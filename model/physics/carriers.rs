@@ -29,6 +29,20 @@ named_choice! {
 }
 
 impl Carrier {
+    /// What carries the charge, in words (output metadata).
+    pub fn long_name(self) -> &'static str {
+        match self {
+            Carrier::Prescribed => "the prescribed charge layers",
+            Carrier::Cloud => "cloud droplets",
+            Carrier::Rain => "rain",
+            Carrier::Ice => "cloud ice",
+            Carrier::Snow => "snow",
+            Carrier::Graupel => "graupel",
+            Carrier::Ions => "small ions",
+            Carrier::Aerosol => "aerosol particles (large ions)",
+        }
+    }
+
     /// Whether the air carries this charge along (everything but the
     /// prescribed charge, which stays where it is put).
     pub fn advected(self) -> bool {

@@ -43,8 +43,8 @@ impl Criterion {
             }
             Criterion::PositiveStreamer => "positive streamer propagation",
             Criterion::NegativeStreamer => "negative streamer propagation",
-            Criterion::RunawayAvalanche => "relativistic runaway electron avalanche threshold",
-            Criterion::RunawayBreakeven => "runaway breakeven field",
+            Criterion::RunawayAvalanche => "relativistic runaway electron avalanches",
+            Criterion::RunawayBreakeven => "runaway breakeven of energetic electrons",
             Criterion::AvalancheMultiplication => {
                 "relativistic runaway avalanche gain as a feedback proxy (e-folding count over the required count)"
             }

@@ -414,6 +414,7 @@ pub struct OutputConfig {
     pub title: String,
     /// s of wall clock.
     pub durable_interval: f64,
+    pub deflate_level: i64,
 }
 
 impl Config {

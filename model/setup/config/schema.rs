@@ -1016,6 +1016,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Wall-clock interval at which the records written so far are forced to the disk (fsync); 0: after every record. Records are handed to the operating system after every record in any case.",
     },
     KeySpec {
+        path: "output.deflate_level",
+        kind: Kind::Integer { lo: 0, hi: 9 },
+        unit: "1",
+        default: Some("0"),
+        doc: "NetCDF-4 deflate compression of the time-dependent variables (with byte shuffling): 0 off, 1 fast, 9 smallest. Level 1 usually gives most of the gain.",
+    },
+    KeySpec {
         path: "output.title",
         kind: Kind::Text,
         unit: "",

@@ -27,6 +27,17 @@ fn example(k: &KeySpec) -> &'static str {
         "hydrometeors.layers.mixing_ratio" => "2.0e-3",
         "prescribed_charge.layers.thickness" => "2000.0",
         "prescribed_charge.layers.points" => "[[4000.0, 0.0], [6000.0, 1.0], [8000.0, 0.0]]",
+        "updraft.profile_points" => "[[0.0, 0.0], [6000.0, 1.0], [13000.0, 0.0]]",
+        "updraft.envelope_points" => "[[0.0, 0.0], [900.0, 1.0], [2700.0, 0.0]]",
+        "hydrometeors.layers.points" => "[[4000.0, 0.0], [6000.0, 1.0], [8000.0, 0.0]]",
+        "hydrometeors.layers.envelope_points" => "[[0.0, 0.0], [600.0, 1.0], [1800.0, 0.0]]",
+        "prescribed_charge.layers.envelope_points" => "[[0.0, 0.0], [600.0, 1.0], [1800.0, 0.0]]",
+        "charging.table_file" => "\"charge_table.csv\"",
+        "charging.table_columns" => "[\"temperature_degC\", \"liquid_water_g_m3\", \"charge_fC\"]",
+        "charging.table_rows" => {
+            "[[-30.0, 0.5, -10.0], [-30.0, 2.0, -5.0], [-5.0, 0.5, 10.0], [-5.0, 2.0, 15.0]]"
+        }
+        "ions.ionisation_points" => "[[0.0, 2.0e6], [20000.0, 4.0e7]]",
         _ => "",
     }
 }
@@ -79,10 +90,14 @@ pub fn init_text() -> String {
                         .iter()
                         .filter(|e| e.default.is_none() && matches!(e.kind, Kind::Rows))
                     {
+                        // A table key belongs with the choice its
+                        // description names; its first sentence says which.
+                        let first = e.doc.split(". ").next().unwrap_or(e.doc);
                         out.push_str(&format!(
-                            "#   (shape = \"table\" takes {} = {} instead of center and thickness)\n",
+                            "#   {} = {}    # {}\n",
                             e.name(),
-                            example(e)
+                            example(e),
+                            first
                         ));
                     }
                 }
@@ -145,4 +160,34 @@ fn wrap(text: &str, width: usize) -> Vec<String> {
         lines.push(line);
     }
     lines
+}
+
+/// The resolved configuration as TOML without the sections this run does
+/// not use (for `check`), and the names of those left out. The stored
+/// configuration of an output keeps everything.
+pub fn used_sections(c: &super::Config) -> (String, Vec<&'static str>) {
+    let mut table: toml::Table = match toml::from_str(&c.to_toml()) {
+        Ok(t) => t,
+        Err(_) => return (c.to_toml(), Vec::new()),
+    };
+    let mut left_out = Vec::new();
+    let mut drop = |table: &mut toml::Table, name: &'static str| {
+        if table.remove(name).is_some() {
+            left_out.push(name);
+        }
+    };
+    if c.microphysics.scheme != crate::physics::microphysics::Mode::Prescribed {
+        drop(&mut table, "hydrometeors");
+    }
+    if c.prescribed_charge.layers.is_empty() {
+        drop(&mut table, "prescribed_charge");
+    }
+    if c.sweep.parameters.is_empty() {
+        drop(&mut table, "sweep");
+    }
+    if !c.discharge.enabled {
+        drop(&mut table, "discharge");
+    }
+    let text = toml::to_string(&table).unwrap_or_else(|_| c.to_toml());
+    (text, left_out)
 }
