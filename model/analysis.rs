@@ -164,6 +164,22 @@ pub fn classify(regions: &[Region]) -> Structure {
 
 /// Total charge of one sign in the column (C m-2): half the integral of |rho|,
 /// the "charge separation" of a profile.
+/// The three regions of a normal tripole in `regions`: the main negative
+/// region, the largest positive region above it and the largest below it
+/// (each `None` when absent).
+pub fn tripole_regions(regions: &[Region]) -> [Option<Region>; 3] {
+    let neg = main_region(regions, -1.0).copied();
+    let pick = |above: bool| -> Option<Region> {
+        let n = neg?;
+        regions
+            .iter()
+            .filter(|x| x.polarity > 0.0 && (x.height > n.height) == above)
+            .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
+            .copied()
+    };
+    [neg, pick(true), pick(false)]
+}
+
 pub fn separation(rho: &[f64], dz: f64) -> f64 {
     0.5 * rho.iter().map(|x| x.abs()).sum::<f64>() * dz
 }

@@ -18,7 +18,7 @@
 //! compared on the coarser one: cell averages of charge density (two fine
 //! cells per coarse cell), the field on the coinciding faces.
 
-use crate::analysis::{main_region, regions, separation, Region};
+use crate::analysis::{regions, separation, Region};
 use crate::column::state::State;
 use crate::error::RunError;
 use crate::output::summary::RunSummary;
@@ -213,19 +213,11 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
         Some(a) => ("C", a),
         None => ("C m-2", 1.0),
     };
-    let r = &c.best_regions;
-    let neg = main_region(r, -1.0).copied();
-    let pick = |above: bool| -> Option<Region> {
-        let n = neg?;
-        r.iter()
-            .filter(|x| x.polarity > 0.0 && (x.height > n.height) == above)
-            .max_by(|a, b| a.charge.abs().total_cmp(&b.charge.abs()))
-            .copied()
-    };
+    let [neg, upper, lower] = crate::analysis::tripole_regions(&c.best_regions);
     for (label, region) in [
         ("main negative", neg),
-        ("upper positive", pick(true)),
-        ("lower positive", pick(false)),
+        ("upper positive", upper),
+        ("lower positive", lower),
     ] {
         let g = |f: fn(&Region) -> f64| region.as_ref().map_or(f64::NAN, f);
         out.push((

@@ -33,18 +33,61 @@ pub struct Outcome {
     /// `None` when the member ran; the error otherwise.
     pub error: Option<String>,
     pub flash_counts: [u64; 3],
+    #[serde(deserialize_with = "nan::one")]
     pub first_flash: f64,
+    #[serde(deserialize_with = "nan::one")]
     pub peak_field: f64,
     pub structure: String,
+    #[serde(deserialize_with = "nan::one")]
     pub max_separation: f64,
+    #[serde(deserialize_with = "nan::one")]
     pub precipitation: f64,
     /// Particle charge neutralised by ion capture (C m-2; 0 with ions off).
-    #[serde(default)]
+    #[serde(default, deserialize_with = "nan::one")]
     pub ion_neutralised: f64,
     /// Smallest, median and largest field at flash initiation over the
     /// runaway threshold (1; NaN without flashes).
-    #[serde(default = "no_ratios")]
+    #[serde(default = "no_ratios", deserialize_with = "nan::three")]
     pub initiation_ratio: [f64; 3],
+    /// The main negative, upper positive and lower positive regions at
+    /// the largest separation: charge (C m-2), height (m), temperature (degC).
+    #[serde(default = "no_regions", deserialize_with = "nan::three_by_three")]
+    pub regions: [[f64; 3]; 3],
+    /// Net charge lowered to ground by flashes (C m-2, signed).
+    #[serde(default, deserialize_with = "nan::one")]
+    pub ground_charge: f64,
+    /// Model time reached (s).
+    #[serde(default, deserialize_with = "nan::one")]
+    pub model_time: f64,
+    /// Cross-section of a finite column (m2); NaN for planar layers.
+    #[serde(default = "no_area", deserialize_with = "nan::one")]
+    pub column_area: f64,
+}
+
+/// JSON has no NaN: serde_json writes it as null, and these read null back
+/// as NaN, so an outcome without flashes survives the round trip.
+mod nan {
+    use serde::{Deserialize, Deserializer};
+
+    pub fn one<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        Ok(Option::<f64>::deserialize(d)?.unwrap_or(f64::NAN))
+    }
+
+    pub fn three<'de, D: Deserializer<'de>>(d: D) -> Result<[f64; 3], D::Error> {
+        Ok(<[Option<f64>; 3]>::deserialize(d)?.map(|x| x.unwrap_or(f64::NAN)))
+    }
+
+    pub fn three_by_three<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 3]; 3], D::Error> {
+        Ok(<[[Option<f64>; 3]; 3]>::deserialize(d)?.map(|r| r.map(|x| x.unwrap_or(f64::NAN))))
+    }
+}
+
+fn no_regions() -> [[f64; 3]; 3] {
+    [[f64::NAN; 3]; 3]
+}
+
+fn no_area() -> f64 {
+    f64::NAN
 }
 
 fn no_ratios() -> [f64; 3] {
@@ -168,11 +211,16 @@ struct Watch {
     structure: String,
     /// |E|/runaway threshold of every flash at initiation.
     ratios: Vec<f64>,
+    /// Tripole regions at the largest separation (see [`Outcome::regions`]).
+    regions: [[f64; 3]; 3],
+    area: f64,
 }
 
 impl Observer for Watch {
-    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
+    fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
         self.structure = "uncharged".into();
+        self.regions = no_regions();
+        self.area = exp.field_solver.column_area().unwrap_or(f64::NAN);
         Ok(())
     }
 
@@ -191,6 +239,8 @@ impl Observer for Watch {
             let t = state.temperatures(exp);
             let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
             self.structure = classify(&r).name().into();
+            self.regions = crate::analysis::tripole_regions(&r)
+                .map(|g| g.map_or([f64::NAN; 3], |g| [g.charge, g.height, g.temperature]));
         }
         Ok(())
     }
@@ -242,10 +292,10 @@ pub fn validate(
     }
 }
 
-/// Runs one member into `dir`.
-pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
-    let mut out = Outcome {
-        member: member.clone(),
+/// An outcome with nothing measured yet.
+fn failed_outcome(member: Member) -> Outcome {
+    Outcome {
+        member,
         error: None,
         flash_counts: [0; 3],
         first_flash: f64::NAN,
@@ -255,7 +305,16 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         precipitation: f64::NAN,
         ion_neutralised: f64::NAN,
         initiation_ratio: no_ratios(),
-    };
+        regions: no_regions(),
+        ground_charge: f64::NAN,
+        model_time: f64::NAN,
+        column_area: f64::NAN,
+    }
+}
+
+/// Runs one member into `dir`.
+pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
+    let mut out = failed_outcome(member.clone());
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
     let result = Experiment::from_text(
@@ -287,6 +346,10 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             out.ion_neutralised = s.conduction.neutralised;
             let mut ratios = watch.ratios;
             out.initiation_ratio = spread(&mut ratios);
+            out.regions = watch.regions;
+            out.ground_charge = s.ground_charge;
+            out.model_time = s.model_time;
+            out.column_area = watch.area;
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -395,22 +458,6 @@ pub fn run(
     Ok(outcomes)
 }
 
-const HEADER_OUTCOMES: [&str; 13] = [
-    "status",
-    "flashes_intracloud",
-    "flashes_negative_ground",
-    "flashes_positive_ground",
-    "first_flash_s",
-    "peak_field_V_m",
-    "structure_at_peak_separation",
-    "peak_separation_C_m2",
-    "precipitation_kg_m2",
-    "ion_neutralised_C_m2",
-    "initiation_over_runaway_min",
-    "initiation_over_runaway_median",
-    "initiation_over_runaway_max",
-];
-
 /// A swept value as shown in summaries: TOML strings without their quotes.
 fn shown(override_text: &str) -> &str {
     let v = override_text.split_once('=').map_or("", |(_, v)| v);
@@ -419,16 +466,202 @@ fn shown(override_text: &str) -> &str {
         .unwrap_or(v)
 }
 
+/// A value of the summary: a number or a word.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Cell {
+    Number(f64),
+    Text(String),
+}
+
+/// One outcome column of the summary: its CSV header (with units), its
+/// NetCDF name, long name and units, and how to read it from an outcome.
+pub struct OutcomeColumn {
+    pub csv: String,
+    pub name: String,
+    pub long_name: String,
+    pub units: &'static str,
+    pub get: Box<dyn Fn(&Outcome) -> Cell>,
+}
+
+fn col(
+    csv: &str,
+    name: &str,
+    long_name: &str,
+    units: &'static str,
+    get: impl Fn(&Outcome) -> Cell + 'static,
+) -> OutcomeColumn {
+    OutcomeColumn {
+        csv: csv.into(),
+        name: name.into(),
+        long_name: long_name.into(),
+        units,
+        get: Box::new(get),
+    }
+}
+
+/// The outcome columns of a sweep summary, in order; the CSV and NetCDF
+/// summaries are both written from this one list.
+pub fn outcome_columns() -> Vec<OutcomeColumn> {
+    use Cell::{Number as N, Text as T};
+    let mut v = vec![col("status", "status_text", "member status", "", |o| {
+        T(if o.error.is_some() { "failed" } else { "ok" }.into())
+    })];
+    for (i, kind) in ["intracloud", "negative_ground", "positive_ground"]
+        .into_iter()
+        .enumerate()
+    {
+        v.push(col(
+            &format!("flashes_{kind}"),
+            &format!("flashes_{kind}"),
+            &format!("{} flashes", kind.replace('_', " ")),
+            "1",
+            move |o| N(o.flash_counts[i] as f64),
+        ));
+    }
+    for (i, kind) in ["intracloud", "negative_ground", "positive_ground"]
+        .into_iter()
+        .enumerate()
+    {
+        v.push(col(
+            &format!("flash_rate_{kind}_per_min"),
+            &format!("flash_rate_{kind}"),
+            &format!("{} flashes per minute over the run", kind.replace('_', " ")),
+            "min-1",
+            move |o| N(o.flash_counts[i] as f64 / (o.model_time / 60.0)),
+        ));
+    }
+    v.extend([
+        col(
+            "first_flash_s",
+            "first_flash",
+            "time of the first flash",
+            "s",
+            |o| N(o.first_flash),
+        ),
+        col(
+            "ground_charge_C_m2",
+            "ground_charge",
+            "net charge lowered to ground by flashes, signed",
+            "C m-2",
+            |o| N(o.ground_charge),
+        ),
+        col(
+            "peak_field_V_m",
+            "peak_field",
+            "largest |E_z| of the run",
+            "V m-1",
+            |o| N(o.peak_field),
+        ),
+        col(
+            "structure_at_peak_separation",
+            "structure",
+            "charge structure at the largest separation",
+            "",
+            |o| T(o.structure.clone()),
+        ),
+        col(
+            "peak_separation_C_m2",
+            "peak_separation",
+            "largest charge of one sign in the column",
+            "C m-2",
+            |o| N(o.max_separation),
+        ),
+    ]);
+    for (r, label) in ["main_negative", "upper_positive", "lower_positive"]
+        .into_iter()
+        .enumerate()
+    {
+        let words = label.replace('_', " ");
+        v.push(col(
+            &format!("{label}_C_m2"),
+            &format!("{label}_charge"),
+            &format!("charge of the {words} region at the largest separation"),
+            "C m-2",
+            move |o| N(o.regions[r][0]),
+        ));
+        v.push(col(
+            &format!("{label}_C"),
+            &format!("{label}_charge_total"),
+            &format!("charge of the {words} region in the finite column (NaN for planar layers)"),
+            "C",
+            move |o| N(o.regions[r][0] * o.column_area),
+        ));
+        v.push(col(
+            &format!("{label}_height_m"),
+            &format!("{label}_height"),
+            &format!("charge-weighted height of the {words} region"),
+            "m",
+            move |o| N(o.regions[r][1]),
+        ));
+        v.push(col(
+            &format!("{label}_temperature_degC"),
+            &format!("{label}_temperature"),
+            &format!("temperature at the height of the {words} region"),
+            "degC",
+            move |o| N(o.regions[r][2]),
+        ));
+    }
+    v.extend([
+        col(
+            "precipitation_kg_m2",
+            "precipitation",
+            "accumulated surface precipitation",
+            "kg m-2",
+            |o| N(o.precipitation),
+        ),
+        col(
+            "ion_neutralised_C_m2",
+            "ion_neutralised",
+            "particle charge neutralised by the capture of small ions",
+            "C m-2",
+            |o| N(o.ion_neutralised),
+        ),
+    ]);
+    for (i, which) in ["min", "median", "max"].into_iter().enumerate() {
+        v.push(col(
+            &format!("initiation_over_runaway_{which}"),
+            &format!("initiation_over_runaway_{which}"),
+            &format!("{which} field at flash initiation over the runaway threshold"),
+            "1",
+            move |o| N(o.initiation_ratio[i]),
+        ));
+    }
+    v
+}
+
+/// A number with six significant digits (no more than the runs resolve),
+/// without trailing zeros; NaN as "NaN".
+pub fn rounded(x: f64) -> String {
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    if x == 0.0 {
+        return "0".into();
+    }
+    let digits = 6 - 1 - x.abs().log10().floor() as i32;
+    if (0..=15).contains(&digits) {
+        let t = format!("{:.*}", digits as usize, x);
+        if t.contains('.') {
+            t.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            t
+        }
+    } else {
+        format!("{x:.5e}")
+    }
+}
+
 /// The summary as CSV text: member, one column per swept key, outcomes.
 pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
+    let columns = outcome_columns();
     let mut s = String::from("member");
     for k in keys {
         s.push(',');
         s.push_str(k);
     }
-    for h in HEADER_OUTCOMES {
+    for c in &columns {
         s.push(',');
-        s.push_str(h);
+        s.push_str(&c.csv);
     }
     s.push_str(",error\n");
     for o in outcomes {
@@ -437,29 +670,20 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
             s.push(',');
             s.push_str(&csv_field(shown(ov)));
         }
-        if o.error.is_some() {
+        for (i, c) in columns.iter().enumerate() {
+            s.push(',');
             // A failed member has no outcome: empty fields, not zeros.
-            s.push_str(&format!(
-                ",failed,,,,,,,,,,,,,{}\n",
-                csv_field(o.error.as_deref().unwrap_or(""))
-            ));
-            continue;
+            if o.error.is_some() && i > 0 {
+                continue;
+            }
+            match (c.get)(o) {
+                Cell::Number(x) => s.push_str(&rounded(x)),
+                Cell::Text(t) => s.push_str(&csv_field(&t)),
+            }
         }
-        s.push_str(&format!(
-            ",ok,{},{},{},{},{},{},{},{},{},{},{},{},\n",
-            o.flash_counts[0],
-            o.flash_counts[1],
-            o.flash_counts[2],
-            o.first_flash,
-            o.peak_field,
-            o.structure,
-            o.max_separation,
-            o.precipitation,
-            o.ion_neutralised,
-            o.initiation_ratio[0],
-            o.initiation_ratio[1],
-            o.initiation_ratio[2],
-        ));
+        s.push(',');
+        s.push_str(&csv_field(o.error.as_deref().unwrap_or("")));
+        s.push('\n');
     }
     s
 }
@@ -719,20 +943,52 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
             "the shards do not hold members 1 to {total} exactly once"
         )));
     }
-    let mut out = header.unwrap_or_default();
-    out.push('\n');
-    for (_, r) in rows {
-        out.push_str(&r);
-        out.push('\n');
+    // The same files an unsharded sweep writes, from the same outcomes:
+    // each member's outcome file, or for a failed member (which has none)
+    // its row of the shard summary.
+    let header = header.unwrap_or_default();
+    let head = csv_fields(&header);
+    let n_keys = head
+        .iter()
+        .position(|h| h == "status")
+        .map_or(0, |p| p.saturating_sub(1));
+    let keys: Vec<String> = head[1..1 + n_keys].to_vec();
+    let mut outcomes = Vec::with_capacity(rows.len());
+    for (idx, line) in &rows {
+        let stored = std::fs::read_to_string(outcome_path(dir, *idx))
+            .ok()
+            .and_then(|t| serde_json::from_str::<Outcome>(&t).ok());
+        let o = match stored {
+            Some(o) => o,
+            None => {
+                let f = csv_fields(line);
+                let overrides = keys
+                    .iter()
+                    .zip(f.iter().skip(1))
+                    .map(|(k, v)| format!("{k}={v}"))
+                    .collect();
+                let mut o = failed_outcome(Member {
+                    index: *idx,
+                    overrides,
+                });
+                o.error = Some(f.last().cloned().unwrap_or_default());
+                o
+            }
+        };
+        outcomes.push(o);
     }
     let target = dir.join("summary.csv");
-    crate::output::write_atomically(&target, out.as_bytes())?;
+    crate::output::write_atomically(&target, summary_csv(&keys, &outcomes).as_bytes())?;
+    write_summary_netcdf(&dir.join("summary.nc"), &keys, &outcomes)?;
     Ok(target)
 }
 
-/// Writes the summary as NetCDF: dimension `member`; the swept values as
-/// text (`parameter_<n>`, with the key in the `key` attribute); the outcomes
-/// as numbers, the structure and error as text, `status` 0 ok / 1 failed.
+/// Writes the summary as NetCDF: dimension `member` with the member numbers
+/// as its coordinate; each swept key as a variable named after it (dots as
+/// underscores, the key in the `key` attribute): numbers where every value
+/// is one, with the key's units, otherwise text; then the outcome columns of
+/// [`outcome_columns`], numbers as doubles (NaN, the fill value, for a
+/// failed member) and words as text; `status` 0 ok / 1 failed.
 pub fn write_summary_netcdf(
     path: &Path,
     keys: &[String],
@@ -752,72 +1008,10 @@ pub fn write_summary_netcdf(
         format!("stormcharge {}", env!("CARGO_PKG_VERSION")),
     )
     .map_err(e)?;
-    type Column = (
-        &'static str,
-        &'static str,
-        &'static str,
-        fn(&Outcome) -> f64,
-    );
-    let numbers: [Column; 10] = [
-        ("member", "member number", "1", |o| o.member.index as f64),
-        ("flashes_intracloud", "intracloud flashes", "1", |o| {
-            o.flash_counts[0] as f64
-        }),
-        (
-            "flashes_negative_ground",
-            "negative ground flashes",
-            "1",
-            |o| o.flash_counts[1] as f64,
-        ),
-        (
-            "flashes_positive_ground",
-            "positive ground flashes",
-            "1",
-            |o| o.flash_counts[2] as f64,
-        ),
-        ("first_flash", "time of the first flash", "s", |o| {
-            o.first_flash
-        }),
-        ("peak_field", "largest |E_z| of the run", "V m-1", |o| {
-            o.peak_field
-        }),
-        (
-            "peak_separation",
-            "largest charge of one sign in the column",
-            "C m-2",
-            |o| o.max_separation,
-        ),
-        (
-            "precipitation",
-            "accumulated surface precipitation",
-            "kg m-2",
-            |o| o.precipitation,
-        ),
-        (
-            "ion_neutralised",
-            "particle charge neutralised by the capture of small ions",
-            "C m-2",
-            |o| o.ion_neutralised,
-        ),
-        (
-            "initiation_over_runaway_median",
-            "median field at flash initiation over the runaway threshold",
-            "1",
-            |o| o.initiation_ratio[1],
-        ),
-    ];
-    for (name, long, units, get) in numbers {
-        let mut v = f.add_variable::<f64>(name, &["member"]).map_err(e)?;
-        v.put_attribute("long_name", long).map_err(e)?;
-        v.put_attribute("units", units).map_err(e)?;
-        // A failed member has no outcome: the CF fill value, not a zero.
-        v.put_attribute("_FillValue", f64::NAN).map_err(e)?;
-        let data: Vec<f64> = outcomes
-            .iter()
-            .map(|o| if o.error.is_some() { f64::NAN } else { get(o) })
-            .collect();
-        v.put_values(&data, ..).map_err(e)?;
-    }
+    let mut v = f.add_variable::<i32>("member", &["member"]).map_err(e)?;
+    v.put_attribute("long_name", "member number").map_err(e)?;
+    let ids: Vec<i32> = outcomes.iter().map(|o| o.member.index as i32).collect();
+    v.put_values(&ids, ..).map_err(e)?;
     let mut v = f.add_variable::<i32>("status", &["member"]).map_err(e)?;
     v.put_attribute("flag_values", vec![0i32, 1]).map_err(e)?;
     v.put_attribute("flag_meanings", "ok failed").map_err(e)?;
@@ -826,38 +1020,67 @@ pub fn write_summary_netcdf(
         .map(|o| i32::from(o.error.is_some()))
         .collect();
     v.put_values(&status, ..).map_err(e)?;
-    let mut texts: Vec<(String, String, Vec<String>)> = keys
-        .iter()
-        .enumerate()
-        .map(|(i, k)| {
-            let vals = outcomes
-                .iter()
-                .map(|o| shown(&o.member.overrides[i]).to_string())
-                .collect();
-            (format!("parameter_{}", i + 1), k.clone(), vals)
-        })
-        .collect();
-    texts.push((
-        "structure".into(),
-        String::new(),
-        outcomes.iter().map(|o| o.structure.clone()).collect(),
-    ));
-    texts.push((
-        "error".into(),
-        String::new(),
-        outcomes
+    for (i, key) in keys.iter().enumerate() {
+        let texts: Vec<&str> = outcomes
             .iter()
-            .map(|o| o.error.clone().unwrap_or_default())
-            .collect(),
-    ));
-    for (name, key, vals) in texts {
-        let mut v = f.add_string_variable(&name, &["member"]).map_err(e)?;
-        if !key.is_empty() {
-            v.put_attribute("key", key.as_str()).map_err(e)?;
+            .map(|o| shown(&o.member.overrides[i]))
+            .collect();
+        let numbers: Option<Vec<f64>> = texts.iter().map(|t| t.parse::<f64>().ok()).collect();
+        let name = key.replace('.', "_");
+        match numbers {
+            Some(values) => {
+                let mut v = f.add_variable::<f64>(&name, &["member"]).map_err(e)?;
+                v.put_attribute("key", key.as_str()).map_err(e)?;
+                let units = crate::setup::config::schema::find(key).map_or("", |k| k.unit);
+                if !units.is_empty() {
+                    v.put_attribute("units", units).map_err(e)?;
+                }
+                v.put_values(&values, ..).map_err(e)?;
+            }
+            None => {
+                let mut v = f.add_string_variable(&name, &["member"]).map_err(e)?;
+                v.put_attribute("key", key.as_str()).map_err(e)?;
+                for (m, t) in texts.iter().enumerate() {
+                    v.put_string(t, [m]).map_err(e)?;
+                }
+            }
         }
-        for (i, s) in vals.iter().enumerate() {
-            v.put_string(s, [i]).map_err(e)?;
+    }
+    for c in outcome_columns().iter().skip(1) {
+        let cells: Vec<Cell> = outcomes.iter().map(|o| (c.get)(o)).collect();
+        if cells.iter().all(|x| matches!(x, Cell::Number(_))) {
+            let mut v = f.add_variable::<f64>(&c.name, &["member"]).map_err(e)?;
+            v.put_attribute("long_name", c.long_name.as_str())
+                .map_err(e)?;
+            v.put_attribute("units", c.units).map_err(e)?;
+            // A failed member has no outcome: the CF fill value, not a zero.
+            v.put_attribute("_FillValue", f64::NAN).map_err(e)?;
+            let data: Vec<f64> = outcomes
+                .iter()
+                .zip(&cells)
+                .map(|(o, x)| match x {
+                    Cell::Number(n) if o.error.is_none() => *n,
+                    _ => f64::NAN,
+                })
+                .collect();
+            v.put_values(&data, ..).map_err(e)?;
+        } else {
+            let mut v = f.add_string_variable(&c.name, &["member"]).map_err(e)?;
+            v.put_attribute("long_name", c.long_name.as_str())
+                .map_err(e)?;
+            for (m, x) in cells.iter().enumerate() {
+                let t = match x {
+                    Cell::Text(t) => t.clone(),
+                    Cell::Number(n) => rounded(*n),
+                };
+                v.put_string(&t, [m]).map_err(e)?;
+            }
         }
+    }
+    let mut v = f.add_string_variable("error", &["member"]).map_err(e)?;
+    for (m, o) in outcomes.iter().enumerate() {
+        v.put_string(o.error.as_deref().unwrap_or(""), [m])
+            .map_err(e)?;
     }
     Ok(())
 }

@@ -114,6 +114,15 @@ fn shards_merge_into_the_unsharded_summary() {
     }
     succeed(bin().arg("sweep-merge").arg(scratch("sharded")));
     assert_eq!(read("sharded", "summary.csv"), read("whole", "summary.csv"));
+    // The merge writes the same files as the unsharded sweep, NetCDF included.
+    let dump = |dir: &str| {
+        let f = netcdf::open(scratch(dir).join("summary.nc")).unwrap();
+        let mut names: Vec<String> = f.variables().map(|v| v.name()).collect();
+        names.sort();
+        let peak: Vec<f64> = f.variable("peak_field").unwrap().get_values(..).unwrap();
+        (names, peak.iter().map(|x| x.to_bits()).collect::<Vec<_>>())
+    };
+    assert_eq!(dump("sharded"), dump("whole"));
     // A missing shard is an error naming it.
     std::fs::remove_file(scratch("sharded").join("summary_shard_2_of_3.csv")).unwrap();
     let o = bin()
@@ -359,13 +368,20 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
     let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
     assert!((total - 1.0).abs() < 1e-12);
     let summary = read("shares", "summary.csv");
+    let column = summary
+        .lines()
+        .next()
+        .unwrap()
+        .split(',')
+        .position(|h| h == "structure_at_peak_separation")
+        .unwrap();
     for c in classes {
         let name = c[0].as_str().unwrap();
         let listed = c[2].as_array().unwrap().len();
         let in_csv = summary
             .lines()
             .skip(1)
-            .filter(|l| l.split(',').nth(9) == Some(name))
+            .filter(|l| l.split(',').nth(column) == Some(name))
             .count();
         assert_eq!(listed, in_csv, "{name}");
     }
@@ -384,4 +400,62 @@ fn summary_csv_fields_round_trip_with_commas_and_quotes() {
     let values = ["7", "[1.0, 2.0]", "said \"no\", twice", "", "ok"];
     let line: Vec<String> = values.iter().map(|v| csv_field(v)).collect();
     assert_eq!(csv_fields(&line.join(",")), values);
+}
+
+#[test]
+fn summary_has_numeric_parameters_and_the_outcomes_a_comparison_needs() {
+    // summary.nc: `member` an integer coordinate, a numeric swept key a
+    // double named after the key with its units; the CSV rounds to six
+    // significant digits and carries the region, rate and ground columns.
+    let cfg = config_with_sweep(SWEEP);
+    assert_eq!(sweep(&cfg, "numeric", &[]).status.code(), Some(0));
+    let f = netcdf::open(scratch("numeric").join("summary.nc")).unwrap();
+    let member = f.variable("member").unwrap();
+    assert_eq!(
+        member.vartype(),
+        netcdf::types::NcVariableType::Int(netcdf::types::IntType::I32)
+    );
+    let summary = read("numeric", "summary.csv");
+    let header = summary.lines().next().unwrap();
+    for col in [
+        "main_negative_C_m2",
+        "main_negative_height_m",
+        "upper_positive_temperature_degC",
+        "flash_rate_intracloud_per_min",
+        "ground_charge_C_m2",
+        "first_flash_s",
+    ] {
+        assert!(header.split(',').any(|h| h == col), "{col} in {header}");
+    }
+    for line in summary.lines().skip(1) {
+        for field in line.split(',') {
+            if let Ok(x) = field.parse::<f64>() {
+                if x != 0.0 && x.is_finite() {
+                    let digits = field
+                        .trim_start_matches('-')
+                        .split(['e', 'E'])
+                        .next()
+                        .unwrap()
+                        .chars()
+                        .filter(|c| c.is_ascii_digit())
+                        .collect::<String>();
+                    assert!(digits.trim_start_matches('0').len() <= 6, "{field}");
+                }
+            }
+        }
+    }
+    let swept: Vec<String> = f
+        .variables()
+        .filter(|v| v.attributes().any(|a| a.name() == "key"))
+        .map(|v| v.name())
+        .collect();
+    assert!(!swept.is_empty());
+    for name in swept {
+        let v = f.variable(&name).unwrap();
+        assert_eq!(
+            v.vartype(),
+            netcdf::types::NcVariableType::Float(netcdf::types::FloatType::F64),
+            "{name}"
+        );
+    }
 }
