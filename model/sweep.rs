@@ -639,7 +639,7 @@ pub fn rounded(x: f64) -> String {
         return "0".into();
     }
     let digits = 6 - 1 - x.abs().log10().floor() as i32;
-    if (0..=15).contains(&digits) {
+    if (1e-3..1e7).contains(&x.abs()) && (0..=15).contains(&digits) {
         let t = format!("{:.*}", digits as usize, x);
         if t.contains('.') {
             t.trim_end_matches('0').trim_end_matches('.').to_string()
@@ -647,7 +647,14 @@ pub fn rounded(x: f64) -> String {
             t
         }
     } else {
-        format!("{x:.5e}")
+        // Mantissa without trailing zeros: 3.40839e-6, 1e7.
+        let t = format!("{x:.5e}");
+        match t.split_once('e') {
+            Some((m, e)) if m.contains('.') => {
+                format!("{}e{e}", m.trim_end_matches('0').trim_end_matches('.'))
+            }
+            _ => t,
+        }
     }
 }
 

@@ -459,3 +459,55 @@ fn summary_has_numeric_parameters_and_the_outcomes_a_comparison_needs() {
         );
     }
 }
+
+#[test]
+fn a_sweep_takes_set_overrides_and_a_base_include() {
+    // `include` starts a configuration from another (its keys replaced key
+    // by key), `--set` changes the base of every member, and an element of
+    // an array of tables is addressed by its number (counted from 1).
+    let dir = scratch("include_case");
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::copy(repo("configs/tripole_flashes.toml"), dir.join("base.toml")).unwrap();
+    let cfg = dir.join("sweep.toml");
+    std::fs::write(
+        &cfg,
+        "include = \"base.toml\"\n[time]\nduration = 600.0\n[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2000.0, 3000.0]\n",
+    )
+    .unwrap();
+    let o = succeed(bin().arg("check").arg(&cfg));
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("duration = 600.0"), "{text}");
+    assert!(text.contains("300 steps of 2 s"), "{text}");
+    let out = dir.join("out");
+    succeed(
+        bin()
+            .args(["sweep", "--quiet", "-o"])
+            .arg(&out)
+            .arg(&cfg)
+            .args(["--set", "prescribed_charge.layers[2].density=-5"]),
+    );
+    let member = netcdf::open(out.join("member_0001.nc")).unwrap();
+    let stored = match member
+        .attribute(stormcharge::output::netcdf_writer::CONFIG_ATTRIBUTE)
+        .unwrap()
+        .value()
+        .unwrap()
+    {
+        netcdf::AttributeValue::Str(s) => s,
+        other => panic!("{other:?}"),
+    };
+    let c = stormcharge::setup::config::parse(&stored, "stored").unwrap();
+    assert_eq!(c.prescribed_charge.layers[1].density, -5.0);
+    assert_eq!(c.time.duration, 600.0);
+    let o = bin()
+        .arg("check")
+        .arg(dir.join("base.toml"))
+        .args(["--set", "prescribed_charge.layers[9].density=1"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("there is no element 9 of `layers` (3 given)")
+    );
+}

@@ -73,6 +73,10 @@ pub enum Command {
         /// No progress bar, no summary.
         #[arg(short, long)]
         quiet: bool,
+        /// Override one key of the base configuration for every member
+        /// (repeatable), as for `run`.
+        #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
+        set: Vec<String>,
     },
     /// Run the experiment at its own time step and grid spacing and at
     /// successive halvings of each; report the observed orders, the
@@ -201,14 +205,18 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             quiet,
             overwrite,
             resume,
+            set,
         } => cmd_sweep(
             &config,
             &output,
             threads,
             shard.as_deref(),
-            quiet,
-            overwrite,
-            resume,
+            SweepFlags {
+                quiet,
+                overwrite,
+                resume,
+            },
+            &set,
         ),
         Command::Analyze {
             output,
@@ -308,8 +316,9 @@ fn read_config(path: &Path) -> Result<String, RunError> {
             "this is a NetCDF output file, not a configuration; to rerun the experiment it stores use --replay FILE".into(),
         ));
     }
-    String::from_utf8(bytes)
-        .map_err(|_| fail("cannot read configuration file: it is not UTF-8 text".into()))
+    let text = String::from_utf8(bytes)
+        .map_err(|_| fail("cannot read configuration file: it is not UTF-8 text".into()))?;
+    crate::setup::config::load::resolve_include(&text, path, 0).map_err(RunError::Config)
 }
 
 fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
@@ -763,18 +772,32 @@ fn parse_shard(text: &str) -> Result<(usize, usize), RunError> {
     Ok((k, n))
 }
 
+/// The switches of `sweep`.
+struct SweepFlags {
+    quiet: bool,
+    overwrite: bool,
+    resume: bool,
+}
+
 fn cmd_sweep(
     config: &Path,
     dir: &Path,
     threads: usize,
     shard: Option<&str>,
-    quiet: bool,
-    overwrite: bool,
-    resume: bool,
+    flags: SweepFlags,
+    set: &[String],
 ) -> Result<(), RunError> {
+    let SweepFlags {
+        quiet,
+        overwrite,
+        resume,
+    } = flags;
     let shard = shard.map(parse_shard).transpose()?;
-    let text = read_config(config)?;
     let origin = config.display().to_string();
+    let mut text = read_config(config)?;
+    if !set.is_empty() {
+        text = crate::setup::config::load::override_text(&text, &origin, set)?;
+    }
     let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse(&text, &origin)?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;

@@ -95,16 +95,82 @@ fn parse_override(text: &str) -> Result<(String, Value), ConfigIssue> {
         Ok(mut t) => t.remove("v").unwrap_or(Value::String(raw.to_string())),
         Err(_) => Value::String(raw.to_string()),
     };
-    if schema::find(&path).is_none() {
+    let plain = without_indices(&path);
+    // An element key needs its element number: `layers[2].density`.
+    let known = if plain == path {
+        schema::find(&path).is_some()
+    } else {
+        schema::find_any(&plain).is_some()
+    };
+    if !known {
         return Err(unknown_key(&path, None, " (from --set)"));
     }
     Ok((path, value))
+}
+
+/// `prescribed_charge.layers[2].density` without its element numbers.
+fn without_indices(path: &str) -> String {
+    path.split('.')
+        .map(|p| p.split_once('[').map_or(p, |(name, _)| name))
+        .collect::<Vec<_>>()
+        .join(".")
+}
+
+/// Applies `--set` overrides to configuration text and returns the text
+/// (comments are not kept): for a sweep, whose members all start from it.
+pub fn override_text(
+    text: &str,
+    origin: &str,
+    overrides: &[String],
+) -> Result<String, ConfigError> {
+    let mut table: Table = toml::from_str(text).map_err(|e| {
+        ConfigError::single(
+            origin,
+            ConfigIssue::new("(syntax)", e.message().trim().to_string())
+                .line(e.span().map(|s| line_of_offset(text, s.start))),
+        )
+    })?;
+    for o in overrides {
+        let (path, value) = parse_override(o).map_err(|i| ConfigError::single("--set", i))?;
+        insert(&mut table, &path, value).map_err(|i| ConfigError::single("--set", i))?;
+    }
+    toml::to_string(&table)
+        .map_err(|e| ConfigError::single(origin, ConfigIssue::new("(syntax)", e.to_string())))
 }
 
 fn insert(table: &mut Table, path: &str, value: Value) -> Result<(), ConfigIssue> {
     let parts: Vec<&str> = path.split('.').collect();
     let mut t = table;
     for part in &parts[..parts.len() - 1] {
+        // `layers[2]`: the second block of an array of tables (counted from
+        // 1, as the messages count them); it must exist.
+        if let Some((name, rest)) = part.split_once('[') {
+            let index: usize = rest
+                .strip_suffix(']')
+                .and_then(|n| n.parse().ok())
+                .filter(|&n| n >= 1)
+                .ok_or_else(|| {
+                    ConfigIssue::new(
+                        path,
+                        format!("`{part}`: the element number must be 1 or more, in brackets"),
+                    )
+                })?;
+            let len = match t.get(name) {
+                Some(Value::Array(a)) => a.len(),
+                _ => 0,
+            };
+            let Some(Value::Table(inner)) = (match t.get_mut(name) {
+                Some(Value::Array(a)) => a.get_mut(index - 1),
+                _ => None,
+            }) else {
+                return Err(ConfigIssue::new(
+                    path,
+                    format!("there is no element {index} of `{name}` ({len} given)"),
+                ));
+            };
+            t = inner;
+            continue;
+        }
         let entry = t
             .entry(part.to_string())
             .or_insert_with(|| Value::Table(Table::new()));
@@ -485,6 +551,57 @@ fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option
         };
     }
     span.map(|s| line_of_offset(text, s.start))
+}
+
+/// Most nested `include`s (a file including itself would never end).
+pub const MAX_INCLUDE_DEPTH: usize = 4;
+
+/// A configuration may start from another: a top-level
+/// `include = "base.toml"` (relative to the including file) takes every key
+/// of that file, and the including file's own keys replace it key by key
+/// (tables merge; arrays of tables are replaced whole). Returns the merged
+/// text (comments are not kept) or the text unchanged without `include`.
+pub fn resolve_include(
+    text: &str,
+    path: &std::path::Path,
+    depth: usize,
+) -> Result<String, ConfigError> {
+    let origin = path.display().to_string();
+    let Ok(mut table) = toml::from_str::<Table>(text) else {
+        // Syntax errors are reported by the parser with their line.
+        return Ok(text.to_string());
+    };
+    let Some(include) = table.remove("include") else {
+        return Ok(text.to_string());
+    };
+    let issue = |msg: String| ConfigError::single(&origin, ConfigIssue::new("include", msg));
+    let Value::String(name) = include else {
+        return Err(issue(
+            "expected the quoted path of a base configuration".into(),
+        ));
+    };
+    if depth >= MAX_INCLUDE_DEPTH {
+        return Err(issue(format!(
+            "more than {MAX_INCLUDE_DEPTH} nested includes (does a file include itself?)"
+        )));
+    }
+    let base_path = crate::output::directory_of(path).join(&name);
+    let base_text = std::fs::read_to_string(&base_path).map_err(|e| {
+        issue(format!(
+            "cannot read the base configuration {}: {e}",
+            base_path.display()
+        ))
+    })?;
+    let base_text = resolve_include(&base_text, &base_path, depth + 1)?;
+    let mut base: Table = toml::from_str(&base_text).map_err(|e| {
+        ConfigError::single(
+            base_path.display().to_string(),
+            ConfigIssue::new("(syntax)", e.message().trim().to_string())
+                .line(e.span().map(|s| line_of_offset(&base_text, s.start))),
+        )
+    })?;
+    merge(&mut base, table);
+    toml::to_string(&base).map_err(|e| issue(e.to_string()))
 }
 
 #[cfg(test)]

@@ -1195,6 +1195,17 @@ pub fn find(path: &str) -> Option<&'static KeySpec> {
     KEYS.iter().find(|k| k.path == path)
 }
 
+/// [`find`], or the key of one element of an array of tables
+/// (`prescribed_charge.layers.density`).
+pub fn find_any(path: &str) -> Option<&'static KeySpec> {
+    find(path).or_else(|| {
+        KEYS.iter().find_map(|k| match k.kind {
+            Kind::TableArray(elements) => elements.iter().find(|e| e.path == path),
+            _ => None,
+        })
+    })
+}
+
 /// True when `path` is a section (some key lives under it).
 pub fn is_section(path: &str) -> bool {
     KEYS.iter().any(|k| {
