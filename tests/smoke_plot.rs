@@ -28,7 +28,39 @@ fn plot_writes_png_and_svg() {
     let svg = std::fs::read_to_string(prefix.with_extension("svg")).unwrap();
     assert!(svg.contains("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"900\""));
-    assert!(svg.contains("time (s)") && svg.contains("nC m-3"));
+    // The default overview: time in minutes, colour bars named by their
+    // quantity, the flash, profile and potential panels (the demo does not
+    // flash, so its flash panel says so).
+    for text in [
+        "time (min)",
+        "charge density (nC m-3)",
+        "E_z (kV/m, positive up)",
+        "potential (MV; ground 0)",
+        "hydrometeors at",
+        "no flashes in this run",
+    ] {
+        assert!(svg.contains(text), "{text}");
+    }
+    assert!(!svg.contains(">-0<") && !svg.contains(">-0.0<"));
+    // Chosen panels only, with a fixed colour limit.
+    let chosen = scratch("plot_demo_carriers");
+    succeed(bin().arg("plot").arg(&out).arg("-o").arg(&chosen).args([
+        "--panels",
+        "carriers",
+        "--charge-limit",
+        "0.5",
+        "--svg",
+    ]));
+    let svg = std::fs::read_to_string(chosen.with_extension("svg")).unwrap();
+    assert!(svg.contains("charge on graupel") && !svg.contains("flash rate"));
+    let o = bin()
+        .arg("plot")
+        .arg(&out)
+        .args(["--panels", "charge,bogus"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("unknown panel"));
     // The analysis of the same output finds the demo's charge regions at its
     // largest charge separation: a negative region with positive charge
     // above and below it.

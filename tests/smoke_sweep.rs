@@ -444,6 +444,22 @@ fn summary_has_numeric_parameters_and_the_outcomes_a_comparison_needs() {
             }
         }
     }
+    // The sweep picture: one row per member, labelled with its values.
+    let prefix = scratch("numeric_picture");
+    succeed(
+        bin()
+            .arg("plot")
+            .arg(scratch("numeric"))
+            .arg("-o")
+            .arg(&prefix)
+            .arg("--svg"),
+    );
+    assert!(image::open(prefix.with_extension("png")).is_ok());
+    let svg = std::fs::read_to_string(prefix.with_extension("svg")).unwrap();
+    assert!(svg.contains("structure at peak separation"));
+    for m in 1..=6 {
+        assert!(svg.contains(&format!("{m}: ")), "member {m}");
+    }
     let swept: Vec<String> = f
         .variables()
         .filter(|v| v.attributes().any(|a| a.name() == "key"))

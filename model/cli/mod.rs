@@ -112,7 +112,8 @@ pub enum Command {
         #[arg(long)]
         json: Option<PathBuf>,
     },
-    /// Quick-look pictures (PNG and SVG) of an output file.
+    /// Quick-look pictures (PNG, SVG on request) of an output file, or of a
+    /// sweep directory (one row per member).
     Plot {
         output: PathBuf,
         /// Picture files: PREFIX.png, and PREFIX.svg with --svg (default: next to OUTPUT).
@@ -121,6 +122,16 @@ pub enum Command {
         /// Also write the picture as SVG (large for long runs).
         #[arg(long)]
         svg: bool,
+        /// Panels, comma-separated, from: charge, field, flashes, profiles,
+        /// hydrometeors, carriers (default: all but carriers).
+        #[arg(long, value_delimiter = ',')]
+        panels: Vec<String>,
+        /// Fixed colour limit of the charge panels (nC m-3), to compare runs.
+        #[arg(long, value_name = "NC_PER_M3")]
+        charge_limit: Option<f64>,
+        /// Fixed colour limit of the field panel (kV/m), to compare runs.
+        #[arg(long, value_name = "KV_PER_M")]
+        field_limit: Option<f64>,
         /// Time (s) of the profile panels (default: the record of largest |E_z|).
         #[arg(long)]
         time: Option<f64>,
@@ -227,10 +238,25 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             output,
             prefix,
             svg,
+            panels,
+            charge_limit,
+            field_limit,
             time,
             width,
             height,
-        } => cmd_plot(&output, prefix, time, (width, height), svg),
+        } => cmd_plot(
+            &output,
+            prefix,
+            &panels,
+            crate::plot::PlotOptions {
+                size: (width, height),
+                time,
+                svg,
+                panels: Vec::new(),
+                charge_limit,
+                field_limit,
+            },
+        ),
         Command::Bench {
             repeats,
             members,
@@ -886,21 +912,72 @@ fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), Ru
 fn cmd_plot(
     output: &Path,
     prefix: Option<PathBuf>,
-    time: Option<f64>,
-    size: (u32, u32),
-    svg: bool,
+    panels: &[String],
+    mut options: crate::plot::PlotOptions,
 ) -> Result<(), RunError> {
-    if !(400..=8000).contains(&size.0) || !(300..=8000).contains(&size.1) {
-        return Err(RunError::Config(ConfigError::single(
+    let size = options.size;
+    let usage = |key: &str, value: String, msg: &str, allowed: String| {
+        RunError::Config(ConfigError::single(
             "command line",
-            ConfigIssue::new("--width/--height", "picture size out of range")
-                .value(format!("{}x{}", size.0, size.1))
-                .allowed("width 400-8000, height 300-8000 pixels"),
-        )));
+            ConfigIssue::new(key, msg).value(value).allowed(allowed),
+        ))
+    };
+    if !(400..=8000).contains(&size.0) || !(300..=8000).contains(&size.1) {
+        return Err(usage(
+            "--width/--height",
+            format!("{}x{}", size.0, size.1),
+            "picture size out of range",
+            "width 400-8000, height 300-8000 pixels".into(),
+        ));
+    }
+    options.panels = if panels.is_empty() {
+        crate::plot::DEFAULT_PANELS.to_vec()
+    } else {
+        let mut chosen = Vec::new();
+        for p in panels {
+            let panel = crate::plot::Panel::ALL
+                .into_iter()
+                .find(|x| x.name() == p.trim())
+                .ok_or_else(|| {
+                    usage(
+                        "--panels",
+                        format!("\"{p}\""),
+                        "unknown panel",
+                        crate::plot::Panel::NAMES.join(", "),
+                    )
+                })?;
+            chosen.push(panel);
+        }
+        chosen
+    };
+    for (key, limit) in [
+        ("--charge-limit", options.charge_limit),
+        ("--field-limit", options.field_limit),
+    ] {
+        if let Some(l) = limit {
+            if !(l.is_finite() && l > 0.0) {
+                return Err(usage(
+                    key,
+                    format!("{l}"),
+                    "must be a positive number",
+                    "> 0".into(),
+                ));
+            }
+        }
+    }
+    if output.is_dir() {
+        // A sweep directory: one row per member.
+        let prefix = prefix.unwrap_or_else(|| output.join("sweep"));
+        crate::plot::plot_sweep(output, &prefix, &options)?;
+        println!(
+            "stormcharge: wrote {}",
+            prefix.with_extension("png").display()
+        );
+        return Ok(());
     }
     let prefix = prefix.unwrap_or_else(|| output.with_extension(""));
-    crate::plot::plot(output, &prefix, size, time, svg)?;
-    if svg {
+    crate::plot::plot(output, &prefix, &options)?;
+    if options.svg {
         println!(
             "stormcharge: wrote {} and {}",
             prefix.with_extension("png").display(),
