@@ -584,6 +584,27 @@ fn cmd_run(
                     summary.peak_ratio[c as usize]
                 );
             }
+            // What the numbers mean for this run's flashes.
+            use crate::physics::breakdown::Criterion;
+            let t = exp.criteria_thresholds.trigger;
+            let reached = summary.peak_ratio[t as usize];
+            let needed = if t == Criterion::AvalancheMultiplication {
+                exp.criteria_thresholds.required_efolds
+            } else {
+                1.0
+            };
+            let runaway = summary.peak_ratio[Criterion::RunawayAvalanche as usize];
+            if reached < needed {
+                println!(
+                    "  the trigger {} reached {reached:.3} of the {needed} it needs: no flash could start; the field peaked at {runaway:.2} times the runaway threshold (flashes are observed to start at 1.1-3.3 times it; docs/criteria.md)",
+                    t.name()
+                );
+            } else {
+                println!(
+                    "  the trigger {} held (largest {reached:.3} against {needed}); the field peaked at {runaway:.2} times the runaway threshold (observed before flashes: 1.1-3.3; docs/criteria.md)",
+                    t.name()
+                );
+            }
         }
     }
     Ok(())
