@@ -479,39 +479,66 @@ impl EnsembleReport {
     }
 }
 
+/// A sweep directory's `summary.csv` as fields: the header and the rows,
+/// with the positions of the status and structure columns (errors name the
+/// file and what is missing).
+pub struct SweepTable {
+    pub header: Vec<String>,
+    pub rows: Vec<Vec<String>>,
+    pub status: usize,
+    pub structure: usize,
+}
+
+impl SweepTable {
+    pub fn read(dir: &std::path::Path) -> Result<Self, crate::error::RunError> {
+        let path = dir.join("summary.csv");
+        let fail = |m: String| crate::error::RunError::Output {
+            context: format!("reading {}", path.display()),
+            message: m,
+        };
+        let text = std::fs::read_to_string(&path).map_err(|e| {
+            fail(format!(
+                "{e} (run the sweep, or sweep-merge its shards, first)"
+            ))
+        })?;
+        let mut lines = text.lines();
+        let header = crate::sweep::csv_fields(lines.next().unwrap_or(""));
+        let mut table = SweepTable {
+            header,
+            rows: lines.map(crate::sweep::csv_fields).collect(),
+            status: 0,
+            structure: 0,
+        };
+        table.status = table.column("status").map_err(&fail)?;
+        table.structure = table
+            .column("structure_at_peak_separation")
+            .map_err(&fail)?;
+        if let Some(r) = table.rows.iter().find(|r| r.len() <= table.structure) {
+            return Err(fail(format!("a row has {} fields: truncated", r.len())));
+        }
+        Ok(table)
+    }
+
+    /// Position of the column `name`.
+    pub fn column(&self, name: &str) -> Result<usize, String> {
+        self.header
+            .iter()
+            .position(|h| h == name)
+            .ok_or_else(|| format!("no column {name}: not a sweep summary"))
+    }
+}
+
 /// Reads a sweep directory's `summary.csv` and counts the structure classes.
 pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::error::RunError> {
-    let path = dir.join("summary.csv");
-    let fail = |m: String| crate::error::RunError::Output {
-        context: format!("reading {}", path.display()),
-        message: m,
-    };
-    let text = std::fs::read_to_string(&path).map_err(|e| {
-        fail(format!(
-            "{e} (run the sweep, or sweep-merge its shards, first)"
-        ))
-    })?;
-    let mut lines = text.lines();
-    let header = crate::sweep::csv_fields(lines.next().unwrap_or(""));
-    let col = |name: &str| {
-        header
-            .iter()
-            .position(|h| *h == name)
-            .ok_or_else(|| fail(format!("no column {name}: not a sweep summary")))
-    };
-    let (status, structure) = (col("status")?, col("structure_at_peak_separation")?);
-    let keys = &header[1..status];
+    let table = SweepTable::read(dir)?;
+    let (status, structure) = (table.status, table.structure);
+    let keys = &table.header[1..status];
     let mut report = EnsembleReport {
         members: 0,
         failed: 0,
         classes: Vec::new(),
     };
-    for line in lines {
-        // Swept values and error messages may hold quoted commas.
-        let f = crate::sweep::csv_fields(line);
-        if f.len() <= structure {
-            return Err(fail(format!("a row has {} fields: truncated", f.len())));
-        }
+    for f in &table.rows {
         if f[status] != "ok" {
             report.failed += 1;
             continue;

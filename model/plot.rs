@@ -563,6 +563,33 @@ fn chosen_record(d: &PlotData, time: Option<f64>) -> usize {
     }
 }
 
+/// A profile chart against height (km) with a symmetric x range
+/// -`half`..`half`, its axes drawn.
+fn profile_chart<'b, DB: DrawingBackend>(
+    area: &'b DrawingArea<DB, Shift>,
+    caption: &str,
+    half: f64,
+    ztop: f64,
+    x_desc: &str,
+) -> Result<Chart<'b, DB>, RunError> {
+    let mut c = ChartBuilder::on(area)
+        .caption(caption, ("sans-serif", 14))
+        .margin(6)
+        .x_label_area_size(40)
+        .y_label_area_size(45)
+        .build_cartesian_2d(-half..half, 0.0..ztop)
+        .map_err(err)?;
+    c.configure_mesh()
+        .x_desc(x_desc)
+        .y_desc("height (km)")
+        .x_label_formatter(&|v| tick(*v, half))
+        .label_style(("sans-serif", 11))
+        .axis_desc_style(("sans-serif", 12))
+        .draw()
+        .map_err(err)?;
+    Ok(c)
+}
+
 fn profiles_panel<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     d: &PlotData,
@@ -581,21 +608,13 @@ fn profiles_panel<DB: DrawingBackend>(
         .map(|x| x * 1e9)
         .collect();
     let rmax = rho.iter().fold(0.0_f64, |m, x| m.max(x.abs())).max(1e-6) * 1.1;
-    let mut c = ChartBuilder::on(&left)
-        .caption(format!("charge at {minute:.1} min"), ("sans-serif", 14))
-        .margin(6)
-        .x_label_area_size(40)
-        .y_label_area_size(45)
-        .build_cartesian_2d(-rmax..rmax, 0.0..ztop)
-        .map_err(err)?;
-    c.configure_mesh()
-        .x_desc("charge density (nC m-3)")
-        .y_desc("height (km)")
-        .x_label_formatter(&|v| tick(*v, rmax))
-        .label_style(("sans-serif", 11))
-        .axis_desc_style(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    let mut c = profile_chart(
+        &left,
+        &format!("charge at {minute:.1} min"),
+        rmax,
+        ztop,
+        "charge density (nC m-3)",
+    )?;
     c.draw_series(LineSeries::new(
         rho.iter().zip(&d.z).map(|(x, z)| (*x, z / 1000.0)),
         BLACK.stroke_width(2),
@@ -604,20 +623,13 @@ fn profiles_panel<DB: DrawingBackend>(
     // Field with thresholds; off-scale thresholds are named in a note.
     let e = &d.field[rec * nf..(rec + 1) * nf];
     let emax = (1.2 * e.iter().fold(0.0_f64, |m, x| m.max(x.abs()))).max(1.0) / 1e3;
-    let mut fc = ChartBuilder::on(&mid)
-        .caption(format!("E_z at {minute:.1} min"), ("sans-serif", 14))
-        .margin(6)
-        .x_label_area_size(40)
-        .y_label_area_size(45)
-        .build_cartesian_2d(-emax..emax, 0.0..ztop)
-        .map_err(err)?;
-    fc.configure_mesh()
-        .x_desc("E_z (kV/m, positive up)")
-        .x_label_formatter(&|v| tick(*v, emax))
-        .label_style(("sans-serif", 11))
-        .axis_desc_style(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    let mut fc = profile_chart(
+        &mid,
+        &format!("E_z at {minute:.1} min"),
+        emax,
+        ztop,
+        "E_z (kV/m, positive up)",
+    )?;
     let zk: Vec<f64> = d.z_face.iter().map(|z| z / 1000.0).collect();
     fc.draw_series(LineSeries::new(
         e.iter().zip(&zk).map(|(x, z)| (x / 1e3, *z)),
@@ -672,20 +684,13 @@ fn profiles_panel<DB: DrawingBackend>(
         .map(|x| x / 1e6)
         .collect();
     let pmax = phi.iter().fold(0.0_f64, |m, x| m.max(x.abs())).max(1e-9) * 1.1;
-    let mut pc = ChartBuilder::on(&right)
-        .caption(format!("potential at {minute:.1} min"), ("sans-serif", 14))
-        .margin(6)
-        .x_label_area_size(40)
-        .y_label_area_size(45)
-        .build_cartesian_2d(-pmax..pmax, 0.0..ztop)
-        .map_err(err)?;
-    pc.configure_mesh()
-        .x_desc("potential (MV; ground 0)")
-        .x_label_formatter(&|v| tick(*v, pmax))
-        .label_style(("sans-serif", 11))
-        .axis_desc_style(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    let mut pc = profile_chart(
+        &right,
+        &format!("potential at {minute:.1} min"),
+        pmax,
+        ztop,
+        "potential (MV; ground 0)",
+    )?;
     pc.draw_series(LineSeries::new(
         phi.iter().zip(&d.z).map(|(x, z)| (*x, z / 1000.0)),
         RGBColor(20, 60, 200).stroke_width(2),
@@ -833,37 +838,28 @@ fn structure_colour(name: &str) -> RGBColor {
 /// with its swept values, a square coloured by the structure class at the
 /// largest separation and bars of its flash counts by kind.
 pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunError> {
-    let path = dir.join("summary.csv");
+    let table = crate::analysis::SweepTable::read(dir)?;
     let fail = |m: String| RunError::Output {
-        context: format!("reading {}", path.display()),
+        context: format!("reading {}", dir.join("summary.csv").display()),
         message: m,
     };
-    let text = std::fs::read_to_string(&path).map_err(|e| {
-        fail(format!(
-            "{e} (run the sweep, or sweep-merge its shards, first)"
-        ))
-    })?;
-    let mut lines = text.lines();
-    let header = crate::sweep::csv_fields(lines.next().unwrap_or(""));
-    let col = |name: &str| {
-        header
-            .iter()
-            .position(|h| h == name)
-            .ok_or_else(|| fail(format!("no column {name}: not a sweep summary")))
-    };
-    let (status, structure) = (col("status")?, col("structure_at_peak_separation")?);
-    let kinds = [
-        col("flashes_intracloud")?,
-        col("flashes_negative_ground")?,
-        col("flashes_positive_ground")?,
-    ];
-    let rows: Vec<SweepRow> = lines
-        .map(|l| {
-            let f = crate::sweep::csv_fields(l);
+    let (status, structure) = (table.status, table.structure);
+    let mut kinds = [0; 3];
+    for (k, name) in kinds.iter_mut().zip([
+        "flashes_intracloud",
+        "flashes_negative_ground",
+        "flashes_positive_ground",
+    ]) {
+        *k = table.column(name).map_err(&fail)?;
+    }
+    let rows: Vec<SweepRow> = table
+        .rows
+        .iter()
+        .map(|f| {
             let label = format!("{}: {}", f[0], f[1..status].join(", "));
             let counts = kinds.map(|k| f.get(k).and_then(|x| x.parse().ok()).unwrap_or(0.0));
-            let s = if f.get(status).map(String::as_str) == Some("ok") {
-                f.get(structure).cloned().unwrap_or_default()
+            let s = if f[status] == "ok" {
+                f[structure].clone()
             } else {
                 "failed".into()
             };
