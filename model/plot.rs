@@ -602,24 +602,41 @@ fn profiles_panel<DB: DrawingBackend>(
     let (left, rest) = area.split_horizontally(w / 3);
     let (mid, right) = rest.split_horizontally(w / 3);
     let minute = d.minutes[rec];
-    // Charge density.
-    let rho: Vec<f64> = d.charge[rec * n..(rec + 1) * n]
-        .iter()
-        .map(|x| x * 1e9)
-        .collect();
-    let rmax = rho.iter().fold(0.0_f64, |m, x| m.max(x.abs())).max(1e-6) * 1.1;
-    let mut c = profile_chart(
+    // Charge density and potential at the cell centres.
+    let centre_profile = |area: &DrawingArea<DB, Shift>,
+                          values: &[f64],
+                          scale: f64,
+                          what: &str,
+                          x_desc: &str,
+                          colour: RGBColor|
+     -> Result<(), RunError> {
+        let v: Vec<f64> = values[rec * n..(rec + 1) * n]
+            .iter()
+            .map(|x| x * scale)
+            .collect();
+        let half = v.iter().fold(0.0_f64, |m, x| m.max(x.abs())).max(1e-9) * 1.1;
+        let mut c = profile_chart(
+            area,
+            &format!("{what} at {minute:.1} min"),
+            half,
+            ztop,
+            x_desc,
+        )?;
+        c.draw_series(LineSeries::new(
+            v.iter().zip(&d.z).map(|(x, z)| (*x, z / 1000.0)),
+            colour.stroke_width(2),
+        ))
+        .map_err(err)?;
+        Ok(())
+    };
+    centre_profile(
         &left,
-        &format!("charge at {minute:.1} min"),
-        rmax,
-        ztop,
+        &d.charge,
+        1e9,
+        "charge",
         "charge density (nC m-3)",
+        BLACK,
     )?;
-    c.draw_series(LineSeries::new(
-        rho.iter().zip(&d.z).map(|(x, z)| (*x, z / 1000.0)),
-        BLACK.stroke_width(2),
-    ))
-    .map_err(err)?;
     // Field with thresholds; off-scale thresholds are named in a note.
     let e = &d.field[rec * nf..(rec + 1) * nf];
     let emax = (1.2 * e.iter().fold(0.0_f64, |m, x| m.max(x.abs()))).max(1.0) / 1e3;
@@ -678,25 +695,14 @@ fn profiles_panel<DB: DrawingBackend>(
         ))
         .map_err(err)?;
     }
-    // Potential.
-    let phi: Vec<f64> = d.potential[rec * n..(rec + 1) * n]
-        .iter()
-        .map(|x| x / 1e6)
-        .collect();
-    let pmax = phi.iter().fold(0.0_f64, |m, x| m.max(x.abs())).max(1e-9) * 1.1;
-    let mut pc = profile_chart(
+    centre_profile(
         &right,
-        &format!("potential at {minute:.1} min"),
-        pmax,
-        ztop,
+        &d.potential,
+        1e-6,
+        "potential",
         "potential (MV; ground 0)",
-    )?;
-    pc.draw_series(LineSeries::new(
-        phi.iter().zip(&d.z).map(|(x, z)| (*x, z / 1000.0)),
-        RGBColor(20, 60, 200).stroke_width(2),
-    ))
-    .map_err(err)?;
-    Ok(())
+        RGBColor(20, 60, 200),
+    )
 }
 
 fn hydrometeors_panel<DB: DrawingBackend>(
