@@ -327,3 +327,28 @@ fn a_missing_output_directory_is_named() {
         "{err}"
     );
 }
+
+#[test]
+fn a_missing_or_foreign_input_file_is_a_usage_error() {
+    // README: exit 2 for a missing or unreadable input file, naming it.
+    let missing = scratch("no_such_output.nc");
+    let foreign = write("not_netcdf.nc", "plain text\n");
+    for args in [
+        vec!["analyze".to_string(), missing.display().to_string()],
+        vec!["plot".to_string(), missing.display().to_string()],
+        vec![
+            "run".to_string(),
+            "--replay".to_string(),
+            missing.display().to_string(),
+        ],
+        vec!["analyze".to_string(), foreign.display().to_string()],
+    ] {
+        let o = bin().args(&args).output().unwrap();
+        assert_config_error(&o, &["(file)"]);
+        let err = stderr(&o);
+        assert!(
+            err.contains("no_such_output.nc") || err.contains("not a NetCDF file"),
+            "{err}"
+        );
+    }
+}

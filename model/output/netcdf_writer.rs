@@ -535,7 +535,7 @@ pub fn read_stored_configuration(path: &Path) -> Result<(String, String), RunErr
         context: format!("reading {}", path.display()),
         message: m,
     };
-    let f = netcdf::open(path).map_err(|x| e(x.to_string()))?;
+    let f = crate::output::reader::OutputFile::open(path)?.file;
     let text = |name: &str| -> Result<String, RunError> {
         match f.attribute(name).map(|a| a.value()) {
             Some(Ok(netcdf::AttributeValue::Str(s))) => Ok(s),

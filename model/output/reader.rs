@@ -11,7 +11,19 @@ pub struct OutputFile {
 
 impl OutputFile {
     pub fn open(path: &Path) -> Result<Self, RunError> {
-        let file = netcdf::open(path).map_err(|x| Self::error(path, x.to_string()))?;
+        // A missing or unreadable input file is a usage error (exit 2), with
+        // the path and the operating system's reason.
+        let usage = |why: String| {
+            RunError::Config(crate::error::ConfigError::single(
+                path.display().to_string(),
+                crate::error::ConfigIssue::new("(file)", why),
+            ))
+        };
+        if let Err(e) = std::fs::metadata(path) {
+            return Err(usage(format!("cannot read the output file: {e}")));
+        }
+        let file = netcdf::open(path)
+            .map_err(|x| usage(format!("not a NetCDF file stormcharge can read ({x})")))?;
         Ok(OutputFile {
             path: path.to_path_buf(),
             file,
