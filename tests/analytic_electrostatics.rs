@@ -192,3 +192,32 @@ fn ground_image_of_a_compact_charge() {
     // The ground is an equipotential at 0 V: potential tends to 0 toward it.
     assert!(phi[0].abs() < 0.05 * phi[49].abs());
 }
+
+#[test]
+fn fft_column_solve_equals_the_direct_sum() {
+    // On tall grids the finite-column solve is an FFT convolution; it must
+    // give the direct superposition of the cells' exact responses to
+    // round-off (relative 1e-11 of the largest value), for charge in every
+    // cell (conducting air) and for isolated layers.
+    for n in [stormcharge::physics::electrostatics::column::FFT_FROM, 1000] {
+        let grid = Grid::uniform(n, 20.0);
+        let fft = ColumnSolver::new(&grid, 3000.0);
+        let direct = ColumnSolver::new(&grid, 3000.0).direct_only();
+        let rho: Vec<f64> = (0..n)
+            .map(|k| {
+                let z = k as f64 / n as f64;
+                1e-9 * ((7.0 * z).sin() + 0.3 * (31.0 * z).cos())
+                    + if k == n / 3 { 2e-9 } else { 0.0 }
+            })
+            .collect();
+        let (mut p1, mut e1) = (vec![0.0; n], vec![0.0; n + 1]);
+        let (mut p2, mut e2) = (vec![0.0; n], vec![0.0; n + 1]);
+        fft.solve(&rho, &mut p1, &mut e1);
+        direct.solve(&rho, &mut p2, &mut e2);
+        let close = |a: &[f64], b: &[f64]| {
+            let big = b.iter().fold(0.0_f64, |m, x| m.max(x.abs()));
+            a.iter().zip(b).all(|(x, y)| (x - y).abs() <= 1e-11 * big)
+        };
+        assert!(close(&p1, &p2) && close(&e1, &e2), "n = {n}");
+    }
+}

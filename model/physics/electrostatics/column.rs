@@ -21,10 +21,144 @@
 //! on a 2-core machine, two runs side by side then kept about 88 % of their
 //! single speed against about 98 % with the vectors (docs/performance.md).
 //! The field tends to the planar field-free-top solution as R grows.
+//!
+//! With conducting air every cell holds some charge, and the direct sum
+//! costs O(n^2) per solve. From [`FFT_FROM`] cells the sums are done as
+//! convolutions by FFT (O(n log n)): with rho' the reversed charge,
+//! phi_i = sum_j rho_j P(i - j) - sum_j rho_j I(i + j) = (rho * P - rho' * I)
+//! at index i + n - 1 (both parts line up there), so one product of spectra
+//! and one inverse transform give each of phi and E_z; transforms of length
+//! at least 3n leave the needed indices free of wrap-around. The result
+//! equals the direct sum to round-off (tests/analytic_electrostatics.rs).
 
 use crate::grid::Grid;
 use crate::physics::constants::EPSILON_0;
 use ndarray::Array1;
+use rustfft::num_complex::Complex64;
+use rustfft::{Fft, FftPlanner};
+use std::sync::{Arc, Mutex};
+
+/// Cells from which the solve uses FFT convolutions (below, the direct sum
+/// is as fast: measured, docs/performance.md).
+pub const FFT_FROM: usize = 512;
+
+/// The FFT parts of the solver: plans, the kernels' spectra and work
+/// buffers (reused, so a solve allocates nothing).
+struct Spectral {
+    len: usize,
+    forward: Arc<dyn Fft<f64>>,
+    inverse: Arc<dyn Fft<f64>>,
+    /// Spectra of the direct and image responses, potential and field.
+    pd: Vec<Complex64>,
+    pi: Vec<Complex64>,
+    fd: Vec<Complex64>,
+    fi: Vec<Complex64>,
+    work: Mutex<Buffers>,
+}
+
+struct Buffers {
+    rho: Vec<Complex64>,
+    rev: Vec<Complex64>,
+    out: Vec<Complex64>,
+    scratch: Vec<Complex64>,
+}
+
+impl std::fmt::Debug for Spectral {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "Spectral {{ len: {} }}", self.len)
+    }
+}
+
+impl Clone for Spectral {
+    fn clone(&self) -> Self {
+        let (len, scratch) = {
+            let b = self.work.lock().unwrap_or_else(|p| p.into_inner());
+            (b.rho.len(), b.scratch.len())
+        };
+        let zero = Complex64::new(0.0, 0.0);
+        Spectral {
+            len: self.len,
+            forward: Arc::clone(&self.forward),
+            inverse: Arc::clone(&self.inverse),
+            pd: self.pd.clone(),
+            pi: self.pi.clone(),
+            fd: self.fd.clone(),
+            fi: self.fi.clone(),
+            work: Mutex::new(Buffers {
+                rho: vec![zero; len],
+                rev: vec![zero; len],
+                out: vec![zero; len],
+                scratch: vec![zero; scratch],
+            }),
+        }
+    }
+}
+
+impl Spectral {
+    fn new(pd: &[f64], pi: &[f64], fd: &[f64], fi: &[f64], n: usize) -> Self {
+        let len = 3 * n + 1;
+        let mut planner = FftPlanner::<f64>::new();
+        let forward = planner.plan_fft_forward(len);
+        let inverse = planner.plan_fft_inverse(len);
+        let scratch_len = forward
+            .get_inplace_scratch_len()
+            .max(inverse.get_inplace_scratch_len());
+        let zero = Complex64::new(0.0, 0.0);
+        let mut scratch = vec![zero; scratch_len];
+        let mut spectrum = |k: &[f64]| {
+            let mut v: Vec<Complex64> = k.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+            v.resize(len, zero);
+            forward.process_with_scratch(&mut v, &mut scratch);
+            v
+        };
+        let (pd, pi, fd, fi) = (spectrum(pd), spectrum(pi), spectrum(fd), spectrum(fi));
+        Spectral {
+            len,
+            forward,
+            inverse,
+            pd,
+            pi,
+            fd,
+            fi,
+            work: Mutex::new(Buffers {
+                rho: vec![zero; len],
+                rev: vec![zero; len],
+                out: vec![zero; len],
+                scratch,
+            }),
+        }
+    }
+
+    /// phi at centres and E_z on faces by FFT convolution.
+    fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        let n = rho.len();
+        let zero = Complex64::new(0.0, 0.0);
+        let mut guard = self.work.lock().unwrap_or_else(|p| p.into_inner());
+        let b = &mut *guard;
+        b.rho.fill(zero);
+        b.rev.fill(zero);
+        for (j, &r) in rho.iter().enumerate() {
+            b.rho[j] = Complex64::new(r, 0.0);
+            b.rev[n - 1 - j] = Complex64::new(r, 0.0);
+        }
+        self.forward
+            .process_with_scratch(&mut b.rho, &mut b.scratch);
+        self.forward
+            .process_with_scratch(&mut b.rev, &mut b.scratch);
+        let scale = 1.0 / self.len as f64;
+        for (target, (direct, image)) in [(0, (&self.pd, &self.pi)), (1, (&self.fd, &self.fi))] {
+            for k in 0..self.len {
+                b.out[k] = b.rho[k] * direct[k] - b.rev[k] * image[k];
+            }
+            self.inverse
+                .process_with_scratch(&mut b.out, &mut b.scratch);
+            let dest: &mut [f64] = if target == 0 { phi } else { e };
+            for (i, d) in dest.iter_mut().enumerate() {
+                *d = b.out[i + n - 1].re * scale;
+            }
+        }
+    }
+}
 
 /// On-axis E_z (V m-1) at height `z` of a cylinder between `a` and `b`
 /// (m, a < b) of radius `r` (m) holding unit charge density (1 C m-3).
@@ -66,6 +200,8 @@ pub struct ColumnSolver {
     field_direct: Array1<f64>,
     /// E_z of the image of cell j at face i, index i + j (0..=2n-1).
     field_image: Array1<f64>,
+    /// The FFT route, for columns of [`FFT_FROM`] cells or more.
+    spectral: Option<Spectral>,
 }
 
 impl ColumnSolver {
@@ -88,6 +224,16 @@ impl ColumnSolver {
         let field_image = Array1::from_shape_fn(2 * n, |s| {
             cylinder_axial_field(s as f64 * dz, -dz, 0.0, radius)
         });
+        let spectral = (n >= FFT_FROM).then(|| {
+            let s = |a: &Array1<f64>| a.to_vec();
+            Spectral::new(
+                &s(&potential_direct),
+                &s(&potential_image),
+                &s(&field_direct),
+                &s(&field_image),
+                n,
+            )
+        });
         ColumnSolver {
             radius,
             n,
@@ -95,12 +241,24 @@ impl ColumnSolver {
             potential_image,
             field_direct,
             field_image,
+            spectral,
         }
+    }
+
+    /// The same solver without the FFT route (the direct sums at any size),
+    /// for comparisons.
+    pub fn direct_only(mut self) -> Self {
+        self.spectral = None;
+        self
     }
 
     /// Potential at centres and field on faces (on the axis) from `rho` (C m-3):
     /// the superposition of the responses of the charged cells and their images.
     pub fn solve(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        if let Some(s) = &self.spectral {
+            s.solve(rho, phi, e);
+            return;
+        }
         let n = self.n;
         let slices = (
             self.potential_direct.as_slice(),
