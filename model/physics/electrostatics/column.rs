@@ -201,7 +201,7 @@ pub struct ColumnSolver {
     /// E_z of the image of cell j at face i, index i + j (0..=2n-1).
     field_image: Array1<f64>,
     /// The FFT route, for columns of [`FFT_FROM`] cells or more.
-    spectral: Option<Spectral>,
+    spectral: Option<Box<Spectral>>,
 }
 
 impl ColumnSolver {
@@ -226,13 +226,13 @@ impl ColumnSolver {
         });
         let spectral = (n >= FFT_FROM).then(|| {
             let s = |a: &Array1<f64>| a.to_vec();
-            Spectral::new(
+            Box::new(Spectral::new(
                 &s(&potential_direct),
                 &s(&potential_image),
                 &s(&field_direct),
                 &s(&field_image),
                 n,
-            )
+            ))
         });
         ColumnSolver {
             radius,
