@@ -62,6 +62,23 @@ pub struct Outcome {
     /// Cross-section of a finite column (m2); NaN for planar layers.
     #[serde(default = "no_area", deserialize_with = "nan::one")]
     pub column_area: f64,
+    /// Estimated relative error of the member's own step and spacing for
+    /// the peak field and the main negative charge: [time, space] each
+    /// (NaN unless `sweep.error_estimate`).
+    #[serde(default = "no_estimate", deserialize_with = "nan::two_by_two")]
+    pub error_estimate: [[f64; 2]; 2],
+}
+
+fn no_estimate() -> [[f64; 2]; 2] {
+    [[f64::NAN; 2]; 2]
+}
+
+/// Relative error of the coarse value estimated from one halving with
+/// first-order convergence: the Richardson extrapolate is 2 fine - coarse,
+/// and the error |coarse - extrapolate| / |extrapolate|.
+pub fn first_order_error(coarse: f64, fine: f64) -> f64 {
+    let extrapolate = 2.0 * fine - coarse;
+    (coarse - extrapolate).abs() / extrapolate.abs()
 }
 
 /// JSON has no NaN: serde_json writes it as null, and these read null back
@@ -75,6 +92,10 @@ mod nan {
 
     pub fn three<'de, D: Deserializer<'de>>(d: D) -> Result<[f64; 3], D::Error> {
         Ok(<[Option<f64>; 3]>::deserialize(d)?.map(|x| x.unwrap_or(f64::NAN)))
+    }
+
+    pub fn two_by_two<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 2]; 2], D::Error> {
+        Ok(<[[Option<f64>; 2]; 2]>::deserialize(d)?.map(|r| r.map(|x| x.unwrap_or(f64::NAN))))
     }
 
     pub fn three_by_three<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 3]; 3], D::Error> {
@@ -214,12 +235,14 @@ struct Watch {
     /// Tripole regions at the largest separation (see [`Outcome::regions`]).
     regions: [[f64; 3]; 3],
     area: f64,
+    error_estimate: [[f64; 2]; 2],
 }
 
 impl Observer for Watch {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
         self.structure = "uncharged".into();
         self.regions = no_regions();
+        self.error_estimate = no_estimate();
         self.area = exp.field_solver.column_area().unwrap_or(f64::NAN);
         Ok(())
     }
@@ -309,6 +332,7 @@ fn failed_outcome(member: Member) -> Outcome {
         ground_charge: f64::NAN,
         model_time: f64::NAN,
         column_area: f64::NAN,
+        error_estimate: no_estimate(),
     }
 }
 
@@ -333,6 +357,29 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         let mut watch = Watch::default();
         let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
         let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        if exp.config.sweep.error_estimate {
+            // The same member at half its step and at half its spacing, in
+            // memory only: peak field and main negative charge of each.
+            let values = |s: &RunSummary, w: &Watch| [s.peak_field.0, w.regions[0][0]];
+            let here = values(&s, &watch);
+            for (i, key) in ["time.step", "grid.spacing"].into_iter().enumerate() {
+                let half = if i == 0 {
+                    exp.config.time.step / 2.0
+                } else {
+                    exp.config.grid.spacing / 2.0
+                };
+                let mut o = overrides.clone();
+                o.push(format!("{key}={half}"));
+                let fine = Experiment::from_text(base_text, "error estimate", &o, base_dir)?;
+                let mut w = Watch::default();
+                let mut obs: [&mut dyn Observer; 1] = [&mut w];
+                let sf = timeloop::run(&fine, &mut obs, &mut |_| {})?;
+                let there = values(&sf, &w);
+                for q in 0..2 {
+                    watch.error_estimate[q][i] = first_order_error(here[q], there[q]);
+                }
+            }
+        }
         Ok((s, watch))
     });
     match result {
@@ -350,6 +397,7 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             out.ground_charge = s.ground_charge;
             out.model_time = s.model_time;
             out.column_area = watch.area;
+            out.error_estimate = watch.error_estimate;
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -617,6 +665,21 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             |o| N(o.ion_neutralised),
         ),
     ]);
+    for (q, what) in ["peak_field", "main_negative"].into_iter().enumerate() {
+        for (i, refinement) in ["time", "space"].into_iter().enumerate() {
+            v.push(col(
+                &format!("error_{refinement}_{what}"),
+                &format!("error_{refinement}_{what}"),
+                &format!(
+                    "estimated relative error of the {} from halving the {}",
+                    what.replace('_', " "),
+                    if i == 0 { "time step" } else { "grid spacing" }
+                ),
+                "1",
+                move |o| N(o.error_estimate[q][i]),
+            ));
+        }
+    }
     for (i, which) in ["min", "median", "max"].into_iter().enumerate() {
         v.push(col(
             &format!("initiation_over_runaway_{which}"),

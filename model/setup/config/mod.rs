@@ -405,6 +405,7 @@ pub struct SweepConfig {
     pub combine: SweepCombine,
     #[serde(default)]
     pub parameters: Vec<SweepParameter>,
+    pub error_estimate: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

@@ -994,6 +994,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "How the value lists of [[sweep.parameters]] combine into members: \"product\" (every combination) or \"zip\" (the i-th value of every list together; lists of equal length). Used only by `stormcharge sweep`.",
     },
     KeySpec {
+        path: "sweep.error_estimate",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("false"),
+        doc: "Also run every member at half its time step and at half its grid spacing (no output files; three times the work) and report, for the peak field and the main negative charge, the relative error of the member's own settings estimated from each halving (Richardson, first order, the order the convergence command measures for the demo).",
+    },
+    KeySpec {
         path: "sweep.parameters",
         kind: Kind::TableArray(SWEEP_PARAMETER_KEYS),
         unit: "",
