@@ -32,7 +32,15 @@ pub struct BenchReport {
     pub sweep_one: f64,
     pub sweep_all: f64,
     pub efficiency: f64,
+    /// Scaling over column sizes: (cells, cell-steps per second of the step,
+    /// share of the step in the field solve), the demo's first
+    /// `member_duration` seconds at spacings from 200 m to 12.5 m.
+    pub scaling: Vec<(usize, f64, f64)>,
 }
+
+/// Grid spacings of the scaling figures (m): 80 to 1280 cells in the
+/// demo's 16 km.
+pub const SCALING_SPACINGS: [f64; 5] = [200.0, 100.0, 50.0, 25.0, 12.5];
 
 fn run_demo(
     overrides: &[String],
@@ -98,6 +106,23 @@ pub fn run(
         v[v.len() / 2]
     };
     let (one, all, efficiency) = (median(&mut ones), median(&mut alls), median(&mut ratios));
+    // Cost per cell-step over column sizes (the field solve's share shows
+    // how it scales).
+    let solve = PHASES.iter().position(|p| *p == "poisson").unwrap_or(0);
+    let mut scaling = Vec::new();
+    for dz in SCALING_SPACINGS {
+        let mut o = short.clone();
+        o.push(format!("grid.spacing={dz}"));
+        let mut ph = [Duration::ZERO; PHASES.len()];
+        let t = Instant::now();
+        let (c, st) = run_demo(&o, &mut |p, d| ph[p] += d)?;
+        let total: f64 = ph.iter().map(|d| d.as_secs_f64()).sum();
+        scaling.push((
+            c,
+            c as f64 * st as f64 / t.elapsed().as_secs_f64(),
+            ph[solve].as_secs_f64() / total,
+        ));
+    }
     Ok(BenchReport {
         cells,
         steps,
@@ -110,6 +135,7 @@ pub fn run(
         sweep_one: one,
         sweep_all: all,
         efficiency,
+        scaling,
     })
 }
 
@@ -138,6 +164,15 @@ impl BenchReport {
             self.threads,
             100.0 * self.efficiency
         ));
+        s.push_str(
+            "scaling over column sizes (the demo's first member-duration seconds, one run each):\n",
+        );
+        for (cells, rate, solve) in &self.scaling {
+            s.push_str(&format!(
+                "  {cells:>5} cells: {rate:.3e} cell-steps per second, field solve {:.1} % of the step\n",
+                100.0 * solve
+            ));
+        }
         s
     }
 }

@@ -332,6 +332,17 @@ fn bench_prints_its_figures() {
         v.len() == 6 && v.iter().all(|x| x.is_finite() && *x > 0.0),
         "{sweep}"
     );
+    // The scaling over column sizes: 80 to 1280 cells, positive rates.
+    let cells: Vec<f64> = text
+        .lines()
+        .filter(|l| l.contains(" cells: "))
+        .map(|l| {
+            let v = numbers(l);
+            assert!(v.len() >= 3 && v[1] > 0.0, "{l}");
+            v[0]
+        })
+        .collect();
+    assert_eq!(cells, [80.0, 160.0, 320.0, 640.0, 1280.0]);
 }
 
 #[test]
