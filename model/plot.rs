@@ -215,6 +215,22 @@ fn note<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, text: &str) -> Result
     .map_err(err)
 }
 
+/// The legend of a chart's labelled series, on a pale box.
+fn legend<'a, DB: DrawingBackend + 'a>(
+    chart: &mut Chart<'a, DB>,
+    position: SeriesLabelPosition,
+    size: u32,
+) -> Result<(), RunError> {
+    chart
+        .configure_series_labels()
+        .position(position)
+        .background_style(WHITE.mix(0.8))
+        .border_style(BLACK)
+        .label_font(("sans-serif", size))
+        .draw()
+        .map_err(err)
+}
+
 const FONT: (&str, u32) = ("sans-serif", 14);
 
 /// A chart with a time axis (min) and a height axis (km).
@@ -397,14 +413,7 @@ fn charge_overlay<'a, DB: DrawingBackend + 'a>(
             .label(format!("{name} flash"))
             .legend(move |(x, y)| Circle::new((x + 10, y), 4, colour.filled()));
     }
-    chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    legend(chart, SeriesLabelPosition::UpperLeft, 12)?;
     Ok(())
 }
 
@@ -532,13 +541,7 @@ fn flashes_panel<DB: DrawingBackend>(
                 PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2))
             });
     }
-    cc.configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    legend(&mut cc, SeriesLabelPosition::UpperLeft, 12)?;
     Ok(())
 }
 
@@ -680,12 +683,7 @@ fn profiles_panel<DB: DrawingBackend>(
             }
         }
     }
-    fc.configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 10))
-        .draw()
-        .map_err(err)?;
+    legend(&mut fc, SeriesLabelPosition::UpperRight, 10)?;
     if !off_scale.is_empty() {
         let (_, h) = mid.dim_in_pixel();
         mid.draw(&Text::new(
@@ -748,12 +746,7 @@ fn hydrometeors_panel<DB: DrawingBackend>(
         .label(name.clone())
         .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], colour.stroke_width(2)));
     }
-    mc.configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .label_font(("sans-serif", 12))
-        .draw()
-        .map_err(err)?;
+    legend(&mut mc, SeriesLabelPosition::UpperRight, 12)?;
     Ok(())
 }
 
