@@ -259,7 +259,8 @@ fn run_level(
     })
 }
 
-/// Smallest observed order that is extrapolated (see [`richardson`]).
+/// Smallest observed order that is extrapolated (below it the finest value
+/// stands: the levels are not in the asymptotic range).
 pub const MIN_EXTRAPOLATED_ORDER: f64 = 0.5;
 
 /// Outcome values (in their report units) below this are rounding noise.
