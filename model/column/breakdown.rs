@@ -11,22 +11,13 @@ use crate::setup::experiment::Experiment;
 pub fn evaluate(exp: &Experiment, state: &mut State) {
     let mut sc = std::mem::take(&mut state.initiation_scratch);
     particle_limits::corona_ratios(exp, state, &mut sc.corona);
-    let flux = &exp.ions.electron_flux;
-    let n = flux.len();
-    if n > 0 {
-        sc.seed[0] = flux[0];
-        sc.seed[n] = flux[n - 1];
-        for j in 1..n {
-            sc.seed[j] = 0.5 * (flux[j - 1] + flux[j]);
-        }
-    }
     let (status, avalanche) = exp.criteria_thresholds.evaluate(
         &state.field,
         &exp.grid.z_face,
         &exp.base.face.density,
         &Extras {
             corona: &sc.corona,
-            seed: &sc.seed,
+            seed: &exp.ions.seed_on_faces,
         },
     );
     state.criteria_status = status;

@@ -58,7 +58,6 @@ impl State {
             avalanche: Default::default(),
             initiation_scratch: InitiationScratch {
                 corona: vec![0.0; n],
-                seed: vec![0.0; n + 1],
             },
             trigger_since: None,
             particle_corona: 0.0,

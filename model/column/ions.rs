@@ -67,11 +67,7 @@ fn population(
             (rho * n, 0.5 * dsd::ice::diameter(q, n))
         }
         Species::Rain | Species::Snow | Species::Graupel => {
-            let dist = match sp {
-                Species::Rain => &f.rain,
-                Species::Snow => &f.snow,
-                _ => &f.graupel,
-            };
+            let dist = f.exponential(sp)?;
             // Exponential N0 e^(-lambda D): N = N0/lambda, mean radius
             // 1/(2 lambda), so N <r> is the exact first moment the
             // diffusion rate integrates.
@@ -90,7 +86,9 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     if !ions.enabled {
         return;
     }
-    reconcile(exp, state);
+    // The ion carrier equals e (n+ - n-) at every step boundary (the
+    // initial state and the reconcile that ends each step), so the step
+    // starts from consistent ions.
     let e = ELEMENTARY_CHARGE;
     let n = exp.grid.len();
     for k in 0..n {

@@ -34,11 +34,7 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
     let q = state.q[sp.index()][k];
     let rho = exp.base.centre.density[k];
     let f = exp.micro_params();
-    let dist = match sp {
-        Species::Rain => &f.rain,
-        Species::Snow => &f.snow,
-        _ => &f.graupel,
-    };
+    let dist = f.exponential(sp)?;
     let shared = SharedCharge::of(dist, rho, q, state.charge[Carrier::of(sp).index()][k])?;
     let d = tail_diameter(shared.n0, shared.lambda)?;
     let c = &exp.criteria_thresholds;

@@ -88,12 +88,10 @@ pub struct State {
     pub particle_disruption: f64,
 }
 
-/// Work arrays of the criteria: the corona ratio per cell and the seed
-/// flux on faces.
+/// Work array of the criteria: the corona ratio per cell.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct InitiationScratch {
     pub(crate) corona: Vec<f64>,
-    pub(crate) seed: Vec<f64>,
 }
 
 /// Work arrays of the ion drift: number fluxes on faces.

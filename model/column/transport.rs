@@ -220,8 +220,8 @@ fn advect_ions(
 ) {
     let rho = &exp.base.centre.density;
     let n = rho.len();
-    let env = &exp.ions.environment;
-    let inflow = (env[0] / rho[0], env[n - 1] / rho[n - 1]);
+    let env = &exp.ions.environment_specific;
+    let inflow = (env[0], env[n - 1]);
     let mut net = [0.0; 2];
     for (s, ions) in out.ions.iter_mut().enumerate() {
         for k in 0..n {
@@ -237,12 +237,9 @@ fn advect_ions(
         );
         net[s] += b.net();
         if entraining {
-            for k in 0..n {
-                sc.faces[k] = env[k] * exp.cell_env[k].inv_rho;
-            }
             net[s] += relax(
                 &mut sc.field,
-                Env::Profile(&sc.faces[..n]),
+                Env::Profile(env),
                 &sc.survival,
                 &exp.cell_mass,
             );

@@ -317,10 +317,8 @@ pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
                 Centre,
                 Box::new(move |e, s, o| {
                     let f = e.micro_params();
-                    let dist = match sp {
-                        Species::Rain => &f.rain,
-                        Species::Snow => &f.snow,
-                        _ => &f.graupel,
+                    let Some(dist) = f.exponential(sp) else {
+                        return;
                     };
                     for (k, x) in o.iter_mut().enumerate() {
                         let rho = e.base.centre.density[k];

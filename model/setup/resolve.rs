@@ -466,20 +466,16 @@ pub fn ions(
     if !c.enabled {
         // The energetic-electron seed of runaway avalanches is there
         // whether or not the air conducts.
-        let ground = crate::physics::ions::MOBILITY_REFERENCE;
+        let (electron_flux, seed_on_faces) = crate::physics::ions::electron_flux_profiles(
+            &cosmic,
+            z,
+            &base.pressure,
+            &base.temperature,
+            c.seed_electron_flux * c.ionisation_scale,
+        );
         return Ok(IonColumn {
-            electron_flux: (0..z.len())
-                .map(|k| {
-                    ionisation::energetic_electron_flux(
-                        &cosmic,
-                        z[k],
-                        base.pressure[k],
-                        base.temperature[k],
-                        ground,
-                        c.seed_electron_flux * c.ionisation_scale,
-                    )
-                })
-                .collect(),
+            electron_flux,
+            seed_on_faces,
             ..IonColumn::default()
         });
     }
@@ -525,6 +521,7 @@ pub fn ions(
         z,
         &base.pressure,
         &base.temperature,
+        &base.density,
         production,
         &cosmic,
     ))

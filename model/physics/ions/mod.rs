@@ -192,12 +192,49 @@ pub struct IonColumn {
     /// Steady clear-air concentration of either sign (m-3): the initial state
     /// and the air that enters the column.
     pub environment: Vec<f64>,
-    /// Energetic secondary-electron flux (m-2 s-1).
+    /// The same per kilogram of air (kg-1), as transport carries it.
+    pub environment_specific: Vec<f64>,
+    /// Energetic secondary-electron flux at centres (m-2 s-1).
     pub electron_flux: Vec<f64>,
+    /// The same on faces (the seed of runaway avalanches): neighbouring
+    /// centres averaged, the end values at the ground and the top.
+    pub seed_on_faces: Vec<f64>,
     /// Cloud droplet number (m-3) for the droplets' radius.
     pub cloud_droplet_number: f64,
     /// Point discharge at the ground, when on.
     pub corona: Option<conduction::Corona>,
+}
+
+/// Energetic-electron flux at heights `z` (m) with pressure `p` (Pa) and
+/// temperature `t` (K), and the same on the faces between them.
+pub fn electron_flux_profiles(
+    cosmic: &ionisation::CosmicRayProfile,
+    z: &[f64],
+    p: &[f64],
+    t: &[f64],
+    sea_level_flux: f64,
+) -> (Vec<f64>, Vec<f64>) {
+    let centres: Vec<f64> = (0..z.len())
+        .map(|k| {
+            ionisation::energetic_electron_flux(
+                cosmic,
+                z[k],
+                p[k],
+                t[k],
+                MOBILITY_REFERENCE,
+                sea_level_flux,
+            )
+        })
+        .collect();
+    let n = centres.len();
+    let faces = (0..=n)
+        .map(|j| match j {
+            0 => centres[0],
+            j if j == n => centres[n - 1],
+            j => 0.5 * (centres[j - 1] + centres[j]),
+        })
+        .collect();
+    (centres, faces)
 }
 
 /// Inputs of [`IonColumn::build`] other than the base state.
@@ -221,19 +258,23 @@ impl IonColumn {
         z: &[f64],
         p: &[f64],
         t: &[f64],
+        rho: &[f64],
         production: Vec<f64>,
         cosmic: &ionisation::CosmicRayProfile,
     ) -> Self {
         use crate::physics::constants::BOLTZMANN;
         let n = z.len();
+        let (electron_flux, seed_on_faces) =
+            electron_flux_profiles(cosmic, z, p, t, inputs.seed_electron_flux);
         let mut col = IonColumn {
             enabled: true,
             production,
             cloud_droplet_number: inputs.cloud_droplet_number,
             corona: inputs.corona,
+            electron_flux,
+            seed_on_faces,
             ..IonColumn::default()
         };
-        let surface = crate::physics::ions::MOBILITY_REFERENCE;
         for k in 0..n {
             let (mp, mn) = inputs.mobility.at(p[k], t[k]);
             col.mu_pos.push(mp);
@@ -244,16 +285,9 @@ impl IonColumn {
                 * inputs.aerosol_number
                 * (-z[k] / inputs.aerosol_scale_height).exp();
             col.aerosol_sink.push(sink);
-            col.environment
-                .push(steady_clear_air(col.production[k], alpha, sink));
-            col.electron_flux.push(ionisation::energetic_electron_flux(
-                cosmic,
-                z[k],
-                p[k],
-                t[k],
-                surface,
-                inputs.seed_electron_flux,
-            ));
+            let env = steady_clear_air(col.production[k], alpha, sink);
+            col.environment.push(env);
+            col.environment_specific.push(env / rho[k]);
         }
         col
     }

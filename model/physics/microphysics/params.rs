@@ -74,6 +74,23 @@ pub struct MicroParams {
     pub atol: f64,
 }
 
+impl MicroParams {
+    /// The exponential size distribution of a precipitating species (rain,
+    /// snow, graupel); `None` for the others.
+    pub fn exponential(
+        &self,
+        sp: crate::physics::microphysics::species::Species,
+    ) -> Option<&Exponential> {
+        use crate::physics::microphysics::species::Species;
+        match sp {
+            Species::Rain => Some(&self.rain),
+            Species::Snow => Some(&self.snow),
+            Species::Graupel => Some(&self.graupel),
+            _ => None,
+        }
+    }
+}
+
 impl Default for MicroParams {
     fn default() -> Self {
         MicroParams {
