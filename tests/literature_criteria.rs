@@ -27,8 +27,12 @@ fn sea_level_thresholds_are_the_published_values() {
         (Criterion::RunawayBreakeven, 167.0e3 * 1.225),
     ];
     for (c, v) in expect {
-        assert!(rel(p.threshold(c, rho0), v) < 1e-12, "{c:?}");
+        assert!(rel(p.threshold(c, rho0, 101_325.0), v) < 1e-12, "{c:?}");
     }
+    // Corona at falling drops depends on pressure: 9.0 kV/cm at 1000 mb and
+    // 5.5 kV/cm at 500 mb (Griffiths & Latham 1972).
+    let corona = |pressure| p.threshold(Criterion::HydrometeorCorona, rho0, pressure);
+    assert!(rel(corona(1.0e5), 9.0e5) < 1e-12 && rel(corona(5.0e4), 5.5e5) < 1e-12);
 }
 
 #[test]
@@ -40,7 +44,7 @@ fn thresholds_scale_with_air_density() {
     assert!(rel(rho, 0.66011) < 1e-4);
     let delta = rho / 1.2250;
     let p = ThresholdParams::default();
-    let thr = p.threshold(Criterion::RunawayAvalanche, rho);
+    let thr = p.threshold(Criterion::RunawayAvalanche, rho, 47_181.0);
     assert!((thr - 153.0e3).abs() < 0.5e3, "{thr}");
     for c in [
         Criterion::ConventionalBreakdown,
@@ -49,9 +53,19 @@ fn thresholds_scale_with_air_density() {
         Criterion::NegativeStreamer,
         Criterion::RunawayAvalanche,
     ] {
-        assert!(rel(p.threshold(c, rho) / p.threshold(c, 1.225), delta) < 1e-12);
+        assert!(
+            rel(
+                p.threshold(c, rho, 47_181.0) / p.threshold(c, 1.225, 101_325.0),
+                delta
+            ) < 1e-12
+        );
     }
-    assert!(rel(p.threshold(Criterion::RunawayBreakeven, rho), 167.0e3 * rho) < 1e-12);
+    assert!(
+        rel(
+            p.threshold(Criterion::RunawayBreakeven, rho, 47_181.0),
+            167.0e3 * rho
+        ) < 1e-12
+    );
 }
 
 #[test]

@@ -388,14 +388,14 @@ pub fn criteria(b: &BreakdownConfig, face: &crate::physics::atmosphere::Profile)
             energy_scale: b.avalanche_energy_scale,
             friction_field: b.avalanche_friction_field,
         },
-    };
-    let rules = crate::physics::breakdown::Rules {
         onset: crate::physics::initiation::hydrometeor::CoronaOnset {
             drop_1000: b.drop_corona_onset_1000,
             drop_500: b.drop_corona_onset_500,
             ice_500: b.ice_corona_onset_500,
             ice_cutoff: b.ice_corona_cutoff,
         },
+    };
+    let rules = crate::physics::breakdown::Rules {
         fit_floor: b.avalanche_fit_floor,
         required_efolds: b.avalanche_required_efolds,
         streamer_depth: b.streamer_zone_depth,

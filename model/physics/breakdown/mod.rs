@@ -123,10 +123,7 @@ impl Criteria {
             face_density
                 .iter()
                 .zip(face_pressure)
-                .map(|(&rho, &p)| match c {
-                    Criterion::HydrometeorCorona => rules.onset.drop(p),
-                    _ => params.threshold(c, rho),
-                })
+                .map(|(&rho, &p)| params.threshold(c, rho, p))
                 .collect()
         });
         Criteria {
@@ -140,7 +137,7 @@ impl Criteria {
             required_efolds: rules.required_efolds,
             streamer_depth: rules.streamer_depth,
             stem_charge: rules.stem_charge,
-            onset: rules.onset,
+            onset: params.onset,
             enhancement: params.enhancement,
             trigger,
         }
@@ -240,7 +237,6 @@ impl Criteria {
 /// The parameters of the criteria that are not a threshold alone.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Rules {
-    pub onset: crate::physics::initiation::hydrometeor::CoronaOnset,
     pub fit_floor: f64,
     pub required_efolds: f64,
     pub streamer_depth: f64,

@@ -40,6 +40,10 @@ pub struct ThresholdParams {
     pub breakeven_coefficient: f64,
     /// Avalanche length parameters (Coleman & Dwyer 2006).
     pub avalanche: AvalancheParams,
+    /// Laboratory corona-onset fields of drops and ice (Griffiths & Latham
+    /// 1972, 1974): the hydrometeor_corona threshold, which depends on
+    /// pressure rather than density.
+    pub onset: crate::physics::initiation::hydrometeor::CoronaOnset,
 }
 
 impl Default for ThresholdParams {
@@ -52,14 +56,16 @@ impl Default for ThresholdParams {
             runaway: 2.84e5,
             breakeven_coefficient: 1.67e5,
             avalanche: AvalancheParams::default(),
+            onset: Default::default(),
         }
     }
 }
 
 impl ThresholdParams {
-    /// Threshold field (V m-1) of criterion `c` at air density `rho` (kg m-3).
-    /// Avalanche multiplication uses the runaway threshold to delimit its stretches.
-    pub fn threshold(&self, c: Criterion, rho: f64) -> f64 {
+    /// Threshold field (V m-1) of criterion `c` at air density `rho` (kg m-3)
+    /// and pressure `p` (Pa). Avalanche multiplication uses the runaway
+    /// threshold to delimit its stretches.
+    pub fn threshold(&self, c: Criterion, rho: f64, p: f64) -> f64 {
         let delta = relative_density(rho);
         match c {
             Criterion::ConventionalBreakdown => self.conventional * delta,
@@ -70,10 +76,8 @@ impl ThresholdParams {
             Criterion::PositiveStreamer
             | Criterion::HydrometeorStreamers
             | Criterion::StreamerLeader => self.positive_streamer * delta,
-            // Needs the pressure: `Criteria::new` puts the laboratory onset
-            // profile in its place; this is the fallback of an uncharged sphere
-            // reaching conventional breakdown.
-            Criterion::HydrometeorCorona => self.conventional * delta / self.enhancement,
+            // The ambient field at which an uncharged drop goes into corona.
+            Criterion::HydrometeorCorona => self.onset.drop(p),
             Criterion::NegativeStreamer => self.negative_streamer * delta,
             Criterion::RunawayAvalanche | Criterion::AvalancheMultiplication => {
                 self.runaway * delta
