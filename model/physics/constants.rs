@@ -55,6 +55,19 @@ pub const L_FUSION: f64 = 3.337e5;
 /// Latent heat of sublimation at 0 degC L_s = L_v + L_f (J kg-1), 2.834e6.
 pub const L_SUBLIMATION: f64 = L_VAPORISATION + L_FUSION;
 
+/// Specific heat of liquid water at 0 degC C_w (J kg-1 K-1), 4218
+/// (handbook value, docs/references.md; from memory).
+pub const C_WATER: f64 = 4218.0;
+
+/// Specific heat of ice at 0 degC C_i (J kg-1 K-1), 2106 (handbook value,
+/// docs/references.md; from memory).
+pub const C_ICE: f64 = 2106.0;
+
+/// Saturation vapour density over water at 0 degC (kg m-3): e_s(T0)/(R_v T0)
+/// with e_s(T0) = 611.2 Pa (Murphy & Koop 2005 at 273.15 K, 611.2 Pa to four
+/// figures). The surface of a graupel particle in wet growth is at 0 degC.
+pub const RHO_VAPOUR_SAT_T0: f64 = 611.2 / (R_VAPOUR * T_MELT);
+
 /// Density of liquid water (kg m-3), common practice.
 pub const RHO_WATER: f64 = 1000.0;
 

@@ -144,6 +144,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         max_nuclei: c.max_ice_nuclei,
         nuclei_scale: c.ice_nuclei_scale,
         rime_splintering: c.rime_splintering,
+        rain_ice_collection: c.rain_ice_collection,
         integrator: c.integrator,
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,

@@ -59,6 +59,9 @@ pub struct MicroParams {
     pub nucleated_mass: f64,
     /// Rime splintering (Hallett & Mossop 1974) on or off.
     pub rime_splintering: bool,
+    /// Supercooled rain collected by graupel freezes on it (LFO83's PGACR
+    /// term, within the wet-growth limit) on or off.
+    pub rain_ice_collection: bool,
     /// Splinters per kg of rime at the optimum temperature: 350 per mg = 3.5e8
     /// (Hallett & Mossop 1974, from memory).
     pub splinters_per_kg_rime: f64,
@@ -108,6 +111,7 @@ impl Default for MicroParams {
             nuclei_scale: 1.0,
             nucleated_mass: 1.0e-12,
             rime_splintering: true,
+            rain_ice_collection: true,
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
             droplet_mass: 4.0 / 3.0

@@ -15,7 +15,8 @@ use super::params::MicroParams;
 use super::species::Species;
 use crate::physics::atmosphere::saturation::saturation_pressures;
 use crate::physics::constants::{
-    EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_WATER, R_VAPOUR, T_MELT,
+    C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0, RHO_WATER,
+    R_VAPOUR, T_MELT,
 };
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 
@@ -104,7 +105,9 @@ pub struct Rates {
     pub cloud_to_snow: f64,
     /// cloud -> graupel: riming below 0 degC, LFO83 Eq. 40 form.
     pub cloud_to_graupel: f64,
-    /// cloud -> rain: water collected by snow and graupel above 0 degC, shed.
+    /// cloud -> rain: water collected by snow and graupel above 0 degC, shed;
+    /// below 0 degC the cloud water graupel collects beyond its wet-growth
+    /// capacity ([`wet_growth_capacity`]).
     pub cloud_to_rain_shedding: f64,
     /// cloud -> ice: rime-splinter mass (Hallett & Mossop 1974), taken from
     /// the riming.
@@ -122,6 +125,12 @@ pub struct Rates {
     pub snow_to_graupel_collection: f64,
     /// rain -> graupel: immersion freezing after Bigg (1953), LFO83 Eq. 45.
     pub rain_to_graupel: f64,
+    /// rain -> graupel: supercooled rain collected by graupel, which freezes
+    /// on it (LFO83's PGACR term; their Eq. 42 kernel with rain in place of
+    /// snow): pi^2 E N0r N0g |Vg - Vr| (rho_w/rho) [5/(lr^6 lg) +
+    /// 2/(lr^5 lg^2) + 0.5/(lr^4 lg^3)], E = 1 (LFO83), limited with the
+    /// riming by the heat balance of wet growth ([`wet_growth_capacity`]).
+    pub rain_to_graupel_collection: f64,
     /// snow -> rain: melting, LFO83 Eq. 32 (conduction term).
     pub snow_to_rain: f64,
     /// graupel -> rain: melting, LFO83 Eq. 47 (conduction term).
@@ -181,6 +190,34 @@ fn slope_sum(ls: f64, lg: f64) -> f64 {
     let (a, b) = (1.0 / ls, 1.0 / lg);
     let a2 = a * a;
     a2 * a2 * b * (5.0 * a2 + 2.0 * a * b + 0.5 * b * b)
+}
+
+/// Liquid water (kg kg-1 s-1) that graupel can freeze: the heat-balance
+/// (wet-growth) limit of Musil (1970), JAS 27, 1139, in the form of LFO83's
+/// PGWET (their Eq. 43, equation number from memory). With the particle
+/// surface at 0 degC, the latent heat of the freezing water (L_f less the
+/// sensible heat C_w (T0 - T) the supercooled water takes up) must leave by
+/// conduction to the air, by evaporation into it and into the collected ice:
+///
+/// ```text
+/// [2 pi N0 vent (K_a (T0 - T) + L_v psi (rho_vs(T0) - rho_v))/rho
+///  + C_i (T0 - T) (ice and snow collected)] / (L_f - C_w (T0 - T)),
+/// ```
+///
+/// `ventilation` the species' N0 (0.78/lambda^2 + ...) of LFO83 Eq. 46
+/// (m-2), `ice_collected` the collected ice and snow (kg kg-1 s-1, with the
+/// dry-growth efficiencies). Zero at 0 degC in air saturated there, so
+/// freezing of collected water fades continuously into the shedding above
+/// 0 degC. Liquid collected beyond it is shed as rain (LFO83).
+pub fn wet_growth_capacity(t: f64, qv: f64, rho: f64, ventilation: f64, ice_collected: f64) -> f64 {
+    let dt = T_MELT - t;
+    let heat = 2.0
+        * std::f64::consts::PI
+        * ventilation
+        * (K_AIR * dt + L_VAPORISATION * PSI_VAPOUR * (RHO_VAPOUR_SAT_T0 - rho * qv))
+        / rho
+        + C_ICE * dt * ice_collected;
+    (heat / (L_FUSION - C_WATER * dt)).max(0.0)
 }
 
 /// All process rates for one cell.
@@ -247,27 +284,11 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let snow_sweep = ls.map_or(0.0, |l| snow.sweep_at(&l, cs));
     let graupel_sweep = lg.map_or(0.0, |l| graupel.sweep_at(&l, cg));
     let by_snow = snow_sweep * qc;
-    let by_graupel = graupel_sweep * qc;
+    let mut by_graupel = graupel_sweep * qc;
     if cold {
-        if p.rime_splintering {
-            let f = splinter_efficiency(t);
-            r.splinter_number = p.splinters_per_kg_rime * f * (by_snow + by_graupel);
-            r.cloud_to_ice_splinters =
-                (r.splinter_number * p.splinter_mass).min(by_snow + by_graupel);
-        }
-        let share = if by_snow + by_graupel > 0.0 {
-            r.cloud_to_ice_splinters / (by_snow + by_graupel)
-        } else {
-            0.0
-        };
-        r.cloud_to_snow = by_snow * (1.0 - share);
-        r.cloud_to_graupel = by_graupel * (1.0 - share);
         let dtc = t - T_MELT;
         let (e_snow, e_graupel) = collection_efficiencies(dtc);
         r.ice_to_snow = 1e-3 * e_snow * (qi - p.ice_to_snow_threshold).max(0.0);
-        if by_snow > 0.0 {
-            r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
-        }
         r.ice_to_snow_collection = snow_sweep * e_snow * qi;
         r.ice_to_graupel = graupel_sweep * e_graupel * qi;
         if let (Some(ls), Some(lg)) = (ls, lg) {
@@ -283,6 +304,55 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
                 * dv
                 * (snow.rho_p * inv_rho)
                 * slope_sum(ls.lambda, lg.lambda);
+        }
+        if let Some(lg) = lg {
+            // Supercooled rain collected by graupel (LFO83 PGACR), then the
+            // heat balance of wet growth on everything liquid graupel collects.
+            if let (true, Some(lr)) = (p.rain_ice_collection, lr) {
+                let dv = (graupel.mass_weighted_speed_at(&lg, cg)
+                    - rain.mass_weighted_speed_at(&lr, cr))
+                .abs();
+                r.rain_to_graupel_collection = std::f64::consts::PI.powi(2)
+                    * graupel.n0
+                    * rain.n0
+                    * dv
+                    * (RHO_WATER * inv_rho)
+                    * slope_sum(lr.lambda, lg.lambda);
+            }
+            let liquid = by_graupel + r.rain_to_graupel_collection;
+            if liquid > 0.0 {
+                let capacity = wet_growth_capacity(
+                    t,
+                    qv,
+                    rho,
+                    graupel.ventilation_at(&lg, air),
+                    r.ice_to_graupel + r.snow_to_graupel_collection,
+                );
+                if liquid > capacity {
+                    // Wet growth: what cannot freeze is shed (collected
+                    // cloud water) or not kept (rain).
+                    let f = capacity / liquid;
+                    r.cloud_to_rain_shedding = by_graupel * (1.0 - f);
+                    by_graupel *= f;
+                    r.rain_to_graupel_collection *= f;
+                }
+            }
+        }
+        if p.rime_splintering {
+            let f = splinter_efficiency(t);
+            r.splinter_number = p.splinters_per_kg_rime * f * (by_snow + by_graupel);
+            r.cloud_to_ice_splinters =
+                (r.splinter_number * p.splinter_mass).min(by_snow + by_graupel);
+        }
+        let share = if by_snow + by_graupel > 0.0 {
+            r.cloud_to_ice_splinters / (by_snow + by_graupel)
+        } else {
+            0.0
+        };
+        r.cloud_to_snow = by_snow * (1.0 - share);
+        r.cloud_to_graupel = by_graupel * (1.0 - share);
+        if by_snow > 0.0 {
+            r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
         }
         if let Some(lr) = lr {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
@@ -314,7 +384,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 }
 
 /// Number of mass transfers in [`TRANSFER_PAIRS`].
-pub const N_TRANSFERS: usize = 18;
+pub const N_TRANSFERS: usize = 19;
 
 /// Source and destination of every transfer, in [`Rates::transfer_rates`] order;
 /// deposition is listed as vapour -> species.
@@ -336,6 +406,7 @@ pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
         (Ice, Snow),
         (Ice, Graupel),
         (Snow, Graupel),
+        (Rain, Graupel),
         (Rain, Graupel),
         (Snow, Rain),
         (Graupel, Rain),
@@ -363,6 +434,7 @@ impl Rates {
             self.ice_to_graupel,
             self.snow_to_graupel_collection,
             self.rain_to_graupel,
+            self.rain_to_graupel_collection,
             self.snow_to_rain,
             self.graupel_to_rain,
         ]
@@ -383,6 +455,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
     let dr = r.cloud_to_rain_autoconversion + r.cloud_to_rain_accretion + r.cloud_to_rain_shedding
         - r.rain_to_vapour
         - r.rain_to_graupel
+        - r.rain_to_graupel_collection
         + r.snow_to_rain
         + r.graupel_to_rain;
     let di = r.vapour_to_ice + r.cloud_to_ice_splinters
@@ -399,6 +472,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         + r.snow_to_graupel
         + r.snow_to_graupel_collection
         + r.rain_to_graupel
+        + r.rain_to_graupel_collection
         - r.graupel_to_rain;
     // Crystals are lost in proportion to the mass lost by conversion,
     // collection and sublimation; splinters add crystals.
@@ -411,8 +485,11 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
             + (-r.vapour_to_ice).max(0.0);
         dn -= s.n_ice / qi * lost;
     }
-    let freezing =
-        r.cloud_to_snow + r.cloud_to_graupel + r.cloud_to_ice_splinters + r.rain_to_graupel;
+    let freezing = r.cloud_to_snow
+        + r.cloud_to_graupel
+        + r.cloud_to_ice_splinters
+        + r.rain_to_graupel
+        + r.rain_to_graupel_collection;
     let melting = r.snow_to_rain + r.graupel_to_rain;
     let heat =
         L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour + L_FUSION * (freezing - melting);
@@ -476,9 +553,13 @@ impl Rates {
             self.splinter_number *= f;
         }
         // Rain.
-        let f = scale(self.rain_to_vapour + self.rain_to_graupel, q[RAIN]);
+        let f = scale(
+            self.rain_to_vapour + self.rain_to_graupel + self.rain_to_graupel_collection,
+            q[RAIN],
+        );
         self.rain_to_vapour *= f;
         self.rain_to_graupel *= f;
+        self.rain_to_graupel_collection *= f;
         // Ice (sublimation is the negative part of vapour_to_ice).
         let sinks = self.ice_to_snow
             + self.ice_to_snow_collection

@@ -406,6 +406,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Secondary ice production by rime splintering (Hallett & Mossop 1974) between -3 and -8 degC.",
     },
     KeySpec {
+        path: "microphysics.rain_ice_collection",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Supercooled rain collected by graupel freezes on it (Lin, Farley & Orville 1983, PGACR), within the heat balance of wet growth.",
+    },
+    KeySpec {
         path: "microphysics.autoconversion_rate",
         kind: float(0.0, false, 1.0, false),
         unit: "s-1",
