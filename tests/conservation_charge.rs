@@ -24,7 +24,7 @@ fn charging_is_local_and_conserves() {
     let before: Vec<f64> = (0..exp.grid.len())
         .map(|k| s.charge.iter().map(|c| c[k]).sum())
         .collect();
-    stormcharge::column::charging::step(&exp, &mut s, exp.schedule.dt);
+    stormcharge::column::charging::step(&exp, &mut s, exp.schedule.dt, true);
     let moved: f64 = s.charging_rates.graupel_ice.iter().map(|x| x.abs()).sum();
     assert!(moved > 0.0, "nothing charged at this time");
     for k in 0..exp.grid.len() {

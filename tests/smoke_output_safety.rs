@@ -13,6 +13,7 @@ use std::process::{Command, Output};
 /// Inductive charging at its largest settings with discharges off: the
 /// charge and field run away (the output-safety issue's reproduction).
 const RUNAWAY: &[&str] = &[
+    "charging.inductive=true",
     "charging.inductive_rebound_probability=1",
     "charging.inductive_cos_theta=1",
     "discharge.enabled=false",
@@ -246,6 +247,7 @@ fn runaway_runs_stop_with_the_quantity_and_height() {
         &cfg,
         &out,
         &[
+            "charging.inductive=true",
             "charging.inductive_rebound_probability=1",
             "charging.inductive_cos_theta=1",
             "charging.inductive_rain=true",

@@ -8,13 +8,7 @@ use common::*;
 #[test]
 fn plot_writes_png_and_svg() {
     let out = scratch("plot_demo.nc");
-    // Non-conducting air, so the analysis below sees the charge structure
-    // the charging builds (conduction screens it: docs/ions.md).
-    succeed(
-        bin()
-            .args(["run", "--quiet", "--set", "ions.enabled=false", "-o"])
-            .arg(&out),
-    );
+    succeed(bin().args(["run", "--quiet", "-o"]).arg(&out));
     let prefix = scratch("plot_demo_pictures");
     succeed(bin().arg("plot").arg(&out).arg("-o").arg(&prefix).args([
         "--width", "1200", "--height", "900", "--time", "1800", "--svg",
@@ -29,19 +23,25 @@ fn plot_writes_png_and_svg() {
     assert!(svg.contains("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"900\""));
     // The default overview: time in minutes, colour bars named by their
-    // quantity, the flash, profile and potential panels (the demo does not
-    // flash, so its flash panel says so).
+    // quantity, the flash, profile and potential panels (the demo flashes,
+    // intracloud only, so the legend lists that kind alone).
     for text in [
         "time (min)",
         "charge density (nC m-3)",
         "E_z (kV/m, positive up)",
         "potential (MV; ground 0)",
         "hydrometeors at",
-        "no flashes in this run",
+        "flash rate",
+        "cumulative flashes by kind",
+        "intracloud flash",
     ] {
         assert!(svg.contains(text), "{text}");
     }
     assert!(!svg.contains(">-0<") && !svg.contains(">-0.0<"));
+    assert!(
+        !svg.contains("negative ground flash"),
+        "the legend lists a kind that did not occur"
+    );
     // Chosen panels only, with a fixed colour limit.
     let chosen = scratch("plot_demo_carriers");
     succeed(bin().arg("plot").arg(&out).arg("-o").arg(&chosen).args([
@@ -63,7 +63,7 @@ fn plot_writes_png_and_svg() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("unknown panel"));
     // The analysis of the same output finds the demo's charge regions at its
     // largest charge separation: a negative region with positive charge
-    // above and below it.
+    // above it (docs/charging.md), and its flashes.
     let o = bin().arg("analyze").arg(&out).output().unwrap();
     assert_eq!(o.status.code(), Some(0));
     let text = String::from_utf8_lossy(&o.stdout);
@@ -72,7 +72,11 @@ fn plot_writes_png_and_svg() {
         .filter_map(|l| l.split_whitespace().next())
         .filter(|w| *w == "positive" || *w == "negative")
         .collect();
-    assert_eq!(signs, ["positive", "negative", "positive"], "{text}");
+    assert_eq!(signs, ["negative", "positive"], "{text}");
+    assert!(
+        text.contains("normal_dipole") && text.contains("intracloud"),
+        "{text}"
+    );
     // SVG only when asked; a missing directory is named, with the reason.
     let plain = scratch("plot_demo_png_only");
     succeed(bin().arg("plot").arg(&out).arg("-o").arg(&plain));

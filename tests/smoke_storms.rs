@@ -20,21 +20,14 @@ fn teaching() -> Experiment {
 
 #[test]
 fn demo_storm_charges_and_is_plausible() {
-    // The demo storm separates charge into a negative region with positive
-    // charge above it from the mature stage on. Peak fields stay below
-    // conventional breakdown; mean particle charge is tens of pC or less
-    // (Marshall & Winn; docs/references.md) and below the Rayleigh limit.
-    // Since the step order and the entrainment of docs/numerics.md the
-    // demo's field stays below the runaway threshold: it does not flash, and
-    // during the mature stage its main negative region sits at -31 to
-    // -36 degC, colder than the -10 to -25 degC observed (docs/numerics.md,
-    // "What changed in the demo"); the charge-structure test below checks the
-    // temperature at the largest separation. These structure checks run
-    // with non-conducting air (ions.enabled = false): they test what the
-    // charging and the microphysics build; conduction, on by default, then
-    // shrinks the charge and removes the lower positive region
-    // (docs/ions.md, tests/smoke_ions.rs).
-    let exp = demo(&["ions.enabled=false"]);
+    // The demo storm (Saunders & Peck 1998 charging, conducting air) shows
+    // the inverted polarity rime-accretion-rate schemes give a young storm
+    // (docs/charging.md; configs/early_inverted.toml), then from the mature
+    // stage on a negative region with positive charge above it. Peak fields
+    // stay below conventional breakdown; mean particle charge is tens of pC
+    // or less (Marshall & Winn; docs/references.md) and below the Rayleigh
+    // limit.
+    let exp = demo(&[]);
     let (rec, s) = run_recorded(&exp);
     assert!(
         s.peak_ratio[0] < 1.0,
@@ -50,8 +43,13 @@ fn demo_storm_charges_and_is_plausible() {
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");
     for (r, &time) in rec.times.iter().enumerate() {
-        if time >= 1200.0 {
-            let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
+        let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
+        if time == 1200.0 {
+            let p = main_region(&regs, 1.0).unwrap();
+            let n = main_region(&regs, -1.0).unwrap();
+            assert!(p.height < n.height, "t = {time}: {regs:?}");
+        }
+        if (1500.0..=3000.0).contains(&time) {
             let n = main_region(&regs, -1.0).unwrap();
             assert!(
                 regs.iter().any(|x| x.polarity > 0.0 && x.height > n.height),
@@ -62,16 +60,16 @@ fn demo_storm_charges_and_is_plausible() {
 }
 
 #[test]
-fn demo_storm_has_the_tripole_layers_at_peak_separation() {
-    // At the record of largest charge separation the demo has the three
-    // layers of the normal tripole (Williams 1989, JGR 94; docs/references.md,
-    // "Charge structure"): the largest negative region between -10 and
-    // -25 degC (set by temperature, Krehbiel 1986), positive charge above it
-    // and positive charge below it. (The lower positive region holds more
-    // charge than the upper one, so the project's classifier, which takes
-    // the largest positive region as the main one, does not call it a
-    // normal tripole: docs/numerics.md.) Non-conducting air, as above.
-    let exp = demo(&["ions.enabled=false"]);
+fn demo_storm_main_negative_sits_at_the_observed_temperature() {
+    // At the record of largest charge separation the main negative region
+    // of the demo lies between -10 and -25 degC, where it is observed in
+    // storms of every kind (Krehbiel 1986; Williams 1989, JGR 94;
+    // docs/references.md, "Charge structure"), with positive charge above
+    // it. The normal tripole's lower positive region is not there: with
+    // Saunders & Peck (1998) graupel charges positively only at high rime
+    // accretion rates, which the demo reaches in too few crystal collisions
+    // (docs/charging.md, "The demo storm").
+    let exp = demo(&[]);
     let (rec, _) = run_recorded(&exp);
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");
@@ -87,17 +85,7 @@ fn demo_storm_has_the_tripole_layers_at_peak_separation() {
         "main negative at {} degC",
         n.temperature
     );
-    let above = regs
-        .iter()
-        .filter(|x| x.polarity > 0.0 && x.bottom >= n.top)
-        .map(|x| x.charge)
-        .sum::<f64>();
-    let below = regs
-        .iter()
-        .filter(|x| x.polarity > 0.0 && x.top <= n.bottom)
-        .map(|x| x.charge)
-        .sum::<f64>();
-    assert!(above > 0.0 && below > 0.0, "above {above}, below {below}");
+    assert_eq!(classify(&regs), Structure::NormalDipole, "{regs:?}");
 }
 
 #[test]
@@ -332,4 +320,46 @@ fn teaching_tripole_fields_are_storm_like() {
         summary.peak_field.0,
         fields.iter().map(|r| peak(r)).fold(0.0, f64::max)
     );
+}
+
+#[test]
+fn demo_flashes_start_in_the_observed_field_band() {
+    // Under the default trigger (the avalanche gain) the demo's flashes
+    // start where the field exceeds the runaway threshold by the factors
+    // balloon soundings measured just before flashes, 1.1-3.3 (Stolzenburg
+    // et al. 2007, GRL 34, L04804; docs/references.md): the median of the
+    // ratio at initiation lies in that band, and no field ever reaches
+    // conventional breakdown (common practice: in-cloud fields stay an order
+    // below it). At the configured step and spacing and at half of each
+    // (measured medians 2.0-2.1).
+    for set in [&[][..], &["time.step=1.0"][..], &["grid.spacing=50.0"][..]] {
+        let exp = demo(set);
+        let (rec, s) = run_recorded(&exp);
+        assert!(!rec.flashes.is_empty(), "{set:?}: no flash");
+        let mut ratios: Vec<f64> = rec
+            .flashes
+            .iter()
+            .map(|f| f.criteria_ratio[Criterion::RunawayAvalanche as usize])
+            .collect();
+        ratios.sort_by(f64::total_cmp);
+        let median = ratios[ratios.len() / 2];
+        assert!((1.1..=3.3).contains(&median), "{set:?}: median {median}");
+        assert!(s.peak_ratio[0] < 1.0, "{set:?}: {}", s.peak_ratio[0]);
+        for f in &rec.flashes {
+            assert!(f.criteria_ratio[Criterion::ConventionalBreakdown as usize] < 1.0);
+        }
+    }
+}
+
+#[test]
+fn demo_large_particles_carry_observed_charges() {
+    // The charge on 2.5 mm drops and graupel (charge density shared over
+    // the size distribution by surface area) reaches the tens to a few
+    // hundred pC measured on 1-3 mm precipitation particles inside storms
+    // (Marshall & Winn 1982; docs/references.md): between 10 and 400 pC for
+    // both species. Measured: about 70-120 pC on drops, 18-19 pC on graupel.
+    let (_, s) = run_recorded(&demo(&[]));
+    for (name, q) in ["drop", "graupel"].iter().zip(s.max_charge_2p5mm) {
+        assert!((10e-12..=400e-12).contains(&q), "{name}: {q} C");
+    }
 }

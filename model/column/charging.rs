@@ -6,8 +6,11 @@ use crate::physics::carriers::Carrier;
 use crate::physics::charging::{celsius, charge_cell, CellInputs, Scheme};
 use crate::setup::experiment::Experiment;
 
-/// Charge sources over one step of `dt` s.
-pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
+/// Charge sources over `dt` s (half a step in the symmetric splitting of
+/// `column::step`). With `record`, the charging rates and the cells where
+/// the cap bound are kept as the step's diagnostics (one record per step:
+/// the evaluation after the microphysics).
+pub fn step(exp: &Experiment, state: &mut State, dt: f64, record: bool) {
     exp.prescribed
         .grow(&mut state.charge[Carrier::Prescribed.index()], dt);
     state.charge_transport.added += exp.prescribed.column_growth * dt;
@@ -30,7 +33,9 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
         for (carrier, c) in state.charge.iter_mut().zip(cell) {
             carrier[k] = c;
         }
-        state.charging_rates.set(k, rates);
-        state.charging_cap_hits += u64::from(rates.capped);
+        if record {
+            state.charging_rates.set(k, rates);
+            state.charging_cap_hits += u64::from(rates.capped);
+        }
     }
 }

@@ -579,8 +579,8 @@ pub const KEYS: &[KeySpec] = &[
         path: "charging.graupel_snow",
         kind: Kind::Bool,
         unit: "",
-        default: Some("true"),
-        doc: "Non-inductive charging in graupel-snow collisions. The laboratory laws were measured with vapour-grown crystals of tens to a few hundred micrometres, not with snow aggregates, so the size law is extrapolated to snow (docs/charging.md); switch off to see the storm without it.",
+        default: Some("false"),
+        doc: "Non-inductive charging in graupel-snow collisions. Off by default: the laboratory laws were measured with vapour-grown crystals of tens to a few hundred micrometres, not with snow aggregates, so using them for snow extrapolates the size law (docs/charging.md); in the demo every collision that reached the max_charge_per_collision cap was a graupel-snow one.",
     },
     KeySpec {
         path: "charging.inductive_cos_theta",
