@@ -116,17 +116,39 @@ fn demo_run_writes_a_complete_cf_file_and_replays_bit_for_bit() {
 }
 
 #[test]
-fn init_writes_a_template_that_resolves_to_the_defaults() {
+fn init_writes_a_template_of_the_demo_storm_that_flashes() {
+    // Every key listed; the storm is the built-in demo's (its [output]
+    // aside), so the template resolves to the demo's configuration and
+    // flashes.
     let p = scratch("init.toml");
     let _ = std::fs::remove_file(&p);
     let o = bin().arg("init").arg(&p).output().unwrap();
     assert_eq!(o.status.code(), Some(0));
     let text = std::fs::read_to_string(&p).unwrap();
     assert_eq!(text, template::init_text());
+    let mut demo: toml::Table = toml::from_str(config::DEMO_TOML).unwrap();
+    demo.remove("output");
     assert_eq!(
         config::parse(&text, "init").unwrap(),
-        config::parse("", "empty").unwrap()
+        config::parse(&demo.to_string(), "demo").unwrap()
     );
+    let out = scratch("init_storm.nc");
+    let o = bin()
+        .arg("run")
+        .arg(&p)
+        .arg("-o")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    let summary = String::from_utf8_lossy(&o.stdout);
+    let intracloud: u64 = summary
+        .lines()
+        .find_map(|l| l.trim().strip_prefix("flashes: "))
+        .and_then(|l| l.split_whitespace().next())
+        .and_then(|n| n.parse().ok())
+        .unwrap();
+    assert!(intracloud > 0, "{summary}");
     for spec in config::schema::KEYS {
         match spec.kind {
             config::schema::Kind::TableArray(elements) => {

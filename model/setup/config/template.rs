@@ -42,14 +42,36 @@ fn example(k: &KeySpec) -> &'static str {
     }
 }
 
+/// The value the built-in demo gives the key at dotted `path`, if it sets it.
+fn demo_value(demo: &toml::Table, path: &str) -> Option<String> {
+    let mut parts = path.split('.').peekable();
+    let mut table = demo;
+    while let Some(part) = parts.next() {
+        let v = table.get(part)?;
+        if parts.peek().is_none() {
+            return Some(v.to_string());
+        }
+        table = v.as_table()?;
+    }
+    None
+}
+
 /// A complete configuration with every key, its unit, default and allowed
-/// range as comments. Parsing it gives the defaults.
+/// range as comments, describing the built-in demo's storm: the keys the
+/// demo sets (outside `[output]`) carry its values, every other key its
+/// default. Parsing it gives the demo's experiment (with the default
+/// output settings), a storm that flashes.
 pub fn init_text() -> String {
+    let demo: toml::Table =
+        toml::from_str(super::DEMO_TOML).expect("the embedded demo configuration parses");
     let mut out = String::new();
     out.push_str(
         "# stormcharge experiment configuration (written by `stormcharge init`).\n\
          # Every key is listed with its unit, allowed values and default.\n\
          # Keys without a default are commented out; remove the '#' to use them.\n\
+         # The storm is the built-in demo's (an invented afternoon storm over a\n\
+         # fictional plain, configs/demo.toml): the keys it sets carry its values\n\
+         # and say so; delete such a line to fall back to the default.\n\
          # stormcharge is a research and teaching model, not a lightning-safety or\n\
          # forecasting tool.\n",
     );
@@ -100,6 +122,10 @@ pub fn init_text() -> String {
                             first
                         ));
                     }
+                }
+                _ if section != "output" && demo_value(&demo, k.path).is_some() => {
+                    let v = demo_value(&demo, k.path).unwrap_or_default();
+                    out.push_str(&format!("{} = {}    # the demo's value\n", k.name(), v));
                 }
                 (_, Some(d)) => out.push_str(&format!("{} = {}\n", k.name(), d)),
                 (_, None) => out.push_str(&format!("# {} = {}\n", k.name(), example(k))),
