@@ -267,8 +267,9 @@ pub const MIN_EXTRAPOLATED_ORDER: f64 = 0.5;
 const ROUNDING_ZERO: f64 = 1e-13;
 
 /// Order, extrapolate and error of the configured value from values ordered
-/// coarse to fine (at least three).
-fn richardson(values: &[f64]) -> (f64, f64, f64) {
+/// coarse to fine (at least three). Also the sweep's per-member estimate
+/// (`sweep.error_estimate`).
+pub fn richardson(values: &[f64]) -> (f64, f64, f64) {
     let n = values.len();
     let (a, b, c) = (values[n - 3], values[n - 2], values[n - 1]);
     let first = values[0];

@@ -73,14 +73,6 @@ fn no_estimate() -> [[f64; 2]; 2] {
     [[f64::NAN; 2]; 2]
 }
 
-/// Relative error of the coarse value estimated from one halving with
-/// first-order convergence: the Richardson extrapolate is 2 fine - coarse,
-/// and the error |coarse - extrapolate| / |extrapolate|.
-pub fn first_order_error(coarse: f64, fine: f64) -> f64 {
-    let extrapolate = 2.0 * fine - coarse;
-    (coarse - extrapolate).abs() / extrapolate.abs()
-}
-
 /// JSON has no NaN: serde_json writes it as null, and these read null back
 /// as NaN, so an outcome without flashes survives the round trip.
 mod nan {
@@ -358,25 +350,32 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
         let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
         let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
         if exp.config.sweep.error_estimate {
-            // The same member at half its step and at half its spacing, in
-            // memory only: peak field and main negative charge of each.
+            // The method of the convergence command: the same member at half
+            // and a quarter of its step, and of its spacing, in memory only;
+            // from the three levels the observed order, the Richardson
+            // extrapolate and the relative error of the member's own
+            // settings, for the peak field and the main negative charge.
             let values = |s: &RunSummary, w: &Watch| [s.peak_field.0, w.regions[0][0]];
             let here = values(&s, &watch);
             for (i, key) in ["time.step", "grid.spacing"].into_iter().enumerate() {
-                let half = if i == 0 {
-                    exp.config.time.step / 2.0
+                let configured = if i == 0 {
+                    exp.config.time.step
                 } else {
-                    exp.config.grid.spacing / 2.0
+                    exp.config.grid.spacing
                 };
-                let mut o = overrides.clone();
-                o.push(format!("{key}={half}"));
-                let fine = Experiment::from_text(base_text, "error estimate", &o, base_dir)?;
-                let mut w = Watch::default();
-                let mut obs: [&mut dyn Observer; 1] = [&mut w];
-                let sf = timeloop::run(&fine, &mut obs, &mut |_| {})?;
-                let there = values(&sf, &w);
+                let mut levels = vec![here];
+                for divisor in [2.0, 4.0] {
+                    let mut o = overrides.clone();
+                    o.push(format!("{key}={}", configured / divisor));
+                    let fine = Experiment::from_text(base_text, "error estimate", &o, base_dir)?;
+                    let mut w = Watch::default();
+                    let mut obs: [&mut dyn Observer; 1] = [&mut w];
+                    let sf = timeloop::run(&fine, &mut obs, &mut |_| {})?;
+                    levels.push(values(&sf, &w));
+                }
                 for q in 0..2 {
-                    watch.error_estimate[q][i] = first_order_error(here[q], there[q]);
+                    let series: Vec<f64> = levels.iter().map(|l| l[q]).collect();
+                    watch.error_estimate[q][i] = crate::convergence::richardson(&series).2;
                 }
             }
         }
@@ -671,7 +670,7 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
                 &format!("error_{refinement}_{what}"),
                 &format!("error_{refinement}_{what}"),
                 &format!(
-                    "estimated relative error of the {} from halving the {}",
+                    "estimated relative error of the {} of the member's own {}, from two halvings (the convergence command's Richardson estimate)",
                     what.replace('_', " "),
                     if i == 0 { "time step" } else { "grid spacing" }
                 ),

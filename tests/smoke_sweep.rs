@@ -530,10 +530,12 @@ fn a_sweep_takes_set_overrides_and_a_base_include() {
 
 #[test]
 fn a_sweep_can_estimate_each_members_numerical_error() {
-    // sweep.error_estimate reruns each member at half its step and half its
-    // spacing and reports the first-order Richardson estimate of the error
-    // of its own settings: finite, small for this smooth prescribed storm,
-    // and zero-free columns for both refinements.
+    // sweep.error_estimate reruns each member at half and a quarter of its
+    // step and of its spacing and reports the error of its own settings the
+    // convergence command reports for the same configuration (its
+    // "error" column for the peak field and the main negative charge):
+    // equal to the six significant digits of the CSV, and small for this
+    // smooth prescribed storm.
     let cfg = config_with_sweep(
         r#"
 [sweep]
@@ -546,16 +548,34 @@ values = [2000.0, 3000.0]
     assert_eq!(sweep(&cfg, "estimate", &[]).status.code(), Some(0));
     let summary = read("estimate", "summary.csv");
     let header: Vec<&str> = summary.lines().next().unwrap().split(',').collect();
-    for name in [
-        "error_time_peak_field",
-        "error_space_peak_field",
-        "error_time_main_negative",
-        "error_space_main_negative",
-    ] {
-        let c = header.iter().position(|h| *h == name).unwrap();
-        for row in summary.lines().skip(1) {
-            let v: f64 = row.split(',').nth(c).unwrap().parse().unwrap();
-            assert!(v.is_finite() && (0.0..0.1).contains(&v), "{name} = {v}");
+    let text = std::fs::read_to_string(&cfg).unwrap();
+    for (row, radius) in summary.lines().skip(1).zip([2000.0, 3000.0]) {
+        let set = [
+            format!("column.radius={radius:?}"),
+            "sweep.parameters=[]".to_string(),
+        ];
+        let report =
+            stormcharge::convergence::study(&text, "member", &repo("configs"), &set, 3, 2).unwrap();
+        for (name, outcome) in [
+            ("peak_field", "peak |E_z|"),
+            ("main_negative", "main negative region charge"),
+        ] {
+            for (series, refinement) in report.series.iter().zip(["time", "space"]) {
+                let column = format!("error_{refinement}_{name}");
+                let c = header.iter().position(|h| *h == column).unwrap();
+                let v: f64 = row.split(',').nth(c).unwrap().parse().unwrap();
+                let expected = series
+                    .outcomes
+                    .iter()
+                    .find(|r| r.name == outcome)
+                    .unwrap()
+                    .error_of_configured;
+                assert!(v.is_finite() && (0.0..0.1).contains(&v), "{column} = {v}");
+                assert!(
+                    (v - expected).abs() <= 1e-5 * expected.abs().max(1e-12),
+                    "{column}: sweep {v}, converge {expected}"
+                );
+            }
         }
     }
 }

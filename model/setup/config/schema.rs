@@ -1005,7 +1005,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Bool,
         unit: "",
         default: Some("false"),
-        doc: "Also run every member at half its time step and at half its grid spacing (no output files; three times the work) and report, for the peak field and the main negative charge, the relative error of the member's own settings estimated from each halving (Richardson, first order, the order the convergence command measures for the demo).",
+        doc: "Also run every member at half and a quarter of its time step and of its grid spacing (no output files; about thirteen times the work of the member) and report, for the peak field and the main negative charge, the relative error of the member's own settings the convergence command would report: observed order and Richardson extrapolate from the three levels (the finest value stands in when the levels are not in the asymptotic range).",
     },
     KeySpec {
         path: "sweep.parameters",
