@@ -7,9 +7,11 @@
 //!   keeps two runs from writing the same output; a lock whose process has
 //!   ended is taken over;
 //! - the data go to `<name>.<pid>.incomplete` in the same directory, with
-//!   the global attribute `run_status = "incomplete"`; records are handed
-//!   to the operating system after every record and forced to the disk
-//!   (fsync) at most every `output.durable_interval` seconds of wall clock;
+//!   the global attribute `run_status = "incomplete"`; records are kept in
+//!   memory and written in batches (one call per variable for several
+//!   records, at most about 4 MiB), handed to the operating system and
+//!   forced to the disk (fsync) at least every `output.durable_interval`
+//!   seconds of wall clock, and after every record when it is 0;
 //! - only after the run has succeeded is the file marked
 //!   `run_status = "complete"`, forced to disk and renamed over `<name>` in
 //!   one atomic step, so an earlier good file stays until then. A failed or
@@ -48,7 +50,20 @@ pub struct NetcdfWriter {
     flash_vars: Vec<FlashVar>,
     record: usize,
     buffer: Vec<f64>,
+    /// Records not yet written: their times, each record variable's values
+    /// (record after record), the flashes, and the first record's index.
+    pending_times: Vec<f64>,
+    pending: Vec<Vec<f64>>,
+    pending_flashes: Vec<FlashRecord>,
+    first_pending_flash: usize,
+    /// Most records held before a write.
+    batch: usize,
+    /// Values per record of each variable.
+    lens: Vec<usize>,
 }
+
+/// Upper bound on the bytes of records held in memory before a write.
+const BATCH_BYTES: usize = 4 << 20;
 
 fn nc_err(context: &str) -> impl Fn(netcdf::Error) -> RunError + '_ {
     move |e| RunError::Output {
@@ -220,6 +235,12 @@ impl NetcdfWriter {
             flash_vars: Vec::new(),
             record: 0,
             buffer: Vec::new(),
+            pending_times: Vec::new(),
+            pending: Vec::new(),
+            pending_flashes: Vec::new(),
+            first_pending_flash: 0,
+            batch: 1,
+            lens: Vec::new(),
         }
     }
 
@@ -245,6 +266,58 @@ impl NetcdfWriter {
             .and_then(|f| f.sync_all())
             .map_err(|e| io_error("forcing to disk", &self.partial, e))?;
         self.last_durable = std::time::Instant::now();
+        Ok(())
+    }
+
+    /// Writes the pending records (one call per variable) and flashes and
+    /// hands them to the operating system; forces them to the disk when the
+    /// durable interval has passed.
+    fn flush(&mut self) -> Result<(), RunError> {
+        let partial = self.partial.display().to_string();
+        let e = nc_err_at("record", &partial);
+        let f = self.file.as_mut().ok_or_else(|| RunError::Output {
+            context: "NetCDF output record".into(),
+            message: "file not open".into(),
+        })?;
+        let n = self.pending_times.len();
+        if n > 0 {
+            let t0 = self.record - n;
+            let missing = |name: &str| RunError::Output {
+                context: "NetCDF output record".into(),
+                message: format!("variable {name} missing"),
+            };
+            f.variable_mut("time")
+                .ok_or_else(|| missing("time"))?
+                .put_values(&self.pending_times, t0..t0 + n)
+                .map_err(&e)?;
+            for ((var, values), &len) in self.vars.iter().zip(&mut self.pending).zip(&self.lens) {
+                if var.is_static() {
+                    continue;
+                }
+                let mut v = f
+                    .variable_mut(&var.name)
+                    .ok_or_else(|| missing(&var.name))?;
+                match var.placement {
+                    Placement::Series => v.put_values(&values[..n], t0..t0 + n),
+                    _ => v.put_values(&values[..n * len], (t0..t0 + n, ..)),
+                }
+                .map_err(&e)?;
+                values.clear();
+            }
+            self.pending_times.clear();
+        }
+        write_flashes(
+            f,
+            &self.flash_vars,
+            &self.pending_flashes,
+            self.first_pending_flash,
+        )?;
+        self.first_pending_flash += self.pending_flashes.len();
+        self.pending_flashes.clear();
+        f.sync().map_err(&e)?;
+        if self.last_durable.elapsed() >= self.durable {
+            self.make_durable()?;
+        }
         Ok(())
     }
 
@@ -390,6 +463,19 @@ impl Observer for NetcdfWriter {
         self.durable = std::time::Duration::from_secs_f64(exp.config.output.durable_interval);
         self.vars = variables(exp);
         self.flash_vars = flash_variables(exp);
+        let per_record: usize = self.vars.iter().map(|v| record_len(exp, v)).sum::<usize>() * 8;
+        self.batch = if exp.config.output.durable_interval == 0.0 {
+            1
+        } else {
+            (BATCH_BYTES / per_record.max(1)).clamp(1, 1024)
+        };
+        self.lens = self.vars.iter().map(|v| record_len(exp, v)).collect();
+        self.pending = self
+            .lens
+            .iter()
+            .map(|len| Vec::with_capacity(self.batch * len))
+            .collect();
+        self.pending_times = Vec::with_capacity(self.batch);
         self.file = Some(self.define(exp)?);
         Ok(())
     }
@@ -397,46 +483,38 @@ impl Observer for NetcdfWriter {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("record", &partial);
-        let f = self.file.as_mut().ok_or_else(|| RunError::Output {
-            context: "NetCDF output record".into(),
-            message: "file not open".into(),
-        })?;
         let t = self.record;
-        f.variable_mut("time")
-            .ok_or_else(|| RunError::Output {
-                context: "NetCDF output record".into(),
-                message: "variable time missing".into(),
-            })?
-            .put_value(state.time, [t])
-            .map_err(&e)?;
-        for var in &self.vars {
-            if var.is_static() && t > 0 {
+        for (var, values) in self.vars.iter().zip(&mut self.pending) {
+            let len = record_len(exp, var);
+            if var.is_static() {
+                // Time-independent profiles: written once, at once.
+                if t == 0 {
+                    self.buffer.resize(len, 0.0);
+                    (var.fill)(exp, state, &mut self.buffer[..len]);
+                    let f = self.file.as_mut().ok_or_else(|| RunError::Output {
+                        context: "NetCDF output record".into(),
+                        message: "file not open".into(),
+                    })?;
+                    f.variable_mut(&var.name)
+                        .ok_or_else(|| RunError::Output {
+                            context: "NetCDF output record".into(),
+                            message: format!("variable {} missing", var.name),
+                        })?
+                        .put_values(&self.buffer[..len], ..)
+                        .map_err(&e)?;
+                }
                 continue;
             }
-            let len = record_len(exp, var);
-            self.buffer.resize(len, 0.0);
-            (var.fill)(exp, state, &mut self.buffer[..len]);
-            let mut v = f.variable_mut(&var.name).ok_or_else(|| RunError::Output {
-                context: "NetCDF output record".into(),
-                message: format!("variable {} missing", var.name),
-            })?;
-            match var.placement {
-                Placement::Series => v.put_value(self.buffer[0], [t]),
-                Placement::StaticFace => v.put_values(&self.buffer[..len], ..),
-                Placement::Centre | Placement::Face => v.put_values(&self.buffer[..len], (t, ..)),
-            }
-            .map_err(&e)?;
+            let start = values.len();
+            values.resize(start + len, 0.0);
+            (var.fill)(exp, state, &mut values[start..]);
         }
-        write_flashes(
-            f,
-            &self.flash_vars,
-            &state.ledger.flashes,
-            state.ledger.first_pending(),
-        )?;
-        f.sync().map_err(&e)?;
+        self.pending_times.push(state.time);
+        self.pending_flashes
+            .extend_from_slice(&state.ledger.flashes);
         self.record += 1;
-        if self.last_durable.elapsed() >= self.durable {
-            self.make_durable()?;
+        if self.pending_times.len() >= self.batch || self.last_durable.elapsed() >= self.durable {
+            self.flush()?;
         }
         Ok(())
     }
@@ -449,16 +527,16 @@ impl Observer for NetcdfWriter {
     ) -> Result<(), RunError> {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("closing", &partial);
+        // Flashes after the last record, then everything still held.
+        if state.ledger.first_pending() >= self.first_pending_flash + self.pending_flashes.len() {
+            self.pending_flashes
+                .extend_from_slice(&state.ledger.flashes);
+        }
+        self.flush()?;
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
             context: "NetCDF output closing".into(),
             message: "file not open".into(),
         })?;
-        write_flashes(
-            &mut f,
-            &self.flash_vars,
-            &state.ledger.flashes,
-            state.ledger.first_pending(),
-        )?;
         f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
         f.close().map_err(&e)?;
         // On the disk before it takes the target's name, so a crash after
@@ -469,6 +547,17 @@ impl Observer for NetcdfWriter {
         commit_file(&self.partial, &self.target)?;
         self.lock = None;
         Ok(())
+    }
+}
+
+impl Drop for NetcdfWriter {
+    /// A run that stops with an error still writes the records it holds
+    /// into its `.incomplete` file (best effort: an error here has nowhere
+    /// to go); a finished run holds none.
+    fn drop(&mut self) {
+        if self.file.is_some() {
+            let _ = self.flush();
+        }
     }
 }
 

@@ -1027,7 +1027,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(0.0, false, 3600.0, false),
         unit: "s",
         default: Some("5.0"),
-        doc: "Wall-clock interval at which the records written so far are forced to the disk (fsync); 0: after every record. Records are handed to the operating system after every record in any case.",
+        doc: "Longest wall-clock time records are held in memory before they are written, handed to the operating system and forced to the disk (fsync); they are also written whenever about 4 MiB are held. 0: every record written and forced at once. A killed run loses at most this interval of records.",
     },
     KeySpec {
         path: "output.deflate_level",
