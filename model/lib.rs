@@ -5,15 +5,19 @@
 //! and instructors. It is a research and teaching model, not a
 //! lightning-safety or forecasting tool.
 //!
-//! ## One step, in order (operator splitting)
-//! 1. [`column::transport::apply_forcing`]: the prescribed updraft w(z, t);
-//! 2. [`column::transport::transport`]: advection by w, then sedimentation (charge rides along);
-//! 3. [`column::microphysics::step`]: mass conversions, charge moved in proportion to mass;
-//! 4. [`column::charging::step`]: non-inductive and inductive charge separation;
-//! 5. [`column::electrostatics::solve`]: potential and field;
-//! 6. [`column::breakdown::evaluate`]: breakdown and inception criteria;
-//! 7. [`column::discharge::step`]: flashes while the trigger holds;
-//! 8. output through [`output::Observer`]s at the output interval.
+//! ## One step, in order (operator splitting; docs/numerics.md)
+//! 1. [`column::ions::step`] over half the step: small ions (production,
+//!    recombination, attachment, drift), then the particle charge limits;
+//! 2. [`column::transport::apply_forcing`]: the prescribed updraft w(z, t);
+//! 3. [`column::transport::transport`]: advection by w, then sedimentation (charge rides along);
+//! 4. [`column::charging::step`] over half the step: charge separation;
+//! 5. [`column::microphysics::step`]: mass conversions, charge moved in proportion to mass;
+//! 6. [`column::charging::step`] over the other half;
+//! 7. [`column::electrostatics::solve`]: potential and field; then the second
+//!    half-step of the ions and the field of the charge they leave;
+//! 8. [`column::breakdown::evaluate`]: breakdown and inception criteria;
+//! 9. [`column::discharge::step`]: flashes while the trigger holds;
+//! 10. output through [`output::Observer`]s at the output interval.
 //!
 //! See [`column::step::step`], which reads like this list. Each of those is
 //! an adapter that applies a pure process core of [`physics`] over the
