@@ -58,18 +58,8 @@ pub fn population_rates(
     }
     let x = charge * ELEMENTARY_CHARGE / (4.0 * PI * EPSILON_0 * radius * BOLTZMANN * t);
     let base = 4.0 * PI * number * radius;
-    // f(-a) = a e^a/(e^a - 1) = f(a) + a: one exponential for both signs,
-    // the sum taken on the side where it cannot cancel (a = |x|).
-    let a = x.abs();
-    let repelled = coulomb_factor(a);
-    let attracted = repelled + a;
-    let (f_pos, f_neg) = if x >= 0.0 {
-        (repelled, attracted)
-    } else {
-        (attracted, repelled)
-    };
     (
-        base * diffusion_coefficient(mu.0, t) * f_pos,
-        base * diffusion_coefficient(mu.1, t) * f_neg,
+        base * diffusion_coefficient(mu.0, t) * coulomb_factor(x),
+        base * diffusion_coefficient(mu.1, t) * coulomb_factor(-x),
     )
 }
