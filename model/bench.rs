@@ -5,6 +5,8 @@
 use crate::column::state::State;
 use crate::column::step::{step_timed, PHASES};
 use crate::error::RunError;
+use crate::output::netcdf_writer::NetcdfWriter;
+use crate::output::Observer;
 use crate::setup::config::DEMO_TOML;
 use crate::setup::experiment::Experiment;
 use rayon::prelude::*;
@@ -36,11 +38,23 @@ pub struct BenchReport {
     /// share of the step in the field solve), the demo's first
     /// `member_duration` seconds at spacings from 200 m to 12.5 m.
     pub scaling: Vec<(usize, f64, f64)>,
+    /// Whole demo runs with NetCDF output (the `run` path, into a scratch
+    /// directory): median cell-steps per second with slowest and fastest.
+    pub with_output: (f64, f64, f64),
 }
 
 /// Grid spacings of the scaling figures (m): 80 to 1280 cells in the
 /// demo's 16 km.
 pub const SCALING_SPACINGS: [f64; 5] = [200.0, 100.0, 50.0, 25.0, 12.5];
+
+/// Removes a scratch directory when the benchmark ends, also on an error.
+struct RemoveOnDrop(std::path::PathBuf);
+
+impl Drop for RemoveOnDrop {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
 
 fn run_demo(
     overrides: &[String],
@@ -72,21 +86,73 @@ pub fn run(
         rates.push(cells as f64 * steps as f64 / start.elapsed().as_secs_f64());
     }
     rates.sort_by(f64::total_cmp);
+    // Whole runs with output, as `run` does them (NetCDF writer, records at
+    // the demo's interval), into a scratch directory removed afterwards.
+    let scratch = std::env::temp_dir().join(format!("stormcharge-bench-{}", std::process::id()));
+    std::fs::create_dir_all(&scratch)
+        .map_err(|e| crate::output::io_error("creating", &scratch, e))?;
+    let _cleanup = RemoveOnDrop(scratch.clone());
+    let mut output_rates = Vec::with_capacity(repeats);
+    let exp = Experiment::from_text(DEMO_TOML, "demo", overrides, Path::new("."))?;
+    for i in 0..repeats.max(1) {
+        let target = scratch.join(format!("run_{i}.nc"));
+        let start = Instant::now();
+        let mut writer = NetcdfWriter::new(&target, "stormcharge bench");
+        let mut obs: [&mut dyn Observer; 1] = [&mut writer];
+        let s = crate::timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        output_rates.push(exp.grid.len() as f64 * s.steps as f64 / start.elapsed().as_secs_f64());
+        let _ = std::fs::remove_file(&target);
+    }
+    output_rates.sort_by(f64::total_cmp);
+    let with_output = (
+        output_rates[output_rates.len() / 2],
+        output_rates[0],
+        output_rates[output_rates.len() - 1],
+    );
     let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
     let shares = phase.map(|d| d.as_secs_f64() / sum);
     let mut short = overrides.to_vec();
     short.push(format!("time.duration={member_duration}"));
     short.push(format!("time.output_interval={member_duration}"));
-    let sweep = |threads: usize| -> Result<f64, RunError> {
+    // The sweep's own member path (`sweep::run_member`: configuration,
+    // run, NetCDF file and outcome file per member), into the scratch
+    // directory, so the figure includes what output costs a real sweep.
+    // Members record at the demo's own interval (60 s), as a real sweep
+    // would, not only at the end.
+    let mut member_overrides = overrides.to_vec();
+    member_overrides.push(format!("time.duration={member_duration}"));
+    member_overrides.push(format!(
+        "time.output_interval={}",
+        member_duration.min(60.0)
+    ));
+    let mut round = 0;
+    let mut sweep = |threads: usize| -> Result<f64, RunError> {
         let pool = crate::sweep::thread_pool(threads)?;
+        let dir = scratch.join(format!("sweep_{round}"));
+        round += 1;
+        std::fs::create_dir_all(&dir).map_err(|e| crate::output::io_error("creating", &dir, e))?;
         let t = Instant::now();
-        pool.install(|| {
+        let outcomes: Vec<crate::sweep::Outcome> = pool.install(|| {
             (0..members)
                 .into_par_iter()
-                .map(|_| run_demo(&short, &mut |_, _| {}).map(|_| ()))
-                .collect::<Result<Vec<()>, RunError>>()
-        })?;
-        Ok(members as f64 / t.elapsed().as_secs_f64())
+                .map(|i| {
+                    let member = crate::sweep::Member {
+                        index: i + 1,
+                        overrides: member_overrides.clone(),
+                    };
+                    crate::sweep::run_member(DEMO_TOML, Path::new("."), &member, &dir)
+                })
+                .collect()
+        });
+        let rate = members as f64 / t.elapsed().as_secs_f64();
+        let _ = std::fs::remove_dir_all(&dir);
+        match outcomes.into_iter().find_map(|o| o.error) {
+            Some(message) => Err(RunError::Output {
+                context: "bench sweep member".into(),
+                message,
+            }),
+            None => Ok(rate),
+        }
     };
     // One-thread and all-thread sweeps interleaved, `repeats` pairs; the
     // medians are reported, and the efficiency is the median of the pairs'
@@ -124,6 +190,7 @@ pub fn run(
         ));
     }
     Ok(BenchReport {
+        with_output,
         cells,
         steps,
         cell_steps_per_second: rates[rates.len() / 2],
@@ -151,12 +218,16 @@ impl BenchReport {
             self.slowest,
             self.fastest
         );
+        s.push_str(&format!(
+            "whole run with NetCDF output: {:.3e} cell-steps per second (median of {} runs; slowest {:.3e}, fastest {:.3e})\n",
+            self.with_output.0, self.repeats, self.with_output.1, self.with_output.2
+        ));
         s.push_str("share of the step:\n");
         for (name, share) in PHASES.iter().zip(self.shares) {
             s.push_str(&format!("  {name:<13} {:>5.1} %\n", 100.0 * share));
         }
         s.push_str(&format!(
-            "sweep (medians of {} pairs): {:.3} members/s on 1 thread, {:.3} on {} threads, \
+            "sweep with output files (medians of {} pairs): {:.3} members/s on 1 thread, {:.3} on {} threads, \
              parallel efficiency {:.0} %\n",
             self.repeats,
             self.sweep_one,

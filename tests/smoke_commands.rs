@@ -342,6 +342,14 @@ fn bench_prints_its_figures() {
         slowest > 0.0 && slowest <= median && median <= fastest,
         "{first}"
     );
+    // The whole run with output: median between slowest and fastest.
+    let whole = text
+        .lines()
+        .find(|l| l.starts_with("whole run with NetCDF output"))
+        .unwrap();
+    let v = numbers(whole);
+    assert_eq!(v.len(), 4, "{whole}");
+    assert!(v[2] > 0.0 && v[2] <= v[0] && v[0] <= v[3], "{whole}");
     let shares: f64 = text
         .lines()
         .filter(|l| l.trim_end().ends_with('%') && l.starts_with("  "))
