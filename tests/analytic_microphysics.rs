@@ -256,7 +256,7 @@ fn wet_growth_sheds_what_cannot_freeze_and_fades_at_zero_celsius() {
     //     shedding above 0 degC);
     // (3) colder, the frozen share grows with the supercooling (more heat
     //     conducted away per unit time).
-    let pi_share = |t: f64| {
+    let frozen_share = |t: f64| {
         let (s, env, p) = rain_graupel_cell(t, 3e-3, 0.0, 4e-3);
         let r = rates(&s, env, &p);
         let collected = p.graupel.sweep(0.65, s.q[5]) * s.q[1];
@@ -268,8 +268,8 @@ fn wet_growth_sheds_what_cannot_freeze_and_fades_at_zero_celsius() {
         );
         frozen / collected
     };
-    let at_zero = pi_share(273.15 - 1e-9);
+    let at_zero = frozen_share(273.15 - 1e-9);
     assert!(at_zero < 1e-6, "frozen share at 0 degC: {at_zero}");
-    let (f2, f10) = (pi_share(271.15), pi_share(263.15));
+    let (f2, f10) = (frozen_share(271.15), frozen_share(263.15));
     assert!(0.0 < f2 && f2 < f10 && f10 <= 1.0, "{f2} {f10}");
 }

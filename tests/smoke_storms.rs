@@ -345,6 +345,13 @@ fn demo_flashes_start_in_the_observed_field_band() {
         let median = ratios[ratios.len() / 2];
         assert!((1.1..=3.3).contains(&median), "{set:?}: median {median}");
         assert!(s.peak_ratio[0] < 1.0, "{set:?}: {}", s.peak_ratio[0]);
+        // The run's largest value of the trigger includes the initiations:
+        // it reached what a flash needs.
+        let trigger = s.peak_ratio[Criterion::AvalancheMultiplication as usize];
+        assert!(
+            trigger >= exp.criteria_thresholds.required_efolds,
+            "{set:?}: {trigger}"
+        );
         for f in &rec.flashes {
             assert!(f.criteria_ratio[Criterion::ConventionalBreakdown as usize] < 1.0);
         }

@@ -594,17 +594,7 @@ fn cmd_run(
                 1.0
             };
             let runaway = summary.peak_ratio[Criterion::RunawayAvalanche as usize];
-            let flashes: u64 = summary.flash_counts.iter().sum();
-            if flashes > 0 {
-                // The values above are taken at the ends of steps, after
-                // the step's flashes, so a trigger that fired shows below
-                // its threshold; the field at each initiation is in the
-                // flash records (`stormcharge analyze`).
-                println!(
-                    "  the trigger {} started {flashes} flashes (the values above are after each step's flashes; `stormcharge analyze` gives the field at each initiation); the field peaked at {runaway:.2} times the runaway threshold (observed before flashes: 1.1-3.3; docs/criteria.md)",
-                    t.name()
-                );
-            } else if reached < needed {
+            if reached < needed {
                 println!(
                     "  the trigger {} reached {reached:.3} of the {needed} it needs: no flash could start; the field peaked at {runaway:.2} times the runaway threshold (flashes are observed to start at 1.1-3.3 times it; docs/criteria.md)",
                     t.name()

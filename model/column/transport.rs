@@ -181,27 +181,15 @@ fn advect_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunErr
             .iter()
             .filter(|c| c.advected() && !(exp.ions.enabled && **c == Carrier::Ions))
         {
-            let charge = &mut state.charge[c.index()];
-            for k in 0..n {
-                sc.field[k] = charge[k] * exp.cell_env[k].inv_rho;
-            }
-            let b = advection::advect_with(
-                &mut sc.field,
-                &sc.mass_flux,
-                &sc.flow,
+            // The environment's air is neutral on the whole.
+            state.charge_transport.advected_in += advect_per_mass(
+                exp,
+                &mut state.charge[c.index()],
+                sc,
                 h,
                 (0.0, 0.0),
-                &mut sc.faces,
+                entraining.then_some(Env::Uniform(0.0)),
             );
-            state.charge_transport.advected_in += b.net();
-            if entraining {
-                // The environment's air is neutral on the whole.
-                state.charge_transport.advected_in +=
-                    relax(&mut sc.field, Env::Uniform(0.0), &sc.survival, mass);
-            }
-            for k in 0..n {
-                charge[k] = sc.field[k] * rho[k];
-            }
         }
     }
     Ok(())
@@ -224,35 +212,57 @@ fn advect_ions(
     let inflow = (env[0], env[n - 1]);
     let mut net = [0.0; 2];
     for (s, ions) in out.ions.iter_mut().enumerate() {
-        for k in 0..n {
-            sc.field[k] = ions[k] * exp.cell_env[k].inv_rho;
-        }
-        let b = advection::advect_with(
-            &mut sc.field,
-            &sc.mass_flux,
-            &sc.flow,
+        net[s] = advect_per_mass(
+            exp,
+            ions,
+            sc,
             h,
             inflow,
-            &mut sc.faces,
+            entraining.then_some(Env::Profile(env)),
         );
-        net[s] += b.net();
-        if entraining {
-            net[s] += relax(
-                &mut sc.field,
-                Env::Profile(env),
-                &sc.survival,
-                &exp.cell_mass,
-            );
-        }
-        for k in 0..n {
-            ions[k] = sc.field[k] * rho[k];
-        }
     }
     let e = crate::physics::constants::ELEMENTARY_CHARGE;
     *out.advected_in += e * (net[0] - net[1]);
     for k in 0..n {
         out.charge[k] = e * (out.ions[0][k] - out.ions[1][k]);
     }
+}
+
+/// Advects a field held per cubic metre (`density`: charge or ion number)
+/// over one sub-step as its amount per kilogram of air, with `inflow` (per
+/// kg) at the bottom and top and, when entraining, the lateral exchange
+/// toward `env` (per kg). Returns the net amount that came in through the
+/// ends and the sides (per m2).
+fn advect_per_mass(
+    exp: &Experiment,
+    density: &mut [f64],
+    sc: &mut crate::column::work::TransportScratch,
+    h: f64,
+    inflow: (f64, f64),
+    env: Option<Env<'_>>,
+) -> f64 {
+    for (f, (d, cell)) in sc.field.iter_mut().zip(density.iter().zip(&exp.cell_env)) {
+        *f = d * cell.inv_rho;
+    }
+    let b = advection::advect_with(
+        &mut sc.field,
+        &sc.mass_flux,
+        &sc.flow,
+        h,
+        inflow,
+        &mut sc.faces,
+    );
+    let mut net = b.net();
+    if let Some(env) = env {
+        net += relax(&mut sc.field, env, &sc.survival, &exp.cell_mass);
+    }
+    for (d, (f, rho)) in density
+        .iter_mut()
+        .zip(sc.field.iter().zip(&exp.base.centre.density))
+    {
+        *d = f * rho;
+    }
+    net
 }
 
 /// What [`advect_ions`] changes besides the work arrays.

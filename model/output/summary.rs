@@ -49,7 +49,8 @@ pub struct RunSummary {
     /// Largest |E_z| seen at any step (V m-1), its height (m) and time (s).
     pub peak_field: (f64, f64, f64),
     /// Largest ratio (or e-folding count) of each criterion over the run,
-    /// in `Criterion::ALL` order.
+    /// at the ends of steps and at every flash's initiation, in
+    /// `Criterion::ALL` order.
     pub peak_ratio: [f64; Criterion::COUNT],
     /// Flash counts by kind, in `FlashKind::ALL` order.
     pub flash_counts: [u64; 3],
@@ -163,6 +164,16 @@ impl RunSummary {
         }
         for (p, c) in self.peak_ratio.iter_mut().zip(&state.criteria_status) {
             *p = p.max(c.ratio);
+        }
+        // The criteria at each flash's initiation: the state holds them as
+        // they are after the step's flashes, so a trigger that fired would
+        // otherwise never show the value it reached. (The flashes since the
+        // last output record are kept; taking their maximum again is
+        // harmless.)
+        for f in &state.ledger.flashes {
+            for (p, r) in self.peak_ratio.iter_mut().zip(&f.criteria_ratio) {
+                *p = p.max(*r);
+            }
         }
         if state
             .charge
