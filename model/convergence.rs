@@ -239,6 +239,25 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     out
 }
 
+/// `overrides` plus the step (or spacing) of refinement `level`: the
+/// configured `dt` (or `dz`) halved `level` times. The sweep's per-member
+/// error estimate uses the same levels.
+pub fn level_overrides(
+    overrides: &[String],
+    dt: f64,
+    dz: f64,
+    refinement: Refinement,
+    level: usize,
+) -> Vec<String> {
+    let f = 0.5_f64.powi(level as i32);
+    let mut o = overrides.to_vec();
+    match refinement {
+        Refinement::Time => o.push(format!("time.step={:?}", dt * f)),
+        Refinement::Space => o.push(format!("grid.spacing={:?}", dz * f)),
+    }
+    o
+}
+
 /// Runs the experiment of `text` with `overrides` and collects outcomes.
 fn run_level(
     text: &str,
@@ -396,13 +415,11 @@ pub fn study(
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
     for refinement in [Refinement::Time, Refinement::Space] {
         for level in 0..levels {
-            let f = 0.5_f64.powi(level as i32);
-            let mut o = overrides.to_vec();
-            match refinement {
-                Refinement::Time => o.push(format!("time.step={:?}", dt * f)),
-                Refinement::Space => o.push(format!("grid.spacing={:?}", dz * f)),
-            }
-            jobs.push((refinement, level, o));
+            jobs.push((
+                refinement,
+                level,
+                level_overrides(overrides, dt, dz, refinement, level),
+            ));
         }
     }
     // The configured level is the first of both series: run it once.

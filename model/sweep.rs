@@ -357,16 +357,15 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             // settings, for the peak field and the main negative charge.
             let values = |s: &RunSummary, w: &Watch| [s.peak_field.0, w.regions[0][0]];
             let here = values(&s, &watch);
-            for (i, key) in ["time.step", "grid.spacing"].into_iter().enumerate() {
-                let configured = if i == 0 {
-                    exp.config.time.step
-                } else {
-                    exp.config.grid.spacing
-                };
+            use crate::convergence::{level_overrides, Refinement};
+            let (dt, dz) = (exp.schedule.dt, exp.grid.dz);
+            for (i, refinement) in [Refinement::Time, Refinement::Space]
+                .into_iter()
+                .enumerate()
+            {
                 let mut levels = vec![here];
-                for divisor in [2.0, 4.0] {
-                    let mut o = overrides.clone();
-                    o.push(format!("{key}={}", configured / divisor));
+                for level in 1..3 {
+                    let o = level_overrides(&overrides, dt, dz, refinement, level);
                     let fine = Experiment::from_text(base_text, "error estimate", &o, base_dir)?;
                     let mut w = Watch::default();
                     let mut obs: [&mut dyn Observer; 1] = [&mut w];
