@@ -179,3 +179,45 @@ fn size_speed_factor_never_leaves_its_laboratory_values() {
         }
     }
 }
+
+#[test]
+fn droplet_collision_efficiency_follows_langmuir_1948_limits() {
+    // Langmuir (1948), J. Meteor. 5, 175 (forms read in a secondary source,
+    // docs/references.md): no inertial impaction at or below the critical
+    // Stokes numbers, 1/12 in potential flow and 1.214 in viscous flow;
+    // (K/(K+0.5))^2 in potential flow (large Reynolds number) and
+    // [1 + 0.75 ln(2K)/(K - 1.214)]^-2 in viscous flow (small).
+    use stormcharge::physics::charging::riming_efficiency::langmuir_1948;
+    let mu = 1.8e-5;
+    // Collector 1 mm: K = rho_w d^2 V / (9 mu D).
+    let (d_coll, v) = (1e-3, 4.0);
+    let droplet_for_k = |k: f64| (k * 9.0 * mu * d_coll / (1000.0 * v)).sqrt();
+    // Potential flow: a very dense air makes Re/60 huge.
+    let dense = 1e6;
+    for k in [0.5, 2.0, 10.0, 100.0] {
+        let e = langmuir_1948(droplet_for_k(k), d_coll, v, dense, mu);
+        let want = (k / (k + 0.5)).powi(2);
+        assert!((e - want).abs() < 1e-3, "K = {k}: {e} against {want}");
+    }
+    // Viscous flow: a very thin air makes Re/60 vanish.
+    let thin = 1e-15;
+    for k in [2.0, 10.0, 100.0] {
+        let e = langmuir_1948(droplet_for_k(k), d_coll, v, thin, mu);
+        let want = (1.0 + 0.75 * (2.0 * k).ln() / (k - 1.214)).powi(-2);
+        assert!((e - want).abs() < 1e-9, "K = {k}: {e} against {want}");
+    }
+    // Below the critical numbers nothing is collected.
+    assert_eq!(
+        langmuir_1948(droplet_for_k(0.08), d_coll, v, dense, mu),
+        0.0
+    );
+    // (In viscous flow the potential-flow part weighs Re/60, here 1e-15.)
+    assert!(langmuir_1948(droplet_for_k(1.2), d_coll, v, thin, mu) < 1e-12);
+    // Larger droplets are collected more efficiently, never above 1.
+    let mut prev = 0.0;
+    for i in 1..60 {
+        let e = langmuir_1948(i as f64 * 1e-6, 2e-3, 5.0, 0.6, 1.718e-5);
+        assert!(e >= prev && e <= 1.0, "{i} um: {e}");
+        prev = e;
+    }
+}

@@ -410,13 +410,19 @@ fn charging_map_command() {
     // 17 temperatures from 0 to -40 degC, 9 liquid water contents.
     assert_eq!(lines.len(), 1 + 17 * 9);
     // Values are the scheme's own where no taper or cap acts: -5 degC,
-    // 0.1 g m-3 (RAR 0.3): negative.
+    // 0.1 g m-3, RAR = E 0.1 x 3 with the droplets' collision efficiency
+    // on the map's 2 mm graupel at 3 m/s in air of 0.6 kg m-3 (Langmuir
+    // 1948, the default): negative.
     let value = |prefix: &str| -> f64 {
         let row = lines.iter().find(|l| l.starts_with(prefix)).unwrap();
         row.rsplit(',').next().unwrap().parse().unwrap()
     };
+    let e = stormcharge::physics::charging::riming_efficiency::langmuir_1948(
+        20e-6, 2e-3, 3.0, 0.6, 1.718e-5,
+    );
+    assert!(e > 0.5 && e < 1.0, "{e}");
     let q = value("-5,0.1,");
-    assert!((q - sp98::charge_per_collision(-5.0, 0.3, 100e-6, 3.0) * 1e15).abs() < 1e-9);
+    assert!((q - sp98::charge_per_collision(-5.0, e * 0.3, 100e-6, 3.0) * 1e15).abs() < 1e-9);
     // What the model applies: zero at 0 degC and below the taper's end
     // (-40 degC), and never beyond the 100 fC cap (the key table's defaults).
     assert_eq!(value("0,1,"), 0.0);

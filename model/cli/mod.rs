@@ -170,6 +170,9 @@ pub enum Command {
         /// Impact speed (m s-1); also the graupel speed in the rime accretion rate.
         #[arg(long, default_value_t = 3.0)]
         impact_speed: f64,
+        /// Graupel diameter (m) in the droplets' collision efficiency.
+        #[arg(long, default_value_t = 2e-3)]
+        graupel_diameter: f64,
         /// Reversal temperature for gardiner_1985 (degC).
         #[arg(long, default_value_t = -15.0, allow_hyphen_values = true)]
         reversal_temperature: f64,
@@ -276,12 +279,14 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             scheme,
             crystal_diameter,
             impact_speed,
+            graupel_diameter,
             reversal_temperature,
             csv,
         } => cmd_charging_map(
             &scheme,
             crystal_diameter,
             impact_speed,
+            graupel_diameter,
             reversal_temperature,
             csv.as_deref(),
         ),
@@ -697,6 +702,7 @@ fn cmd_charging_map(
     scheme: &str,
     d: f64,
     v: f64,
+    graupel_d: f64,
     reversal: f64,
     csv: Option<&Path>,
 ) -> Result<(), RunError> {
@@ -742,6 +748,14 @@ fn cmd_charging_map(
             "[0.1, 30]",
         ));
     }
+    if !(1e-4..=2e-2).contains(&graupel_d) {
+        return Err(usage(
+            "--graupel-diameter",
+            format!("{graupel_d}"),
+            "out of range (m)",
+            "[1e-4, 2e-2]",
+        ));
+    }
     if !(-30.0..=-5.0).contains(&reversal) {
         return Err(usage(
             "--reversal-temperature",
@@ -758,13 +772,28 @@ fn cmd_charging_map(
             .map_err(|issue| RunError::Config(ConfigError::single("defaults", issue)))?;
     params.scheme = scheme;
     let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0, 8.0];
+    // The droplets' collision efficiency as the model forms it, for the
+    // given graupel in air of 0.6 kg m-3 (near the -15 degC level of a
+    // mid-latitude storm; a stated assumption of the map).
+    let efficiency = match params.riming_efficiency {
+        crate::physics::charging::riming_efficiency::RimingEfficiency::Unity => 1.0,
+        crate::physics::charging::riming_efficiency::RimingEfficiency::Langmuir1948 => {
+            crate::physics::charging::riming_efficiency::langmuir_1948(
+                crate::physics::microphysics::params::MicroParams::default().droplet_diameter,
+                graupel_d,
+                v,
+                0.6,
+                crate::physics::microphysics::rates::MU_AIR,
+            )
+        }
+    };
     // 0.0 - x, not -x: the first row prints as 0, not -0.
     let temps: Vec<f64> = (0..=16).map(|i| 0.0 - 2.5 * i as f64).collect();
     // The laboratory ranges of the formulas (docs/charging.md): outside,
     // the formula is held at its edge values; such cells carry a '*'.
     let outside = |t: f64, l: f64| match params.scheme {
         Scheme::Gardiner1985 { .. } => !(-30.0..=0.0).contains(&t) || l > 5.0,
-        _ => !(-30.0..=0.0).contains(&t) || l * v > 10.0,
+        _ => !(-30.0..=0.0).contains(&t) || efficiency * l * v > 10.0,
     };
     println!(
         "charge gained by graupel per rebounding collision as the model applies it (fC): scale {}, cap {} fC, taper {} to {} degC; crystal {:.0} um, impact speed {} m/s; * outside the laboratory range (held at its edge)",
@@ -775,6 +804,14 @@ fn cmd_charging_map(
         d * 1e6,
         v
     );
+    if matches!(params.scheme, Scheme::SaundersPeck1998) {
+        println!(
+            "rime accretion rate E LWC V with droplet collision efficiency E = {efficiency:.3} ({} for a {} mm graupel at {} m/s in air of 0.6 kg m-3)",
+            params.riming_efficiency.name(),
+            graupel_d * 1e3,
+            v
+        );
+    }
     print!("{:>8}", "T\\LWC");
     for l in lwcs {
         print!("{l:>9}");
@@ -785,7 +822,7 @@ fn cmd_charging_map(
         print!("{t:>8.1}");
         for &l in &lwcs {
             // Adding 0 turns a negative zero into zero.
-            let q = params.per_collision(t, l, d, v, v) * 1e15 + 0.0;
+            let q = params.per_collision(t, l, d, v, v, efficiency) * 1e15 + 0.0;
             let mark = if outside(t, l) { "*" } else { " " };
             print!("{q:>8.3}{mark}");
             out.push_str(&format!("{t},{l},{q}\n"));

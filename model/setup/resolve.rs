@@ -345,6 +345,7 @@ pub fn charging(
         inductive: c.inductive,
         inductive_rain: c.inductive_rain,
         graupel_snow: c.graupel_snow,
+        riming_efficiency: c.riming_efficiency,
         cos_theta: c.inductive_cos_theta,
         rebound_probability: c.inductive_rebound_probability,
         droplet_diameter: c.inductive_droplet_diameter,

@@ -12,6 +12,7 @@ pub mod follow_mass;
 pub mod gardiner_1985;
 pub mod inductive;
 pub mod prescribed;
+pub mod riming_efficiency;
 pub mod saunders_peck_1998;
 pub mod size_speed;
 pub mod table;
@@ -76,20 +77,33 @@ pub struct ChargingParams {
     pub graupel_snow: bool,
     pub cos_theta: f64,
     pub rebound_probability: f64,
-    /// Cloud droplet diameter (m).
+    /// Cloud droplet diameter (m) of inductive charging.
     pub droplet_diameter: f64,
+    /// Collision efficiency of droplets on the rimer in the effective water
+    /// content (Saunders & Peck 1998, table schemes on the RAR axis).
+    pub riming_efficiency: riming_efficiency::RimingEfficiency,
 }
 
 impl ChargingParams {
     /// Charge gained by the collector per rebounding collision (C) at `t`
     /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
-    /// impact speed `dv` and collector speed `v` (m s-1).
-    pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> f64 {
-        self.per_collision_capped(t, lwc, d, dv, v).0
+    /// impact speed `dv` and collector speed `v` (m s-1); `efficiency` is
+    /// the droplets' collision efficiency on the collector (1), which makes
+    /// the effective water content E LWC of the rime accretion rate.
+    pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64, efficiency: f64) -> f64 {
+        self.per_collision_capped(t, lwc, d, dv, v, efficiency).0
     }
 
     /// [`Self::per_collision`] and whether the safety cap bound it.
-    pub fn per_collision_capped(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64) -> (f64, bool) {
+    pub fn per_collision_capped(
+        &self,
+        t: f64,
+        lwc: f64,
+        d: f64,
+        dv: f64,
+        v: f64,
+        efficiency: f64,
+    ) -> (f64, bool) {
         if t >= 0.0 || t <= self.taper_end {
             return (0.0, false);
         }
@@ -98,13 +112,13 @@ impl ChargingParams {
             Scheme::Gardiner1985 {
                 reversal_temperature,
             } => gardiner_1985::charge_per_collision(t, reversal_temperature, lwc, d, dv),
-            // Effective water content taken as the liquid water content
-            // (collection efficiency 1), RAR = EW V.
-            Scheme::SaundersPeck1998 => saunders_peck_1998::charge_per_collision(t, lwc * v, d, dv),
-            Scheme::Table { .. } => self
-                .table
-                .as_ref()
-                .map_or(0.0, |tab| tab.charge_per_collision(t, lwc, d, dv, v)),
+            // RAR = EW V with the effective water content EW = E LWC.
+            Scheme::SaundersPeck1998 => {
+                saunders_peck_1998::charge_per_collision(t, efficiency * lwc * v, d, dv)
+            }
+            Scheme::Table { .. } => self.table.as_ref().map_or(0.0, |tab| {
+                tab.charge_per_collision(t, lwc, d, dv, v, efficiency)
+            }),
         };
         let taper = if t < self.taper_start {
             (t - self.taper_end) / (self.taper_start - self.taper_end)
@@ -193,8 +207,20 @@ pub fn charge_cell(
     // Rebounding collisions (m-3 s-1) times the charge per collision
     // (crystal size d, impact speed dv, collector speed v).
     let capped = std::cell::Cell::new(0u8);
-    let rate = |collisions: f64, d: f64, dv: f64, v: f64| {
-        let (q, cap) = p.per_collision_capped(t, lwc, d, dv, v);
+    // Droplets' collision efficiency on each collector (its mass-weighted
+    // mean diameter 4/lambda and speed), for the effective water content.
+    let efficiency = |lambda: f64, v: f64| match p.riming_efficiency {
+        riming_efficiency::RimingEfficiency::Unity => 1.0,
+        riming_efficiency::RimingEfficiency::Langmuir1948 => riming_efficiency::langmuir_1948(
+            f.droplet_diameter,
+            4.0 / lambda,
+            v,
+            rho,
+            crate::physics::microphysics::rates::MU_AIR,
+        ),
+    };
+    let rate = |collisions: f64, d: f64, dv: f64, v: f64, e: f64| {
+        let (q, cap) = p.per_collision_capped(t, lwc, d, dv, v, e);
         if cap && collisions > 0.0 {
             capped.set(capped.get() + 1);
         }
@@ -208,17 +234,17 @@ pub fn charge_cell(
         if qg > 0.0 && qi > 0.0 {
             let dv = (vg - vi).abs();
             let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
-            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg);
+            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg, efficiency(lg, vg));
         }
         if p.graupel_snow && qg > 0.0 && qs > 0.0 {
             let dv = (vg - vs).abs();
             let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
-            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg);
+            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg, efficiency(lg, vg));
         }
         if qs > 0.0 && qi > 0.0 {
             let dv = (vs - vi).abs();
             let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls);
-            out.snow_ice = rate(n * sep_s, d_ice, dv, vs);
+            out.snow_ice = rate(n * sep_s, d_ice, dv, vs, efficiency(ls, vs));
         }
     }
     out.capped = capped.get();

@@ -70,6 +70,9 @@ pub struct MicroParams {
     /// Mass of a cloud droplet frozen homogeneously (kg): a 10 um radius drop
     /// (common practice), giving the crystal number formed.
     pub droplet_mass: f64,
+    /// Diameter of that droplet (m), 20 um: the droplets' size in their
+    /// collision efficiency on rimers.
+    pub droplet_diameter: f64,
     /// Integrator of the process rates.
     pub integrator: Integrator,
     /// Relative and absolute tolerances of the adaptive integrator.
@@ -118,6 +121,7 @@ impl Default for MicroParams {
                 * std::f64::consts::PI
                 * 1.0e-15
                 * crate::physics::constants::RHO_WATER,
+            droplet_diameter: 2.0e-5,
             integrator: Integrator::BogackiShampine1989,
             rtol: 1.0e-4,
             atol: 1.0e-12,

@@ -255,6 +255,7 @@ pub struct ChargingConfig {
     pub inductive: bool,
     pub inductive_rain: bool,
     pub graupel_snow: bool,
+    pub riming_efficiency: crate::physics::charging::riming_efficiency::RimingEfficiency,
     pub inductive_cos_theta: f64,
     pub inductive_rebound_probability: f64,
     pub inductive_droplet_diameter: f64,

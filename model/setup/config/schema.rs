@@ -583,6 +583,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Non-inductive charging in graupel-snow collisions. Off by default: the laboratory laws were measured with vapour-grown crystals of tens to a few hundred micrometres, not with snow aggregates, so using them for snow extrapolates the size law (docs/charging.md); in the demo every collision that reached the max_charge_per_collision cap was a graupel-snow one.",
     },
     KeySpec {
+        path: "charging.riming_efficiency",
+        kind: Kind::Choice(crate::physics::charging::riming_efficiency::RimingEfficiency::NAMES),
+        unit: "",
+        default: Some("\"langmuir_1948\""),
+        doc: "Collision efficiency E of cloud droplets on the rimer in the effective water content E LWC of the rime accretion rate (saunders_peck_1998, and tables on the rime-accretion-rate axis): \"langmuir_1948\" from the Stokes number of 20 um droplets on the collector's mass-weighted mean size and speed (Langmuir 1948; 0.7-0.85 for mm graupel); \"unity\" uses the liquid water content itself (docs/charging.md).",
+    },
+    KeySpec {
         path: "charging.inductive_cos_theta",
         kind: float(0.0, false, 1.0, false),
         unit: "1",
