@@ -115,6 +115,26 @@ struct Collector {
     max_rain_content: f64,
     max_warming: f64,
     summary: Option<RunSummary>,
+    /// Flashes seen so far (the ledger hands them on at each record):
+    /// their summed charge neutralised (C m-2), count, and the first.
+    flash_charge: f64,
+    flashes: usize,
+    first_flash: Option<crate::physics::discharge::record::FlashRecord>,
+}
+
+impl Collector {
+    /// Books the flashes the ledger holds beyond those already booked (the
+    /// run loop hands each on once, but the last record's pending flashes
+    /// are still there at `finish`).
+    fn book_flashes(&mut self, state: &State) {
+        let pending = &state.ledger.flashes;
+        let have = self.flashes - state.ledger.first_pending().min(self.flashes);
+        for f in &pending[have.min(pending.len())..] {
+            self.flash_charge += f.charge_neutralized;
+            self.flashes += 1;
+            self.first_flash.get_or_insert(*f);
+        }
+    }
 }
 
 impl Observer for Collector {
@@ -124,6 +144,7 @@ impl Observer for Collector {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        self.book_flashes(state);
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
         let t = state.temperatures(exp);
@@ -154,7 +175,9 @@ impl Observer for Collector {
         Ok(())
     }
 
-    fn finish(&mut self, _: &Experiment, _: &State, s: &RunSummary) -> Result<(), RunError> {
+    fn finish(&mut self, _: &Experiment, state: &State, s: &RunSummary) -> Result<(), RunError> {
+        // Flashes after the last record are still in the ledger.
+        self.book_flashes(state);
         self.summary = Some(s.clone());
         Ok(())
     }
@@ -205,10 +228,40 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
             f64::NAN
         },
     ));
+    // The flashes' own outcomes: well posed in a flashing storm, where the
+    // regions at the largest separation (below) are an argmax over the
+    // flash sawtooth (docs/numerics.md).
+    let area = exp.field_solver.column_area();
+    let first = |f: fn(&crate::physics::discharge::record::FlashRecord) -> f64| {
+        c.first_flash.as_ref().map_or(f64::NAN, f)
+    };
+    out.push((
+        "mean charge per flash".into(),
+        if area.is_some() { "C" } else { "C m-2" },
+        if c.flashes > 0 {
+            c.flash_charge / c.flashes as f64 * area.unwrap_or(1.0)
+        } else {
+            f64::NAN
+        },
+    ));
+    out.push((
+        "first flash initiation height".into(),
+        "km",
+        first(|f| f.z_init / 1e3),
+    ));
+    out.push((
+        "first flash channel bottom".into(),
+        "km",
+        first(|f| f.z_bottom / 1e3),
+    ));
+    out.push((
+        "first flash channel top".into(),
+        "km",
+        first(|f| f.z_top / 1e3),
+    ));
     // Charge regions at the record of largest charge separation: the main
     // negative region, the largest positive region above it and the largest
     // below it (the three regions of a normal tripole).
-    let area = exp.field_solver.column_area();
     let (charge_unit, scale) = match area {
         Some(a) => ("C", a),
         None => ("C m-2", 1.0),

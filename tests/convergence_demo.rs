@@ -94,3 +94,37 @@ fn converge_reports_the_configured_error_of_a_prescribed_case() {
         }
     }
 }
+
+#[test]
+fn converge_books_every_flash_once() {
+    // The mean charge per flash and the first flash's heights that converge
+    // reports equal those of the run's own flash records (the ledger hands
+    // flashes on at each record and still holds the last record's at the
+    // end: each must be counted once). Common practice: bookkeeping check.
+    let text = std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap();
+    // Records every 600 s and a run that ends 20 s after its last flash
+    // (10602 s), between two records.
+    let set = ["time.duration=10620", "time.output_interval=600"];
+    let over: Vec<String> = set.iter().map(|x| x.to_string()).collect();
+    let report = study(&text, "flashes", &repo("configs"), &over, 3, 2).unwrap();
+    let exp = config_file("tripole_flashes.toml", &set);
+    let (rec, _) = run_recorded(&exp);
+    assert!(rec.flashes.len() > 2);
+    let area = exp.field_solver.column_area().unwrap();
+    let mean = rec
+        .flashes
+        .iter()
+        .map(|f| f.charge_neutralized)
+        .sum::<f64>()
+        / rec.flashes.len() as f64
+        * area;
+    for s in &report.series {
+        let row = |name: &str| s.outcomes.iter().find(|r| r.name == name).unwrap().values[0];
+        assert!(rel(row("mean charge per flash"), mean) < 1e-12);
+        assert_eq!(
+            row("first flash initiation height"),
+            rec.flashes[0].z_init / 1e3
+        );
+        assert_eq!(row("first flash channel top"), rec.flashes[0].z_top / 1e3);
+    }
+}
