@@ -270,3 +270,22 @@ fn ground_corona_limits_the_surface_field_to_its_threshold() {
     assert!(low > 0.0, "positive space charge near the ground: {low}");
     assert!(s.charge_budget_residual().abs() <= 1e-12 * s.charge_transport.corona);
 }
+
+#[test]
+fn coulomb_pair_equals_both_factors() {
+    // f(-x) = f(x) + x for f(x) = x/(e^x - 1) (algebra: both equal
+    // x e^x/(e^x - 1)); the pair from one exponential must match the two
+    // factors computed apart to rounding over attracting and repelling
+    // charges of every size.
+    use stormcharge::physics::ions::attachment::coulomb_pair;
+    for i in -400..=400 {
+        let x = 0.05 * i as f64 * (1.0 + 1e-3 * i as f64);
+        let (p, m) = coulomb_pair(x);
+        for (got, want) in [(p, coulomb_factor(x)), (m, coulomb_factor(-x))] {
+            assert!(
+                (got - want).abs() <= 1e-13 * want.max(1e-300),
+                "x = {x}: {got} {want}"
+            );
+        }
+    }
+}

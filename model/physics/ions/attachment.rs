@@ -58,8 +58,23 @@ pub fn population_rates(
     }
     let x = charge * ELEMENTARY_CHARGE / (4.0 * PI * EPSILON_0 * radius * BOLTZMANN * t);
     let base = 4.0 * PI * number * radius;
+    let (pos, neg) = coulomb_pair(x);
     (
-        base * diffusion_coefficient(mu.0, t) * coulomb_factor(x),
-        base * diffusion_coefficient(mu.1, t) * coulomb_factor(-x),
+        base * diffusion_coefficient(mu.0, t) * pos,
+        base * diffusion_coefficient(mu.1, t) * neg,
     )
+}
+
+/// The Coulomb factors f(x) and f(-x) of [`coulomb_factor`] from one
+/// exponential: f(-x) = f(x) + x (x e^x/(e^x - 1) both), so the repelled
+/// sign's factor f(|x|) is computed and the attracted sign's is f(|x|) + |x|,
+/// a sum of non-negative terms without cancellation.
+pub fn coulomb_pair(x: f64) -> (f64, f64) {
+    let repelled = coulomb_factor(x.abs());
+    let attracted = repelled + x.abs();
+    if x >= 0.0 {
+        (repelled, attracted)
+    } else {
+        (attracted, repelled)
+    }
 }
