@@ -199,7 +199,12 @@ fn fft_column_solve_equals_the_direct_sum() {
     // give the direct superposition of the cells' exact responses to
     // round-off (relative 1e-11 of the largest value), for charge in every
     // cell (conducting air) and for isolated layers.
-    for n in [stormcharge::physics::electrostatics::column::FFT_FROM, 1000] {
+    for n in [
+        stormcharge::physics::electrostatics::column::FFT_FROM,
+        777,
+        1000,
+        1283,
+    ] {
         let grid = Grid::uniform(n, 20.0);
         let fft = ColumnSolver::new(&grid, 3000.0);
         let direct = ColumnSolver::new(&grid, 3000.0).direct_only();
@@ -228,7 +233,8 @@ fn direct_column_solve_gives_the_same_bits_on_every_instruction_set() {
     // (chosen at run time); without fused multiply-add they must equal the
     // portable build's sums bit for bit, so results do not depend on the
     // machine (common practice for reproducible numerics).
-    let n = 300;
+    let n = 200;
+    assert!(n < stormcharge::physics::electrostatics::column::FFT_FROM);
     let grid = Grid::uniform(n, 50.0);
     let s = ColumnSolver::new(&grid, 3000.0);
     let rho: Vec<f64> = (0..n)
@@ -242,4 +248,21 @@ fn direct_column_solve_gives_the_same_bits_on_every_instruction_set() {
     for (a, b) in p1.iter().zip(&p2).chain(e1.iter().zip(&e2)) {
         assert_eq!(a.to_bits(), b.to_bits());
     }
+}
+
+#[test]
+fn fft_lengths_have_only_small_prime_factors() {
+    // The FFT length is the smallest number >= 2n with prime factors 2, 3
+    // and 5 only (5-smooth numbers: 1, 2, 3, 4, 5, 6, 8, 9, 10, 12, 15, 16,
+    // ... ; common practice for fast FFT sizes).
+    use stormcharge::physics::electrostatics::column::smooth_length;
+    let smooth = [
+        1, 2, 3, 4, 5, 6, 8, 9, 10, 12, 15, 16, 18, 20, 24, 25, 27, 30,
+    ];
+    for m in 1..=30 {
+        let want = *smooth.iter().find(|&&s| s >= m).unwrap();
+        assert_eq!(smooth_length(m), want, "{m}");
+    }
+    assert_eq!(smooth_length(2 * 1280), 2560);
+    assert_eq!(smooth_length(2 * 1283), 2592);
 }
