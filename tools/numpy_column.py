@@ -185,7 +185,6 @@ def main():
     # Field response: potential-free finite column of radius R, field at
     # cell centres from uniform disks (E of a disk on its axis).
     radius = 3000.0
-    area = math.pi * radius ** 2
     dzm = z[:, None] - z[None, :]
     zi = z[None, :]
     def disk(h):
@@ -299,9 +298,13 @@ def main():
         t = th * exner
         y = [qv, qc, qr, qi, qs, qg, ni, t]
         k1 = rates(*y[:6], y[7], y[6])
-        y2 = [np.maximum(y[j] + 0.5 * dt * k1[j if j < 7 else 7], 0) if j < 7 else y[7] + 0.5 * dt * k1[7] for j in range(8)]
+        def stage(k, f):
+            # Mixing ratios and numbers stay non-negative; temperature free.
+            return [np.maximum(y[j] + f * dt * k[j], 0.0) for j in range(7)] + [y[7] + f * dt * k[7]]
+
+        y2 = stage(k1, 0.5)
         k2 = rates(*y2[:6], y2[7], y2[6])
-        y3 = [np.maximum(y[j] + 0.75 * dt * k2[j], 0) if j < 7 else y[7] + 0.75 * dt * k2[7] for j in range(8)]
+        y3 = stage(k2, 0.75)
         k3 = rates(*y3[:6], y3[7], y3[6])
         new = [y[j] + dt * (2 * k1[j] + 3 * k2[j] + 4 * k3[j]) / 9.0 for j in range(8)]
         qv, qc, qr, qi, qs, qg, ni = [np.maximum(v, 0.0) for v in new[:7]]
@@ -329,7 +332,7 @@ def main():
         th = t / exner
         # Charging (graupel-ice, SP98), charge conserved between carriers.
         k = rates(qv, qc, qr, qi, qs, qg, t, ni)
-        i2g, vg, di = k[8], k[9], k[10]
+        vg, di = k[9], k[10]
         vi = 3.29 * (rho * qi) ** 0.16 * corr["s"]
         ew_eff = rho * qc * 1e3
         rar = ew_eff * vg
