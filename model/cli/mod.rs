@@ -822,7 +822,15 @@ fn cmd_charging_map(
         print!("{t:>8.1}");
         for &l in &lwcs {
             // Adding 0 turns a negative zero into zero.
-            let q = params.per_collision(t, l, d, v, v, efficiency) * 1e15 + 0.0;
+            let collision = crate::physics::charging::Collision {
+                t,
+                lwc: l,
+                crystal: d,
+                impact_speed: v,
+                collector_speed: v,
+                efficiency,
+            };
+            let q = params.per_collision(&collision) * 1e15 + 0.0;
             let mark = if outside(t, l) { "*" } else { " " };
             print!("{q:>8.3}{mark}");
             out.push_str(&format!("{t},{l},{q}\n"));

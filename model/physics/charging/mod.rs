@@ -84,26 +84,40 @@ pub struct ChargingParams {
     pub riming_efficiency: riming_efficiency::RimingEfficiency,
 }
 
+/// The conditions of one rebounding collision.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Collision {
+    /// Temperature (degC).
+    pub t: f64,
+    /// Cloud liquid water content (g m-3).
+    pub lwc: f64,
+    /// Crystal diameter (m).
+    pub crystal: f64,
+    /// Impact speed (m s-1).
+    pub impact_speed: f64,
+    /// Collector (rimer) speed (m s-1), the V of the rime accretion rate.
+    pub collector_speed: f64,
+    /// The droplets' collision efficiency on the collector (1): the
+    /// effective water content is E LWC.
+    pub efficiency: f64,
+}
+
+impl Collision {
+    /// The rime accretion rate E LWC V (g m-2 s-1).
+    pub fn rime_accretion_rate(&self) -> f64 {
+        self.efficiency * self.lwc * self.collector_speed
+    }
+}
+
 impl ChargingParams {
-    /// Charge gained by the collector per rebounding collision (C) at `t`
-    /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
-    /// impact speed `dv` and collector speed `v` (m s-1); `efficiency` is
-    /// the droplets' collision efficiency on the collector (1), which makes
-    /// the effective water content E LWC of the rime accretion rate.
-    pub fn per_collision(&self, t: f64, lwc: f64, d: f64, dv: f64, v: f64, efficiency: f64) -> f64 {
-        self.per_collision_capped(t, lwc, d, dv, v, efficiency).0
+    /// Charge gained by the collector per rebounding collision (C).
+    pub fn per_collision(&self, c: &Collision) -> f64 {
+        self.per_collision_capped(c).0
     }
 
     /// [`Self::per_collision`] and whether the safety cap bound it.
-    pub fn per_collision_capped(
-        &self,
-        t: f64,
-        lwc: f64,
-        d: f64,
-        dv: f64,
-        v: f64,
-        efficiency: f64,
-    ) -> (f64, bool) {
+    pub fn per_collision_capped(&self, c: &Collision) -> (f64, bool) {
+        let t = c.t;
         if t >= 0.0 || t <= self.taper_end {
             return (0.0, false);
         }
@@ -111,14 +125,23 @@ impl ChargingParams {
             Scheme::Off => 0.0,
             Scheme::Gardiner1985 {
                 reversal_temperature,
-            } => gardiner_1985::charge_per_collision(t, reversal_temperature, lwc, d, dv),
-            // RAR = EW V with the effective water content EW = E LWC.
-            Scheme::SaundersPeck1998 => {
-                saunders_peck_1998::charge_per_collision(t, efficiency * lwc * v, d, dv)
-            }
-            Scheme::Table { .. } => self.table.as_ref().map_or(0.0, |tab| {
-                tab.charge_per_collision(t, lwc, d, dv, v, efficiency)
-            }),
+            } => gardiner_1985::charge_per_collision(
+                t,
+                reversal_temperature,
+                c.lwc,
+                c.crystal,
+                c.impact_speed,
+            ),
+            Scheme::SaundersPeck1998 => saunders_peck_1998::charge_per_collision(
+                t,
+                c.rime_accretion_rate(),
+                c.crystal,
+                c.impact_speed,
+            ),
+            Scheme::Table { .. } => self
+                .table
+                .as_ref()
+                .map_or(0.0, |tab| tab.charge_per_collision(c)),
         };
         let taper = if t < self.taper_start {
             (t - self.taper_end) / (self.taper_start - self.taper_end)
@@ -220,7 +243,14 @@ pub fn charge_cell(
         ),
     };
     let rate = |collisions: f64, d: f64, dv: f64, v: f64, e: f64| {
-        let (q, cap) = p.per_collision_capped(t, lwc, d, dv, v, e);
+        let (q, cap) = p.per_collision_capped(&Collision {
+            t,
+            lwc,
+            crystal: d,
+            impact_speed: dv,
+            collector_speed: v,
+            efficiency: e,
+        });
         if cap && collisions > 0.0 {
             capped.set(capped.get() + 1);
         }

@@ -58,25 +58,16 @@ impl ChargeTable {
         (1.0 - wt) * lo + wt * hi
     }
 
-    /// Charge gained by the collector per rebounding collision (C) at `t`
-    /// (degC), liquid water content `lwc` (g m-3), crystal diameter `d` (m),
-    /// impact speed `dv` and collector speed `v` (m s-1); `efficiency`
-    /// (1) makes the effective water content of the rime accretion rate
-    /// axis (a liquid-water axis is read as given); the laboratory ranges of
-    /// the size/speed factor as in [`super::saunders_peck_1998`].
-    pub fn charge_per_collision(
-        &self,
-        t: f64,
-        lwc: f64,
-        d: f64,
-        dv: f64,
-        v: f64,
-        efficiency: f64,
-    ) -> f64 {
+    /// Charge gained by the collector per rebounding collision (C): the
+    /// table read at the collision's temperature and liquid water content
+    /// (or rime accretion rate E LWC V), with the laboratory ranges of the
+    /// size/speed factor as in [`super::saunders_peck_1998`].
+    pub fn charge_per_collision(&self, c: &super::Collision) -> f64 {
         let x = match self.axis {
-            Axis::LiquidWater => lwc,
-            Axis::RimeAccretionRate => efficiency * lwc * v,
+            Axis::LiquidWater => c.lwc,
+            Axis::RimeAccretionRate => c.rime_accretion_rate(),
         };
+        let (t, d, dv) = (c.t, c.crystal, c.impact_speed);
         let q = self.charge_fc(t, x);
         let d = d.clamp(10e-6, 1e-3);
         let dv = dv.clamp(1.0, 10.0);
