@@ -215,3 +215,59 @@ fn a_forbush_decrease_lowers_the_air_earth_current() {
     assert!(jb.abs() < ja.abs());
     assert!(jb.abs() / ja.abs() >= 0.9 - 1e-9, "{}", jb / ja);
 }
+
+#[test]
+fn cosmic_ray_profile_passes_through_the_parameterisation_knots() {
+    // Slyunyaev, Mareev & Zhidkov (2015), appendix: knot i sits at height
+    // Z_i = H_i + (B_i - b_i xi) s^g_i with production (normalised to
+    // 297.15 K, 98658.55 Pa) Q_i = (C_i - c_i xi) + (D_i - d_i xi) s^h_i,
+    // s = sin(min(|lambda|, K_i))/sin K_i. Worked by hand from their table
+    // (coefficients as read, docs/references.md) at the equator (s = 0) and
+    // the pole (s = 1), solar minimum (xi = 0) and maximum (xi = 1):
+    // heights in km, Q in 1e6 m-3 s-1 (ion pairs cm-3 s-1).
+    let cases: [(f64, f64, [f64; 6], [f64; 6]); 4] = [
+        (
+            0.0,
+            0.0,
+            [0.0, 5.0, 10.0, 16.0, 23.0, 37.0],
+            [1.4, 15.0, 64.0, 93.0, 74.0, 45.0],
+        ),
+        (
+            0.0,
+            1.0,
+            [0.0, 5.0, 10.0, 16.0, 23.0, 37.0],
+            [1.3, 14.5, 62.0, 88.0, 71.0, 43.0],
+        ),
+        (
+            90.0,
+            1.0,
+            [0.0, 5.0, 15.0, 23.0, 28.0, 37.0],
+            [2.0, 22.0, 215.0, 265.0, 256.0, 250.0],
+        ),
+        // At the pole at solar minimum the last three knots coincide at 37 km.
+        (
+            90.0,
+            0.0,
+            [0.0, 5.0, 15.0, 37.0, 37.0, 37.0],
+            [2.2, 25.0, 300.0, 495.0, 495.0, 495.0],
+        ),
+    ];
+    for (lat, xi, z, q) in cases {
+        let p = CosmicRayProfile::new(lat, xi);
+        for i in 0..6 {
+            let got = p.normalised(z[i]) / 1e6;
+            assert!(
+                rel(got, q[i]) < 1e-12,
+                "lat {lat}, xi {xi}, knot {i}: {got} against {}",
+                q[i]
+            );
+        }
+        // Between the ground and Z_1 the profile is exponential: at half
+        // of Z_1 the geometric mean of Q_0 and Q_1.
+        let mid = p.normalised(0.5 * z[1]) / 1e6;
+        assert!(rel(mid, (q[0] * q[1]).sqrt()) < 1e-12, "{mid}");
+        // In air of the reference state the rate is the normalised value.
+        let (tq, pq) = stormcharge::physics::ions::ionisation::REFERENCE_AIR;
+        assert!(rel(p.rate(10_000.0, pq, tq), p.normalised(10.0)) < 1e-15);
+    }
+}
