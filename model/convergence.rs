@@ -44,7 +44,7 @@ const WARMING_LAYER: (f64, f64) = (5000.0, 10000.0);
 
 /// One run of a series.
 #[derive(Debug, Clone)]
-struct LevelRun {
+pub(crate) struct LevelRun {
     dt: f64,
     dz: f64,
     outcomes: Vec<(String, &'static str, f64)>,
@@ -123,13 +123,9 @@ struct Collector {
 }
 
 impl Collector {
-    /// Books the flashes the ledger holds beyond those already booked (the
-    /// run loop hands each on once, but the last record's pending flashes
-    /// are still there at `finish`).
+    /// Books the flashes the ledger holds beyond those already booked.
     fn book_flashes(&mut self, state: &State) {
-        let pending = &state.ledger.flashes;
-        let have = self.flashes - state.ledger.first_pending().min(self.flashes);
-        for f in &pending[have.min(pending.len())..] {
+        for f in state.ledger.unseen(self.flashes) {
             self.flash_charge += f.charge_neutralized;
             self.flashes += 1;
             self.first_flash.get_or_insert(*f);
@@ -187,7 +183,7 @@ impl Observer for Collector {
 fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)> {
     let s = c.summary.as_ref().expect("the run finished");
     let mut out: Vec<(String, &'static str, f64)> = vec![
-        ("peak |E_z|".into(), "kV m-1", s.peak_field.0 / 1e3),
+        (PEAK_FIELD.into(), "kV m-1", s.peak_field.0 / 1e3),
         ("intracloud flashes".into(), "1", s.flash_counts[0] as f64),
         (
             "negative ground flashes".into(),
@@ -231,15 +227,20 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     // The flashes' own outcomes: well posed in a flashing storm, where the
     // regions at the largest separation (below) are an argmax over the
     // flash sawtooth (docs/numerics.md).
-    let area = exp.field_solver.column_area();
+    // Charges in C over the column's cross-section, per m2 in the planar
+    // geometry.
+    let (charge_unit, scale) = match exp.field_solver.column_area() {
+        Some(a) => ("C", a),
+        None => ("C m-2", 1.0),
+    };
     let first = |f: fn(&crate::physics::discharge::record::FlashRecord) -> f64| {
         c.first_flash.as_ref().map_or(f64::NAN, f)
     };
     out.push((
         "mean charge per flash".into(),
-        if area.is_some() { "C" } else { "C m-2" },
+        charge_unit,
         if c.flashes > 0 {
-            c.flash_charge / c.flashes as f64 * area.unwrap_or(1.0)
+            c.flash_charge / c.flashes as f64 * scale
         } else {
             f64::NAN
         },
@@ -262,10 +263,6 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     // Charge regions at the record of largest charge separation: the main
     // negative region, the largest positive region above it and the largest
     // below it (the three regions of a normal tripole).
-    let (charge_unit, scale) = match area {
-        Some(a) => ("C", a),
-        None => ("C m-2", 1.0),
-    };
     let [neg, upper, lower] = crate::analysis::tripole_regions(&c.best_regions);
     for (label, region) in [
         ("main negative", neg),
@@ -311,8 +308,22 @@ pub fn level_overrides(
     o
 }
 
+/// Names of the two outcomes the sweep's per-member error estimate reads.
+pub(crate) const PEAK_FIELD: &str = "peak |E_z|";
+pub(crate) const MAIN_NEGATIVE_CHARGE: &str = "main negative region charge";
+
+impl LevelRun {
+    /// The value of the outcome called `name` (NaN if there is none).
+    pub(crate) fn outcome(&self, name: &str) -> f64 {
+        self.outcomes
+            .iter()
+            .find(|(n, _, _)| n == name)
+            .map_or(f64::NAN, |o| o.2)
+    }
+}
+
 /// Runs the experiment of `text` with `overrides` and collects outcomes.
-fn run_level(
+pub(crate) fn run_level(
     text: &str,
     origin: &str,
     base_dir: &Path,

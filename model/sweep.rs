@@ -355,9 +355,13 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
             // from the three levels the observed order, the Richardson
             // extrapolate and the relative error of the member's own
             // settings, for the peak field and the main negative charge.
-            let values = |s: &RunSummary, w: &Watch| [s.peak_field.0, w.regions[0][0]];
-            let here = values(&s, &watch);
-            use crate::convergence::{level_overrides, Refinement};
+            // The member's own values in the command's units (kV/m; C over
+            // the column's cross-section, per m2 in the planar geometry).
+            use crate::convergence::{
+                level_overrides, run_level, Refinement, MAIN_NEGATIVE_CHARGE, PEAK_FIELD,
+            };
+            let scale = exp.field_solver.column_area().unwrap_or(1.0);
+            let here = [s.peak_field.0 / 1e3, watch.regions[0][0] * scale];
             let (dt, dz) = (exp.schedule.dt, exp.grid.dz);
             for (i, refinement) in [Refinement::Time, Refinement::Space]
                 .into_iter()
@@ -366,11 +370,8 @@ pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path)
                 let mut levels = vec![here];
                 for level in 1..3 {
                     let o = level_overrides(&overrides, dt, dz, refinement, level);
-                    let fine = Experiment::from_text(base_text, "error estimate", &o, base_dir)?;
-                    let mut w = Watch::default();
-                    let mut obs: [&mut dyn Observer; 1] = [&mut w];
-                    let sf = timeloop::run(&fine, &mut obs, &mut |_| {})?;
-                    levels.push(values(&sf, &w));
+                    let fine = run_level(base_text, "error estimate", base_dir, &o)?;
+                    levels.push([fine.outcome(PEAK_FIELD), fine.outcome(MAIN_NEGATIVE_CHARGE)]);
                 }
                 for q in 0..2 {
                     let series: Vec<f64> = levels.iter().map(|l| l[q]).collect();

@@ -125,3 +125,18 @@ fn table_interpolation_within_its_error_bound() {
     // Above 200 K (all tropospheric temperatures) the table is exact to 1e-9.
     assert!(worst < 1e-9, "worst {worst:e}");
 }
+
+#[test]
+fn saturation_vapour_density_at_the_melting_point() {
+    // The wet-growth heat balance uses the vapour density at a 0 degC
+    // surface as a constant, e_w(273.15 K)/(R_v 273.15 K) with e_w = 611.2 Pa;
+    // Murphy & Koop (2005) give 611.213 Pa there (table above): 611.2 is
+    // that to four figures, 2.1e-5 relative off; checked to 5e-5, inside
+    // the 8e-5 half-unit of four figures.
+    use stormcharge::physics::constants::{RHO_VAPOUR_SAT_T0, R_VAPOUR, T_MELT};
+    let from_equation = murphy_koop_2005_liquid(T_MELT) / (R_VAPOUR * T_MELT);
+    assert!(
+        rel(RHO_VAPOUR_SAT_T0, from_equation) < 5e-5,
+        "{RHO_VAPOUR_SAT_T0} {from_equation}"
+    );
+}

@@ -732,37 +732,35 @@ fn cmd_charging_map(
             ));
         }
     };
-    if !(1e-6..=1e-2).contains(&d) {
-        return Err(usage(
-            "--crystal-diameter",
-            format!("{d}"),
-            "out of range (m)",
-            "[1e-6, 1e-2]",
-        ));
-    }
-    if !(0.1..=30.0).contains(&v) {
-        return Err(usage(
-            "--impact-speed",
-            format!("{v}"),
-            "out of range (m s-1)",
-            "[0.1, 30]",
-        ));
-    }
-    if !(1e-4..=2e-2).contains(&graupel_d) {
-        return Err(usage(
+    // Each option within the range the map's formulas are meant for.
+    for (key, value, lo, hi, unit, allowed) in [
+        ("--crystal-diameter", d, 1e-6, 1e-2, "m", "[1e-6, 1e-2]"),
+        ("--impact-speed", v, 0.1, 30.0, "m s-1", "[0.1, 30]"),
+        (
             "--graupel-diameter",
-            format!("{graupel_d}"),
-            "out of range (m)",
+            graupel_d,
+            1e-4,
+            2e-2,
+            "m",
             "[1e-4, 2e-2]",
-        ));
-    }
-    if !(-30.0..=-5.0).contains(&reversal) {
-        return Err(usage(
+        ),
+        (
             "--reversal-temperature",
-            format!("{reversal}"),
-            "out of range (degC)",
+            reversal,
+            -30.0,
+            -5.0,
+            "degC",
             "[-30, -5]",
-        ));
+        ),
+    ] {
+        if !(lo..=hi).contains(&value) {
+            return Err(usage(
+                key,
+                format!("{value}"),
+                &format!("out of range ({unit})"),
+                allowed,
+            ));
+        }
     }
     // What the model applies: the default scale, cap and low-temperature
     // taper of the key table, as a run without a [charging] section uses.
@@ -775,18 +773,12 @@ fn cmd_charging_map(
     // The droplets' collision efficiency as the model forms it, for the
     // given graupel in air of 0.6 kg m-3 (near the -15 degC level of a
     // mid-latitude storm; a stated assumption of the map).
-    let efficiency = match params.riming_efficiency {
-        crate::physics::charging::riming_efficiency::RimingEfficiency::Unity => 1.0,
-        crate::physics::charging::riming_efficiency::RimingEfficiency::Langmuir1948 => {
-            crate::physics::charging::riming_efficiency::langmuir_1948(
-                crate::physics::microphysics::params::MicroParams::default().droplet_diameter,
-                graupel_d,
-                v,
-                0.6,
-                crate::physics::microphysics::rates::MU_AIR,
-            )
-        }
-    };
+    let efficiency = params.riming_efficiency.of(
+        crate::physics::microphysics::params::MicroParams::default().droplet_diameter,
+        graupel_d,
+        v,
+        0.6,
+    );
     // 0.0 - x, not -x: the first row prints as 0, not -0.
     let temps: Vec<f64> = (0..=16).map(|i| 0.0 - 2.5 * i as f64).collect();
     // The laboratory ranges of the formulas (docs/charging.md): outside,

@@ -34,10 +34,8 @@ impl MemoryRecorder {
 impl MemoryRecorder {
     /// Copies the flashes the state holds beyond those already kept.
     fn catch_up(&mut self, state: &State) {
-        // The pending flashes: the run loop hands each on once.
-        let new = &state.ledger.flashes;
-        let have = self.flashes.len() - state.ledger.first_pending().min(self.flashes.len());
-        self.flashes.extend_from_slice(&new[have..]);
+        self.flashes
+            .extend_from_slice(state.ledger.unseen(self.flashes.len()));
     }
 }
 

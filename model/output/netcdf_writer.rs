@@ -510,8 +510,9 @@ impl Observer for NetcdfWriter {
             (var.fill)(exp, state, &mut values[start..]);
         }
         self.pending_times.push(state.time);
+        let seen = self.first_pending_flash + self.pending_flashes.len();
         self.pending_flashes
-            .extend_from_slice(&state.ledger.flashes);
+            .extend_from_slice(state.ledger.unseen(seen));
         self.record += 1;
         if self.pending_times.len() >= self.batch || self.last_durable.elapsed() >= self.durable {
             self.flush()?;
@@ -528,10 +529,9 @@ impl Observer for NetcdfWriter {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("closing", &partial);
         // Flashes after the last record, then everything still held.
-        if state.ledger.first_pending() >= self.first_pending_flash + self.pending_flashes.len() {
-            self.pending_flashes
-                .extend_from_slice(&state.ledger.flashes);
-        }
+        let seen = self.first_pending_flash + self.pending_flashes.len();
+        self.pending_flashes
+            .extend_from_slice(state.ledger.unseen(seen));
         self.flush()?;
         let mut f = self.file.take().ok_or_else(|| RunError::Output {
             context: "NetCDF output closing".into(),

@@ -232,15 +232,9 @@ pub fn charge_cell(
     let capped = std::cell::Cell::new(0u8);
     // Droplets' collision efficiency on each collector (its mass-weighted
     // mean diameter 4/lambda and speed), for the effective water content.
-    let efficiency = |lambda: f64, v: f64| match p.riming_efficiency {
-        riming_efficiency::RimingEfficiency::Unity => 1.0,
-        riming_efficiency::RimingEfficiency::Langmuir1948 => riming_efficiency::langmuir_1948(
-            f.droplet_diameter,
-            4.0 / lambda,
-            v,
-            rho,
-            crate::physics::microphysics::rates::MU_AIR,
-        ),
+    let efficiency = |lambda: f64, v: f64| {
+        p.riming_efficiency
+            .of(f.droplet_diameter, 4.0 / lambda, v, rho)
     };
     let rate = |collisions: f64, d: f64, dv: f64, v: f64, e: f64| {
         let (q, cap) = p.per_collision_capped(&Collision {
@@ -261,15 +255,17 @@ pub fn charge_cell(
         // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
         let (e_snow, e_graupel) = crate::physics::microphysics::rates::collection_efficiencies(t);
         let (sep_g, sep_s) = (1.0 - e_graupel, 1.0 - e_snow);
+        // Graupel's efficiency serves both of its collision kinds.
+        let riming_graupel = if qg > 0.0 { efficiency(lg, vg) } else { 0.0 };
         if qg > 0.0 && qi > 0.0 {
             let dv = (vg - vi).abs();
             let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
-            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg, efficiency(lg, vg));
+            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg, riming_graupel);
         }
         if p.graupel_snow && qg > 0.0 && qs > 0.0 {
             let dv = (vg - vs).abs();
             let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
-            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg, efficiency(lg, vg));
+            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg, riming_graupel);
         }
         if qs > 0.0 && qi > 0.0 {
             let dv = (vs - vi).abs();

@@ -48,6 +48,25 @@ named_choice! {
     }
 }
 
+impl RimingEfficiency {
+    /// The efficiency (1) this choice gives droplets of diameter `droplet`
+    /// (m) on a collector of diameter `collector` (m) moving at `speed`
+    /// (m s-1) through air of density `rho_air` (kg m-3), with the
+    /// microphysics' air viscosity.
+    pub fn of(self, droplet: f64, collector: f64, speed: f64, rho_air: f64) -> f64 {
+        match self {
+            RimingEfficiency::Unity => 1.0,
+            RimingEfficiency::Langmuir1948 => langmuir_1948(
+                droplet,
+                collector,
+                speed,
+                rho_air,
+                crate::physics::microphysics::rates::MU_AIR,
+            ),
+        }
+    }
+}
+
 /// Efficiency (1) with which a sphere of diameter `collector` (m) falling at
 /// `speed` (m s-1) relative to the droplets collects droplets of diameter
 /// `droplet` (m), in air of density `rho_air` (kg m-3) and dynamic

@@ -101,4 +101,15 @@ impl FlashLedger {
     pub fn first_pending(&self) -> usize {
         self.total - self.flashes.len()
     }
+
+    /// The pending flashes an observer that has already taken the first
+    /// `seen` flashes of the run has not taken yet (the run loop hands each
+    /// flash on once, but the flashes pending at the last record are still
+    /// held at the end of the run).
+    pub fn unseen(&self, seen: usize) -> &[FlashRecord] {
+        let skip = seen
+            .saturating_sub(self.first_pending())
+            .min(self.flashes.len());
+        &self.flashes[skip..]
+    }
 }

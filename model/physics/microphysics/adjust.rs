@@ -65,13 +65,13 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
 /// Homogeneous freezing of all cloud water below -40 degC and melting of all
 /// cloud ice above 0 degC (instantaneous, common practice in bulk schemes;
 /// LFO83 treat cloud-ice melting the same way). Frozen droplets become
-/// crystals of `droplet_mass`; melted ice becomes cloud water.
+/// crystals of [`MicroParams::droplet_mass`]; melted ice becomes cloud water.
 pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
     if s.t < T_HOMOGENEOUS && s.q[CLOUD] > 0.0 {
         let qc = s.q[CLOUD];
         s.q[CLOUD] = 0.0;
         s.q[ICE] += qc;
-        s.n_ice += qc / p.droplet_mass;
+        s.n_ice += qc / p.droplet_mass();
         s.t += L_FUSION * qc / CP_DRY;
     } else if s.t > T_MELT && s.q[ICE] > 0.0 {
         // Melt only as much as the heat above 0 degC allows.

@@ -67,11 +67,10 @@ pub struct MicroParams {
     pub splinters_per_kg_rime: f64,
     /// Mass of a splinter (kg), 1e-12 (as nucleated crystals).
     pub splinter_mass: f64,
-    /// Mass of a cloud droplet frozen homogeneously (kg): a 10 um radius drop
-    /// (common practice), giving the crystal number formed.
-    pub droplet_mass: f64,
-    /// Diameter of that droplet (m), 20 um: the droplets' size in their
-    /// collision efficiency on rimers.
+    /// Diameter of a cloud droplet (m), 20 um (a 10 um radius drop, common
+    /// practice): its mass gives the crystal number homogeneous freezing
+    /// forms ([`Self::droplet_mass`]), its size the droplets' collision
+    /// efficiency on rimers.
     pub droplet_diameter: f64,
     /// Integrator of the process rates.
     pub integrator: Integrator,
@@ -81,6 +80,12 @@ pub struct MicroParams {
 }
 
 impl MicroParams {
+    /// Mass of a cloud droplet (kg): (4/3) pi r^3 rho_w with r = d/2.
+    pub fn droplet_mass(&self) -> f64 {
+        let r = 0.5 * self.droplet_diameter;
+        4.0 / 3.0 * std::f64::consts::PI * (r * r * r) * crate::physics::constants::RHO_WATER
+    }
+
     /// The exponential size distribution of a precipitating species (rain,
     /// snow, graupel); `None` for the others.
     pub fn exponential(
@@ -117,10 +122,6 @@ impl Default for MicroParams {
             rain_ice_collection: true,
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
-            droplet_mass: 4.0 / 3.0
-                * std::f64::consts::PI
-                * 1.0e-15
-                * crate::physics::constants::RHO_WATER,
             droplet_diameter: 2.0e-5,
             integrator: Integrator::BogackiShampine1989,
             rtol: 1.0e-4,

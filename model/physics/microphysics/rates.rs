@@ -291,12 +291,12 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         r.ice_to_snow = 1e-3 * e_snow * (qi - p.ice_to_snow_threshold).max(0.0);
         r.ice_to_snow_collection = snow_sweep * e_snow * qi;
         r.ice_to_graupel = graupel_sweep * e_graupel * qi;
+        // Graupel's mass-weighted speed, for both of its collections below.
+        let vg = lg.map_or(0.0, |l| graupel.mass_weighted_speed_at(&l, cg));
         if let (Some(ls), Some(lg)) = (ls, lg) {
             // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
             //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
-            let dv = (graupel.mass_weighted_speed_at(&lg, cg)
-                - snow.mass_weighted_speed_at(&ls, cs))
-            .abs();
+            let dv = (vg - snow.mass_weighted_speed_at(&ls, cs)).abs();
             r.snow_to_graupel_collection = std::f64::consts::PI.powi(2)
                 * e_graupel
                 * graupel.n0
@@ -309,9 +309,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
             // Supercooled rain collected by graupel (LFO83 PGACR), then the
             // heat balance of wet growth on everything liquid graupel collects.
             if let (true, Some(lr)) = (p.rain_ice_collection, lr) {
-                let dv = (graupel.mass_weighted_speed_at(&lg, cg)
-                    - rain.mass_weighted_speed_at(&lr, cr))
-                .abs();
+                let dv = (vg - rain.mass_weighted_speed_at(&lr, cr)).abs();
                 r.rain_to_graupel_collection = std::f64::consts::PI.powi(2)
                     * graupel.n0
                     * rain.n0
