@@ -273,3 +273,117 @@ fn wet_growth_sheds_what_cannot_freeze_and_fades_at_zero_celsius() {
     let (f2, f10) = (frozen_share(271.15), frozen_share(263.15));
     assert!(0.0 < f2 && f2 < f10 && f10 <= 1.0, "{f2} {f10}");
 }
+
+/// A cold cell (50 kPa, air 0.65 kg m-3) saturated over water with rain and
+/// cloud ice only, drops freezing on contact with the crystals switched on.
+fn rain_ice_cell(t: f64, qr: f64, qi: f64, n_ice: f64) -> (CellState, CellEnv, MicroParams) {
+    let p = MicroParams {
+        rain_ice_contact_freezing: true,
+        ..MicroParams::default()
+    };
+    let ew = murphy_koop_2005_liquid(t);
+    let s = CellState {
+        q: [EPSILON * ew / (50_000.0 - ew), 0.0, qr, qi, 0.0, 0.0],
+        n_ice,
+        t,
+    };
+    (s, CellEnv::new(50_000.0, 0.65, &p), p)
+}
+
+#[test]
+fn drops_freezing_on_crystals_is_the_collision_integral() {
+    // LFO83's P_iacr: every drop that hits a crystal freezes, so the frozen
+    // mass per second is n_i times the mass of the drops that hit one
+    // crystal, n_i (1/rho)... per kg of air: n_i int (pi/4) D^2 V(D)
+    // (pi/6) rho_w D^3 N(D) dD; P_raci: the crystals' mass collected,
+    // q_i int (pi/4) D^2 V N dD. Checked by quadrature with the Atlas et al.
+    // (1973) fall law (1e-6), in a cell with few crystals, where the
+    // collisions and not the heat balance set the rate.
+    let (t, qr, qi, n) = (263.15, 2e-3, 1e-9, 1e3);
+    let (s, env, p) = rain_ice_cell(t, qr, qi, n);
+    let r = rates(&s, env, &p);
+    let rho = 0.65;
+    let l = p.rain.slope(rho, qr);
+    let c = p.rain.correction(rho);
+    let pi = std::f64::consts::PI;
+    let hits = |m: i32| {
+        quad(
+            |d| 0.25 * pi * d * d * p.rain.fall.speed(d) * p.rain.n0 * (-l * d).exp() * d.powi(m),
+            40.0 / l,
+            200_000,
+        ) * c
+    };
+    let frozen = n * pi / 6.0 * 1000.0 * hits(3);
+    let collected = qi * hits(0);
+    assert!(r.rain_to_graupel_ice_contact > 0.0);
+    assert!(
+        rel(r.rain_to_graupel_ice_contact, frozen) < 1e-6,
+        "{} vs {frozen}",
+        r.rain_to_graupel_ice_contact
+    );
+    assert!(rel(r.ice_to_graupel_by_rain, collected) < 1e-6);
+    // The same closed form for a power fall law is LFO83's
+    // pi^2 a rho_p N0 Gamma(6 + b)/(24 lambda^(6 + b)) (their Eq. 26 form).
+    let g = dsd::graupel(4e6, 400.0);
+    let lg = g.slope(rho, 3e-3);
+    let sp = g.slope_powers(rho, 3e-3).unwrap();
+    let (a, b) = g.power_law();
+    let closed = pi * pi / 24.0 * a * 400.0 * 4e6 * gamma(6.0 + b) / lg.powf(6.0 + b);
+    assert!(rel(g.mass_sweep_at(&sp, 1.0), closed) < 1e-12);
+    // Off by default: the key's default leaves the scheme as before.
+    let off = rates(&s, env, &MicroParams::default());
+    assert_eq!(off.rain_to_graupel_ice_contact, 0.0);
+    assert_eq!(off.ice_to_graupel_by_rain, 0.0);
+}
+
+#[test]
+fn drops_freeze_no_faster_than_they_lose_heat_and_not_at_zero_celsius() {
+    // With many crystals every large drop is hit within seconds, and the
+    // freezing is bounded by the heat the drops can give off with their
+    // surface at 0 degC (Musil 1970): the bound vanishes at 0 degC in air
+    // saturated there (no sliding step where melting takes over) and grows
+    // with the supercooling. Water is conserved and the latent heat of
+    // exactly the frozen mass is released (tendencies).
+    let freezing = |t: f64| {
+        let (s, env, p) = rain_ice_cell(t, 3e-3, 1e-6, 1e5);
+        let r = rates(&s, env, &p);
+        let (dq, _, dtdt) = stormcharge::physics::microphysics::rates::tendencies(&s, &r);
+        assert!(dq.iter().sum::<f64>().abs() <= 1e-15 * dq.iter().map(|x| x.abs()).sum::<f64>());
+        // The heating beyond the scheme without the process is the latent
+        // heat of fusion of the frozen drops (collected crystals are ice
+        // already and release none).
+        let mut without = r;
+        without.rain_to_graupel_ice_contact = 0.0;
+        let (_, _, dtdt_without) =
+            stormcharge::physics::microphysics::rates::tendencies(&s, &without);
+        let latent = stormcharge::physics::constants::L_FUSION * r.rain_to_graupel_ice_contact
+            / stormcharge::physics::constants::CP_DRY;
+        assert!(
+            (dtdt - dtdt_without - latent).abs() <= 1e-12 * latent.max(1e-30),
+            "{dtdt} - {dtdt_without} vs {latent}"
+        );
+        if t < 273.0 {
+            // Many crystals: the heat balance, not the collisions, sets it.
+            let rho = 0.65;
+            let mu = stormcharge::physics::microphysics::rates::MU_AIR;
+            let cap = stormcharge::physics::microphysics::rates::wet_growth_capacity(
+                t,
+                s.q[0],
+                rho,
+                p.rain.ventilation(rho, s.q[2], mu / rho),
+                r.ice_to_graupel_by_rain,
+            );
+            assert!(rel(r.rain_to_graupel_ice_contact, cap) < 1e-10, "{t}");
+        }
+        r.rain_to_graupel_ice_contact
+    };
+    let near_zero = freezing(273.15 - 1e-9);
+    let (f1, f5) = (freezing(272.15), freezing(268.15));
+    assert!(
+        near_zero < 1e-6 * f1,
+        "at 0 degC: {near_zero} against {f1} at -1 degC"
+    );
+    assert!(0.0 < f1 && f1 < f5, "{f1} {f5}");
+    // Above 0 degC nothing freezes.
+    assert_eq!(freezing(274.15), 0.0);
+}

@@ -62,8 +62,18 @@ fn saturation_adjustment_reaches_saturation_and_conserves() {
 fn water_budget_of_a_moist_run_closes() {
     // Change in column water = inflow - outflow + lateral exchange - surface
     // precipitation + mass created by clipping, to round-off (1e-12 of the
-    // column water), over the demo storm.
-    let exp = demo(&[]);
+    // column water), over the demo storm, also with drops freezing on
+    // contact with crystals (a rain -> graupel transfer and its heat).
+    for set in [
+        &[][..],
+        &["microphysics.rain_ice_contact_freezing=true"][..],
+    ] {
+        water_budget_closes(set);
+    }
+}
+
+fn water_budget_closes(set: &[&str]) {
+    let exp = demo(set);
     let mut s = State::initial(&exp);
     let w0 = column_water(&exp, &s);
     for _ in 0..exp.schedule.steps {

@@ -145,6 +145,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         nuclei_scale: c.ice_nuclei_scale,
         rime_splintering: c.rime_splintering,
         rain_ice_collection: c.rain_ice_collection,
+        rain_ice_contact_freezing: c.rain_ice_contact_freezing,
         integrator: c.integrator,
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,

@@ -62,14 +62,17 @@ pub fn tail_moment(m: u32, k: f64, d0: f64) -> f64 {
     (-k * d0).exp() * tail_polynomial(m, k, d0)
 }
 
-/// `tail_moment` without its factor exp(-k d0) (m^(m+1)).
+/// `tail_moment` without its factor exp(-k d0) (m^(m+1)). Orders 0-3 in
+/// closed form; higher orders by the recursion of integration by parts,
+/// P_m = (d0^m + m P_(m-1))/k.
 fn tail_polynomial(m: u32, k: f64, d0: f64) -> f64 {
     let r = 1.0 / k;
     match m {
         0 => r,
         1 => r * (d0 + r),
         2 => r * (d0 * d0 + 2.0 * r * (d0 + r)),
-        _ => r * (d0 * d0 * d0 + 3.0 * r * (d0 * d0 + 2.0 * r * (d0 + r))),
+        3 => r * (d0 * d0 * d0 + 3.0 * r * (d0 * d0 + 2.0 * r * (d0 + r))),
+        _ => r * (d0.powi(m as i32) + f64::from(m) * tail_polynomial(m - 1, k, d0)),
     }
 }
 
@@ -301,6 +304,25 @@ impl Exponential {
             FallLaw::Exponential { .. } => self.rain_moment(2, s),
         };
         0.25 * std::f64::consts::PI * self.n0 * integral * correction
+    }
+
+    /// Mass of the particles that hit one small, slow target per second
+    /// (kg s-1): (pi/4) integral D^2 V(D) (pi/6) rho_p D^3 N(D) dD with
+    /// efficiency 1 and the density correction. Times the number of targets
+    /// per kg of air it is LFO83's P_iacr (their Eq. 26 for a power fall law:
+    /// pi^2 E n_i a rho_w Gamma(6+b)/(24 rho lambda^(6+b)); equation number
+    /// from memory), the rain frozen by collisions with cloud ice.
+    pub fn mass_sweep_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+        let l = s.lambda;
+        let integral = match self.fall {
+            FallLaw::Power { a, b } => a * gamma(6.0 + b) / (l.powi(6) * s.lambda_b),
+            FallLaw::Exponential { .. } => self.rain_moment(5, s),
+        };
+        std::f64::consts::PI * std::f64::consts::PI / 24.0
+            * self.n0
+            * self.rho_p
+            * integral
+            * correction
     }
 
     /// Ventilated diffusion integral of LFO83 Eq. 52 (m-2): 0.78/lambda^2 +

@@ -62,6 +62,9 @@ pub struct MicroParams {
     /// Supercooled rain collected by graupel freezes on it (LFO83's PGACR
     /// term, within the wet-growth limit) on or off.
     pub rain_ice_collection: bool,
+    /// Supercooled drops that collect cloud ice freeze (LFO83's P_iacr and
+    /// P_raci, within the drops' heat balance) on or off.
+    pub rain_ice_contact_freezing: bool,
     /// Splinters per kg of rime at the optimum temperature: 350 per mg = 3.5e8
     /// (Hallett & Mossop 1974, from memory).
     pub splinters_per_kg_rime: f64,
@@ -120,6 +123,7 @@ impl Default for MicroParams {
             nucleated_mass: 1.0e-12,
             rime_splintering: true,
             rain_ice_collection: true,
+            rain_ice_contact_freezing: false,
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
             droplet_diameter: 2.0e-5,

@@ -131,6 +131,19 @@ pub struct Rates {
     /// 2/(lr^5 lg^2) + 0.5/(lr^4 lg^3)], E = 1 (LFO83), limited with the
     /// riming by the heat balance of wet growth ([`wet_growth_capacity`]).
     pub rain_to_graupel_collection: f64,
+    /// rain -> graupel: drops frozen by collisions with cloud ice (LFO83's
+    /// P_iacr, their Eq. 26: every drop that collects a crystal freezes, the
+    /// rate n_i (pi/4) integral D^2 V (pi/6) rho_w D^3 N dD), no faster than
+    /// the drops can lose the latent heat: the heat balance of Musil (1970)
+    /// applied to the rain population with its surface at 0 degC
+    /// ([`wet_growth_capacity`] with rain's ventilation). That bound fades
+    /// to zero at 0 degC in saturated air, so the rate is continuous where
+    /// melting takes over.
+    pub rain_to_graupel_ice_contact: f64,
+    /// ice -> graupel: crystals collected by rain (LFO83's P_raci, their
+    /// Eq. 25: E q_i (pi/4) integral D^2 V N dD, E = 1), which end in the
+    /// frozen drops.
+    pub ice_to_graupel_by_rain: f64,
     /// snow -> rain: melting, LFO83 Eq. 32 (conduction term).
     pub snow_to_rain: f64,
     /// graupel -> rain: melting, LFO83 Eq. 47 (conduction term).
@@ -352,6 +365,21 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         if by_snow > 0.0 {
             r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
         }
+        if let (true, Some(l), true) = (p.rain_ice_contact_freezing, lr, s.n_ice > 0.0 && qi > 0.0)
+        {
+            // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
+            // within the heat the drops can give off (Musil 1970).
+            r.ice_to_graupel_by_rain = rain.sweep_at(&l, cr) * qi;
+            let contact = s.n_ice * rain.mass_sweep_at(&l, cr);
+            let capacity = wet_growth_capacity(
+                t,
+                qv,
+                rho,
+                rain.ventilation_at(&l, air),
+                r.ice_to_graupel_by_rain,
+            );
+            r.rain_to_graupel_ice_contact = contact.min(capacity);
+        }
         if let Some(lr) = lr {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
             r.rain_to_graupel = 20.0
@@ -382,7 +410,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 }
 
 /// Number of mass transfers in [`TRANSFER_PAIRS`].
-pub const N_TRANSFERS: usize = 19;
+pub const N_TRANSFERS: usize = 21;
 
 /// Source and destination of every transfer, in [`Rates::transfer_rates`] order;
 /// deposition is listed as vapour -> species.
@@ -406,6 +434,8 @@ pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
         (Snow, Graupel),
         (Rain, Graupel),
         (Rain, Graupel),
+        (Rain, Graupel),
+        (Ice, Graupel),
         (Snow, Rain),
         (Graupel, Rain),
     ]
@@ -433,6 +463,8 @@ impl Rates {
             self.snow_to_graupel_collection,
             self.rain_to_graupel,
             self.rain_to_graupel_collection,
+            self.rain_to_graupel_ice_contact,
+            self.ice_to_graupel_by_rain,
             self.snow_to_rain,
             self.graupel_to_rain,
         ]
@@ -454,12 +486,14 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         - r.rain_to_vapour
         - r.rain_to_graupel
         - r.rain_to_graupel_collection
+        - r.rain_to_graupel_ice_contact
         + r.snow_to_rain
         + r.graupel_to_rain;
     let di = r.vapour_to_ice + r.cloud_to_ice_splinters
         - r.ice_to_snow
         - r.ice_to_snow_collection
-        - r.ice_to_graupel;
+        - r.ice_to_graupel
+        - r.ice_to_graupel_by_rain;
     let ds = r.vapour_to_snow + r.ice_to_snow + r.ice_to_snow_collection + r.cloud_to_snow
         - r.snow_to_graupel
         - r.snow_to_graupel_collection
@@ -471,6 +505,8 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         + r.snow_to_graupel_collection
         + r.rain_to_graupel
         + r.rain_to_graupel_collection
+        + r.rain_to_graupel_ice_contact
+        + r.ice_to_graupel_by_rain
         - r.graupel_to_rain;
     // Crystals are lost in proportion to the mass lost by conversion,
     // collection and sublimation; splinters add crystals.
@@ -480,6 +516,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         let lost = r.ice_to_snow
             + r.ice_to_snow_collection
             + r.ice_to_graupel
+            + r.ice_to_graupel_by_rain
             + (-r.vapour_to_ice).max(0.0);
         dn -= s.n_ice / qi * lost;
     }
@@ -487,7 +524,8 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         + r.cloud_to_graupel
         + r.cloud_to_ice_splinters
         + r.rain_to_graupel
-        + r.rain_to_graupel_collection;
+        + r.rain_to_graupel_collection
+        + r.rain_to_graupel_ice_contact;
     let melting = r.snow_to_rain + r.graupel_to_rain;
     let heat =
         L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour + L_FUSION * (freezing - melting);
@@ -552,22 +590,28 @@ impl Rates {
         }
         // Rain.
         let f = scale(
-            self.rain_to_vapour + self.rain_to_graupel + self.rain_to_graupel_collection,
+            self.rain_to_vapour
+                + self.rain_to_graupel
+                + self.rain_to_graupel_collection
+                + self.rain_to_graupel_ice_contact,
             q[RAIN],
         );
         self.rain_to_vapour *= f;
         self.rain_to_graupel *= f;
         self.rain_to_graupel_collection *= f;
+        self.rain_to_graupel_ice_contact *= f;
         // Ice (sublimation is the negative part of vapour_to_ice).
         let sinks = self.ice_to_snow
             + self.ice_to_snow_collection
             + self.ice_to_graupel
+            + self.ice_to_graupel_by_rain
             + (-self.vapour_to_ice).max(0.0);
         let f = scale(sinks, q[ICE]);
         if f < 1.0 {
             self.ice_to_snow *= f;
             self.ice_to_snow_collection *= f;
             self.ice_to_graupel *= f;
+            self.ice_to_graupel_by_rain *= f;
             if self.vapour_to_ice < 0.0 {
                 self.vapour_to_ice *= f;
             }

@@ -170,6 +170,7 @@ pub struct MicrophysicsConfig {
     pub ice_nuclei_scale: f64,
     pub rime_splintering: bool,
     pub rain_ice_collection: bool,
+    pub rain_ice_contact_freezing: bool,
     pub autoconversion_rate: f64,
     pub autoconversion_threshold: f64,
     pub rain_intercept: f64,

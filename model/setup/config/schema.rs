@@ -413,6 +413,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Supercooled rain collected by graupel freezes on it (Lin, Farley & Orville 1983, PGACR), within the heat balance of wet growth.",
     },
     KeySpec {
+        path: "microphysics.rain_ice_contact_freezing",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("false"),
+        doc: "Supercooled drops that collect cloud-ice crystals freeze into graupel (Lin, Farley & Orville 1983, P_iacr and P_raci), no faster than the drops can give off the latent heat (Musil 1970 heat balance). Off by default: docs/microphysics.md gives its effect and why.",
+    },
+    KeySpec {
         path: "microphysics.autoconversion_rate",
         kind: float(0.0, false, 1.0, false),
         unit: "s-1",
