@@ -387,3 +387,75 @@ fn drops_freeze_no_faster_than_they_lose_heat_and_not_at_zero_celsius() {
     // Above 0 degC nothing freezes.
     assert_eq!(freezing(274.15), 0.0);
 }
+
+#[test]
+fn droplets_freeze_by_bigg_law_near_minus_37_celsius_under_steady_cooling() {
+    // Bigg (1953): a droplet of volume v freezes with probability
+    // B' [exp(A' dT) - 1] v per second at supercooling dT (B' = 100 m-3 s-1,
+    // A' = 0.66 K-1, the constants of LFO83 Eq. 45, from memory). Cooled at a
+    // steady c K/s the unfrozen fraction is exp(-(B' v/(A' c)) [exp(A' dT) -
+    // 1 - A' dT]), so half of the droplets have frozen at the dT where that
+    // bracket equals A' c ln 2/(B' v) (integration of the law in closed
+    // form). For 20 um droplets lifted at 7 m/s through 6.5 K/km, the
+    // closed form gives about -37 degC, close to the -37.5 degC to which
+    // supercooled cloud water is observed in vigorous updrafts (Rosenfeld &
+    // Woodley 2000, Nature 405; from memory). The model's rate, integrated
+    // along the same cooling, must reach half at the closed form's
+    // temperature (0.05 K).
+    let p = MicroParams {
+        droplet_freezing: true,
+        ..MicroParams::default()
+    };
+    let (a, b) = (p.bigg_a, p.bigg_b);
+    let v = p.droplet_volume();
+    let cooling = 7.0 * 6.5e-3; // K s-1
+    let target = a * cooling * std::f64::consts::LN_2 / (b * v);
+    // Solve exp(a x) - 1 - a x = target for x by bisection.
+    let (mut lo, mut hi) = (0.0_f64, 60.0_f64);
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if (a * mid).exp() - 1.0 - a * mid < target {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    let closed = 0.5 * (lo + hi);
+    assert!((closed - 37.0).abs() < 1.0, "closed-form median {closed} K");
+    // The model's rate along the cooling (only cloud water: no other
+    // process acts), integrated with small steps of the exact exponential.
+    let env = CellEnv::new(30_000.0, 0.45, &p);
+    let (mut qc, q0, mut t, dt) = (1e-3, 1e-3, 273.15 - 30.0, 0.01);
+    while qc > 0.5 * q0 {
+        let s = CellState {
+            q: [0.0, qc, 0.0, 0.0, 0.0, 0.0],
+            n_ice: 0.0,
+            t,
+        };
+        let r = rates(&s, env, &p);
+        assert!(
+            rel(
+                r.frozen_droplet_number,
+                r.cloud_to_ice_freezing / p.droplet_mass()
+            ) < 1e-12
+        );
+        qc *= (-dt * r.cloud_to_ice_freezing / qc).exp();
+        t -= cooling * dt;
+        assert!(t > 273.15 - 45.0, "not half frozen by -45 degC");
+    }
+    let model = 273.15 - t;
+    assert!(
+        (model - closed).abs() < 0.05,
+        "model {model} K, closed form {closed} K"
+    );
+    // Off by default.
+    let s = CellState {
+        q: [0.0, 1e-3, 0.0, 0.0, 0.0, 0.0],
+        n_ice: 0.0,
+        t: 273.15 - 36.0,
+    };
+    assert_eq!(
+        rates(&s, env, &MicroParams::default()).cloud_to_ice_freezing,
+        0.0
+    );
+}

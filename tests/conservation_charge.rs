@@ -45,13 +45,16 @@ fn charge_budgets_close_over_whole_runs() {
     // Column charge = initial + sources + advected - precipitated - lowered
     // to ground by flashes and lost through the column's sides, to
     // round-off: the demo storm (charging, charge following mass, transport,
-    // lateral entrainment), the same with drops freezing on contact with
-    // crystals (two more transfers the charge follows) and the prescribed
-    // tripole (ground flashes).
+    // lateral entrainment), the same with the optional freezing of drops on
+    // contact with crystals and of cloud droplets (three more transfers the
+    // charge follows) and the prescribed tripole (ground flashes).
     for (exp, flashes) in [
         (demo(&[]), false),
         (
-            demo(&["microphysics.rain_ice_contact_freezing=true"]),
+            demo(&[
+                "microphysics.rain_ice_contact_freezing=true",
+                "microphysics.droplet_freezing=true",
+            ]),
             false,
         ),
         (config_file("tripole_flashes.toml", &[]), true),

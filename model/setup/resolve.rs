@@ -146,6 +146,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         rime_splintering: c.rime_splintering,
         rain_ice_collection: c.rain_ice_collection,
         rain_ice_contact_freezing: c.rain_ice_contact_freezing,
+        droplet_freezing: c.droplet_freezing,
         integrator: c.integrator,
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,

@@ -65,6 +65,8 @@ pub struct MicroParams {
     /// Supercooled drops that collect cloud ice freeze (LFO83's P_iacr and
     /// P_raci, within the drops' heat balance) on or off.
     pub rain_ice_contact_freezing: bool,
+    /// Immersion freezing of cloud droplets after Bigg (1953) on or off.
+    pub droplet_freezing: bool,
     /// Splinters per kg of rime at the optimum temperature: 350 per mg = 3.5e8
     /// (Hallett & Mossop 1974, from memory).
     pub splinters_per_kg_rime: f64,
@@ -87,6 +89,12 @@ impl MicroParams {
     pub fn droplet_mass(&self) -> f64 {
         let r = 0.5 * self.droplet_diameter;
         4.0 / 3.0 * std::f64::consts::PI * (r * r * r) * crate::physics::constants::RHO_WATER
+    }
+
+    /// Volume of a cloud droplet (m3): (pi/6) d^3.
+    pub fn droplet_volume(&self) -> f64 {
+        let d = self.droplet_diameter;
+        std::f64::consts::PI / 6.0 * (d * d * d)
     }
 
     /// The exponential size distribution of a precipitating species (rain,
@@ -124,6 +132,7 @@ impl Default for MicroParams {
             rime_splintering: true,
             rain_ice_collection: true,
             rain_ice_contact_freezing: false,
+            droplet_freezing: false,
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
             droplet_diameter: 2.0e-5,

@@ -144,12 +144,20 @@ pub struct Rates {
     /// Eq. 25: E q_i (pi/4) integral D^2 V N dD, E = 1), which end in the
     /// frozen drops.
     pub ice_to_graupel_by_rain: f64,
+    /// cloud -> ice: immersion freezing of the cloud droplets after Bigg
+    /// (1953), the rain law of LFO83 Eq. 45 for droplets of one size:
+    /// q_c B' [exp(A' (T0 - T)) - 1] (pi/6) d^3, each frozen droplet a new
+    /// crystal (optional, `microphysics.droplet_freezing`).
+    pub cloud_to_ice_freezing: f64,
     /// snow -> rain: melting, LFO83 Eq. 32 (conduction term).
     pub snow_to_rain: f64,
     /// graupel -> rain: melting, LFO83 Eq. 47 (conduction term).
     pub graupel_to_rain: f64,
     /// Rime-splinter number production (kg-1 s-1), Hallett & Mossop (1974).
     pub splinter_number: f64,
+    /// Crystals made by droplet freezing (kg-1 s-1): `cloud_to_ice_freezing`
+    /// over the droplet mass.
+    pub frozen_droplet_number: f64,
 }
 
 /// Vapour pressure (Pa) from mixing ratio and pressure, e = r p/(eps + r),
@@ -380,6 +388,13 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
             );
             r.rain_to_graupel_ice_contact = contact.min(capacity);
         }
+        if p.droplet_freezing && qc > 0.0 {
+            // Bigg (1953): a droplet of volume v freezes with probability
+            // B' [exp(A' (T0 - T)) - 1] v per second.
+            r.cloud_to_ice_freezing =
+                qc * p.bigg_b * (p.bigg_a * (T_MELT - t)).exp_m1() * p.droplet_volume();
+            r.frozen_droplet_number = r.cloud_to_ice_freezing / p.droplet_mass();
+        }
         if let Some(lr) = lr {
             // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
             r.rain_to_graupel = 20.0
@@ -410,7 +425,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 }
 
 /// Number of mass transfers in [`TRANSFER_PAIRS`].
-pub const N_TRANSFERS: usize = 21;
+pub const N_TRANSFERS: usize = 22;
 
 /// Source and destination of every transfer, in [`Rates::transfer_rates`] order;
 /// deposition is listed as vapour -> species.
@@ -436,6 +451,7 @@ pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
         (Rain, Graupel),
         (Rain, Graupel),
         (Ice, Graupel),
+        (Cloud, Ice),
         (Snow, Rain),
         (Graupel, Rain),
     ]
@@ -465,6 +481,7 @@ impl Rates {
             self.rain_to_graupel_collection,
             self.rain_to_graupel_ice_contact,
             self.ice_to_graupel_by_rain,
+            self.cloud_to_ice_freezing,
             self.snow_to_rain,
             self.graupel_to_rain,
         ]
@@ -481,7 +498,8 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         + r.cloud_to_snow
         + r.cloud_to_graupel
         + r.cloud_to_rain_shedding
-        + r.cloud_to_ice_splinters);
+        + r.cloud_to_ice_splinters
+        + r.cloud_to_ice_freezing);
     let dr = r.cloud_to_rain_autoconversion + r.cloud_to_rain_accretion + r.cloud_to_rain_shedding
         - r.rain_to_vapour
         - r.rain_to_graupel
@@ -489,7 +507,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         - r.rain_to_graupel_ice_contact
         + r.snow_to_rain
         + r.graupel_to_rain;
-    let di = r.vapour_to_ice + r.cloud_to_ice_splinters
+    let di = r.vapour_to_ice + r.cloud_to_ice_splinters + r.cloud_to_ice_freezing
         - r.ice_to_snow
         - r.ice_to_snow_collection
         - r.ice_to_graupel
@@ -511,7 +529,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
     // Crystals are lost in proportion to the mass lost by conversion,
     // collection and sublimation; splinters add crystals.
     let qi = s.q[ICE];
-    let mut dn = r.splinter_number;
+    let mut dn = r.splinter_number + r.frozen_droplet_number;
     if qi > 0.0 {
         let lost = r.ice_to_snow
             + r.ice_to_snow_collection
@@ -525,7 +543,8 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
         + r.cloud_to_ice_splinters
         + r.rain_to_graupel
         + r.rain_to_graupel_collection
-        + r.rain_to_graupel_ice_contact;
+        + r.rain_to_graupel_ice_contact
+        + r.cloud_to_ice_freezing;
     let melting = r.snow_to_rain + r.graupel_to_rain;
     let heat =
         L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour + L_FUSION * (freezing - melting);
@@ -577,9 +596,12 @@ impl Rates {
             + self.cloud_to_snow
             + self.cloud_to_graupel
             + self.cloud_to_rain_shedding
-            + self.cloud_to_ice_splinters;
+            + self.cloud_to_ice_splinters
+            + self.cloud_to_ice_freezing;
         let f = scale(sinks, q[CLOUD]);
         if f < 1.0 {
+            self.cloud_to_ice_freezing *= f;
+            self.frozen_droplet_number *= f;
             self.cloud_to_rain_autoconversion *= f;
             self.cloud_to_rain_accretion *= f;
             self.cloud_to_snow *= f;

@@ -171,6 +171,7 @@ pub struct MicrophysicsConfig {
     pub rime_splintering: bool,
     pub rain_ice_collection: bool,
     pub rain_ice_contact_freezing: bool,
+    pub droplet_freezing: bool,
     pub autoconversion_rate: f64,
     pub autoconversion_threshold: f64,
     pub rain_intercept: f64,

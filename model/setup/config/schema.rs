@@ -413,6 +413,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Supercooled rain collected by graupel freezes on it (Lin, Farley & Orville 1983, PGACR), within the heat balance of wet growth.",
     },
     KeySpec {
+        path: "microphysics.droplet_freezing",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("false"),
+        doc: "Immersion freezing of cloud droplets after Bigg (1953), B' [exp(A' (T0 - T)) - 1] per unit droplet volume and time with the constants of the rain law (Lin, Farley & Orville 1983, Eq. 45); cloud water left at -40 degC still freezes at once. Off by default: docs/microphysics.md gives its effect and why.",
+    },
+    KeySpec {
         path: "microphysics.rain_ice_contact_freezing",
         kind: Kind::Bool,
         unit: "",
