@@ -373,8 +373,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         if by_snow > 0.0 {
             r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
         }
-        if let (true, Some(l), true) = (p.rain_ice_contact_freezing, lr, s.n_ice > 0.0 && qi > 0.0)
-        {
+        let crystals = s.n_ice > 0.0 && qi > 0.0;
+        if let (true, Some(l)) = (p.rain_ice_contact_freezing && crystals, lr) {
             // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
             // within the heat the drops can give off (Musil 1970).
             r.ice_to_graupel_by_rain = rain.sweep_at(&l, cr) * qi;
