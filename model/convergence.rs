@@ -120,6 +120,10 @@ struct Collector {
     flash_charge: f64,
     flashes: usize,
     first_flash: Option<crate::physics::discharge::record::FlashRecord>,
+    /// Time (s) and charge regions of the last record before the first
+    /// flash: a structure at a fixed time while first-flash times agree.
+    pre_flash_time: f64,
+    pre_flash_regions: Vec<Region>,
 }
 
 impl Collector {
@@ -144,6 +148,11 @@ impl Observer for Collector {
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
         let t = state.temperatures(exp);
+        if self.flashes == 0 {
+            self.pre_flash_time = state.time;
+            self.pre_flash_regions =
+                regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        }
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best_separation {
             self.best_separation = sep;
@@ -260,10 +269,42 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
         "km",
         first(|f| f.z_top / 1e3),
     ));
+    // The structure at the last record before the first flash: a fixed
+    // time at every level as long as the first flashes fall between the
+    // same two records (the record's time is reported beside it), so it
+    // stays well posed in a flashing storm. Not defined without flashes.
+    let flashed = c.flashes > 0;
+    out.push((
+        "pre-flash record".into(),
+        "s",
+        if flashed { c.pre_flash_time } else { f64::NAN },
+    ));
+    let none: &[Region] = &[];
+    let pre = if flashed {
+        &c.pre_flash_regions[..]
+    } else {
+        none
+    };
+    push_regions(&mut out, pre, "pre-flash ", charge_unit, scale, false);
     // Charge regions at the record of largest charge separation: the main
     // negative region, the largest positive region above it and the largest
     // below it (the three regions of a normal tripole).
-    let [neg, upper, lower] = crate::analysis::tripole_regions(&c.best_regions);
+    push_regions(&mut out, &c.best_regions, "", charge_unit, scale, true);
+    out
+}
+
+/// The main negative, upper positive and lower positive regions of
+/// `regions` as outcomes: charge and height, and with `temperature` the
+/// temperature; names start with `prefix`.
+fn push_regions(
+    out: &mut Vec<(String, &'static str, f64)>,
+    regions: &[Region],
+    prefix: &str,
+    charge_unit: &'static str,
+    scale: f64,
+    temperature: bool,
+) {
+    let [neg, upper, lower] = crate::analysis::tripole_regions(regions);
     for (label, region) in [
         ("main negative", neg),
         ("upper positive", upper),
@@ -271,22 +312,23 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     ] {
         let g = |f: fn(&Region) -> f64| region.as_ref().map_or(f64::NAN, f);
         out.push((
-            format!("{label} region charge"),
+            format!("{prefix}{label} region charge"),
             charge_unit,
             g(|x| x.charge) * scale,
         ));
         out.push((
-            format!("{label} region height"),
+            format!("{prefix}{label} region height"),
             "km",
             g(|x| x.height) / 1e3,
         ));
-        out.push((
-            format!("{label} region temperature"),
-            "degC",
-            g(|x| x.temperature),
-        ));
+        if temperature {
+            out.push((
+                format!("{prefix}{label} region temperature"),
+                "degC",
+                g(|x| x.temperature),
+            ));
+        }
     }
-    out
 }
 
 /// `overrides` plus the step (or spacing) of refinement `level`: the

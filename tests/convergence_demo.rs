@@ -126,5 +126,30 @@ fn converge_books_every_flash_once() {
             rec.flashes[0].z_init / 1e3
         );
         assert_eq!(row("first flash channel top"), rec.flashes[0].z_top / 1e3);
+        // The structure before the first flash is the run's own last record
+        // before it, analysed as `analyze` does.
+        let k = rec
+            .times
+            .iter()
+            .rposition(|&t| t < rec.flashes[0].time)
+            .unwrap();
+        assert_eq!(row("pre-flash record"), rec.times[k]);
+        let rho = &rec.get("charge_density")[k];
+        let t = &rec.get("air_temperature")[k];
+        let regs = stormcharge::analysis::regions(&exp.grid.z, exp.grid.dz, rho, t, 0.1);
+        let [neg, upper, _] = stormcharge::analysis::tripole_regions(&regs);
+        let (neg, upper) = (neg.unwrap(), upper.unwrap());
+        assert!(
+            rel(
+                row("pre-flash main negative region charge"),
+                neg.charge * area
+            ) < 1e-12
+        );
+        assert!(
+            rel(
+                row("pre-flash upper positive region height"),
+                upper.height / 1e3
+            ) < 1e-12
+        );
     }
 }
