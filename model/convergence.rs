@@ -50,6 +50,10 @@ pub(crate) struct LevelRun {
     outcomes: Vec<(String, &'static str, f64)>,
     charge: Vec<Vec<f64>>,
     field: Vec<Vec<f64>>,
+    /// Records up to the last one before the first flash (all of them in a
+    /// run without flashes).
+    pre_flash_records: usize,
+    flashed: bool,
 }
 
 /// One row of a report: an outcome across the levels of a series.
@@ -124,6 +128,7 @@ struct Collector {
     /// flash: a structure at a fixed time while first-flash times agree.
     pre_flash_time: f64,
     pre_flash_regions: Vec<Region>,
+    pre_flash_records: usize,
 }
 
 impl Collector {
@@ -149,6 +154,7 @@ impl Observer for Collector {
         self.field.push(state.field.clone());
         let t = state.temperatures(exp);
         if self.flashes == 0 {
+            self.pre_flash_records = self.charge.len();
             self.pre_flash_time = state.time;
             self.pre_flash_regions =
                 regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
@@ -381,6 +387,8 @@ pub(crate) fn run_level(
         outcomes: outcomes(&exp, &c),
         charge: std::mem::take(&mut c.charge),
         field: std::mem::take(&mut c.field),
+        pre_flash_records: c.pre_flash_records,
+        flashed: c.flashes > 0,
     })
 }
 
@@ -446,7 +454,14 @@ fn restrict(fine: &[f64], faces: bool) -> Vec<f64> {
     }
 }
 
-fn profile_row(name: &str, runs: &[LevelRun], refinement: Refinement, faces: bool) -> ProfileRow {
+/// The profile row of `name` over the first `records` records of every level.
+fn profile_row(
+    name: &str,
+    runs: &[LevelRun],
+    refinement: Refinement,
+    faces: bool,
+    records: usize,
+) -> ProfileRow {
     fn profiles(r: &LevelRun, faces: bool) -> &[Vec<f64>] {
         if faces {
             &r.field
@@ -457,7 +472,8 @@ fn profile_row(name: &str, runs: &[LevelRun], refinement: Refinement, faces: boo
     let mut differences = Vec::new();
     for w in runs.windows(2) {
         let (mut num, mut den) = (0.0, 0.0);
-        for (a, fine) in profiles(&w[0], faces).iter().zip(profiles(&w[1], faces)) {
+        let pairs = profiles(&w[0], faces).iter().zip(profiles(&w[1], faces));
+        for (a, fine) in pairs.take(records) {
             // The fine profile on the coarse points (only a space
             // refinement changes the points).
             let restricted;
@@ -566,10 +582,33 @@ pub fn study(
                     }
                 })
                 .collect();
-            let profiles = vec![
-                profile_row("charge density", &runs, refinement, false),
-                profile_row("vertical field", &runs, refinement, true),
+            let all = usize::MAX;
+            let mut profiles = vec![
+                profile_row("charge density", &runs, refinement, false, all),
+                profile_row("vertical field", &runs, refinement, true, all),
             ];
+            // With flashes the records compare storms whose flashes fall a
+            // few seconds apart; up to the first flash they compare the
+            // same storm (docs/numerics.md).
+            if runs.iter().any(|r| r.flashed) {
+                let m = runs.iter().map(|r| r.pre_flash_records).min().unwrap_or(0);
+                if m > 0 {
+                    profiles.push(profile_row(
+                        "charge density, pre-flash",
+                        &runs,
+                        refinement,
+                        false,
+                        m,
+                    ));
+                    profiles.push(profile_row(
+                        "vertical field, pre-flash",
+                        &runs,
+                        refinement,
+                        true,
+                        m,
+                    ));
+                }
+            }
             Series {
                 refinement,
                 steps: runs.iter().map(|r| r.dt).collect(),

@@ -72,6 +72,8 @@ fn converge_reports_the_configured_error_of_a_prescribed_case() {
     assert_eq!(report.series.len(), 2);
     for s in &report.series {
         assert_eq!(s.steps.len(), 3);
+        // No flashes: no pre-flash rows.
+        assert_eq!(s.profiles.len(), 2);
         let row = |name: &str| s.outcomes.iter().find(|r| r.name == name).unwrap();
         match s.refinement {
             Refinement::Time => {
@@ -150,6 +152,17 @@ fn converge_books_every_flash_once() {
                 row("pre-flash upper positive region height"),
                 upper.height / 1e3
             ) < 1e-12
+        );
+        // A flashing storm's profiles are also compared up to that record.
+        let names: Vec<&str> = s.profiles.iter().map(|p| p.name.as_str()).collect();
+        assert_eq!(
+            names,
+            [
+                "charge density",
+                "vertical field",
+                "charge density, pre-flash",
+                "vertical field, pre-flash"
+            ]
         );
     }
 }
