@@ -75,9 +75,15 @@ fn demo_storm_main_negative_sits_at_the_observed_temperature() {
     // it. The normal tripole's lower positive region is not there: with
     // Saunders & Peck (1998) graupel charges positively only at high rime
     // accretion rates, which the demo reaches in too few crystal collisions
-    // (docs/charging.md, "The demo storm").
-    let exp = demo(&[]);
-    let (rec, _) = run_recorded(&exp);
+    // (docs/charging.md, "The demo storm"). The same holds for the demo
+    // with the optional drop and droplet freezing (configs/freezing_demo.toml).
+    for exp in [demo(&[]), config_file("freezing_demo.toml", &[])] {
+        main_negative_at_observed_temperature(&exp);
+    }
+}
+
+fn main_negative_at_observed_temperature(exp: &Experiment) {
+    let (rec, _) = run_recorded(exp);
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");
     let best = (0..rho.len())
@@ -108,9 +114,18 @@ fn demo_magnitudes_against_observations() {
     //   point totals recorded in under an hour (WMO world extremes; from
     //   memory).
     // The demo's values, for scale: about 9.4 g m-3 rain, 5.2 g kg-1
-    // graupel, 1.6 K, 39 mm (docs/numerics.md).
-    let exp = demo(&["discharge.enabled=false"]);
-    let (rec, s) = run_recorded(&exp);
+    // graupel, 1.6 K, 39 mm (docs/numerics.md); also for the demo with the
+    // optional drop and droplet freezing.
+    for exp in [
+        demo(&["discharge.enabled=false"]),
+        config_file("freezing_demo.toml", &["discharge.enabled=false"]),
+    ] {
+        magnitudes_within_observed_bounds(&exp);
+    }
+}
+
+fn magnitudes_within_observed_bounds(exp: &Experiment) {
+    let (rec, s) = run_recorded(exp);
     let rho = &exp.base.centre.density;
     let content = |name: &str| {
         rec.get(name)

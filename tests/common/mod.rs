@@ -52,10 +52,12 @@ pub fn experiment(text: &str, overrides: &[&str]) -> Experiment {
 }
 
 /// An experiment from a file in configs/ (relative paths inside it, such as
-/// sounding files, are looked up in configs/).
+/// sounding files and an `include`, are looked up in configs/).
 pub fn config_file(name: &str, overrides: &[&str]) -> Experiment {
     let o: Vec<String> = overrides.iter().map(|s| s.to_string()).collect();
-    let text = std::fs::read_to_string(repo(&format!("configs/{name}"))).unwrap();
+    let path = repo(&format!("configs/{name}"));
+    let text = std::fs::read_to_string(&path).unwrap();
+    let text = stormcharge::setup::config::load::resolve_include(&text, &path, 0).unwrap();
     Experiment::from_text(&text, name, &o, &repo("configs")).unwrap()
 }
 
