@@ -397,9 +397,10 @@ fn droplets_freeze_by_bigg_law_near_minus_37_celsius_under_steady_cooling() {
     // 1 - A' dT]), so half of the droplets have frozen at the dT where that
     // bracket equals A' c ln 2/(B' v) (integration of the law in closed
     // form). For 20 um droplets lifted at 7 m/s through 6.5 K/km, the
-    // closed form gives about -37 degC, close to the -37.5 degC to which
-    // supercooled cloud water is observed in vigorous updrafts (Rosenfeld &
-    // Woodley 2000, Nature 405; from memory). The model's rate, integrated
+    // closed form gives about -37 degC, close to the -37.5 degC down to which
+    // most condensed water stayed liquid in vigorous continental updrafts
+    // (Rosenfeld & Woodley 2000, Nature 405; seen in its abstract: droplets
+    // of 17 um median volume diameter). The model's rate, integrated
     // along the same cooling, must reach half at the closed form's
     // temperature (0.05 K).
     let p = MicroParams {
