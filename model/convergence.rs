@@ -53,7 +53,6 @@ pub(crate) struct LevelRun {
     /// Records up to the last one before the first flash (all of them in a
     /// run without flashes).
     pre_flash_records: usize,
-    flashed: bool,
 }
 
 /// One row of a report: an outcome across the levels of a series.
@@ -153,16 +152,21 @@ impl Observer for Collector {
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
         let t = state.temperatures(exp);
-        if self.flashes == 0 {
-            self.pre_flash_records = self.charge.len();
-            self.pre_flash_time = state.time;
-            self.pre_flash_regions =
-                regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
-        }
+        // The record's regions when either set below needs them (before the
+        // first flash the separation usually grows, so often both do).
         let sep = separation(&state.charge_total, exp.grid.dz);
-        if sep > self.best_separation {
-            self.best_separation = sep;
-            self.best_regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        let (pre_flash, best) = (self.flashes == 0, sep > self.best_separation);
+        if pre_flash || best {
+            let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+            if best {
+                self.best_separation = sep;
+                self.best_regions = regs.clone();
+            }
+            if pre_flash {
+                self.pre_flash_records = self.charge.len();
+                self.pre_flash_time = state.time;
+                self.pre_flash_regions = regs;
+            }
         }
         for sp in Species::HYDROMETEORS {
             let m = state.q[sp.index()].iter().fold(0.0_f64, |a, &b| a.max(b));
@@ -281,16 +285,11 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     // stays well posed in a flashing storm. Not defined without flashes.
     let flashed = c.flashes > 0;
     out.push((
-        "pre-flash record".into(),
+        PRE_FLASH_RECORD.into(),
         "s",
         if flashed { c.pre_flash_time } else { f64::NAN },
     ));
-    let none: &[Region] = &[];
-    let pre = if flashed {
-        &c.pre_flash_regions[..]
-    } else {
-        none
-    };
+    let pre: &[Region] = if flashed { &c.pre_flash_regions } else { &[] };
     push_regions(&mut out, pre, "pre-flash ", charge_unit, scale, false);
     // Charge regions at the record of largest charge separation: the main
     // negative region, the largest positive region above it and the largest
@@ -359,6 +358,9 @@ pub fn level_overrides(
 /// Names of the two outcomes the sweep's per-member error estimate reads.
 pub(crate) const PEAK_FIELD: &str = "peak |E_z|";
 pub(crate) const MAIN_NEGATIVE_CHARGE: &str = "main negative region charge";
+/// The outcome that holds the time of the last record before the first
+/// flash (not a number in a run without flashes).
+const PRE_FLASH_RECORD: &str = "pre-flash record";
 
 impl LevelRun {
     /// The value of the outcome called `name` (NaN if there is none).
@@ -388,7 +390,6 @@ pub(crate) fn run_level(
         charge: std::mem::take(&mut c.charge),
         field: std::mem::take(&mut c.field),
         pre_flash_records: c.pre_flash_records,
-        flashed: c.flashes > 0,
     })
 }
 
@@ -590,7 +591,7 @@ pub fn study(
             // With flashes the records compare storms whose flashes fall a
             // few seconds apart; up to the first flash they compare the
             // same storm (docs/numerics.md).
-            if runs.iter().any(|r| r.flashed) {
+            if runs.iter().any(|r| r.outcome(PRE_FLASH_RECORD).is_finite()) {
                 let m = runs.iter().map(|r| r.pre_flash_records).min().unwrap_or(0);
                 if m > 0 {
                     profiles.push(profile_row(

@@ -91,10 +91,9 @@ impl MicroParams {
         4.0 / 3.0 * std::f64::consts::PI * (r * r * r) * crate::physics::constants::RHO_WATER
     }
 
-    /// Volume of a cloud droplet (m3): (pi/6) d^3.
+    /// Volume of a cloud droplet (m3): its mass over the density of water.
     pub fn droplet_volume(&self) -> f64 {
-        let d = self.droplet_diameter;
-        std::f64::consts::PI / 6.0 * (d * d * d)
+        self.droplet_mass() / crate::physics::constants::RHO_WATER
     }
 
     /// The exponential size distribution of a precipitating species (rain,

@@ -388,11 +388,19 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
             );
             r.rain_to_graupel_ice_contact = contact.min(capacity);
         }
-        if p.droplet_freezing && qc > 0.0 {
-            // Bigg (1953): a droplet of volume v freezes with probability
-            // B' [exp(A' (T0 - T)) - 1] v per second.
-            r.cloud_to_ice_freezing =
-                qc * p.bigg_b * (p.bigg_a * (T_MELT - t)).exp_m1() * p.droplet_volume();
+        // The supercooling factor exp(A' (T0 - T)) - 1 of Bigg's (1953)
+        // freezing probability B' [exp(A' (T0 - T)) - 1] per unit volume and
+        // time, shared by rain and droplets and evaluated only when one of
+        // them freezes by it.
+        let freezing_droplets = p.droplet_freezing && qc > 0.0;
+        let bigg = if lr.is_some() || freezing_droplets {
+            (p.bigg_a * (T_MELT - t)).exp() - 1.0
+        } else {
+            0.0
+        };
+        if freezing_droplets {
+            // A droplet of volume v freezes with probability B' bigg v per second.
+            r.cloud_to_ice_freezing = qc * p.bigg_b * bigg * p.droplet_volume();
             r.frozen_droplet_number = r.cloud_to_ice_freezing / p.droplet_mass();
         }
         if let Some(lr) = lr {
@@ -402,7 +410,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
                 * p.bigg_b
                 * rain.n0
                 * (RHO_WATER * inv_rho)
-                * ((p.bigg_a * (T_MELT - t)).exp() - 1.0)
+                * bigg
                 / lr.lambda.powi(7);
         }
     } else {
