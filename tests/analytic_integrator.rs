@@ -150,7 +150,7 @@ fn demo_with_default_integrator_matches_a_converged_reference() {
     // ode_solvers Dormand-Prince integrator at 1e-9 / 1e-15: the same
     // charge structure at the record of largest separation (class, region
     // signs and heights; region charges within 0.1 %) and the same flashes
-    // (none since the step order and entrainment of docs/numerics.md). Also
+    // (kind and time; charge within 0.1 %). Also
     // with drops freezing on contact with crystals: bounded by the drops'
     // heat balance, that rate fades at 0 degC, and the tight reference
     // crosses the melting level without stalling (a rate that stopped there

@@ -293,9 +293,9 @@ fn rain_ice_cell(t: f64, qr: f64, qi: f64, n_ice: f64) -> (CellState, CellEnv, M
 #[test]
 fn drops_freezing_on_crystals_is_the_collision_integral() {
     // LFO83's P_iacr: every drop that hits a crystal freezes, so the frozen
-    // mass per second is n_i times the mass of the drops that hit one
-    // crystal, n_i (1/rho)... per kg of air: n_i int (pi/4) D^2 V(D)
-    // (pi/6) rho_w D^3 N(D) dD; P_raci: the crystals' mass collected,
+    // mass per second and kg of air is the crystal number per kg, n_i,
+    // times the mass of the drops that hit one crystal: n_i int (pi/4)
+    // D^2 V(D) (pi/6) rho_w D^3 N(D) dD; P_raci: the crystals' mass collected,
     // q_i int (pi/4) D^2 V N dD. Checked by quadrature with the Atlas et al.
     // (1973) fall law (1e-6), in a cell with few crystals, where the
     // collisions and not the heat balance set the rate.
