@@ -11,9 +11,11 @@ use stormcharge::column::state::State;
 use stormcharge::physics::breakdown::Criterion;
 use stormcharge::physics::carriers::Carrier;
 use stormcharge::physics::charging::rayleigh_limit;
+use stormcharge::physics::charging::SharedCharge;
 use stormcharge::physics::constants::{EPSILON_0, RHO_AIR_SEA_LEVEL as RHO0};
 use stormcharge::physics::initiation::hydrometeor::{
-    corona_limited_charge, surface_field, tail_diameter, CoronaOnset,
+    corona_limited_charge, corona_limited_density, shared_surface_charge, surface_field,
+    surface_field_of_density, tail_diameter, CoronaOnset,
 };
 use stormcharge::physics::initiation::runaway::{avalanches, Growth};
 
@@ -32,6 +34,44 @@ fn polarised_and_charged_spheres() {
     let qmax = corona_limited_charge(e, r, 3.0, onset);
     assert!(rel(surface_field(e, qmax, r, 3.0), 3.0 * onset) < 1e-12);
     assert_eq!(corona_limited_charge(6.0e5, r, 3.0, onset), 0.0);
+}
+
+#[test]
+fn surface_area_sharing_gives_every_particle_the_same_surface_field() {
+    // Charge shared in proportion to surface area, q(D) = rho_q D^2
+    // lambda^3/(2 N0), over the area pi D^2: one surface charge density for
+    // every size (derived), so the corona test of the largest particle
+    // (Gauss's law, as above) does not depend on its diameter.
+    let shared = SharedCharge {
+        density: -2.0e-9,
+        lambda: 1500.0,
+        n0: 4.0e5,
+    };
+    let sigma = shared_surface_charge(shared.density, shared.lambda, shared.n0);
+    let e = 8.0e4;
+    for d in [2.0e-4, 1.0e-3, 4.0e-3] {
+        let q = shared.at_diameter(d);
+        assert!(rel(q / (PI * d * d), sigma) < 1e-14);
+        let r = 0.5 * d;
+        assert!(
+            rel(
+                surface_field(e, q, r, 3.0),
+                surface_field_of_density(e, sigma, 3.0)
+            ) < 1e-14
+        );
+        // The corona limit on the charge is the limit on the density times
+        // the particle's area.
+        let onset = 4.0e5;
+        let by_charge = corona_limited_charge(e, r, 3.0, onset);
+        assert!(
+            rel(
+                by_charge,
+                corona_limited_density(e, 3.0, onset) * PI * d * d
+            ) < 1e-14
+        );
+    }
+    assert!(corona_limited_density(e, 3.0, f64::INFINITY).is_infinite());
+    assert_eq!(corona_limited_density(5.0e5, 3.0, 4.0e5), 0.0);
 }
 
 #[test]

@@ -11,32 +11,48 @@ use crate::physics::carriers::Carrier;
 use crate::physics::charging::{rayleigh_limit, SharedCharge};
 use crate::physics::constants::T_MELT;
 use crate::physics::initiation::hydrometeor::{
-    corona_limited_charge, surface_field, tail_diameter,
+    corona_limited_density, shared_surface_charge, surface_field_of_density, tail_diameter,
 };
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
-/// The largest particle of one species in one cell.
+/// The charged particles of one species in one cell.
 struct Tail {
     species: Species,
-    /// Radius (m) and charge (C) of the particle.
-    radius: f64,
-    charge: f64,
+    /// The shared charge: density (C m-3), slope and intercept.
+    shared: SharedCharge,
+    /// Surface charge density of every particle (C m-2): with the charge
+    /// shared by surface area it does not depend on the size
+    /// ([`shared_surface_charge`]), so the corona test of the largest
+    /// particle needs no diameter; only the Rayleigh limit does.
+    sigma: f64,
     /// Ambient onset field (V m-1) for its kind (drop or ice).
     onset: f64,
+}
+
+impl Tail {
+    /// Diameter (m) of the largest particle (one per m3); it exists by
+    /// construction of the tail.
+    fn diameter(&self) -> f64 {
+        tail_diameter(self.shared.n0, self.shared.lambda).unwrap_or(0.0)
+    }
 }
 
 /// Precipitating species whose largest particles are examined.
 const LARGE: [Species; 3] = [Species::Rain, Species::Snow, Species::Graupel];
 
-/// The largest particle of `sp` in cell `k`, when it has at least one per m3.
+/// The particles of `sp` in cell `k`, when the species has at least one
+/// particle per m3 (so that its largest particle exists).
 fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> {
     let q = state.q[sp.index()][k];
     let rho = exp.base.centre.density[k];
     let f = exp.micro_params();
     let dist = f.exponential(sp)?;
     let shared = SharedCharge::of(dist, rho, q, state.charge[Carrier::of(sp).index()][k])?;
-    let d = tail_diameter(shared.n0, shared.lambda)?;
+    // At least one particle per m3: N0/lambda > 1 (`tail_diameter`).
+    if !(shared.lambda.is_finite() && shared.n0 / shared.lambda > 1.0) {
+        return None;
+    }
     let c = &exp.criteria_thresholds;
     let p = exp.base.centre.pressure[k];
     let onset = if sp == Species::Rain {
@@ -46,8 +62,8 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
     };
     Some(Tail {
         species: sp,
-        radius: 0.5 * d,
-        charge: shared.at_diameter(d),
+        sigma: shared_surface_charge(shared.density, shared.lambda, shared.n0),
+        shared,
         onset,
     })
 }
@@ -66,7 +82,7 @@ pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) {
         let e = ambient(state, k);
         for sp in LARGE {
             if let Some(t) = tail(exp, state, sp, k) {
-                let ratio = surface_field(e, t.charge, t.radius, f) / (f * t.onset);
+                let ratio = surface_field_of_density(e, t.sigma, f) / (f * t.onset);
                 *r = r.max(ratio);
             }
         }
@@ -85,25 +101,30 @@ pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
             let Some(t) = tail(exp, state, sp, k) else {
                 continue;
             };
-            let q = t.charge.abs();
-            if q == 0.0 {
+            let sigma = t.sigma.abs();
+            if sigma == 0.0 {
                 continue;
             }
-            let corona_max = corona_limited_charge(e, t.radius, f, t.onset);
-            let rayleigh_max = if t.species == Species::Rain {
-                rayleigh_limit(t.radius)
+            // The share of its charge the largest particle may keep under
+            // each limit; every particle's charge scales with the tail's
+            // (sharing by surface area), so the species' density scales by
+            // the smaller share. Corona limits the surface charge density,
+            // the same for every size; the Rayleigh limit (drops only)
+            // needs the largest drop's radius.
+            let corona_share = corona_limited_density(e, f, t.onset) / sigma;
+            let rayleigh_share = if t.species == Species::Rain {
+                let d = t.diameter();
+                rayleigh_limit(0.5 * d) / t.shared.at_diameter(d).abs()
             } else {
                 f64::INFINITY
             };
-            let allowed = corona_max.min(rayleigh_max);
-            if q <= allowed {
+            let share = corona_share.min(rayleigh_share);
+            if share >= 1.0 {
                 continue;
             }
-            // Every particle's charge scales with the tail's (sharing by
-            // surface area), so the species' density scales by allowed/q.
             let from = Carrier::of(t.species).index();
-            let removed = state.charge[from][k] * (1.0 - allowed / q);
-            let to = if corona_max <= rayleigh_max {
+            let removed = state.charge[from][k] * (1.0 - share);
+            let to = if corona_share <= rayleigh_share {
                 corona += removed.abs() * dz;
                 Carrier::Ions
             } else {
