@@ -50,10 +50,27 @@ pub(crate) struct LevelRun {
     outcomes: Vec<(String, &'static str, f64)>,
     charge: Vec<Vec<f64>>,
     field: Vec<Vec<f64>>,
+    /// Per record, the content (kg m-3) of each species of [`CONTENTS`] and
+    /// the crystal number concentration (m-3); empty without bulk
+    /// microphysics.
+    contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
     /// Records up to the last one before the first flash (all of them in a
     /// run without flashes).
     pre_flash_records: usize,
 }
+
+/// The hydrometeors whose content profiles `converge` compares, with the
+/// row names; the crystal number follows them.
+const CONTENTS: [(Species, &str); 5] = [
+    (Species::Cloud, "cloud water content"),
+    (Species::Rain, "rain water content"),
+    (Species::Ice, "cloud ice content"),
+    (Species::Snow, "snow content"),
+    (Species::Graupel, "graupel content"),
+];
+
+/// Row name of the crystal number concentration profile.
+const CRYSTALS: &str = "crystal number concentration";
 
 /// One row of a report: an outcome across the levels of a series.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -112,6 +129,7 @@ pub struct Report {
 struct Collector {
     charge: Vec<Vec<f64>>,
     field: Vec<Vec<f64>>,
+    contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
     best_separation: f64,
     best_regions: Vec<Region>,
     max_q: [f64; 6],
@@ -151,6 +169,20 @@ impl Observer for Collector {
         self.book_flashes(state);
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
+        if exp.microphysics == crate::physics::microphysics::Mode::Bulk {
+            // Contents per volume, so that a finer grid's cell pairs average
+            // to the coarse cell exactly.
+            let rho = &exp.base.centre.density;
+            let per_volume =
+                |x: &[f64]| -> Vec<f64> { x.iter().zip(rho).map(|(a, r)| a * r).collect() };
+            self.contents.push(std::array::from_fn(|i| {
+                if i < CONTENTS.len() {
+                    per_volume(&state.q[CONTENTS[i].0.index()])
+                } else {
+                    per_volume(&state.n_ice)
+                }
+            }));
+        }
         let t = state.temperatures(exp);
         // The record's regions when either set below needs them (before the
         // first flash the separation usually grows, so often both do).
@@ -389,6 +421,7 @@ pub(crate) fn run_level(
         outcomes: outcomes(&exp, &c),
         charge: std::mem::take(&mut c.charge),
         field: std::mem::take(&mut c.field),
+        contents: std::mem::take(&mut c.contents),
         pre_flash_records: c.pre_flash_records,
     })
 }
@@ -455,26 +488,36 @@ fn restrict(fine: &[f64], faces: bool) -> Vec<f64> {
     }
 }
 
+/// Which profile a [`profile_row`] compares.
+#[derive(Clone, Copy)]
+enum Profile {
+    Charge,
+    Field,
+    /// Index into a level's `contents`.
+    Content(usize),
+}
+
 /// The profile row of `name` over the first `records` records of every level.
 fn profile_row(
     name: &str,
     runs: &[LevelRun],
     refinement: Refinement,
-    faces: bool,
+    which: Profile,
     records: usize,
 ) -> ProfileRow {
-    fn profiles(r: &LevelRun, faces: bool) -> &[Vec<f64>] {
-        if faces {
-            &r.field
-        } else {
-            &r.charge
+    let faces = matches!(which, Profile::Field);
+    fn records_of(r: &LevelRun, which: Profile) -> Vec<&[f64]> {
+        match which {
+            Profile::Charge => r.charge.iter().map(|x| x.as_slice()).collect(),
+            Profile::Field => r.field.iter().map(|x| x.as_slice()).collect(),
+            Profile::Content(i) => r.contents.iter().map(|x| x[i].as_slice()).collect(),
         }
     }
     let mut differences = Vec::new();
     for w in runs.windows(2) {
         let (mut num, mut den) = (0.0, 0.0);
-        let pairs = profiles(&w[0], faces).iter().zip(profiles(&w[1], faces));
-        for (a, fine) in pairs.take(records) {
+        let (coarse, finer) = (records_of(&w[0], which), records_of(&w[1], which));
+        for (a, fine) in coarse.iter().zip(&finer).take(records) {
             // The fine profile on the coarse points (only a space
             // refinement changes the points).
             let restricted;
@@ -585,8 +628,8 @@ pub fn study(
                 .collect();
             let all = usize::MAX;
             let mut profiles = vec![
-                profile_row("charge density", &runs, refinement, false, all),
-                profile_row("vertical field", &runs, refinement, true, all),
+                profile_row("charge density", &runs, refinement, Profile::Charge, all),
+                profile_row("vertical field", &runs, refinement, Profile::Field, all),
             ];
             // With flashes the records compare storms whose flashes fall a
             // few seconds apart; up to the first flash they compare the
@@ -598,17 +641,38 @@ pub fn study(
                         "charge density, pre-flash",
                         &runs,
                         refinement,
-                        false,
+                        Profile::Charge,
                         m,
                     ));
                     profiles.push(profile_row(
                         "vertical field, pre-flash",
                         &runs,
                         refinement,
-                        true,
+                        Profile::Field,
                         m,
                     ));
                 }
+            }
+            // The hydrometeors behind the charge: which of them converges
+            // slowly tells where a time or space error comes from
+            // (docs/numerics.md).
+            if runs.iter().all(|r| !r.contents.is_empty()) {
+                for (i, (_, name)) in CONTENTS.iter().enumerate() {
+                    profiles.push(profile_row(
+                        name,
+                        &runs,
+                        refinement,
+                        Profile::Content(i),
+                        all,
+                    ));
+                }
+                profiles.push(profile_row(
+                    CRYSTALS,
+                    &runs,
+                    refinement,
+                    Profile::Content(CONTENTS.len()),
+                    all,
+                ));
             }
             Series {
                 refinement,

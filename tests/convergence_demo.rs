@@ -24,7 +24,11 @@ fn demo_charge_and_field_converge_at_first_order_in_time_and_space() {
     let report = study(text, "demo", std::path::Path::new("."), &off, 3, 2).unwrap();
     assert_eq!(report.series.len(), 2);
     for s in &report.series {
-        for p in &s.profiles {
+        for p in s
+            .profiles
+            .iter()
+            .filter(|p| p.name == "charge density" || p.name == "vertical field")
+        {
             let d = &p.differences;
             assert!(
                 d[1] > 0.0 && d[1] <= 0.5 * d[0],
@@ -35,6 +39,57 @@ fn demo_charge_and_field_converge_at_first_order_in_time_and_space() {
                 d[1]
             );
         }
+    }
+}
+
+#[test]
+fn converge_compares_hydrometeor_contents_as_recorded() {
+    // The content rows of `converge` are the relative L1 differences of
+    // rho q (kg m-3) and rho n_i between the records of successive levels:
+    // recomputed here from two runs' own records for the time series
+    // (bookkeeping check, common practice). A shortened demo keeps it quick.
+    let set = ["time.duration=1500", "discharge.enabled=false"];
+    let over: Vec<String> = set.iter().map(|x| x.to_string()).collect();
+    let text = stormcharge::setup::config::DEMO_TOML;
+    let report = study(text, "demo", std::path::Path::new("."), &over, 3, 2).unwrap();
+    let time = &report.series[0];
+    let names: Vec<&str> = time.profiles.iter().map(|p| p.name.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "charge density",
+            "vertical field",
+            "cloud water content",
+            "rain water content",
+            "cloud ice content",
+            "snow content",
+            "graupel content",
+            "crystal number concentration"
+        ]
+    );
+    let runs: Vec<_> = ["time.step=2.0", "time.step=1.0"]
+        .iter()
+        .map(|step| {
+            let exp = demo(&[set[0], set[1], step]);
+            let (rec, _) = run_recorded(&exp);
+            let rho = exp.base.centre.density.clone();
+            (rec, rho)
+        })
+        .collect();
+    for (var, name) in [
+        ("q_graupel", "graupel content"),
+        ("n_ice", "crystal number concentration"),
+    ] {
+        let (mut num, mut den) = (0.0, 0.0);
+        let (a, b) = (runs[0].0.get(var), runs[1].0.get(var));
+        for (x, y) in a.iter().zip(b) {
+            for ((u, v), r) in x.iter().zip(y).zip(&runs[0].1) {
+                num += (r * u - r * v).abs();
+                den += (r * v).abs();
+            }
+        }
+        let row = time.profiles.iter().find(|p| p.name == name).unwrap();
+        assert!(rel(row.differences[0], num / den) < 1e-9, "{name}");
     }
 }
 
