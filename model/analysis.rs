@@ -266,13 +266,24 @@ pub fn analyze_file(
     let temp = get("air_temperature")?;
     let n = z.len();
     let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
-    let area = out
+    let stored = out
         .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
-        .and_then(|s| crate::setup::config::parse(&s, "stored").ok())
-        .and_then(|c| {
-            (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
-                .then(|| std::f64::consts::PI * c.column.radius.powi(2))
+        .and_then(|s| match crate::setup::config::parse(&s, "stored") {
+            Ok(c) => Some(c),
+            Err(e) => {
+                // A file written by another version may hold keys this one
+                // rejects: say so rather than drop the column charges silently.
+                eprintln!(
+                    "stormcharge: warning: the run configuration stored in {} could not be read ({e}); region charges are given per area only",
+                    path.display()
+                );
+                None
+            }
         });
+    let area = stored.and_then(|c| {
+        (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
+            .then(|| std::f64::consts::PI * c.column.radius.powi(2))
+    });
     let record = |r: usize| &rho[r * n..(r + 1) * n];
     let chosen: Vec<usize> = if times.is_empty() {
         let best = (0..time.len())

@@ -47,9 +47,11 @@ fn charge_budgets_close_over_whole_runs() {
     // round-off: the demo storm (charging, charge following mass, transport,
     // lateral entrainment), the same with the optional freezing of drops on
     // contact with crystals and of cloud droplets (three more transfers the
-    // charge follows) and the prescribed tripole (ground flashes).
+    // charge follows), with eddy diffusion (charge and ions mixed inside the
+    // column) and the prescribed tripole (ground flashes).
     for (exp, flashes) in [
         (demo(&[]), false),
+        (demo(&["column.eddy_diffusivity=100"]), false),
         (
             demo(&[
                 "microphysics.rain_ice_contact_freezing=true",

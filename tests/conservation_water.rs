@@ -63,10 +63,12 @@ fn water_budget_of_a_moist_run_closes() {
     // Change in column water = inflow - outflow + lateral exchange - surface
     // precipitation + mass created by clipping, to round-off (1e-12 of the
     // column water), over the demo storm, also with drops freezing on
-    // contact with crystals (a rain -> graupel transfer and its heat).
+    // contact with crystals (a rain -> graupel transfer and its heat) and
+    // with eddy diffusion (which moves water inside the column only).
     for set in [
         &[][..],
         &["microphysics.rain_ice_contact_freezing=true"][..],
+        &["column.eddy_diffusivity=100"][..],
     ] {
         water_budget_closes(set);
     }

@@ -91,3 +91,13 @@ fn the_fft_field_solve_allocates_nothing() {
     const { assert!(640 >= stormcharge::physics::electrostatics::column::FFT_FROM) };
     assert_eq!(allocations_over_steps(&["grid.spacing=25"], 50, 650), 0);
 }
+
+#[test]
+fn eddy_diffusion_allocates_nothing() {
+    // The factorised diffusion matrix and the field it sweeps are work
+    // arrays made with the state.
+    assert_eq!(
+        allocations_over_steps(&["column.eddy_diffusivity=100"], 50, 650),
+        0
+    );
+}

@@ -60,6 +60,9 @@ fn too_many(state: &State, what: &str, n: usize) -> RunError {
 /// Advection, then sedimentation, over one step of `dt` s.
 pub fn transport(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
     advect_all(exp, state, dt)?;
+    if exp.eddy_diffusivity > 0.0 {
+        diffuse_all(exp, state, dt);
+    }
     if exp.microphysics != Mode::Off {
         sediment_all(exp, state, dt)?;
     }
@@ -325,4 +328,67 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
     }
     state.water.precipitation += precip;
     Ok(())
+}
+
+/// Vertical eddy diffusion of every transported quantity over one step
+/// ([`crate::physics::kinematics::eddy_diffusion`]): potential temperature
+/// and vapour as departures from the base state, the hydrometeors, the
+/// crystal number and every carrier's charge per kg of air, the small ions
+/// as departures from the clear-air concentration. Column totals are
+/// conserved, so no budget term changes.
+fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
+    let rho = &exp.base.centre.density;
+    let base = &exp.base.centre;
+    let sc = &mut state.transport_scratch;
+    sc.diffusion.factorise(
+        exp.eddy_diffusivity,
+        rho,
+        &exp.base.face.density,
+        exp.grid.dz,
+        dt,
+    );
+    let d = &sc.diffusion;
+    d.apply(
+        &mut state.potential_temperature,
+        Some(&base.potential_temperature),
+    );
+    for sp in Species::ALL {
+        let env = (sp == Species::Vapour).then_some(base.vapour.as_slice());
+        d.apply(&mut state.q[sp.index()], env);
+    }
+    d.apply(&mut state.n_ice, None);
+    let ions_on = exp.ions.enabled;
+    for c in Carrier::ALL
+        .iter()
+        .filter(|c| c.advected() && !(ions_on && **c == Carrier::Ions))
+    {
+        let charge = &mut state.charge[c.index()];
+        for (f, (x, cell)) in sc.field.iter_mut().zip(charge.iter().zip(&exp.cell_env)) {
+            *f = x * cell.inv_rho;
+        }
+        d.apply(&mut sc.field, None);
+        for (x, (f, r)) in charge.iter_mut().zip(sc.field.iter().zip(rho)) {
+            *x = f * r;
+        }
+    }
+    if ions_on {
+        let env = &exp.ions.environment_specific;
+        for ions in state.n_ion.iter_mut() {
+            for (f, (x, cell)) in sc.field.iter_mut().zip(ions.iter().zip(&exp.cell_env)) {
+                *f = x * cell.inv_rho;
+            }
+            d.apply(&mut sc.field, Some(env));
+            for (x, (f, r)) in ions.iter_mut().zip(sc.field.iter().zip(rho)) {
+                *x = f * r;
+            }
+        }
+        let e = crate::physics::constants::ELEMENTARY_CHARGE;
+        let [np, nn] = &state.n_ion;
+        for (c, (p, m)) in state.charge[Carrier::Ions.index()]
+            .iter_mut()
+            .zip(np.iter().zip(nn))
+        {
+            *c = e * (p - m);
+        }
+    }
 }

@@ -2,7 +2,7 @@
 //! allocated once with the state, so the step allocates nothing.
 
 use crate::physics::charging::CellRates;
-use crate::physics::kinematics::advection;
+use crate::physics::kinematics::{advection, eddy_diffusion};
 
 /// Work arrays, allocated once with the state.
 #[derive(Debug, Clone, PartialEq)]
@@ -13,6 +13,8 @@ pub struct TransportScratch {
     pub(crate) flow: advection::FlowFactors,
     /// exp(-r dt) of the lateral entrainment per cell (1).
     pub(crate) survival: Vec<f64>,
+    /// The eddy-diffusion matrix of the step, factorised.
+    pub(crate) diffusion: eddy_diffusion::Diffusion,
 }
 
 impl TransportScratch {
@@ -23,6 +25,7 @@ impl TransportScratch {
             field: vec![0.0; n],
             flow: advection::FlowFactors::new(n),
             survival: vec![1.0; n],
+            diffusion: eddy_diffusion::Diffusion::new(n),
         }
     }
 }

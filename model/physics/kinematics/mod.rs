@@ -1,6 +1,7 @@
 //! Kinematics cores: the prescribed updraft w(z, t) ([`updraft`]), advection of
-//! every advected field by it ([`advection`]) and sedimentation of the
-//! falling species with their fall speeds ([`sedimentation`]).
+//! every advected field by it ([`advection`]), the optional vertical eddy
+//! diffusion ([`eddy_diffusion`]) and sedimentation of the falling species
+//! with their fall speeds ([`sedimentation`]).
 //!
 //! Advected: potential temperature, every mixing ratio, the cloud-ice number
 //! and the charge of every hydrometeor carrier as specific charge (C kg-1,
@@ -18,6 +19,7 @@
 //! behind the mass that carries it.
 
 pub mod advection;
+pub mod eddy_diffusion;
 pub mod entrainment;
 pub mod sedimentation;
 pub mod updraft;

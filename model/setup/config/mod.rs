@@ -158,6 +158,7 @@ pub struct ColumnConfig {
     pub radius: f64,
     pub entrainment: crate::physics::kinematics::entrainment::Entrainment,
     pub entrainment_coefficient: f64,
+    pub eddy_diffusivity: f64,
 }
 
 /// Input units as in the key table.

@@ -371,6 +371,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Turbulent fractional entrainment rate times the radius, epsilon R: 0.2 after Stommel (1947) as used in one-dimensional entraining cloud models (twice the plume entrainment coefficient of Morton, Taylor & Turner 1956).",
     },
     KeySpec {
+        path: "column.eddy_diffusivity",
+        kind: float(0.0, false, 1.0e4, false),
+        unit: "m2 s-1",
+        default: Some("0.0"),
+        doc: "Vertical eddy diffusivity K of the turbulence inside the column (first-order closure, docs/transport.md): every transported quantity is mixed as its departure from the base state. 0 (the default) turns it off; no published value fits a one-dimensional column, and docs/numerics.md measures its effect on convergence.",
+    },
+    KeySpec {
         path: "microphysics.scheme",
         kind: Kind::Choice(crate::physics::microphysics::Mode::NAMES),
         unit: "",
