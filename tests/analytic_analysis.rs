@@ -137,3 +137,62 @@ density = 1.5
     }
     assert_eq!(v["records"][0]["structure"], "normal_tripole");
 }
+
+#[test]
+fn analyze_warns_when_the_stored_configuration_cannot_be_read() {
+    // A file whose stored configuration this version rejects (written by
+    // another version, or edited) still analyses per area; the column
+    // charges need the radius, so their absence is said on stderr, not
+    // left silent (common practice: a tool says what it could not do).
+    let text = crate::still_column!(
+        r#"
+[grid]
+top = 12000.0
+spacing = 200.0
+[time]
+step = 10.0
+duration = 100.0
+output_interval = 100.0
+[discharge]
+enabled = false
+[electrostatics]
+geometry = "column"
+[[prescribed_charge.layers]]
+center = 6000.0
+thickness = 1000.0
+density = -2.0
+"#
+    );
+    let cfg = scratch("unreadable.toml");
+    std::fs::write(&cfg, text).unwrap();
+    let out = scratch("unreadable.nc");
+    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    {
+        let mut f = netcdf::append(&out).unwrap();
+        f.add_attribute(
+            stormcharge::output::netcdf_writer::CONFIG_ATTRIBUTE,
+            "[column]\nradius = -5.0\n",
+        )
+        .unwrap();
+    }
+    let json = scratch("unreadable.json");
+    // This test process's HDF5 library opened the file for the edit and can
+    // still hold its file lock when the analysing process opens it (seen
+    // intermittently as "HDF error" under the parallel test runner): the
+    // analysing process runs without HDF5 file locking.
+    let o = succeed(
+        bin()
+            .env("HDF5_USE_FILE_LOCKING", "FALSE")
+            .arg("analyze")
+            .arg(&out)
+            .arg("--json")
+            .arg(&json),
+    );
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("could not be read"), "{err}");
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let region = &v["records"][0]["regions"][0];
+    assert!(region["charge_per_area"].as_f64().unwrap() < 0.0);
+    assert!(region["charge"].is_null());
+}
