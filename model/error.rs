@@ -16,6 +16,9 @@ pub struct ConfigIssue {
     pub allowed: Option<String>,
     /// 1-based line in the configuration file, when known.
     pub line: Option<usize>,
+    /// The file that line is in, when it is not the configuration named by
+    /// the error's origin (a base configuration it includes).
+    pub file: Option<String>,
     /// What is wrong.
     pub message: String,
 }
@@ -29,6 +32,7 @@ impl ConfigIssue {
             unit: None,
             allowed: None,
             line: None,
+            file: None,
             message: message.into(),
         }
     }
@@ -73,8 +77,10 @@ impl fmt::Display for ConfigIssue {
                 write!(f, " {u}")?;
             }
         }
-        if let Some(l) = self.line {
-            write!(f, " (line {l})")?;
+        match (self.line, &self.file) {
+            (Some(l), Some(file)) => write!(f, " (line {l} of {file})")?,
+            (Some(l), None) => write!(f, " (line {l})")?,
+            _ => {}
         }
         Ok(())
     }

@@ -460,3 +460,20 @@ fn droplets_freeze_by_bigg_law_near_minus_37_celsius_under_steady_cooling() {
         0.0
     );
 }
+
+#[test]
+fn one_droplet_size_for_the_whole_model() {
+    // `microphysics.droplet_diameter` sets the droplet of every process
+    // (homogeneous freezing's crystal mass, Bigg freezing, the collision
+    // efficiency, inductive charging): the mass of a sphere scales as d^3
+    // (derived), 1.5^3 = 3.375 times the 20 um droplet's at 30 um.
+    let default = demo(&[]);
+    let larger = demo(&["microphysics.droplet_diameter=3.0e-5"]);
+    let (m0, m1) = (
+        default.micro_params().droplet_mass(),
+        larger.micro_params().droplet_mass(),
+    );
+    assert_eq!(default.micro_params().droplet_diameter, 2.0e-5);
+    assert!(rel(m1 / m0, 3.375) < 1e-14);
+    assert!(rel(m0, std::f64::consts::PI / 6.0 * 1000.0 * 2.0e-5_f64.powi(3)) < 1e-14);
+}

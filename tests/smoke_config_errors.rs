@@ -352,3 +352,52 @@ fn a_missing_or_foreign_input_file_is_a_usage_error() {
         );
     }
 }
+
+#[test]
+fn included_configurations_report_the_line_of_the_file_that_holds_the_key() {
+    // An `include` merges two files; an error must point into the file the
+    // offending key is written in (the including file, or the base with its
+    // name), not into the merged text (common practice: errors name the
+    // place to edit).
+    let base = write(
+        "include_base.toml",
+        "[grid]\ntop = 16000.0\nspacing = 100.0\n\n[time]\nstep = -2.0\n",
+    );
+    let child = write(
+        "include_child.toml",
+        &format!(
+            "include = \"{}\"\n\n[grid]\nspacing = 50.0\nspacings = 25.0\n",
+            base.file_name().unwrap().to_string_lossy()
+        ),
+    );
+    let o = bin().args(["check"]).arg(&child).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "grid.spacings",
+            "unknown key",
+            "(line 5)",
+            "time.step",
+            &format!("(line 6 of {})", base.display()),
+        ],
+    );
+}
+
+#[test]
+fn a_retired_key_names_its_replacement() {
+    // charging.inductive_droplet_diameter became microphysics.droplet_diameter
+    // (one droplet size for the whole model).
+    let p = write(
+        "retired.toml",
+        "[charging]\ninductive = true\ninductive_droplet_diameter = 3.0e-5\n",
+    );
+    let o = bin().args(["check"]).arg(&p).output().unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "charging.inductive_droplet_diameter",
+            "microphysics.droplet_diameter",
+            "line 3",
+        ],
+    );
+}

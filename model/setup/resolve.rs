@@ -147,6 +147,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         rain_ice_collection: c.rain_ice_collection,
         rain_ice_contact_freezing: c.rain_ice_contact_freezing,
         droplet_freezing: c.droplet_freezing,
+        droplet_diameter: c.droplet_diameter,
         integrator: c.integrator,
         rtol: c.relative_tolerance,
         atol: c.absolute_tolerance,
@@ -350,7 +351,6 @@ pub fn charging(
         riming_efficiency: c.riming_efficiency,
         cos_theta: c.inductive_cos_theta,
         rebound_probability: c.inductive_rebound_probability,
-        droplet_diameter: c.inductive_droplet_diameter,
     })
 }
 

@@ -18,7 +18,7 @@ pub mod size_speed;
 pub mod table;
 
 use crate::physics::carriers::Carrier;
-use crate::physics::constants::{RHO_WATER, T_MELT};
+use crate::physics::constants::T_MELT;
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::params::MicroParams;
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW};
@@ -77,8 +77,6 @@ pub struct ChargingParams {
     pub graupel_snow: bool,
     pub cos_theta: f64,
     pub rebound_probability: f64,
-    /// Cloud droplet diameter (m) of inductive charging.
-    pub droplet_diameter: f64,
     /// Collision efficiency of droplets on the rimer in the effective water
     /// content (Saunders & Peck 1998, table schemes on the RAR axis).
     pub riming_efficiency: riming_efficiency::RimingEfficiency,
@@ -282,7 +280,8 @@ pub fn charge_cell(
         separate(charge, gainer, loser, r * dt);
     }
     if p.inductive && qc > 0.0 {
-        let m_drop = std::f64::consts::PI / 6.0 * RHO_WATER * p.droplet_diameter.powi(3);
+        // The droplets of the microphysics (one droplet size in the model).
+        let m_drop = f.droplet_mass();
         let drops = rho * qc / m_drop; // m-3
         for (carrier, dist, powers, correction) in [
             (Carrier::Graupel, &f.graupel, sg, cg),
@@ -297,7 +296,7 @@ pub fn charge_cell(
                 let rebounds = p.rebound_probability * drops * dist.sweep_at(&s, correction);
                 r = rebounds
                     * inductive::charge_per_rebound(
-                        p.droplet_diameter,
+                        f.droplet_diameter,
                         1.0 / lam,
                         c.e_z,
                         p.cos_theta,

@@ -72,10 +72,12 @@ pub struct MicroParams {
     pub splinters_per_kg_rime: f64,
     /// Mass of a splinter (kg), 1e-12 (as nucleated crystals).
     pub splinter_mass: f64,
-    /// Diameter of a cloud droplet (m), 20 um (a 10 um radius drop, common
-    /// practice): its mass gives the crystal number homogeneous freezing
-    /// forms ([`Self::droplet_mass`]), its size the droplets' collision
-    /// efficiency on rimers.
+    /// Diameter of a cloud droplet (m), `microphysics.droplet_diameter`,
+    /// default 20 um (a 10 um radius drop, common practice): its mass gives
+    /// the crystal number homogeneous freezing forms
+    /// ([`Self::droplet_mass`]) and the droplets of inductive charging, its
+    /// size the droplets' collision efficiency on rimers and their Bigg
+    /// freezing volume. One size for the whole model.
     pub droplet_diameter: f64,
     /// Integrator of the process rates.
     pub integrator: Integrator,

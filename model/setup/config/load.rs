@@ -50,13 +50,42 @@ pub fn parse_with_overrides(
         }
     }
 
+    // A configuration merged from an `include` has lines of its own files,
+    // not of the merged text: the including file's keys are located in its
+    // own text, a base's keys in the base's (below).
+    let sources = included_sources(text);
+    let own = sources
+        .as_ref()
+        .and_then(|s| s.first())
+        .map(|(_, t)| t.as_str());
+    let own_doc = own.and_then(|t| toml_edit::ImDocument::parse(t).ok());
     let locate = |path: &str| -> Option<usize> {
         if overridden.iter().any(|o| o == path) {
             return None;
         }
-        key_line(&doc, text, path)
+        match (&own_doc, own) {
+            (Some(d), Some(t)) => key_line(d, t, path),
+            _ => key_line(&doc, text, path),
+        }
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
+    if let Some(sources) = &sources {
+        for issue in issues.iter_mut().filter(|i| i.line.is_none()) {
+            if overridden.contains(&issue.key) {
+                continue;
+            }
+            for (file, base) in sources.iter().skip(1) {
+                let Ok(d) = toml_edit::ImDocument::parse(base.as_str()) else {
+                    continue;
+                };
+                if let Some(l) = key_line(&d, base, &issue.key) {
+                    issue.line = Some(l);
+                    issue.file = Some(file.clone());
+                    break;
+                }
+            }
+        }
+    }
     if !issues.is_empty() {
         // File order reads best; --set problems (no line) come last.
         issues.sort_by_key(|i| i.line.unwrap_or(usize::MAX));
@@ -188,7 +217,21 @@ fn insert(table: &mut Table, path: &str, value: Value) -> Result<(), ConfigIssue
     Ok(())
 }
 
+/// Keys that earlier versions read and this one replaced: (old, new).
+const RETIRED: [(&str, &str); 1] = [(
+    "charging.inductive_droplet_diameter",
+    "microphysics.droplet_diameter",
+)];
+
 fn unknown_key(path: &str, line: Option<usize>, suffix: &str) -> ConfigIssue {
+    if let Some((_, new)) = RETIRED.iter().find(|(old, _)| *old == path) {
+        return ConfigIssue::new(
+            path,
+            format!("key replaced by `{new}` (one droplet size for the whole model){suffix}"),
+        )
+        .allowed(format!("`{new}`"))
+        .line(line);
+    }
     let section = path.rsplit_once('.').map_or("", |(s, _)| s);
     let valid = if schema::is_section(section) || section.is_empty() {
         schema::children(section).join(", ")
@@ -553,6 +596,23 @@ fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option
     span.map(|s| line_of_offset(text, s.start))
 }
 
+/// The files a merged configuration text came from, the including file
+/// first, by the merged text (kept for the lines of errors; the last few).
+type Sources = Vec<(String, String)>;
+static INCLUDED: std::sync::Mutex<Vec<(String, Sources)>> = std::sync::Mutex::new(Vec::new());
+
+/// How many merged texts [`INCLUDED`] keeps.
+const INCLUDED_KEPT: usize = 8;
+
+/// The source files of `text` when it is a merged configuration.
+fn included_sources(text: &str) -> Option<Sources> {
+    let kept = INCLUDED.lock().ok()?;
+    kept.iter()
+        .rev()
+        .find(|(merged, _)| merged == text)
+        .map(|(_, s)| s.clone())
+}
+
 /// Most nested `include`s (a file including itself would never end).
 pub const MAX_INCLUDE_DEPTH: usize = 4;
 
@@ -566,13 +626,33 @@ pub fn resolve_include(
     path: &std::path::Path,
     depth: usize,
 ) -> Result<String, ConfigError> {
+    let (merged, sources) = merge_includes(text, path, depth)?;
+    if sources.len() > 1 {
+        if let Ok(mut kept) = INCLUDED.lock() {
+            if kept.len() >= INCLUDED_KEPT {
+                kept.remove(0);
+            }
+            kept.push((merged.clone(), sources));
+        }
+    }
+    Ok(merged)
+}
+
+/// [`resolve_include`] with the files the text came from, the including
+/// file first.
+fn merge_includes(
+    text: &str,
+    path: &std::path::Path,
+    depth: usize,
+) -> Result<(String, Sources), ConfigError> {
     let origin = path.display().to_string();
+    let alone = || (text.to_string(), vec![(origin.clone(), text.to_string())]);
     let Ok(mut table) = toml::from_str::<Table>(text) else {
         // Syntax errors are reported by the parser with their line.
-        return Ok(text.to_string());
+        return Ok(alone());
     };
     let Some(include) = table.remove("include") else {
-        return Ok(text.to_string());
+        return Ok(alone());
     };
     let issue = |msg: String| ConfigError::single(&origin, ConfigIssue::new("include", msg));
     let Value::String(name) = include else {
@@ -592,7 +672,7 @@ pub fn resolve_include(
             base_path.display()
         ))
     })?;
-    let base_text = resolve_include(&base_text, &base_path, depth + 1)?;
+    let (base_text, base_sources) = merge_includes(&base_text, &base_path, depth + 1)?;
     let mut base: Table = toml::from_str(&base_text).map_err(|e| {
         ConfigError::single(
             base_path.display().to_string(),
@@ -601,7 +681,10 @@ pub fn resolve_include(
         )
     })?;
     merge(&mut base, table);
-    toml::to_string(&base).map_err(|e| issue(e.to_string()))
+    let merged = toml::to_string(&base).map_err(|e| issue(e.to_string()))?;
+    let mut sources = vec![(origin.clone(), text.to_string())];
+    sources.extend(base_sources);
+    Ok((merged, sources))
 }
 
 #[cfg(test)]

@@ -173,6 +173,7 @@ pub struct MicrophysicsConfig {
     pub rain_ice_collection: bool,
     pub rain_ice_contact_freezing: bool,
     pub droplet_freezing: bool,
+    pub droplet_diameter: f64,
     pub autoconversion_rate: f64,
     pub autoconversion_threshold: f64,
     pub rain_intercept: f64,
@@ -261,7 +262,6 @@ pub struct ChargingConfig {
     pub riming_efficiency: crate::physics::charging::riming_efficiency::RimingEfficiency,
     pub inductive_cos_theta: f64,
     pub inductive_rebound_probability: f64,
-    pub inductive_droplet_diameter: f64,
 }
 
 named_choice! {

@@ -420,6 +420,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Supercooled rain collected by graupel freezes on it (Lin, Farley & Orville 1983, PGACR), within the heat balance of wet growth.",
     },
     KeySpec {
+        path: "microphysics.droplet_diameter",
+        kind: float(1.0e-6, false, 1.0e-4, false),
+        unit: "m",
+        default: Some("2.0e-5"),
+        doc: "Diameter of the cloud droplets, one size for the whole model: the crystal mass homogeneous freezing makes of each droplet, the droplets' Bigg freezing volume, their collision efficiency on rimers (riming_efficiency = \"langmuir_1948\") and the droplets of inductive charging. 20 um (a 10 um radius, common practice).",
+    },
+    KeySpec {
         path: "microphysics.droplet_freezing",
         kind: Kind::Bool,
         unit: "",
@@ -623,13 +630,6 @@ pub const KEYS: &[KeySpec] = &[
         unit: "1",
         default: Some("0.01"),
         doc: "Fraction of droplet contacts that rebound (uncertain: 1e-3 to 1e-1).",
-    },
-    KeySpec {
-        path: "charging.inductive_droplet_diameter",
-        kind: float(1.0e-6, false, 1.0e-4, false),
-        unit: "m",
-        default: Some("2.0e-5"),
-        doc: "Cloud droplet diameter for inductive charging.",
     },
     // --- electrostatics
     KeySpec {
