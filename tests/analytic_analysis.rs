@@ -77,14 +77,10 @@ fn structure_detector_on_synthetic_profiles() {
     );
 }
 
-#[test]
-fn analyze_command_finds_prescribed_layers() {
-    // Known top-hat layers in (edges on cell faces), known regions out: the
-    // heights, thicknesses and charges per area and in the column are those of
-    // the layers exactly (charge = density x thickness), and the class is a
-    // normal tripole.
-    let text = crate::still_column!(
-        r#"
+/// Three top-hat layers in a still 2 km column: +1 nC m-3 over 9-11 km,
+/// -3 nC m-3 over 6.5-7.5 km, +1.5 nC m-3 over 3.7-4.3 km.
+const LAYERS: &str = crate::still_column!(
+    r#"
 [grid]
 top = 15000.0
 spacing = 100.0
@@ -111,7 +107,15 @@ center = 4000.0
 thickness = 600.0
 density = 1.5
 "#
-    );
+);
+
+#[test]
+fn analyze_command_finds_prescribed_layers() {
+    // Known top-hat layers in (edges on cell faces), known regions out: the
+    // heights, thicknesses and charges per area and in the column are those of
+    // the layers exactly (charge = density x thickness), and the class is a
+    // normal tripole.
+    let text = LAYERS;
     let cfg = scratch("layers.toml");
     std::fs::write(&cfg, text).unwrap();
     let out = scratch("layers.nc");
@@ -144,25 +148,8 @@ fn analyze_warns_when_the_stored_configuration_cannot_be_read() {
     // another version, or edited) still analyses per area; the column
     // charges need the radius, so their absence is said on stderr, not
     // left silent (common practice: a tool says what it could not do).
-    let text = crate::still_column!(
-        r#"
-[grid]
-top = 12000.0
-spacing = 200.0
-[time]
-step = 10.0
-duration = 100.0
-output_interval = 100.0
-[discharge]
-enabled = false
-[electrostatics]
-geometry = "column"
-[[prescribed_charge.layers]]
-center = 6000.0
-thickness = 1000.0
-density = -2.0
-"#
-    );
+    // The layers of the test above, whose charges the file loses.
+    let text = LAYERS;
     let cfg = scratch("unreadable.toml");
     std::fs::write(&cfg, text).unwrap();
     let out = scratch("unreadable.nc");
@@ -192,7 +179,11 @@ density = -2.0
     assert!(err.contains("could not be read"), "{err}");
     let v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
-    let region = &v["records"][0]["regions"][0];
-    assert!(region["charge_per_area"].as_f64().unwrap() < 0.0);
-    assert!(region["charge"].is_null());
+    // Per area still exact (the lowest layer: density x thickness); no
+    // column charges.
+    let regions = v["records"][0]["regions"].as_array().unwrap();
+    assert_eq!(regions.len(), 3);
+    let q = regions[0]["charge_per_area"].as_f64().unwrap();
+    assert!((q - 1.5e-9 * 600.0).abs() < 1e-12 * q.abs());
+    assert!(regions.iter().all(|r| r["charge"].is_null()));
 }

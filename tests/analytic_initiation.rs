@@ -14,8 +14,7 @@ use stormcharge::physics::charging::rayleigh_limit;
 use stormcharge::physics::charging::SharedCharge;
 use stormcharge::physics::constants::{EPSILON_0, RHO_AIR_SEA_LEVEL as RHO0};
 use stormcharge::physics::initiation::hydrometeor::{
-    corona_limited_charge, corona_limited_density, shared_surface_charge, surface_field,
-    surface_field_of_density, tail_diameter, CoronaOnset,
+    corona_limited_density, holds_a_particle, surface_field_of_density, tail_diameter, CoronaOnset,
 };
 use stormcharge::physics::initiation::runaway::{avalanches, Growth};
 
@@ -23,55 +22,42 @@ use stormcharge::physics::initiation::runaway::{avalanches, Growth};
 fn polarised_and_charged_spheres() {
     // A conducting sphere in a uniform field E has 3E at its poles; one
     // holding Q has Q/(4 pi eps0 r^2) all over (analytic: Jackson, sec. 2.5;
-    // Gauss's law). The largest surface field adds the two.
+    // Gauss's law). The largest surface field adds the two; the model takes
+    // the charge as its surface density Q/(4 pi r^2).
     let (e, r, q) = (1.0e5, 1.5e-3, 2.0e-11);
-    assert_eq!(surface_field(e, 0.0, r, 3.0), 3.0e5);
+    let sigma = q / (4.0 * PI * r * r);
+    assert_eq!(surface_field_of_density(e, 0.0, 3.0), 3.0e5);
     let own = q / (4.0 * PI * EPSILON_0 * r * r);
-    assert!(rel(surface_field(0.0, q, r, 3.0), own) < 1e-15);
-    assert!(rel(surface_field(-e, -q, r, 3.0), 3.0e5 + own) < 1e-15);
+    assert!(rel(surface_field_of_density(0.0, sigma, 3.0), own) < 1e-15);
+    assert!(rel(surface_field_of_density(-e, -sigma, 3.0), 3.0e5 + own) < 1e-15);
     // The corona limit is the charge at which the surface reaches f E_onset.
     let onset = 5.0e5;
-    let qmax = corona_limited_charge(e, r, 3.0, onset);
-    assert!(rel(surface_field(e, qmax, r, 3.0), 3.0 * onset) < 1e-12);
-    assert_eq!(corona_limited_charge(6.0e5, r, 3.0, onset), 0.0);
+    let limit = corona_limited_density(e, 3.0, onset);
+    assert!(rel(surface_field_of_density(e, limit, 3.0), 3.0 * onset) < 1e-12);
+    assert_eq!(corona_limited_density(6.0e5, 3.0, onset), 0.0);
+    assert!(corona_limited_density(e, 3.0, f64::INFINITY).is_infinite());
 }
 
 #[test]
 fn surface_area_sharing_gives_every_particle_the_same_surface_field() {
     // Charge shared in proportion to surface area, q(D) = rho_q D^2
     // lambda^3/(2 N0), over the area pi D^2: one surface charge density for
-    // every size (derived), so the corona test of the largest particle
-    // (Gauss's law, as above) does not depend on its diameter.
+    // every size (derived), so the largest particle's surface field, f |E| +
+    // q/(4 pi eps0 r^2) by Gauss's law (as above), needs no diameter.
     let shared = SharedCharge {
         density: -2.0e-9,
         lambda: 1500.0,
         n0: 4.0e5,
     };
-    let sigma = shared_surface_charge(shared.density, shared.lambda, shared.n0);
+    let sigma = shared.surface_density();
     let e = 8.0e4;
     for d in [2.0e-4, 1.0e-3, 4.0e-3] {
         let q = shared.at_diameter(d);
         assert!(rel(q / (PI * d * d), sigma) < 1e-14);
         let r = 0.5 * d;
-        assert!(
-            rel(
-                surface_field(e, q, r, 3.0),
-                surface_field_of_density(e, sigma, 3.0)
-            ) < 1e-14
-        );
-        // The corona limit on the charge is the limit on the density times
-        // the particle's area.
-        let onset = 4.0e5;
-        let by_charge = corona_limited_charge(e, r, 3.0, onset);
-        assert!(
-            rel(
-                by_charge,
-                corona_limited_density(e, 3.0, onset) * PI * d * d
-            ) < 1e-14
-        );
+        let gauss = 3.0 * e + q.abs() / (4.0 * PI * EPSILON_0 * r * r);
+        assert!(rel(surface_field_of_density(e, sigma, 3.0), gauss) < 1e-14);
     }
-    assert!(corona_limited_density(e, 3.0, f64::INFINITY).is_infinite());
-    assert_eq!(corona_limited_density(5.0e5, 3.0, 4.0e5), 0.0);
 }
 
 #[test]
@@ -102,7 +88,9 @@ fn largest_particle_per_cubic_metre() {
     let (n0, lambda) = (4.0e6, 2000.0);
     let d = tail_diameter(n0, lambda).unwrap();
     assert!(((n0 / lambda) * (-lambda * d).exp() - 1.0).abs() < 1e-12);
+    assert!(holds_a_particle(n0, lambda));
     assert!(tail_diameter(1.0e3, 2000.0).is_none());
+    assert!(!holds_a_particle(1.0e3, 2000.0));
 }
 
 #[test]

@@ -296,7 +296,7 @@ def main():
                  + LF * (c2s + c2g + spl + bigg + r2g_c - melt_s - melt_g)) / CP
         transfers = (auto + accr + shed, c2s, c2g, spl, i2s, i2g, s2g + s2g_c, bigg + r2g_c, melt_s, melt_g, evap,
                      dep_i, dep_s, dep_g)
-        return dv, dc, dr, dii, ds, dg, dni, dtemp, i2g, vg, di, vs, transfers
+        return dv, dc, dr, dii, ds, dg, dni, dtemp, transfers
 
     n_env = n_pos.copy()
     mobility = (mu_p, mu_n)
@@ -437,9 +437,8 @@ def main():
         new = [y[j] + dt * (2 * k1[j] + 3 * k2[j] + 4 * k3[j]) / 9.0 for j in range(8)]
         # Charge follows mass: each transfer moves its share of the source's
         # charge (shares over the mass that passed through the source).
-        tr = [dt * (2 * a + 3 * b + 4 * c) / 9.0 for a, b, c in zip(k1[12], k2[12], k3[12])]
+        tr = [dt * (2 * a + 3 * b + 4 * c) / 9.0 for a, b, c in zip(k1[8], k2[8], k3[8])]
         (c2r, c2s_, c2g_, c2i, i2s_, i2g_, s2g_, r2g_, s2r, g2r, r2v, v2i, v2s, v2g) = tr
-        q_start = [qc, qr, qi, qs, qg]
         through = [qc + 1e-30, qr + c2r + s2r + g2r + 1e-30, qi + c2i + np.maximum(v2i, 0) + 1e-30,
                    qs + c2s_ + i2s_ + np.maximum(v2s, 0) + 1e-30,
                    qg + c2g_ + i2g_ + s2g_ + r2g_ + np.maximum(v2g, 0) + 1e-30]
@@ -456,7 +455,6 @@ def main():
                             (3, 4, s2g_), (1, 4, r2g_), (3, 1, s2r), (4, 1, g2r), (1, None, r2v),
                             (2, None, -v2i), (3, None, -v2s), (4, None, -v2g)):
             move(src, dst, m)
-        del q_start
         qv, qc, qr, qi, qs, qg, ni = [np.maximum(v, 0.0) for v in new[:7]]
         t = new[7]
         # Saturation adjustment (Newton on liquid saturation).

@@ -39,6 +39,15 @@ pub fn reconcile(exp: &Experiment, state: &mut State) {
     }
 }
 
+/// Sets the ion carrier's charge density (C m-3) to e (n+ - n-) from the
+/// ion numbers (m-3) after they have moved.
+pub fn set_carrier(charge: &mut [f64], n_ion: &[Vec<f64>; 2]) {
+    let [np, nn] = n_ion;
+    for (c, (p, m)) in charge.iter_mut().zip(np.iter().zip(nn)) {
+        *c = ELEMENTARY_CHARGE * (p - m);
+    }
+}
+
 /// Number (m-3), mean radius (m) and mean charge (C) of the particles of
 /// `sp` in cell `k`, when the species is present.
 fn population(
@@ -166,11 +175,5 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     ledger.conducted_out_top += totals.out_top;
     ledger.corona += totals.corona;
     state.corona_current = totals.corona_current;
-    let [np, nn] = &state.n_ion;
-    for (c, (p, m)) in state.charge[Carrier::Ions.index()]
-        .iter_mut()
-        .zip(np.iter().zip(nn))
-    {
-        *c = e * (p - m);
-    }
+    set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
 }

@@ -11,7 +11,7 @@ use crate::physics::carriers::Carrier;
 use crate::physics::charging::{rayleigh_limit, SharedCharge};
 use crate::physics::constants::T_MELT;
 use crate::physics::initiation::hydrometeor::{
-    corona_limited_density, shared_surface_charge, surface_field_of_density, tail_diameter,
+    corona_limited_density, holds_a_particle, surface_field_of_density, tail_diameter,
 };
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
@@ -19,13 +19,11 @@ use crate::setup::experiment::Experiment;
 /// The charged particles of one species in one cell.
 struct Tail {
     species: Species,
-    /// The shared charge: density (C m-3), slope and intercept.
+    /// The shared charge: density (C m-3), slope and intercept. Its surface
+    /// charge density is the same for every particle
+    /// ([`SharedCharge::surface_density`]), so the corona test of the
+    /// largest particle needs no diameter; only the Rayleigh limit does.
     shared: SharedCharge,
-    /// Surface charge density of every particle (C m-2): with the charge
-    /// shared by surface area it does not depend on the size
-    /// ([`shared_surface_charge`]), so the corona test of the largest
-    /// particle needs no diameter; only the Rayleigh limit does.
-    sigma: f64,
     /// Ambient onset field (V m-1) for its kind (drop or ice).
     onset: f64,
 }
@@ -49,8 +47,7 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
     let f = exp.micro_params();
     let dist = f.exponential(sp)?;
     let shared = SharedCharge::of(dist, rho, q, state.charge[Carrier::of(sp).index()][k])?;
-    // At least one particle per m3: N0/lambda > 1 (`tail_diameter`).
-    if !(shared.lambda.is_finite() && shared.n0 / shared.lambda > 1.0) {
+    if !holds_a_particle(shared.n0, shared.lambda) {
         return None;
     }
     let c = &exp.criteria_thresholds;
@@ -62,7 +59,6 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
     };
     Some(Tail {
         species: sp,
-        sigma: shared_surface_charge(shared.density, shared.lambda, shared.n0),
         shared,
         onset,
     })
@@ -82,7 +78,8 @@ pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) {
         let e = ambient(state, k);
         for sp in LARGE {
             if let Some(t) = tail(exp, state, sp, k) {
-                let ratio = surface_field_of_density(e, t.sigma, f) / (f * t.onset);
+                let ratio =
+                    surface_field_of_density(e, t.shared.surface_density(), f) / (f * t.onset);
                 *r = r.max(ratio);
             }
         }
@@ -101,7 +98,7 @@ pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
             let Some(t) = tail(exp, state, sp, k) else {
                 continue;
             };
-            let sigma = t.sigma.abs();
+            let sigma = t.shared.surface_density().abs();
             if sigma == 0.0 {
                 continue;
             }

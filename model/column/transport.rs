@@ -60,7 +60,7 @@ fn too_many(state: &State, what: &str, n: usize) -> RunError {
 /// Advection, then sedimentation, over one step of `dt` s.
 pub fn transport(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
     advect_all(exp, state, dt)?;
-    if exp.eddy_diffusivity > 0.0 {
+    if exp.config.column.eddy_diffusivity > 0.0 {
         diffuse_all(exp, state, dt);
     }
     if exp.microphysics != Mode::Off {
@@ -226,9 +226,7 @@ fn advect_ions(
     }
     let e = crate::physics::constants::ELEMENTARY_CHARGE;
     *out.advected_in += e * (net[0] - net[1]);
-    for k in 0..n {
-        out.charge[k] = e * (out.ions[0][k] - out.ions[1][k]);
-    }
+    crate::column::ions::set_carrier(out.charge, out.ions);
 }
 
 /// Advects a field held per cubic metre (`density`: charge or ion number)
@@ -337,12 +335,11 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
 /// as departures from the clear-air concentration. Column totals are
 /// conserved, so no budget term changes.
 fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
-    let rho = &exp.base.centre.density;
     let base = &exp.base.centre;
     let sc = &mut state.transport_scratch;
-    sc.diffusion.factorise(
-        exp.eddy_diffusivity,
-        rho,
+    sc.diffusion.prepare(
+        exp.config.column.eddy_diffusivity,
+        &base.density,
         &exp.base.face.density,
         exp.grid.dz,
         dt,
@@ -357,38 +354,28 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         d.apply(&mut state.q[sp.index()], env);
     }
     d.apply(&mut state.n_ice, None);
+    // Per-volume fields (charge densities, ion numbers) mix as amounts per
+    // kilogram of air, like the specific quantities.
+    let per_mass = |x: &mut [f64], env: Option<&[f64]>, work: &mut [f64]| {
+        for (f, (v, cell)) in work.iter_mut().zip(x.iter().zip(&exp.cell_env)) {
+            *f = v * cell.inv_rho;
+        }
+        d.apply(work, env);
+        for (v, (f, r)) in x.iter_mut().zip(work.iter().zip(&base.density)) {
+            *v = f * r;
+        }
+    };
     let ions_on = exp.ions.enabled;
     for c in Carrier::ALL
         .iter()
         .filter(|c| c.advected() && !(ions_on && **c == Carrier::Ions))
     {
-        let charge = &mut state.charge[c.index()];
-        for (f, (x, cell)) in sc.field.iter_mut().zip(charge.iter().zip(&exp.cell_env)) {
-            *f = x * cell.inv_rho;
-        }
-        d.apply(&mut sc.field, None);
-        for (x, (f, r)) in charge.iter_mut().zip(sc.field.iter().zip(rho)) {
-            *x = f * r;
-        }
+        per_mass(&mut state.charge[c.index()], None, &mut sc.field);
     }
     if ions_on {
-        let env = &exp.ions.environment_specific;
         for ions in state.n_ion.iter_mut() {
-            for (f, (x, cell)) in sc.field.iter_mut().zip(ions.iter().zip(&exp.cell_env)) {
-                *f = x * cell.inv_rho;
-            }
-            d.apply(&mut sc.field, Some(env));
-            for (x, (f, r)) in ions.iter_mut().zip(sc.field.iter().zip(rho)) {
-                *x = f * r;
-            }
+            per_mass(ions, Some(&exp.ions.environment_specific), &mut sc.field);
         }
-        let e = crate::physics::constants::ELEMENTARY_CHARGE;
-        let [np, nn] = &state.n_ion;
-        for (c, (p, m)) in state.charge[Carrier::Ions.index()]
-            .iter_mut()
-            .zip(np.iter().zip(nn))
-        {
-            *c = e * (p - m);
-        }
+        crate::column::ions::set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
     }
 }

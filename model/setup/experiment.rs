@@ -72,8 +72,6 @@ pub struct Experiment {
     /// Turbulent fractional entrainment rate epsilon = coefficient / radius
     /// (m-1); zero when the column is closed (`column.entrainment = "off"`).
     pub entrainment_rate: f64,
-    /// Vertical eddy diffusivity K (m2 s-1); zero: no turbulent mixing.
-    pub eddy_diffusivity: f64,
     /// Air mass per area of each cell, rho dz (kg m-2).
     pub cell_mass: Vec<f64>,
     /// Files the configuration made the run read (a sounding CSV): an
@@ -238,7 +236,6 @@ impl Experiment {
         let updraft_shape = updraft.shape_factors(&grid.z_face);
         let entrainment_rate = resolve::entrainment_rate(&config.column);
         let cell_mass = base.centre.density.iter().map(|r| r * grid.dz).collect();
-        let eddy_diffusivity = config.column.eddy_diffusivity;
         let ions = resolve::ions(&config.ions, &grid.z, &base.centre).map_err(err)?;
         Ok(Experiment {
             config,
@@ -256,7 +253,6 @@ impl Experiment {
             charging_params,
             cell_env,
             entrainment_rate,
-            eddy_diffusivity,
             cell_mass,
             input_files,
             updraft_shape,

@@ -381,6 +381,13 @@ impl SharedCharge {
     pub fn at_diameter(&self, d: f64) -> f64 {
         self.density * d * d * self.lambda.powi(3) / (2.0 * self.n0)
     }
+
+    /// Surface charge density (C m-2) of every particle: the charge of
+    /// [`Self::at_diameter`] over the area pi D^2, density lambda^3/(2 pi N0),
+    /// the same for every size (derived).
+    pub fn surface_density(&self) -> f64 {
+        self.density * self.lambda.powi(3) / (2.0 * std::f64::consts::PI * self.n0)
+    }
 }
 
 /// Mean charge per particle (C) and mean radius (m) of an exponential

@@ -26,7 +26,6 @@
 //! "drastically reduced").
 
 use crate::physics::constants::EPSILON_0;
-use std::f64::consts::PI;
 
 /// Corona-onset fields (ambient, V m-1) from the laboratory.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -71,36 +70,29 @@ impl CoronaOnset {
     }
 }
 
+/// Whether an exponential distribution N0 exp(-lambda D) holds at least
+/// one particle per m3 (N0/lambda > 1), so that its largest particle of
+/// [`tail_diameter`] exists.
+pub fn holds_a_particle(n0: f64, lambda: f64) -> bool {
+    lambda.is_finite() && n0 / lambda > 1.0
+}
+
 /// Diameter (m) of the largest particle per cubic metre of an exponential
 /// distribution N0 exp(-lambda D): N(>D) = (N0/lambda) e^(-lambda D) = 1,
 /// D = ln(N0/lambda)/lambda; `None` when the species has less than one
 /// particle per m3.
 pub fn tail_diameter(n0: f64, lambda: f64) -> Option<f64> {
-    let n = n0 / lambda;
-    (lambda.is_finite() && n > 1.0).then(|| n.ln() / lambda)
+    holds_a_particle(n0, lambda).then(|| (n0 / lambda).ln() / lambda)
 }
 
-/// Largest surface field (V m-1) of a conducting sphere of radius `r` (m)
-/// holding charge `q` (C) in the ambient field `e` (V m-1), with the
-/// polarisation enhancement `enhancement` (3 for a sphere).
-pub fn surface_field(e: f64, q: f64, r: f64, enhancement: f64) -> f64 {
-    enhancement * e.abs() + q.abs() / (4.0 * PI * EPSILON_0 * r * r)
-}
-
-/// Surface charge density (C m-2) of every particle of an exponential
-/// species N0 exp(-lambda D) whose charge density `density` (C m-3) is
-/// shared in proportion to surface area: q(D) = density D^2 lambda^3/(2 N0)
-/// ([`crate::physics::charging::SharedCharge::at_diameter`]) over the
-/// area pi D^2, the same for every size (derived). Its own part of the
-/// surface field, sigma/eps0, is therefore that of the largest particle
-/// too: the corona test needs no particle size.
-pub fn shared_surface_charge(density: f64, lambda: f64, n0: f64) -> f64 {
-    density * (lambda * lambda * lambda) / (2.0 * PI * n0)
-}
-
-/// Largest surface field (V m-1) of a particle with surface charge density
-/// `sigma` (C m-2) in the ambient field `e` (V m-1): f |E| + |sigma|/eps0,
-/// [`surface_field`] with q = sigma 4 pi r^2.
+/// Largest surface field (V m-1) of a conducting sphere with surface charge
+/// density `sigma` (C m-2; a charge Q on radius r is Q/(4 pi r^2)) in the
+/// ambient field `e` (V m-1), with the polarisation enhancement
+/// `enhancement` (3 for a sphere): f |E| + |sigma|/eps0 (the module's
+/// superposition). With the charge shared by surface area every particle
+/// of a species has the same sigma
+/// ([`crate::physics::charging::SharedCharge::surface_density`]), so the
+/// largest particle's own part needs no diameter.
 pub fn surface_field_of_density(e: f64, sigma: f64, enhancement: f64) -> f64 {
     enhancement * e.abs() + sigma.abs() / EPSILON_0
 }
@@ -108,22 +100,10 @@ pub fn surface_field_of_density(e: f64, sigma: f64, enhancement: f64) -> f64 {
 /// Largest surface charge density (C m-2) a particle can keep in the
 /// ambient field `e` before its surface field reaches `enhancement` times
 /// the ambient onset `onset`: eps0 f (onset - |E|), zero when the ambient
-/// field alone reaches onset, infinite without onset ([`corona_limited_charge`]
-/// over 4 pi r^2).
+/// field alone reaches onset, infinite without onset.
 pub fn corona_limited_density(e: f64, enhancement: f64, onset: f64) -> f64 {
     if !onset.is_finite() {
         return f64::INFINITY;
     }
     (EPSILON_0 * enhancement * (onset - e.abs())).max(0.0)
-}
-
-/// Largest charge magnitude (C) a particle of radius `r` can keep in the
-/// ambient field `e` before its surface field reaches `enhancement` times
-/// the ambient onset field `onset`: 4 pi eps0 r^2 f (onset - |E|), zero when
-/// the ambient field alone reaches onset.
-pub fn corona_limited_charge(e: f64, r: f64, enhancement: f64, onset: f64) -> f64 {
-    if !onset.is_finite() {
-        return f64::INFINITY;
-    }
-    (4.0 * PI * EPSILON_0 * r * r * enhancement * (onset - e.abs())).max(0.0)
 }

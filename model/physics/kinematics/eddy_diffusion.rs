@@ -40,6 +40,8 @@ pub struct Diffusion {
     upper: Vec<f64>,
     /// 1 / (b_k - a_k c'_(k-1)) of the forward sweep.
     pivot: Vec<f64>,
+    /// The diffusivity and step the matrix was factorised for.
+    factorised_for: Option<(f64, f64)>,
 }
 
 impl Diffusion {
@@ -49,6 +51,16 @@ impl Diffusion {
             lower: vec![0.0; n],
             upper: vec![0.0; n],
             pivot: vec![0.0; n],
+            factorised_for: None,
+        }
+    }
+
+    /// Factorises the matrix ([`Self::factorise`]) unless it already is for
+    /// this diffusivity and step: the densities and the spacing of a run are
+    /// fixed, so a run with a constant step factorises once.
+    pub fn prepare(&mut self, k: f64, rho: &[f64], rho_face: &[f64], dz: f64, dt: f64) {
+        if self.factorised_for != Some((k, dt)) {
+            self.factorise(k, rho, rho_face, dz, dt);
         }
     }
 
@@ -76,6 +88,7 @@ impl Diffusion {
             self.upper[i] = c * pivot;
             previous_upper = self.upper[i];
         }
+        self.factorised_for = Some((k, dt));
     }
 
     /// Diffuses the specific quantity `x` over the factorised step, its

@@ -217,20 +217,18 @@ fn insert(table: &mut Table, path: &str, value: Value) -> Result<(), ConfigIssue
     Ok(())
 }
 
-/// Keys that earlier versions read and this one replaced: (old, new).
-const RETIRED: [(&str, &str); 1] = [(
+/// Keys that earlier versions read and this one replaced: (old, new, why).
+const RETIRED: [(&str, &str, &str); 1] = [(
     "charging.inductive_droplet_diameter",
     "microphysics.droplet_diameter",
+    "one droplet size for the whole model",
 )];
 
 fn unknown_key(path: &str, line: Option<usize>, suffix: &str) -> ConfigIssue {
-    if let Some((_, new)) = RETIRED.iter().find(|(old, _)| *old == path) {
-        return ConfigIssue::new(
-            path,
-            format!("key replaced by `{new}` (one droplet size for the whole model){suffix}"),
-        )
-        .allowed(format!("`{new}`"))
-        .line(line);
+    if let Some((_, new, why)) = RETIRED.iter().find(|(old, _, _)| *old == path) {
+        return ConfigIssue::new(path, format!("key replaced by `{new}` ({why}){suffix}"))
+            .allowed(format!("`{new}`"))
+            .line(line);
     }
     let section = path.rsplit_once('.').map_or("", |(s, _)| s);
     let valid = if schema::is_section(section) || section.is_empty() {
