@@ -375,7 +375,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(0.0, false, 1.0e4, false),
         unit: "m2 s-1",
         default: Some("0.0"),
-        doc: "Vertical eddy diffusivity K of the turbulence inside the column (first-order closure, docs/transport.md): every transported quantity is mixed as its departure from the base state. 0 (the default) turns it off; no published value fits a one-dimensional column, and docs/numerics.md measures its effect on convergence.",
+        doc: "Vertical eddy diffusivity K of the turbulence inside the column (first-order closure, docs/transport.md): every transported quantity is mixed as its departure from the base state. 0 (the default) turns it off; the demo takes 100, estimated from dissipation rates measured in clouds (docs/transport.md), and docs/numerics.md measures its effect on convergence.",
     },
     KeySpec {
         path: "microphysics.scheme",
