@@ -12,14 +12,18 @@ flatters NumPy where it differs:
   intercepts and efficiencies of docs/microphysics.md (warm rain,
   deposition, riming with the wet-growth limit of Musil 1970, rime
   splintering after Hallett & Mossop 1974, collection of ice and snow and of
-  supercooled rain by graupel, Bigg freezing, melting), integrated with one
+  supercooled rain by graupel, Bigg freezing, drops freezing on the
+  crystals they collect within the heat they can give off, melting),
+  integrated with one
   fixed step of the three-stage Bogacki & Shampine (1989) method (the Rust
   model adapts the step under error control);
 - saturation adjustment (Newton, three iterations), Meyers et al. (1992)
   nucleation, homogeneous freezing below -40 degC;
-- limited (monotonised-central) flux-form advection by the updraft with
-  entrainment of environmental air (epsilon = 0.2/R), sub-stepped to
-  Courant number 1; sedimentation by mass-weighted speeds with the same
+- limited (monotonised-central) flux-form advection by the demo's updraft
+  (a table profile strongest at 8 km) with entrainment of environmental air
+  (epsilon = 0.2/R), sub-stepped to Courant number 1; eddy diffusion
+  (K = 100 m2 s-1, backward Euler, the inverse of its tridiagonal matrix
+  formed once and applied to every field as one matrix product); sedimentation by mass-weighted speeds with the same
   limited second-order fluxes, sub-stepped to Courant number 0.5;
 - non-inductive graupel-ice and snow-ice charging of Saunders & Peck
   (1998) with the size and speed factors of Saunders et al. (1991), in two
@@ -99,6 +103,7 @@ class Species:
         self.sweep_c = math.pi * a * n0 * gamma(3.0 + b) / 4.0
         self.vm_c = a * gamma(4.0 + b) / 6.0
         self.vent_c = 0.31 * (NU / 2.26e-5) ** (1.0 / 3.0) * gamma(0.5 * (b + 5.0)) * math.sqrt(a)
+        self.mass_sweep_c = math.pi ** 2 / 24.0 * n0 * rho_p * a * gamma(6.0 + b)
 
     def slope(self, rho, q):
         return np.where(q > 1e-12, (self.mass_slope / (rho * np.maximum(q, 1e-12))) ** 0.25, 0.0)
@@ -106,6 +111,11 @@ class Species:
     def sweep(self, lam, corr):
         """Rate coefficient of continuous collection (s-1), LFO83 Eq. 24 form."""
         return np.where(lam > 0.0, self.sweep_c * corr / np.where(lam > 0, lam, 1.0) ** (3.0 + self.b), 0.0)
+
+    def mass_sweep(self, lam, corr):
+        """Mass of this species swept per collector per unit time (kg s-1),
+        LFO83 Eq. 26 form (P_iacr per crystal)."""
+        return np.where(lam > 0.0, self.mass_sweep_c * corr / np.where(lam > 0, lam, 1.0) ** (6.0 + self.b), 0.0)
 
     def vm(self, lam, corr):
         return np.where(lam > 0.0, self.vm_c * corr / np.where(lam > 0, lam, 1.0) ** self.b, 0.0)
@@ -205,12 +215,24 @@ def main():
     rain = Species(8e6, RHO_W, 842.0, 0.8, 0.4)
     snow = Species(3e6, 100.0, 4.836, 0.25, 0.5)
     graupel = Species(4e5, 400.0, 1.3 * 1000 ** 0.66, 0.66, 0.5)
-    # Updraft: sine from 0 to 13 km, 12 m/s, pulse 900/1200/900 s.
-    shape = np.where(z < 13000.0, np.sin(math.pi * z / 13000.0), 0.0)
+    # Updraft: the demo's table profile (factor of 12 m/s at 0, 1, 3, 5,
+    # 8, 10, 13 km), pulse 900/1200/900 s.
+    up_z = [0.0, 1000.0, 3000.0, 5000.0, 8000.0, 10000.0, 13000.0]
+    up_f = [0.0, 0.25, 0.5, 0.7, 1.0, 0.9, 0.0]
+    shape = np.interp(z, up_z, up_f, right=0.0)
     zf = np.arange(1, n) * dz
-    shape_f = np.where(zf < 13000.0, np.sin(math.pi * zf / 13000.0), 0.0)
+    shape_f = np.interp(zf, up_z, up_f, right=0.0)
     rho_f = 0.5 * (rho[1:] + rho[:-1])
     eps_ent = 0.2 / 3000.0
+    # Eddy diffusion, backward Euler in flux form with no flux at the ends:
+    # (rho x)_new - dt/dz^2 [rho_f K (x_new_{k+1} - x_new_k) - ...] = (rho x)_old.
+    k_eddy = 100.0
+    a_mat = np.diag(rho.copy())
+    cpl = dt * k_eddy * rho_f / dz ** 2
+    for k in range(n - 1):
+        a_mat[k, k] += cpl[k]; a_mat[k + 1, k + 1] += cpl[k]
+        a_mat[k, k + 1] -= cpl[k]; a_mat[k + 1, k] -= cpl[k]
+    diffuse_t = (np.linalg.inv(a_mat) * rho[None, :]).T  # x_new = x_old @ diffuse_t
 
     # Field response: potential-free finite column of radius R, field at
     # cell centres from uniform disks (E of a disk on its axis).
@@ -271,6 +293,13 @@ def main():
                          * lsi ** 4 * lgi * (5 * lsi ** 2 + 2 * lsi * lgi + 0.5 * lgi ** 2), 0.0)
         r2g_c = np.where(cold, math.pi ** 2 * graupel.n0 * rain.n0 * np.abs(vg - vr) * (RHO_W / rho)
                          * lri ** 4 * lgi * (5 * lri ** 2 + 2 * lri * lgi + 0.5 * lgi ** 2), 0.0)
+        # Drops freezing on the crystals they collect (LFO83 P_raci, P_iacr),
+        # no faster than the drops can give off the heat (Musil 1970).
+        crystals = cold & (qi > 0) & (ni > 0) & (lr > 0)
+        raci = np.where(crystals, rain.sweep(lr, corr["r"]) * qi, 0.0)
+        cap_r = np.maximum((2 * math.pi * rain.vent(lr, air) * (K_AIR * (T0 - t) + LV * PSI * (4.85e-3 - rho * qv)) / rho
+                            + 2106.0 * (T0 - t) * raci) / (LF - 4218.0 * (T0 - t)), 0.0)
+        iacr = np.where(crystals, np.minimum(ni * rain.mass_sweep(lr, corr["r"]), cap_r), 0.0)
         liquid = by_g + r2g_c
         cap = np.maximum((2 * math.pi * graupel.vent(lg, air) * (K_AIR * (T0 - t) + LV * PSI * (4.85e-3 - rho * qv)) / rho
                           + 2106.0 * (T0 - t) * (i2g + s2g_c)) / (LF - 4218.0 * (T0 - t)), 0.0)
@@ -287,15 +316,15 @@ def main():
         melt_g = np.where(~cold, 2 * math.pi * K_AIR / LF * (t - T0) * graupel.vent(lg, air) / rho, 0.0)
         dv = -(dep_i + dep_s + dep_g) + evap
         dc = -(auto + accr + c2s + c2g + shed + spl)
-        dr = auto + accr + shed - evap - bigg - r2g_c + melt_s + melt_g
-        dii = dep_i + spl - i2s - i2g
+        dr = auto + accr + shed - evap - bigg - r2g_c - iacr + melt_s + melt_g
+        dii = dep_i + spl - i2s - i2g - raci
         ds = dep_s + i2s + c2s - s2g - s2g_c - melt_s
-        dg = dep_g + c2g + s2g + s2g_c + bigg + r2g_c + i2g - melt_g
-        dni = np.where(qi > 0, (-(i2s + i2g)) * ni / np.maximum(qi, 1e-30), 0.0) + spl * 1e12
+        dg = dep_g + c2g + s2g + s2g_c + bigg + r2g_c + iacr + raci + i2g - melt_g
+        dni = np.where(qi > 0, (-(i2s + i2g + raci)) * ni / np.maximum(qi, 1e-30), 0.0) + spl * 1e12
         dtemp = (-LV * evap + LS * (dep_i + dep_s + dep_g)
-                 + LF * (c2s + c2g + spl + bigg + r2g_c - melt_s - melt_g)) / CP
-        transfers = (auto + accr + shed, c2s, c2g, spl, i2s, i2g, s2g + s2g_c, bigg + r2g_c, melt_s, melt_g, evap,
-                     dep_i, dep_s, dep_g)
+                 + LF * (c2s + c2g + spl + bigg + r2g_c + iacr - melt_s - melt_g)) / CP
+        transfers = (auto + accr + shed, c2s, c2g, spl, i2s, i2g + raci, s2g + s2g_c, bigg + r2g_c + iacr, melt_s,
+                     melt_g, evap, dep_i, dep_s, dep_g)
         return dv, dc, dr, dii, ds, dg, dni, dtemp, transfers
 
     n_env = n_pos.copy()
@@ -420,6 +449,14 @@ def main():
         ion_env = n_env / rho
         n_pos[:] = rho * (ion_env + (ion_pos - ion_env) * ent)
         n_neg[:] = rho * (ion_env + (ion_neg - ion_env) * ent)
+        # Eddy diffusion of every field as its departure from the base state.
+        mixed = np.vstack([th - th_env, qv - qv_env, qc, qr, qi, qs, qg, ni, chg,
+                           n_pos / rho - ion_env, n_neg / rho - ion_env]) @ diffuse_t
+        th[:] = th_env + mixed[0]; qv[:] = qv_env + mixed[1]
+        for j, f in enumerate((qc, qr, qi, qs, qg, ni)):
+            f[:] = mixed[2 + j]
+        chg[:] = mixed[8:13]
+        n_pos[:] = rho * (ion_env + mixed[13]); n_neg[:] = rho * (ion_env + mixed[14])
         # Charging, first half (SP98 graupel-ice and snow-ice).
         charging(qv, qc, qr, qi, qs, qg, th * exner, ni, 0.5 * dt)
         # Microphysics: one Bogacki-Shampine step of the rates.
