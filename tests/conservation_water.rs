@@ -38,6 +38,10 @@ fn saturation_adjustment_reaches_saturation_and_conserves() {
         (0.004, 0.002, 275.0),
         (0.002, 0.0005, 268.0),
         (0.01, 0.0, 290.0),
+        // Subsaturated air with a trace or a little cloud water: all of it
+        // evaporates and the air stays subsaturated.
+        (0.002, 1e-20, 290.0),
+        (0.003, 1e-4, 295.0),
     ] {
         let mut s = CellState {
             q: [qv, qc, 0.0, 0.0, 0.0, 0.0],
@@ -54,6 +58,7 @@ fn saturation_adjustment_reaches_saturation_and_conserves() {
             assert!((rh - 1.0).abs() < 1e-6, "RH {rh}");
         } else {
             assert!(rh <= 1.0 + 1e-6);
+            assert_eq!(s.q[0], qv + qc);
         }
     }
 }

@@ -40,6 +40,17 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     if fd.0 <= 0.0 && qc0 <= 0.0 {
         return 0.0; // subsaturated, no cloud to evaporate
     }
+    // Subsaturated air that stays subsaturated (or just saturated) with all
+    // its cloud water evaporated: f decreases with c, so the root lies at or
+    // below -qc0 and the clipped result below is -qc0 itself. The Newton
+    // iterations would reach the same value; skipping them matters where
+    // eddy mixing carries traces of cloud water into clear air.
+    if fd.0 <= 0.0 && f(-qc0).0 <= 0.0 {
+        s.q[VAPOUR] = qv0 + qc0;
+        s.q[CLOUD] = 0.0;
+        s.t = t0 - L_OVER_CP * qc0;
+        return -qc0;
+    }
     // Newton converges quadratically: the error after a step of size d is
     // about |f''/(2 f')| d^2, with f''/(2 f') of order 1e2 kg kg-1 (r_s'' (L_v/c_p)^2
     // over 2 |f'|, from Clausius-Clapeyron) for tropospheric states, so after
