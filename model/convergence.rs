@@ -146,6 +146,15 @@ struct Collector {
     pre_flash_time: f64,
     pre_flash_regions: Vec<Region>,
     pre_flash_records: usize,
+    /// Sums over the records from the first flash on of the main negative,
+    /// upper positive and lower positive regions' charge, height and
+    /// temperature, with the number of records holding each region
+    /// (`flashing`), and those sums at the last record that saw a new flash
+    /// (`flashing_stage`): the mean structure of the flashing stage.
+    flashing: [[f64; 4]; 3],
+    flashing_stage: [[f64; 4]; 3],
+    /// Flashes booked at the previous record.
+    flashing_flashes: usize,
 }
 
 impl Collector {
@@ -184,12 +193,31 @@ impl Observer for Collector {
             }));
         }
         let t = state.temperatures(exp);
-        // The record's regions when either set below needs them (before the
-        // first flash the separation usually grows, so often both do).
+        // The record's regions: every set below needs them at some record
+        // (before the first flash, at the largest separation, and at every
+        // record of the flashing stage).
         let sep = separation(&state.charge_total, exp.grid.dz);
         let (pre_flash, best) = (self.flashes == 0, sep > self.best_separation);
-        if pre_flash || best {
+        let flashes_before = self.flashing_flashes;
+        self.flashing_flashes = self.flashes;
+        {
             let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+            if !pre_flash {
+                for (sum, r) in self
+                    .flashing
+                    .iter_mut()
+                    .zip(crate::analysis::tripole_regions(&regs))
+                {
+                    if let Some(r) = r {
+                        for (x, v) in sum.iter_mut().zip([r.charge, r.height, r.temperature, 1.0]) {
+                            *x += v;
+                        }
+                    }
+                }
+                if self.flashes > flashes_before {
+                    self.flashing_stage = self.flashing;
+                }
+            }
             if best {
                 self.best_separation = sep;
                 self.best_regions = regs.clone();
@@ -327,7 +355,50 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     // negative region, the largest positive region above it and the largest
     // below it (the three regions of a normal tripole).
     push_regions(&mut out, &c.best_regions, "", charge_unit, scale, true);
+    // Their means over the flashing stage (the records from the first
+    // flash to the one after the last), each over the records that hold
+    // it: in a flashing storm every tooth of the sawtooth reaches about the
+    // trigger, so the record of largest separation is a near tie between
+    // teeth, while the mean structure of the stage is well posed.
+    push_mean_regions(&mut out, &c.flashing_stage, charge_unit, scale);
     out
+}
+
+/// The flashing stage's mean main negative, upper positive and lower
+/// positive regions (sums and counts from [`Collector`]) as outcomes.
+fn push_mean_regions(
+    out: &mut Vec<(String, &'static str, f64)>,
+    sums: &[[f64; 4]; 3],
+    charge_unit: &'static str,
+    scale: f64,
+) {
+    for (label, sum) in ["main negative", "upper positive", "lower positive"]
+        .iter()
+        .zip(sums)
+    {
+        let mean = |i: usize| {
+            if sum[3] > 0.0 {
+                sum[i] / sum[3]
+            } else {
+                f64::NAN
+            }
+        };
+        out.push((
+            format!("flashing-stage {label} region charge"),
+            charge_unit,
+            mean(0) * scale,
+        ));
+        out.push((
+            format!("flashing-stage {label} region height"),
+            "km",
+            mean(1) / 1e3,
+        ));
+        out.push((
+            format!("flashing-stage {label} region temperature"),
+            "degC",
+            mean(2),
+        ));
+    }
 }
 
 /// The main negative, upper positive and lower positive regions of

@@ -208,6 +208,26 @@ fn converge_books_every_flash_once() {
                 upper.height / 1e3
             ) < 1e-12
         );
+        // The flashing stage's mean main negative region: over the records
+        // that had seen a flash, up to the last record that saw a new one.
+        let seen: Vec<usize> = rec
+            .times
+            .iter()
+            .map(|&t| rec.flashes.iter().filter(|f| f.time <= t).count())
+            .collect();
+        let last = (1..seen.len()).rfind(|&r| seen[r] > seen[r - 1]).unwrap();
+        let (mut sum, mut n) = (0.0, 0.0);
+        for r in (0..=last).filter(|&r| seen[r] > 0) {
+            let t = &rec.get("air_temperature")[r];
+            let rho = &rec.get("charge_density")[r];
+            let regs = stormcharge::analysis::regions(&exp.grid.z, exp.grid.dz, rho, t, 0.1);
+            if let Some(neg) = stormcharge::analysis::tripole_regions(&regs)[0] {
+                sum += neg.charge * area;
+                n += 1.0;
+            }
+        }
+        assert!(n >= 2.0);
+        assert!(rel(row("flashing-stage main negative region charge"), sum / n) < 1e-12);
         // A flashing storm's profiles are also compared up to that record.
         let names: Vec<&str> = s.profiles.iter().map(|p| p.name.as_str()).collect();
         assert_eq!(
