@@ -153,8 +153,6 @@ struct Collector {
     /// (`flashing_stage`): the mean structure of the flashing stage.
     flashing: [[f64; 4]; 3],
     flashing_stage: [[f64; 4]; 3],
-    /// Flashes booked at the previous record.
-    flashing_flashes: usize,
 }
 
 impl Collector {
@@ -175,6 +173,7 @@ impl Observer for Collector {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        let flashes_before = self.flashes;
         self.book_flashes(state);
         self.charge.push(state.charge_total.clone());
         self.field.push(state.field.clone());
@@ -198,35 +197,29 @@ impl Observer for Collector {
         // record of the flashing stage).
         let sep = separation(&state.charge_total, exp.grid.dz);
         let (pre_flash, best) = (self.flashes == 0, sep > self.best_separation);
-        let flashes_before = self.flashing_flashes;
-        self.flashing_flashes = self.flashes;
-        {
-            let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
-            if !pre_flash {
-                for (sum, r) in self
-                    .flashing
-                    .iter_mut()
-                    .zip(crate::analysis::tripole_regions(&regs))
-                {
-                    if let Some(r) = r {
-                        for (x, v) in sum.iter_mut().zip([r.charge, r.height, r.temperature, 1.0]) {
-                            *x += v;
-                        }
-                    }
-                }
-                if self.flashes > flashes_before {
-                    self.flashing_stage = self.flashing;
+        let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        if !pre_flash {
+            // Each region's sums stay in its own slot; an absent region adds
+            // nothing to its slot.
+            let stage = crate::analysis::tripole_regions(&regs);
+            for (sum, r) in self.flashing.iter_mut().zip(stage) {
+                let Some(r) = r else { continue };
+                for (x, v) in sum.iter_mut().zip([r.charge, r.height, r.temperature, 1.0]) {
+                    *x += v;
                 }
             }
-            if best {
-                self.best_separation = sep;
-                self.best_regions = regs.clone();
+            if self.flashes > flashes_before {
+                self.flashing_stage = self.flashing;
             }
-            if pre_flash {
-                self.pre_flash_records = self.charge.len();
-                self.pre_flash_time = state.time;
-                self.pre_flash_regions = regs;
-            }
+        }
+        if best {
+            self.best_separation = sep;
+            self.best_regions = regs.clone();
+        }
+        if pre_flash {
+            self.pre_flash_records = self.charge.len();
+            self.pre_flash_time = state.time;
+            self.pre_flash_regions = regs;
         }
         for sp in Species::HYDROMETEORS {
             let m = state.q[sp.index()].iter().fold(0.0_f64, |a, &b| a.max(b));

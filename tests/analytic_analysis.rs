@@ -109,17 +109,22 @@ density = 1.5
 "#
 );
 
+/// Runs [`LAYERS`] into the scratch file `<name>.nc` and returns its path.
+fn run_layers(name: &str) -> std::path::PathBuf {
+    let cfg = scratch(&format!("{name}.toml"));
+    std::fs::write(&cfg, LAYERS).unwrap();
+    let out = scratch(&format!("{name}.nc"));
+    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    out
+}
+
 #[test]
 fn analyze_command_finds_prescribed_layers() {
     // Known top-hat layers in (edges on cell faces), known regions out: the
     // heights, thicknesses and charges per area and in the column are those of
     // the layers exactly (charge = density x thickness), and the class is a
     // normal tripole.
-    let text = LAYERS;
-    let cfg = scratch("layers.toml");
-    std::fs::write(&cfg, text).unwrap();
-    let out = scratch("layers.nc");
-    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    let out = run_layers("layers");
     let json = scratch("layers.json");
     let o = succeed(bin().arg("analyze").arg(&out).arg("--json").arg(&json));
     assert!(String::from_utf8_lossy(&o.stdout).contains("normal_tripole"));
@@ -149,11 +154,7 @@ fn analyze_warns_when_the_stored_configuration_cannot_be_read() {
     // charges need the radius, so their absence is said on stderr, not
     // left silent (common practice: a tool says what it could not do).
     // The layers of the test above, whose charges the file loses.
-    let text = LAYERS;
-    let cfg = scratch("unreadable.toml");
-    std::fs::write(&cfg, text).unwrap();
-    let out = scratch("unreadable.nc");
-    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    let out = run_layers("unreadable");
     {
         let mut f = netcdf::append(&out).unwrap();
         f.add_attribute(

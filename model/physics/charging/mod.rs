@@ -22,6 +22,7 @@ use crate::physics::constants::T_MELT;
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::params::MicroParams;
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW};
+use crate::physics::microphysics::TINY;
 
 named_scheme! {
     #[tag = "scheme"]
@@ -187,10 +188,6 @@ fn separate(charge: &mut [f64; Carrier::COUNT], gainer: Carrier, loser: Carrier,
     charge[loser.index()] -= amount;
 }
 
-/// Smallest collector mixing ratio that charges (kg kg-1): the
-/// microphysics' smallest mixing ratio treated as present.
-const TRACE: f64 = 1e-14;
-
 /// Separates charge in one cell over `dt` s: updates the cell's carrier
 /// charge densities `charge` (C m-3, `Carrier::ALL` order) and returns the
 /// rates. Non-inductive separation first, then inductive charging, which
@@ -209,10 +206,11 @@ pub fn charge_cell(
     let (qc, qr, qi, qs, qg) = (q(CLOUD), q(RAIN), q(ICE), q(SNOW), q(GRAUPEL));
     // Every mechanism below needs a collector (graupel, snow or rain);
     // without one the cell's rates are zero and nothing else is computed.
-    // A collector below TRACE (the traces eddy mixing carries out of the
-    // cloud) makes collisions some fifteen orders of magnitude fewer than
-    // in the cloud and counts as absent.
-    if qg <= TRACE && qs <= TRACE && qr <= TRACE {
+    // A collector below the microphysics' smallest present mixing ratio
+    // (the traces eddy mixing carries out of the cloud) makes collisions
+    // some fifteen orders of magnitude fewer than in the cloud and counts
+    // as absent.
+    if qg <= TINY && qs <= TINY && qr <= TINY {
         return CellRates::default();
     }
     let lwc = rho * qc * 1e3;

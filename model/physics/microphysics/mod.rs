@@ -86,8 +86,9 @@ fn evaluate(
     *w = r.transfer_rates();
 }
 
-/// Smallest mixing ratio treated as present (kg kg-1).
-const TINY: f64 = 1e-14;
+/// Smallest mixing ratio treated as present (kg kg-1), by the
+/// microphysics and the charging alike.
+pub const TINY: f64 = 1e-14;
 
 /// What one cell's step did, for the charge that follows the mass.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
