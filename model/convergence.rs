@@ -131,6 +131,7 @@ struct Collector {
     field: Vec<Vec<f64>>,
     contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
     best_separation: f64,
+    best_time: f64,
     best_regions: Vec<Region>,
     max_q: [f64; 6],
     max_rain_content: f64,
@@ -192,11 +193,10 @@ impl Observer for Collector {
             }));
         }
         let t = state.temperatures(exp);
-        // The record's regions: every set below needs them at some record
-        // (before the first flash, at the largest separation, and at every
-        // record of the flashing stage).
-        let sep = separation(&state.charge_total, exp.grid.dz);
-        let (pre_flash, best) = (self.flashes == 0, sep > self.best_separation);
+        // The record's regions: the sets below need them at some record
+        // (before the first flash and at every record of the flashing
+        // stage); the largest separation is watched every step (`stepped`).
+        let pre_flash = self.flashes == 0;
         let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
         if !pre_flash {
             // Each region's sums stay in its own slot; an absent region adds
@@ -211,10 +211,6 @@ impl Observer for Collector {
             if self.flashes > flashes_before {
                 self.flashing_stage = self.flashing;
             }
-        }
-        if best {
-            self.best_separation = sep;
-            self.best_regions = regs.clone();
         }
         if pre_flash {
             self.pre_flash_records = self.charge.len();
@@ -241,6 +237,22 @@ impl Observer for Collector {
             self.max_warming = self.max_warming.max(sum / n as f64);
         }
         Ok(())
+    }
+
+    fn stepped(&mut self, exp: &Experiment, state: &State) {
+        // The largest separation over every step, not over the records: in
+        // a flashing storm the separation is a sawtooth that peaks in the
+        // step before each flash, and records every output interval sample
+        // it at a phase that differs between steps and spacings
+        // (docs/numerics.md). The regions are found only when a step beats
+        // the best so far.
+        let sep = separation(&state.charge_total, exp.grid.dz);
+        if sep > self.best_separation {
+            self.best_separation = sep;
+            self.best_time = state.time;
+            let t = state.temperatures(exp);
+            self.best_regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        }
     }
 
     fn finish(&mut self, _: &Experiment, state: &State, s: &RunSummary) -> Result<(), RunError> {
@@ -347,6 +359,12 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     // Charge regions at the record of largest charge separation: the main
     // negative region, the largest positive region above it and the largest
     // below it (the three regions of a normal tripole).
+    out.push((
+        "largest charge separation".into(),
+        charge_unit,
+        c.best_separation * scale,
+    ));
+    out.push((LARGEST_SEPARATION_TIME.into(), "s", c.best_time));
     push_regions(&mut out, &c.best_regions, "", charge_unit, scale, true);
     // Their means over the flashing stage (the records from the first
     // flash to the one after the last), each over the records that hold
@@ -453,6 +471,8 @@ pub fn level_overrides(
 
 /// Names of the two outcomes the sweep's per-member error estimate reads.
 pub(crate) const PEAK_FIELD: &str = "peak |E_z|";
+/// Name of the outcome that gives the time of the largest separation.
+const LARGEST_SEPARATION_TIME: &str = "time of the largest separation";
 pub(crate) const MAIN_NEGATIVE_CHARGE: &str = "main negative region charge";
 /// The outcome that holds the time of the last record before the first
 /// flash (not a number in a run without flashes).

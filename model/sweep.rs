@@ -217,7 +217,7 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
     Ok((keys, members))
 }
 
-/// Tracks the record of largest charge separation while a member runs.
+/// Tracks the step of largest charge separation while a member runs.
 #[derive(Default)]
 struct Watch {
     best: f64,
@@ -239,7 +239,7 @@ impl Observer for Watch {
         Ok(())
     }
 
-    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+    fn record(&mut self, _: &Experiment, state: &State) -> Result<(), RunError> {
         let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
         self.ratios.extend(
             state
@@ -248,6 +248,13 @@ impl Observer for Watch {
                 .iter()
                 .map(|f| f.criteria_ratio[runaway]),
         );
+        Ok(())
+    }
+
+    fn stepped(&mut self, exp: &Experiment, state: &State) {
+        // Every step, not every record: the separation of a flashing storm
+        // is a sawtooth that peaks in the step before a flash, and records
+        // sample it at an arbitrary phase (docs/numerics.md).
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best {
             self.best = sep;
@@ -257,7 +264,6 @@ impl Observer for Watch {
             self.regions = crate::analysis::tripole_regions(&r)
                 .map(|g| g.map_or([f64::NAN; 3], |g| [g.charge, g.height, g.temperature]));
         }
-        Ok(())
     }
 
     fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {

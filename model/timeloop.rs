@@ -46,6 +46,9 @@ pub fn run(
     for _ in 0..exp.schedule.steps {
         step(exp, &mut state, dt)?;
         summary.watch(exp, &state);
+        for o in observers.iter_mut() {
+            o.stepped(exp, &state);
+        }
         if state.step % exp.schedule.output_every == 0 {
             emit(&state, observers)?;
             // Every observer has taken the flashes so far: memory stays

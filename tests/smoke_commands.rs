@@ -522,6 +522,58 @@ fn converge_command_writes_its_tables() {
 }
 
 #[test]
+fn converge_finds_the_largest_separation_whatever_the_output_interval() {
+    // The largest charge separation is a maximum over time; in a flashing
+    // storm it peaks in the step before a flash. Records (every
+    // `output_interval`) sample it at an arbitrary phase, so an argmax
+    // over records would change with the interval. Watched after every
+    // step (common practice for a running extremum, like the peak field),
+    // it and the regions read there are the same for records every 60 s
+    // and every 600 s, and its time lies between records.
+    let run = |interval: &str| -> serde_json::Value {
+        let json = scratch(&format!("converge_interval_{interval}.json"));
+        succeed(
+            bin()
+                .arg("converge")
+                .arg(repo("configs/teaching_tripole.toml"))
+                .args(["--set", &format!("time.output_interval={interval}")])
+                .args(["--threads", "2", "--json"])
+                .arg(&json),
+        );
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+    };
+    let (fine, coarse) = (run("60"), run("600"));
+    let pick = |v: &serde_json::Value, name: &str| -> Vec<f64> {
+        v["series"][0]["outcomes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|o| o["name"] == name)
+            .unwrap_or_else(|| panic!("no outcome {name}"))["values"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_f64().unwrap_or(f64::NAN))
+            .collect()
+    };
+    for name in [
+        "largest charge separation",
+        "time of the largest separation",
+        "main negative region charge",
+        "upper positive region charge",
+        "lower positive region charge",
+    ] {
+        let (a, b) = (pick(&fine, name), pick(&coarse, name));
+        assert_eq!(a, b, "{name}: records every 60 s {a:?}, every 600 s {b:?}");
+    }
+    let t = pick(&fine, "time of the largest separation");
+    assert!(
+        t.iter().all(|t| t % 60.0 != 0.0),
+        "the peak falls between records here: {t:?}"
+    );
+}
+
+#[test]
 fn init_examples_are_complete_and_check_says_valid() {
     // Every commented-out example in the init text has a value (an empty
     // `key = ` would not parse when uncommented), `init --demo` writes the
