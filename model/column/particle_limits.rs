@@ -26,14 +26,9 @@ struct Tail {
     shared: SharedCharge,
     /// Ambient onset field (V m-1) for its kind (drop or ice).
     onset: f64,
-}
-
-impl Tail {
-    /// Diameter (m) of the largest particle (one per m3); it exists by
-    /// construction of the tail.
-    fn diameter(&self) -> f64 {
-        tail_diameter(self.shared.n0, self.shared.lambda).unwrap_or(0.0)
-    }
+    /// Diameter (m) of the largest drop (one per m3), for rain only: the
+    /// Rayleigh limit needs it, the corona test does not.
+    largest_drop: Option<f64>,
 }
 
 /// Precipitating species whose largest particles are examined.
@@ -47,9 +42,14 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
     let f = exp.micro_params();
     let dist = f.exponential(sp)?;
     let shared = SharedCharge::of(dist, rho, q, state.charge[Carrier::of(sp).index()][k])?;
-    if !holds_a_particle(shared.n0, shared.lambda) {
+    // The largest particle must exist; for rain its diameter is found once here.
+    let largest_drop = if sp == Species::Rain {
+        Some(tail_diameter(shared.n0, shared.lambda)?)
+    } else if holds_a_particle(shared.n0, shared.lambda) {
+        None
+    } else {
         return None;
-    }
+    };
     let c = &exp.criteria_thresholds;
     let p = exp.base.centre.pressure[k];
     let onset = if sp == Species::Rain {
@@ -61,6 +61,7 @@ fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> 
         species: sp,
         shared,
         onset,
+        largest_drop,
     })
 }
 
@@ -109,11 +110,9 @@ pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
             // the same for every size; the Rayleigh limit (drops only)
             // needs the largest drop's radius.
             let corona_share = corona_limited_density(e, f, t.onset) / sigma;
-            let rayleigh_share = if t.species == Species::Rain {
-                let d = t.diameter();
-                rayleigh_limit(0.5 * d) / t.shared.at_diameter(d).abs()
-            } else {
-                f64::INFINITY
+            let rayleigh_share = match t.largest_drop {
+                Some(d) => rayleigh_limit(0.5 * d) / t.shared.at_diameter(d).abs(),
+                None => f64::INFINITY,
             };
             let share = corona_share.min(rayleigh_share);
             if share >= 1.0 {
