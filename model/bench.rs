@@ -131,6 +131,7 @@ pub fn run(
         let dir = scratch.join(format!("sweep_{round}"));
         round += 1;
         std::fs::create_dir_all(&dir).map_err(|e| crate::output::io_error("creating", &dir, e))?;
+        let demo = crate::setup::config::ConfigText::plain(DEMO_TOML);
         let t = Instant::now();
         let outcomes: Vec<crate::sweep::Outcome> = pool.install(|| {
             (0..members)
@@ -140,7 +141,7 @@ pub fn run(
                         index: i + 1,
                         overrides: member_overrides.clone(),
                     };
-                    crate::sweep::run_member(DEMO_TOML, Path::new("."), &member, &dir)
+                    crate::sweep::run_member(&demo, Path::new("."), &member, &dir)
                 })
                 .collect()
         });

@@ -24,6 +24,7 @@ use crate::error::RunError;
 use crate::output::summary::RunSummary;
 use crate::output::Observer;
 use crate::physics::microphysics::species::Species;
+use crate::setup::config::ConfigText;
 use crate::setup::experiment::Experiment;
 use rayon::prelude::*;
 use std::path::Path;
@@ -490,12 +491,12 @@ impl LevelRun {
 
 /// Runs the experiment of `text` with `overrides` and collects outcomes.
 pub(crate) fn run_level(
-    text: &str,
+    text: &ConfigText,
     origin: &str,
     base_dir: &Path,
     overrides: &[String],
 ) -> Result<LevelRun, RunError> {
-    let exp = Experiment::from_text(text, origin, overrides, base_dir)?;
+    let exp = Experiment::from_config_text(text, origin, overrides, base_dir)?;
     let mut c = Collector::default();
     let mut obs: [&mut dyn Observer; 1] = [&mut c];
     crate::timeloop::run(&exp, &mut obs, &mut |_| {})?;
@@ -645,7 +646,7 @@ fn profile_row(
 /// Runs the convergence study: `levels` (at least 3) levels of each
 /// refinement, on `threads` workers (0: all cores).
 pub fn study(
-    text: &str,
+    text: &ConfigText,
     origin: &str,
     base_dir: &Path,
     overrides: &[String],
@@ -660,7 +661,7 @@ pub fn study(
                 .allowed("3 or more"),
         )));
     }
-    let base = Experiment::from_text(text, origin, overrides, base_dir)?;
+    let base = Experiment::from_config_text(text, origin, overrides, base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
     for refinement in [Refinement::Time, Refinement::Space] {

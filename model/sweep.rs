@@ -13,7 +13,7 @@ use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::netcdf_writer::NetcdfWriter;
 use crate::output::summary::RunSummary;
 use crate::output::Observer;
-use crate::setup::config::{Config, SweepCombine};
+use crate::setup::config::{Config, ConfigText, SweepCombine};
 use crate::setup::experiment::Experiment;
 use crate::timeloop;
 use rayon::prelude::*;
@@ -275,7 +275,7 @@ impl Observer for Watch {
 /// range or a relation between keys that fails stops the sweep at once
 /// with every offending member named (not hours later, half-way through).
 pub fn validate(
-    base_text: &str,
+    base_text: &ConfigText,
     base_dir: &Path,
     members: &[Member],
     shard: Option<(usize, usize)>,
@@ -287,7 +287,7 @@ pub fn validate(
         let mut overrides = m.overrides.clone();
         overrides.push("sweep.parameters=[]".into());
         let label = format!("member {} ({})", m.index, m.overrides.join(", "));
-        if let Err(e) = Experiment::from_text(base_text, &label, &overrides, base_dir) {
+        if let Err(e) = Experiment::from_config_text(base_text, &label, &overrides, base_dir) {
             failed += 1;
             if issues.len() < 20 {
                 for mut issue in e.issues {
@@ -335,11 +335,11 @@ fn failed_outcome(member: Member) -> Outcome {
 }
 
 /// Runs one member into `dir`.
-pub fn run_member(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
+pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
     let mut out = failed_outcome(member.clone());
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
-    let result = Experiment::from_text(
+    let result = Experiment::from_config_text(
         base_text,
         &format!("member {}", member.index),
         &overrides,
@@ -427,7 +427,12 @@ pub fn outcome_path(dir: &Path, index: usize) -> PathBuf {
 /// its file is marked complete, its stored configuration is exactly the one
 /// this member resolves to, and its outcome side file names the same
 /// member. `None` when any of that does not hold (the member is run again).
-pub fn reusable(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -> Option<Outcome> {
+pub fn reusable(
+    base_text: &ConfigText,
+    base_dir: &Path,
+    member: &Member,
+    dir: &Path,
+) -> Option<Outcome> {
     let file = dir.join(format!("member_{:04}.nc", member.index));
     let (stored, status) = crate::output::netcdf_writer::read_stored_configuration(&file).ok()?;
     if status != "complete" {
@@ -435,7 +440,7 @@ pub fn reusable(base_text: &str, base_dir: &Path, member: &Member, dir: &Path) -
     }
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
-    let exp = Experiment::from_text(base_text, "resume", &overrides, base_dir).ok()?;
+    let exp = Experiment::from_config_text(base_text, "resume", &overrides, base_dir).ok()?;
     if exp.config.to_toml() != stored {
         return None;
     }
@@ -476,7 +481,7 @@ pub fn in_shard(index: usize, shard: Option<(usize, usize)>) -> bool {
 /// threads (0: all cores), calling `progress` after each member.
 #[allow(clippy::too_many_arguments)]
 pub fn run(
-    base_text: &str,
+    base_text: &ConfigText,
     base_dir: &Path,
     members: &[Member],
     dir: &Path,

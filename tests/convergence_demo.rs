@@ -7,6 +7,7 @@ mod common;
 use common::*;
 
 use stormcharge::convergence::{study, Refinement};
+use stormcharge::setup::config::ConfigText;
 
 #[test]
 fn demo_charge_and_field_converge_at_first_order_in_time_and_space() {
@@ -21,7 +22,15 @@ fn demo_charge_and_field_converge_at_first_order_in_time_and_space() {
     // mixing gives a time ratio of 0.57, with K = 50 m2 s-1 0.88.
     let off = ["discharge.enabled=false".to_string()];
     let text = stormcharge::setup::config::DEMO_TOML;
-    let report = study(text, "demo", std::path::Path::new("."), &off, 3, 2).unwrap();
+    let report = study(
+        &ConfigText::plain(text),
+        "demo",
+        std::path::Path::new("."),
+        &off,
+        3,
+        2,
+    )
+    .unwrap();
     assert_eq!(report.series.len(), 2);
     for s in &report.series {
         for p in s
@@ -51,7 +60,15 @@ fn converge_compares_hydrometeor_contents_as_recorded() {
     let set = ["time.duration=1500", "discharge.enabled=false"];
     let over: Vec<String> = set.iter().map(|x| x.to_string()).collect();
     let text = stormcharge::setup::config::DEMO_TOML;
-    let report = study(text, "demo", std::path::Path::new("."), &over, 3, 2).unwrap();
+    let report = study(
+        &ConfigText::plain(text),
+        "demo",
+        std::path::Path::new("."),
+        &over,
+        3,
+        2,
+    )
+    .unwrap();
     let time = &report.series[0];
     let names: Vec<&str> = time.profiles.iter().map(|p| p.name.as_str()).collect();
     assert_eq!(
@@ -123,7 +140,15 @@ fn converge_reports_the_configured_error_of_a_prescribed_case() {
     // on the spacing).
     let text = std::fs::read_to_string(repo("configs/teaching_tripole.toml")).unwrap();
     let off = ["discharge.enabled=false".to_string()];
-    let report = study(&text, "teaching", &repo("configs"), &off, 3, 2).unwrap();
+    let report = study(
+        &ConfigText::plain(&text),
+        "teaching",
+        &repo("configs"),
+        &off,
+        3,
+        2,
+    )
+    .unwrap();
     assert_eq!(report.series.len(), 2);
     for s in &report.series {
         assert_eq!(s.steps.len(), 3);
@@ -163,7 +188,15 @@ fn converge_books_every_flash_once() {
     // (10602 s), between two records.
     let set = ["time.duration=10620", "time.output_interval=600"];
     let over: Vec<String> = set.iter().map(|x| x.to_string()).collect();
-    let report = study(&text, "flashes", &repo("configs"), &over, 3, 2).unwrap();
+    let report = study(
+        &ConfigText::plain(&text),
+        "flashes",
+        &repo("configs"),
+        &over,
+        3,
+        2,
+    )
+    .unwrap();
     let exp = config_file("tripole_flashes.toml", &set);
     let (rec, _) = run_recorded(&exp);
     assert!(rec.flashes.len() > 2);

@@ -384,6 +384,36 @@ fn included_configurations_report_the_line_of_the_file_that_holds_the_key() {
 }
 
 #[test]
+fn included_configurations_keep_their_lines_through_sweep_overrides() {
+    // A sweep with --set rewrites the merged text; an error in a base file's
+    // key must still name that file and line (common practice: errors name
+    // the place to edit).
+    let base = write(
+        "include_sweep_base.toml",
+        "[grid]\ntop = 16000.0\nspacing = 100.0\n\n[time]\nstep = -2.0\n",
+    );
+    let child = write(
+        "include_sweep_child.toml",
+        &format!(
+            "include = \"{}\"\n\n[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2000.0, 3000.0]\n",
+            base.file_name().unwrap().to_string_lossy()
+        ),
+    );
+    let out = std::env::temp_dir().join("include_sweep_out");
+    let o = bin()
+        .args(["sweep"])
+        .arg(&child)
+        .args(["--set", "time.duration=600", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_config_error(
+        &o,
+        &["time.step", &format!("(line 6 of {})", base.display())],
+    );
+}
+
+#[test]
 fn a_retired_key_names_its_replacement() {
     // charging.inductive_droplet_diameter became microphysics.droplet_diameter
     // (one droplet size for the whole model).

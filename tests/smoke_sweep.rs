@@ -554,8 +554,15 @@ values = [2000.0, 3000.0]
             format!("column.radius={radius:?}"),
             "sweep.parameters=[]".to_string(),
         ];
-        let report =
-            stormcharge::convergence::study(&text, "member", &repo("configs"), &set, 3, 2).unwrap();
+        let report = stormcharge::convergence::study(
+            &stormcharge::setup::config::ConfigText::plain(&text),
+            "member",
+            &repo("configs"),
+            &set,
+            3,
+            2,
+        )
+        .unwrap();
         for (name, outcome) in [
             ("peak_field", "peak |E_z|"),
             ("main_negative", "main negative region charge"),

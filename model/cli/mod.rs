@@ -4,7 +4,7 @@
 use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::netcdf_writer::{read_stored_configuration, NetcdfWriter};
 use crate::output::Observer;
-use crate::setup::config::{template, DEMO_TOML};
+use crate::setup::config::{template, ConfigText, DEMO_TOML};
 use crate::setup::experiment::Experiment;
 use crate::timeloop;
 use clap::{Parser, Subcommand};
@@ -332,7 +332,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
 }
 
 /// Reads a configuration file; a missing or unreadable file is a configuration error.
-fn read_config(path: &Path) -> Result<String, RunError> {
+fn read_config(path: &Path) -> Result<ConfigText, RunError> {
     let fail = |why: String| {
         RunError::Config(ConfigError::single(
             path.display().to_string(),
@@ -357,7 +357,7 @@ fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
         Some(path) => {
             let text = read_config(path)?;
             let dir = crate::output::directory_of(path);
-            Experiment::from_text(&text, &path.display().to_string(), set, dir)?
+            Experiment::from_config_text(&text, &path.display().to_string(), set, dir)?
         }
         None => Experiment::from_text(DEMO_TOML, "<embedded demo>", set, Path::new("."))?,
     })
@@ -638,7 +638,7 @@ fn cmd_converge(
             crate::output::directory_of(path).to_path_buf(),
         ),
         None => (
-            DEMO_TOML.to_string(),
+            ConfigText::plain(DEMO_TOML),
             "<embedded demo>".to_string(),
             PathBuf::from("."),
         ),
@@ -880,10 +880,12 @@ fn cmd_sweep(
     let origin = config.display().to_string();
     let mut text = read_config(config)?;
     if !set.is_empty() {
-        text = crate::setup::config::load::override_text(&text, &origin, set)?;
+        // The files behind the text stay those the user wrote: errors in
+        // their keys keep their lines.
+        text.text = crate::setup::config::load::override_text(&text.text, &origin, set)?;
     }
     let base_dir = crate::output::directory_of(config);
-    let resolved = crate::setup::config::parse(&text, &origin)?;
+    let resolved = crate::setup::config::parse_config_text(&text, &origin, &[])?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;
     crate::sweep::validate(&text, base_dir, &members, shard, &origin)?;
     let count = members

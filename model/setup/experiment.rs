@@ -267,7 +267,23 @@ impl Experiment {
         overrides: &[String],
         base_dir: &Path,
     ) -> Result<Self, ConfigError> {
-        let config = crate::setup::config::parse_with_overrides(text, origin, overrides)?;
+        Experiment::from_config_text(
+            &crate::setup::config::ConfigText::plain(text),
+            origin,
+            overrides,
+            base_dir,
+        )
+    }
+
+    /// [`Experiment::from_text`] on a text that may be merged from several
+    /// files (`include`), whose errors then name the file that holds a key.
+    pub fn from_config_text(
+        source: &crate::setup::config::ConfigText,
+        origin: &str,
+        overrides: &[String],
+        base_dir: &Path,
+    ) -> Result<Self, ConfigError> {
+        let config = crate::setup::config::parse_config_text(source, origin, overrides)?;
         Experiment::new(config, base_dir, origin)
     }
 }

@@ -58,7 +58,7 @@ pub fn config_file(name: &str, overrides: &[&str]) -> Experiment {
     let path = repo(&format!("configs/{name}"));
     let text = std::fs::read_to_string(&path).unwrap();
     let text = stormcharge::setup::config::load::resolve_include(&text, &path, 0).unwrap();
-    Experiment::from_text(&text, name, &o, &repo("configs")).unwrap()
+    Experiment::from_config_text(&text, name, &o, &repo("configs")).unwrap()
 }
 
 /// Runs an experiment into memory.

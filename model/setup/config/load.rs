@@ -17,6 +17,38 @@ pub fn parse_with_overrides(
     origin: &str,
     overrides: &[String],
 ) -> Result<Config, ConfigError> {
+    parse_config_text(&ConfigText::plain(text), origin, overrides)
+}
+
+/// A configuration's text together with the files it was merged from.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ConfigText {
+    /// The text to parse: one file's own, or the merge of an `include` chain.
+    pub text: String,
+    /// For a merged text, the files behind it, the including file first,
+    /// each with its own text: errors name the file and line that hold a
+    /// key, not a line of the merged text. Empty for a single file.
+    pub sources: Sources,
+}
+
+impl ConfigText {
+    /// Text that comes from one file (or from no file).
+    pub fn plain(text: &str) -> Self {
+        ConfigText {
+            text: text.to_string(),
+            sources: Vec::new(),
+        }
+    }
+}
+
+/// [`parse_with_overrides`] on a configuration text that may have been
+/// merged from several files.
+pub fn parse_config_text(
+    source: &ConfigText,
+    origin: &str,
+    overrides: &[String],
+) -> Result<Config, ConfigError> {
+    let text = source.text.as_str();
     let doc = toml_edit::ImDocument::parse(text).map_err(|e| {
         let line = e.span().map(|s| line_of_offset(text, s.start));
         ConfigError::single(
@@ -53,11 +85,8 @@ pub fn parse_with_overrides(
     // A configuration merged from an `include` has lines of its own files,
     // not of the merged text: the including file's keys are located in its
     // own text, a base's keys in the base's (below).
-    let sources = included_sources(text);
-    let own = sources
-        .as_ref()
-        .and_then(|s| s.first())
-        .map(|(_, t)| t.as_str());
+    let sources = &source.sources;
+    let own = sources.first().map(|(_, t)| t.as_str());
     let own_doc = own.and_then(|t| toml_edit::ImDocument::parse(t).ok());
     let locate = |path: &str| -> Option<usize> {
         if overridden.iter().any(|o| o == path) {
@@ -69,20 +98,18 @@ pub fn parse_with_overrides(
         }
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
-    if let Some(sources) = &sources {
-        for issue in issues.iter_mut().filter(|i| i.line.is_none()) {
-            if overridden.contains(&issue.key) {
+    for issue in issues.iter_mut().filter(|i| i.line.is_none()) {
+        if overridden.contains(&issue.key) {
+            continue;
+        }
+        for (file, base) in sources.iter().skip(1) {
+            let Ok(d) = toml_edit::ImDocument::parse(base.as_str()) else {
                 continue;
-            }
-            for (file, base) in sources.iter().skip(1) {
-                let Ok(d) = toml_edit::ImDocument::parse(base.as_str()) else {
-                    continue;
-                };
-                if let Some(l) = key_line(&d, base, &issue.key) {
-                    issue.line = Some(l);
-                    issue.file = Some(file.clone());
-                    break;
-                }
+            };
+            if let Some(l) = key_line(&d, base, &issue.key) {
+                issue.line = Some(l);
+                issue.file = Some(file.clone());
+                break;
             }
         }
     }
@@ -595,21 +622,8 @@ fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option
 }
 
 /// The files a merged configuration text came from, the including file
-/// first, by the merged text (kept for the lines of errors; the last few).
+/// first, each with its own text.
 type Sources = Vec<(String, String)>;
-static INCLUDED: std::sync::Mutex<Vec<(String, Sources)>> = std::sync::Mutex::new(Vec::new());
-
-/// How many merged texts [`INCLUDED`] keeps.
-const INCLUDED_KEPT: usize = 8;
-
-/// The source files of `text` when it is a merged configuration.
-fn included_sources(text: &str) -> Option<Sources> {
-    let kept = INCLUDED.lock().ok()?;
-    kept.iter()
-        .rev()
-        .find(|(merged, _)| merged == text)
-        .map(|(_, s)| s.clone())
-}
 
 /// Most nested `include`s (a file including itself would never end).
 pub const MAX_INCLUDE_DEPTH: usize = 4;
@@ -618,22 +632,22 @@ pub const MAX_INCLUDE_DEPTH: usize = 4;
 /// `include = "base.toml"` (relative to the including file) takes every key
 /// of that file, and the including file's own keys replace it key by key
 /// (tables merge; arrays of tables are replaced whole). Returns the merged
-/// text (comments are not kept) or the text unchanged without `include`.
+/// text (comments are not kept) with the files it came from, or the text
+/// unchanged without `include`.
 pub fn resolve_include(
     text: &str,
     path: &std::path::Path,
     depth: usize,
-) -> Result<String, ConfigError> {
+) -> Result<ConfigText, ConfigError> {
     let (merged, sources) = merge_includes(text, path, depth)?;
-    if sources.len() > 1 {
-        if let Ok(mut kept) = INCLUDED.lock() {
-            if kept.len() >= INCLUDED_KEPT {
-                kept.remove(0);
-            }
-            kept.push((merged.clone(), sources));
-        }
-    }
-    Ok(merged)
+    Ok(ConfigText {
+        text: merged,
+        sources: if sources.len() > 1 {
+            sources
+        } else {
+            Vec::new()
+        },
+    })
 }
 
 /// [`resolve_include`] with the files the text came from, the including

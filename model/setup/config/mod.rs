@@ -14,7 +14,7 @@ pub mod template;
 
 use serde::{Deserialize, Serialize};
 
-pub use load::{parse, parse_with_overrides};
+pub use load::{parse, parse_config_text, parse_with_overrides, ConfigText};
 
 /// The resolved configuration. Field docs give units; the full reference with
 /// ranges and defaults is [`schema::KEYS`] and docs/configuration.md.
