@@ -387,6 +387,46 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
     }
 }
 
+#[test]
+fn a_sweeps_largest_separation_does_not_depend_on_the_output_interval() {
+    // The structure and regions "at the largest separation" are read at the
+    // step where the separation peaks (the step before a flash in a
+    // flashing storm), watched after every step: records every 60 s or
+    // every 1800 s give the same summary columns (a running maximum over
+    // time is taken over the finest sampling available, common practice).
+    let cfg = config_with_sweep(
+        "[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2500.0, 3000.0]\n",
+    );
+    for (dir, interval) in [("interval_60", "60"), ("interval_1800", "1800")] {
+        let set = format!("time.output_interval={interval}");
+        assert_eq!(sweep(&cfg, dir, &["--set", &set]).status.code(), Some(0));
+    }
+    let columns = |dir: &str| -> Vec<Vec<String>> {
+        let text = read(dir, "summary.csv");
+        let header: Vec<&str> = text.lines().next().unwrap().split(',').collect();
+        let wanted: Vec<usize> = header
+            .iter()
+            .enumerate()
+            .filter(|(_, h)| {
+                h.contains("separation")
+                    || ["main_negative", "upper_positive", "lower_positive"]
+                        .iter()
+                        .any(|r| h.starts_with(r))
+            })
+            .map(|(i, _)| i)
+            .collect();
+        assert_eq!(wanted.len(), 14, "{header:?}");
+        text.lines()
+            .skip(1)
+            .map(|l| {
+                let f: Vec<&str> = l.split(',').collect();
+                wanted.iter().map(|&i| f[i].to_string()).collect()
+            })
+            .collect()
+    };
+    assert_eq!(columns("interval_60"), columns("interval_1800"));
+}
+
 /// Summary fields with commas and quotes survive the round trip through
 /// the CSV text, quoted and unquoted as RFC 4180 (2005) section 2 specifies
 /// (its example `"aaa","b""bb","ccc"` reads back as aaa, b"bb, ccc).
