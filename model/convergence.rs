@@ -175,6 +175,10 @@ impl Observer for Collector {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        if state.step == 0 {
+            // The initial state is no step's result but may hold charge.
+            self.stepped(exp, state);
+        }
         let flashes_before = self.flashes;
         self.book_flashes(state);
         self.charge.push(state.charge_total.clone());
@@ -357,9 +361,10 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     ));
     let pre: &[Region] = if flashed { &c.pre_flash_regions } else { &[] };
     push_regions(&mut out, pre, "pre-flash ", charge_unit, scale, false);
-    // Charge regions at the record of largest charge separation: the main
-    // negative region, the largest positive region above it and the largest
-    // below it (the three regions of a normal tripole).
+    // The largest charge separation, its time and the charge regions there
+    // (watched every step): the main negative region, the largest positive
+    // region above it and the largest below it (the three regions of a
+    // normal tripole).
     out.push((
         "largest charge separation".into(),
         charge_unit,
@@ -472,9 +477,9 @@ pub fn level_overrides(
 
 /// Names of the two outcomes the sweep's per-member error estimate reads.
 pub(crate) const PEAK_FIELD: &str = "peak |E_z|";
+pub(crate) const MAIN_NEGATIVE_CHARGE: &str = "main negative region charge";
 /// Name of the outcome that gives the time of the largest separation.
 const LARGEST_SEPARATION_TIME: &str = "time of the largest separation";
-pub(crate) const MAIN_NEGATIVE_CHARGE: &str = "main negative region charge";
 /// The outcome that holds the time of the last record before the first
 /// flash (not a number in a run without flashes).
 const PRE_FLASH_RECORD: &str = "pre-flash record";

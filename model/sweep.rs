@@ -239,7 +239,11 @@ impl Observer for Watch {
         Ok(())
     }
 
-    fn record(&mut self, _: &Experiment, state: &State) -> Result<(), RunError> {
+    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        if state.step == 0 {
+            // The initial state is no step's result but may hold charge.
+            self.stepped(exp, state);
+        }
         let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
         self.ratios.extend(
             state
