@@ -43,7 +43,11 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier:
     );
     // Instantaneous freezing and melting at the start of the step.
     if report.frozen > 0.0 {
-        let c = charge[Carrier::Cloud.index()];
+        let c = if report.frozen >= report.cloud_before_freeze {
+            charge[Carrier::Cloud.index()]
+        } else {
+            charge[Carrier::Cloud.index()] * (report.frozen / report.cloud_before_freeze)
+        };
         mv(charge, Carrier::Cloud, Carrier::Ice, c);
     }
     if report.melted > 0.0 && report.ice_before_melt > 0.0 {

@@ -73,14 +73,24 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
     c
 }
 
-/// Homogeneous freezing of all cloud water below -40 degC and melting of all
-/// cloud ice above 0 degC (instantaneous, common practice in bulk schemes;
-/// LFO83 treat cloud-ice melting the same way). Frozen droplets become
-/// crystals of [`MicroParams::droplet_mass`]; melted ice becomes cloud water.
+/// Homogeneous freezing of cloud water below -40 degC and melting of cloud
+/// ice above 0 degC, both instantaneous (common practice in bulk schemes;
+/// LFO83 treat cloud-ice melting the same way) and both limited by the heat
+/// they exchange: melting takes no more ice than the heat above 0 degC can
+/// melt, and freezing no more water than the supercooling below -40 degC can
+/// take up, c_p (T_h - T)/L_f, so that neither carries the cell across its
+/// own threshold (isobaric energy balance, first law; this model's
+/// assumption, the form an instantaneous threshold process takes when its
+/// latent heat is kept). LFO83 freeze all cloud water at once; that warms a
+/// cell at the -40 degC level above it (by 0.33 K per g/kg), the cloud water
+/// arriving next stays liquid until the cell has cooled again, and the cell
+/// that holds the level freezes on and off at a rhythm set by the step
+/// (docs/numerics.md). Frozen droplets become crystals of
+/// [`MicroParams::droplet_mass`]; melted ice becomes cloud water.
 pub fn freeze_or_melt(s: &mut CellState, p: &MicroParams) {
     if s.t < T_HOMOGENEOUS && s.q[CLOUD] > 0.0 {
-        let qc = s.q[CLOUD];
-        s.q[CLOUD] = 0.0;
+        let qc = s.q[CLOUD].min(CP_DRY * (T_HOMOGENEOUS - s.t) / L_FUSION);
+        s.q[CLOUD] -= qc;
         s.q[ICE] += qc;
         s.n_ice += qc / p.droplet_mass();
         s.t += L_FUSION * qc / CP_DRY;
@@ -121,4 +131,45 @@ pub fn nucleate(s: &mut CellState, p_air: f64, rho: f64, p: &MicroParams) -> f64
     s.q[ICE] += mass;
     s.t += L_SUBLIMATION * mass / CP_DRY;
     mass
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn cell(t: f64, qc: f64) -> CellState {
+        CellState {
+            q: [1e-4, qc, 0.0, 0.0, 0.0, 0.0],
+            n_ice: 0.0,
+            t,
+        }
+    }
+
+    #[test]
+    fn homogeneous_freezing_keeps_its_latent_heat_below_the_threshold() {
+        // First law at constant pressure: c_p dT = L_f dq_frozen. Cloud water
+        // at -45 degC freezes entirely (1 g/kg releases 0.33 K of heat, far
+        // less than the 5 K of supercooling); at -40.1 degC only what warms
+        // the cell to -40 degC freezes, the rest stays liquid at the threshold.
+        let p = MicroParams::default();
+        let mut cold = cell(T_HOMOGENEOUS - 5.0, 1e-3);
+        freeze_or_melt(&mut cold, &p);
+        assert_eq!(cold.q[CLOUD], 0.0);
+        assert!((cold.t - (T_HOMOGENEOUS - 5.0 + L_FUSION * 1e-3 / CP_DRY)).abs() < 1e-12);
+        let mut edge = cell(T_HOMOGENEOUS - 0.1, 1e-3);
+        let h0 = CP_DRY * edge.t - L_FUSION * (edge.q[ICE]);
+        freeze_or_melt(&mut edge, &p);
+        let frozen = 0.1 * CP_DRY / L_FUSION;
+        assert!((edge.q[ICE] - frozen).abs() < 1e-15, "{}", edge.q[ICE]);
+        assert!((edge.q[CLOUD] - (1e-3 - frozen)).abs() < 1e-15);
+        assert!((edge.t - T_HOMOGENEOUS).abs() < 1e-9, "{}", edge.t);
+        // The enthalpy c_p T - L_f q_ice is conserved, and so is the water.
+        let h1 = CP_DRY * edge.t - L_FUSION * edge.q[ICE];
+        assert!((h1 - h0).abs() < 1e-9 * h0.abs());
+        assert!((edge.q[CLOUD] + edge.q[ICE] - 1e-3).abs() < 1e-18);
+        // At the threshold itself nothing freezes.
+        let mut at = cell(T_HOMOGENEOUS, 1e-3);
+        freeze_or_melt(&mut at, &p);
+        assert_eq!(at.q[CLOUD], 1e-3);
+    }
 }

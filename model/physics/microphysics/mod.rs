@@ -2,7 +2,8 @@
 //! water, rain, cloud ice, snow and graupel, with a predicted cloud-ice number.
 //!
 //! Each step and cell, in order: instantaneous homogeneous freezing below
-//! -40 degC or melting of cloud ice above 0 degC, ice nucleation
+//! -40 degC or melting of cloud ice above 0 degC (each limited by its latent
+//! heat), ice nucleation
 //! ([`adjust`]); the process rates of [`rates`] integrated over the step on
 //! (q_v, q_c, q_r, q_i, q_s, q_g, n_i, T) with the configured adaptive
 //! Runge-Kutta pair ([`integrator`], or the `ode_solvers` Dormand-Prince
@@ -95,8 +96,9 @@ pub const TINY: f64 = 1e-14;
 pub struct CellReport {
     /// Mass created by clipping (kg kg-1), normally zero.
     pub created: f64,
-    /// Cloud water frozen homogeneously (kg kg-1).
+    /// Cloud water frozen homogeneously (kg kg-1) out of `cloud_before_freeze`.
     pub frozen: f64,
+    pub cloud_before_freeze: f64,
     /// Cloud ice melted instantaneously (kg kg-1) out of `ice_before_melt`.
     pub melted: f64,
     pub ice_before_melt: f64,
@@ -213,6 +215,7 @@ pub fn step_cell(
     adjust::freeze_or_melt(s, p);
     if s.q[CLOUD] < qc0 {
         report.frozen = qc0 - s.q[CLOUD];
+        report.cloud_before_freeze = qc0;
     }
     if s.q[ICE] < qi0 {
         report.melted = qi0 - s.q[ICE];
