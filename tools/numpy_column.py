@@ -18,7 +18,7 @@ flatters NumPy where it differs:
   fixed step of the three-stage Bogacki & Shampine (1989) method (the Rust
   model adapts the step under error control);
 - saturation adjustment (Newton, three iterations), Meyers et al. (1992)
-  nucleation, homogeneous freezing below -40 degC;
+  nucleation, homogeneous freezing below -40 degC (limited by its latent heat);
 - limited (monotonised-central) flux-form advection by the demo's updraft
   (a table profile strongest at 8 km) with entrainment of environmental air
   (epsilon = 0.2/R), sub-stepped to Courant number 1; eddy diffusion
@@ -509,13 +509,17 @@ def main():
         add = np.maximum(np.minimum(nuc, 1e5) - ni, 0.0)
         dm = np.minimum(add * 1e-12, qv)
         ni = ni + add; qi = qi + dm; qv = qv - dm; t = t + LS / CP * dm
-        hom = t < T0 - 40.0
-        t = np.where(hom, t + LF / CP * qc, t)
-        qi = np.where(hom, qi + qc, qi)
-        ni = np.where(hom, ni + qc / 4.19e-12, ni)
-        chg[2] += np.where(hom, chg[0], 0.0)
-        chg[0] = np.where(hom, 0.0, chg[0])
-        qc = np.where(hom, 0.0, qc)
+        # Homogeneous freezing, limited by the supercooling below -40 degC
+        # (its latent heat keeps the cell at or below -40 degC).
+        frz = np.where(t < T0 - 40.0, np.minimum(qc, CP * (T0 - 40.0 - t) / LF), 0.0)
+        share = np.where(frz > 0, frz / np.maximum(qc, 1e-30), 0.0)
+        t = t + LF / CP * frz
+        qi = qi + frz
+        ni = ni + frz / 4.19e-12
+        moved = chg[0] * np.minimum(share, 1.0)
+        chg[2] += moved
+        chg[0] = chg[0] - moved
+        qc = qc - frz
         # Vanished species give their charge to the ions.
         for j, q in enumerate((qc, qr, qi, qs, qg)):
             gone = q <= 1e-18
