@@ -40,6 +40,9 @@ pub struct Outcome {
     pub structure: String,
     #[serde(deserialize_with = "nan::one")]
     pub max_separation: f64,
+    /// Model time (s) of the largest separation (watched every step).
+    #[serde(default = "no_time", deserialize_with = "nan::one")]
+    pub max_separation_time: f64,
     #[serde(deserialize_with = "nan::one")]
     pub precipitation: f64,
     /// Particle charge neutralised by ion capture (C m-2; 0 with ions off).
@@ -105,6 +108,11 @@ fn no_area() -> f64 {
 
 fn no_ratios() -> [f64; 3] {
     [f64::NAN; 3]
+}
+
+/// No time yet (outcome files written before the field existed).
+fn no_time() -> f64 {
+    f64::NAN
 }
 
 /// Smallest, median and largest of `v` (NaN when empty).
@@ -221,6 +229,7 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
 #[derive(Default)]
 struct Watch {
     best: f64,
+    best_time: f64,
     structure: String,
     /// |E|/runaway threshold of every flash at initiation.
     ratios: Vec<f64>,
@@ -262,6 +271,7 @@ impl Observer for Watch {
         let sep = separation(&state.charge_total, exp.grid.dz);
         if sep > self.best {
             self.best = sep;
+            self.best_time = state.time;
             let t = state.temperatures(exp);
             let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
             self.structure = classify(&r).name().into();
@@ -327,6 +337,7 @@ fn failed_outcome(member: Member) -> Outcome {
         peak_field: f64::NAN,
         structure: String::new(),
         max_separation: f64::NAN,
+        max_separation_time: f64::NAN,
         precipitation: f64::NAN,
         ion_neutralised: f64::NAN,
         initiation_ratio: no_ratios(),
@@ -398,6 +409,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
             out.peak_field = s.peak_field.0;
             out.structure = watch.structure;
             out.max_separation = watch.best;
+            out.max_separation_time = watch.best_time;
             out.precipitation = s.precipitation;
             out.ion_neutralised = s.conduction.neutralised;
             let mut ratios = watch.ratios;
@@ -627,6 +639,13 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             "largest charge of one sign in the column",
             "C m-2",
             |o| N(o.max_separation),
+        ),
+        col(
+            "peak_separation_time_s",
+            "peak_separation_time",
+            "model time of the largest separation (watched every step)",
+            "s",
+            |o| N(o.max_separation_time),
         ),
     ]);
     for (r, label) in ["main_negative", "upper_positive", "lower_positive"]

@@ -415,7 +415,7 @@ fn a_sweeps_largest_separation_does_not_depend_on_the_output_interval() {
             })
             .map(|(i, _)| i)
             .collect();
-        assert_eq!(wanted.len(), 14, "{header:?}");
+        assert_eq!(wanted.len(), 15, "{header:?}");
         text.lines()
             .skip(1)
             .map(|l| {
