@@ -162,8 +162,6 @@ pub fn classify(regions: &[Region]) -> Structure {
     }
 }
 
-/// Total charge of one sign in the column (C m-2): half the integral of |rho|,
-/// the "charge separation" of a profile.
 /// The three regions of a normal tripole in `regions`: the main negative
 /// region, the largest positive region above it and the largest below it
 /// (each `None` when absent).
@@ -180,8 +178,44 @@ pub fn tripole_regions(regions: &[Region]) -> [Option<Region>; 3] {
     [neg, pick(true), pick(false)]
 }
 
+/// Total charge of one sign in the column (C m-2): half the integral of |rho|,
+/// the "charge separation" of a profile.
 pub fn separation(rho: &[f64], dz: f64) -> f64 {
     0.5 * rho.iter().map(|x| x.abs()).sum::<f64>() * dz
+}
+
+/// The largest charge separation of a running experiment, its time and the
+/// charge regions there. Watched after every step ([`Self::watch`] from an
+/// observer's `stepped`, and once on the initial state): in a flashing storm
+/// the separation is a sawtooth that peaks in the step before a flash, and
+/// records every output interval would sample it at an arbitrary phase
+/// (docs/numerics.md).
+#[derive(Debug, Clone, Default)]
+pub struct PeakSeparation {
+    /// Largest separation so far (C m-2; 0 before any charge).
+    pub separation: f64,
+    /// Model time (s) it was reached.
+    pub time: f64,
+    /// The charge regions then (bottom to top; empty before any charge).
+    pub regions: Vec<Region>,
+}
+
+impl PeakSeparation {
+    /// Takes the state in if its separation beats the largest so far; the
+    /// regions are found only then.
+    pub fn watch(
+        &mut self,
+        exp: &crate::setup::experiment::Experiment,
+        state: &crate::column::state::State,
+    ) {
+        let sep = separation(&state.charge_total, exp.grid.dz);
+        if sep > self.separation {
+            self.separation = sep;
+            self.time = state.time;
+            let t = state.temperatures(exp);
+            self.regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        }
+    }
 }
 
 /// Charge regions of one output record.

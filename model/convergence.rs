@@ -18,7 +18,7 @@
 //! compared on the coarser one: cell averages of charge density (two fine
 //! cells per coarse cell), the field on the coinciding faces.
 
-use crate::analysis::{regions, separation, Region};
+use crate::analysis::{regions, PeakSeparation, Region};
 use crate::column::state::State;
 use crate::error::RunError;
 use crate::output::summary::RunSummary;
@@ -131,9 +131,7 @@ struct Collector {
     charge: Vec<Vec<f64>>,
     field: Vec<Vec<f64>>,
     contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
-    best_separation: f64,
-    best_time: f64,
-    best_regions: Vec<Region>,
+    peak: PeakSeparation,
     max_q: [f64; 6],
     max_rain_content: f64,
     max_warming: f64,
@@ -177,7 +175,7 @@ impl Observer for Collector {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         if state.step == 0 {
             // The initial state is no step's result but may hold charge.
-            self.stepped(exp, state);
+            self.peak.watch(exp, state);
         }
         let flashes_before = self.flashes;
         self.book_flashes(state);
@@ -245,19 +243,7 @@ impl Observer for Collector {
     }
 
     fn stepped(&mut self, exp: &Experiment, state: &State) {
-        // The largest separation over every step, not over the records: in
-        // a flashing storm the separation is a sawtooth that peaks in the
-        // step before each flash, and records every output interval sample
-        // it at a phase that differs between steps and spacings
-        // (docs/numerics.md). The regions are found only when a step beats
-        // the best so far.
-        let sep = separation(&state.charge_total, exp.grid.dz);
-        if sep > self.best_separation {
-            self.best_separation = sep;
-            self.best_time = state.time;
-            let t = state.temperatures(exp);
-            self.best_regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
-        }
+        self.peak.watch(exp, state);
     }
 
     fn finish(&mut self, _: &Experiment, state: &State, s: &RunSummary) -> Result<(), RunError> {
@@ -368,10 +354,10 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
     out.push((
         "largest charge separation".into(),
         charge_unit,
-        c.best_separation * scale,
+        c.peak.separation * scale,
     ));
-    out.push((LARGEST_SEPARATION_TIME.into(), "s", c.best_time));
-    push_regions(&mut out, &c.best_regions, "", charge_unit, scale, true);
+    out.push((LARGEST_SEPARATION_TIME.into(), "s", c.peak.time));
+    push_regions(&mut out, &c.peak.regions, "", charge_unit, scale, true);
     // Their means over the flashing stage (the records from the first
     // flash to the one after the last), each over the records that hold
     // it: in a flashing storm every tooth of the sawtooth reaches about the

@@ -7,7 +7,7 @@
 //! (a Slurm job array runs the shards on several nodes) and
 //! [`merge`] joins the shard summaries.
 
-use crate::analysis::{classify, regions, separation};
+use crate::analysis::{classify, PeakSeparation, Region};
 use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::netcdf_writer::NetcdfWriter;
@@ -228,21 +228,15 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
 /// Tracks the step of largest charge separation while a member runs.
 #[derive(Default)]
 struct Watch {
-    best: f64,
-    best_time: f64,
-    structure: String,
+    peak: PeakSeparation,
     /// |E|/runaway threshold of every flash at initiation.
     ratios: Vec<f64>,
-    /// Tripole regions at the largest separation (see [`Outcome::regions`]).
-    regions: [[f64; 3]; 3],
     area: f64,
     error_estimate: [[f64; 2]; 2],
 }
 
 impl Observer for Watch {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError> {
-        self.structure = "uncharged".into();
-        self.regions = no_regions();
         self.error_estimate = no_estimate();
         self.area = exp.field_solver.column_area().unwrap_or(f64::NAN);
         Ok(())
@@ -251,7 +245,7 @@ impl Observer for Watch {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         if state.step == 0 {
             // The initial state is no step's result but may hold charge.
-            self.stepped(exp, state);
+            self.peak.watch(exp, state);
         }
         let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
         self.ratios.extend(
@@ -265,24 +259,20 @@ impl Observer for Watch {
     }
 
     fn stepped(&mut self, exp: &Experiment, state: &State) {
-        // Every step, not every record: the separation of a flashing storm
-        // is a sawtooth that peaks in the step before a flash, and records
-        // sample it at an arbitrary phase (docs/numerics.md).
-        let sep = separation(&state.charge_total, exp.grid.dz);
-        if sep > self.best {
-            self.best = sep;
-            self.best_time = state.time;
-            let t = state.temperatures(exp);
-            let r = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
-            self.structure = classify(&r).name().into();
-            self.regions = crate::analysis::tripole_regions(&r)
-                .map(|g| g.map_or([f64::NAN; 3], |g| [g.charge, g.height, g.temperature]));
-        }
+        self.peak.watch(exp, state);
     }
 
     fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
         Ok(())
     }
+}
+
+/// Charge (C m-2), height (m) and temperature (degC) of the main negative,
+/// upper positive and lower positive regions in `regions` (NaN where one is
+/// absent), as [`Outcome::regions`] holds them.
+fn tripole_table(regions: &[Region]) -> [[f64; 3]; 3] {
+    crate::analysis::tripole_regions(regions)
+        .map(|g| g.map_or([f64::NAN; 3], |g| [g.charge, g.height, g.temperature]))
 }
 
 /// Resolves every member of this shard before any runs, so a value out of
@@ -382,7 +372,8 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 level_overrides, run_level, Refinement, MAIN_NEGATIVE_CHARGE, PEAK_FIELD,
             };
             let scale = exp.field_solver.column_area().unwrap_or(1.0);
-            let here = [s.peak_field.0 / 1e3, watch.regions[0][0] * scale];
+            let main_negative = tripole_table(&watch.peak.regions)[0][0];
+            let here = [s.peak_field.0 / 1e3, main_negative * scale];
             let (dt, dz) = (exp.schedule.dt, exp.grid.dz);
             for (i, refinement) in [Refinement::Time, Refinement::Space]
                 .into_iter()
@@ -407,14 +398,14 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
             out.flash_counts = s.flash_counts;
             out.first_flash = s.first_flash.unwrap_or(f64::NAN);
             out.peak_field = s.peak_field.0;
-            out.structure = watch.structure;
-            out.max_separation = watch.best;
-            out.max_separation_time = watch.best_time;
+            out.structure = classify(&watch.peak.regions).name().into();
+            out.max_separation = watch.peak.separation;
+            out.max_separation_time = watch.peak.time;
             out.precipitation = s.precipitation;
             out.ion_neutralised = s.conduction.neutralised;
             let mut ratios = watch.ratios;
             out.initiation_ratio = spread(&mut ratios);
-            out.regions = watch.regions;
+            out.regions = tripole_table(&watch.peak.regions);
             out.ground_charge = s.ground_charge;
             out.model_time = s.model_time;
             out.column_area = watch.area;

@@ -41,19 +41,23 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier:
         report.condensed_first,
         report.cloud_before_first_adjust,
     );
-    // Instantaneous freezing and melting at the start of the step.
-    if report.frozen > 0.0 {
-        let c = if report.frozen >= report.cloud_before_freeze {
-            charge[Carrier::Cloud.index()]
-        } else {
-            charge[Carrier::Cloud.index()] * (report.frozen / report.cloud_before_freeze)
-        };
-        mv(charge, Carrier::Cloud, Carrier::Ice, c);
-    }
-    if report.melted > 0.0 && report.ice_before_melt > 0.0 {
-        let c = charge[Carrier::Ice.index()] * (report.melted / report.ice_before_melt).min(1.0);
-        mv(charge, Carrier::Ice, Carrier::Cloud, c);
-    }
+    // Instantaneous freezing (of the cloud water the first adjustment left)
+    // and melting at the start of the step.
+    let cloud_before_freeze = report.cloud_before_first_adjust + report.condensed_first;
+    mv_share(
+        charge,
+        Carrier::Cloud,
+        Carrier::Ice,
+        report.frozen,
+        cloud_before_freeze,
+    );
+    mv_share(
+        charge,
+        Carrier::Ice,
+        Carrier::Cloud,
+        report.melted,
+        report.ice_before_melt,
+    );
     // Process transfers: fractions of the charge each species held (nothing
     // to do in cells whose rates were not integrated).
     if report.transfers.iter().any(|&m| m != 0.0) {
@@ -72,13 +76,25 @@ fn apply_cell(report: &CellReport, q_end: &[f64; 6], charge: &mut [f64; Carrier:
     }
 }
 
+/// Moves from carrier `from` to `to` the share `amount / of` (at most all)
+/// of `from`'s charge: the share of its mass an instantaneous process took.
+fn mv_share(c: &mut [f64; Carrier::COUNT], from: Carrier, to: Carrier, amount: f64, of: f64) {
+    if amount > 0.0 && of > 0.0 {
+        let x = c[from.index()] * (amount / of).min(1.0);
+        mv(c, from, to, x);
+    }
+}
+
 /// Releases to the ions the fraction of cloud charge whose water an
 /// adjustment evaporated (`condensed` < 0 out of `cloud_before`).
 fn evaporate(charge: &mut [f64; Carrier::COUNT], condensed: f64, cloud_before: f64) {
-    if condensed < 0.0 && cloud_before > 0.0 {
-        let c = charge[Carrier::Cloud.index()] * (-condensed / cloud_before).min(1.0);
-        mv(charge, Carrier::Cloud, Carrier::Ions, c);
-    }
+    mv_share(
+        charge,
+        Carrier::Cloud,
+        Carrier::Ions,
+        -condensed,
+        cloud_before,
+    );
 }
 
 /// The process transfers of [`apply`]: each moves the fraction of its source's

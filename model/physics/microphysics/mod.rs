@@ -96,9 +96,10 @@ pub const TINY: f64 = 1e-14;
 pub struct CellReport {
     /// Mass created by clipping (kg kg-1), normally zero.
     pub created: f64,
-    /// Cloud water frozen homogeneously (kg kg-1) out of `cloud_before_freeze`.
+    /// Cloud water frozen homogeneously (kg kg-1), out of what the first
+    /// saturation adjustment left (`cloud_before_first_adjust +
+    /// condensed_first`).
     pub frozen: f64,
-    pub cloud_before_freeze: f64,
     /// Cloud ice melted instantaneously (kg kg-1) out of `ice_before_melt`.
     pub melted: f64,
     pub ice_before_melt: f64,
@@ -215,7 +216,6 @@ pub fn step_cell(
     adjust::freeze_or_melt(s, p);
     if s.q[CLOUD] < qc0 {
         report.frozen = qc0 - s.q[CLOUD];
-        report.cloud_before_freeze = qc0;
     }
     if s.q[ICE] < qi0 {
         report.melted = qi0 - s.q[ICE];
