@@ -98,18 +98,21 @@ pub fn parse_config_text(
         }
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
-    for issue in issues.iter_mut().filter(|i| i.line.is_none()) {
-        if overridden.contains(&issue.key) {
-            continue;
-        }
-        for (file, base) in sources.iter().skip(1) {
-            let Ok(d) = toml_edit::ImDocument::parse(base.as_str()) else {
-                continue;
-            };
-            if let Some(l) = key_line(&d, base, &issue.key) {
+    // Keys not in the including file: each base, parsed once, nearest first.
+    let unplaced = |i: &ConfigIssue| i.line.is_none() && !overridden.contains(&i.key);
+    if issues.iter().any(unplaced) {
+        let bases: Vec<_> = sources
+            .iter()
+            .skip(1)
+            .filter_map(|(file, t)| Some((file, t, toml_edit::ImDocument::parse(t.as_str()).ok()?)))
+            .collect();
+        for issue in issues.iter_mut().filter(|i| unplaced(i)) {
+            if let Some((file, l)) = bases
+                .iter()
+                .find_map(|(file, t, d)| Some((*file, key_line(d, t, &issue.key)?)))
+            {
                 issue.line = Some(l);
                 issue.file = Some(file.clone());
-                break;
             }
         }
     }
