@@ -416,7 +416,7 @@ fn included_configurations_keep_their_lines_through_sweep_overrides() {
 #[test]
 fn a_retired_key_names_its_replacement() {
     // charging.inductive_droplet_diameter became microphysics.droplet_diameter
-    // (one droplet size for the whole model).
+    // (one droplet size for the microphysics and the charging).
     let p = write(
         "retired.toml",
         "[charging]\ninductive = true\ninductive_droplet_diameter = 3.0e-5\n",

@@ -77,7 +77,9 @@ pub struct MicroParams {
     /// the crystal number homogeneous freezing forms
     /// ([`Self::droplet_mass`]) and the droplets of inductive charging, its
     /// size the droplets' collision efficiency on rimers and their Bigg
-    /// freezing volume. One size for the whole model.
+    /// freezing volume. One size for the microphysics and the charging; the
+    /// small ions' attachment takes a droplet number instead
+    /// (`ions.cloud_droplet_number`, docs/ions.md).
     pub droplet_diameter: f64,
     /// Integrator of the process rates.
     pub integrator: Integrator,

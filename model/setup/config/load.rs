@@ -251,7 +251,7 @@ fn insert(table: &mut Table, path: &str, value: Value) -> Result<(), ConfigIssue
 const RETIRED: [(&str, &str, &str); 1] = [(
     "charging.inductive_droplet_diameter",
     "microphysics.droplet_diameter",
-    "one droplet size for the whole model",
+    "one droplet size for the microphysics and the charging",
 )];
 
 fn unknown_key(path: &str, line: Option<usize>, suffix: &str) -> ConfigIssue {

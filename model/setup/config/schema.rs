@@ -424,7 +424,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(1.0e-6, false, 1.0e-4, false),
         unit: "m",
         default: Some("2.0e-5"),
-        doc: "Diameter of the cloud droplets, one size for the whole model: the crystal mass homogeneous freezing makes of each droplet, the droplets' Bigg freezing volume, their collision efficiency on rimers (riming_efficiency = \"langmuir_1948\") and the droplets of inductive charging. 20 um (a 10 um radius, common practice).",
+        doc: "Diameter of the cloud droplets, one size for the microphysics and the charging (the small ions' attachment takes ions.cloud_droplet_number instead): the crystal mass homogeneous freezing makes of each droplet, the droplets' Bigg freezing volume, their collision efficiency on rimers (riming_efficiency = \"langmuir_1948\") and the droplets of inductive charging. 20 um (a 10 um radius, common practice).",
     },
     KeySpec {
         path: "microphysics.droplet_freezing",
