@@ -353,23 +353,29 @@ fn a_missing_or_foreign_input_file_is_a_usage_error() {
     }
 }
 
+/// A base configuration whose line 6 holds an out-of-range `time.step`,
+/// and a file `{stem}_child.toml` that includes it and adds `child_keys`
+/// from its line 3.
+fn include_pair(stem: &str, child_keys: &str) -> (PathBuf, PathBuf) {
+    let base = write(
+        &format!("{stem}_base.toml"),
+        "[grid]\ntop = 16000.0\nspacing = 100.0\n\n[time]\nstep = -2.0\n",
+    );
+    let name = base.file_name().unwrap().to_string_lossy();
+    let child = write(
+        &format!("{stem}_child.toml"),
+        &format!("include = \"{name}\"\n\n{child_keys}"),
+    );
+    (base, child)
+}
+
 #[test]
 fn included_configurations_report_the_line_of_the_file_that_holds_the_key() {
     // An `include` merges two files; an error must point into the file the
     // offending key is written in (the including file, or the base with its
     // name), not into the merged text (common practice: errors name the
     // place to edit).
-    let base = write(
-        "include_base.toml",
-        "[grid]\ntop = 16000.0\nspacing = 100.0\n\n[time]\nstep = -2.0\n",
-    );
-    let child = write(
-        "include_child.toml",
-        &format!(
-            "include = \"{}\"\n\n[grid]\nspacing = 50.0\nspacings = 25.0\n",
-            base.file_name().unwrap().to_string_lossy()
-        ),
-    );
+    let (base, child) = include_pair("include", "[grid]\nspacing = 50.0\nspacings = 25.0\n");
     let o = bin().args(["check"]).arg(&child).output().unwrap();
     assert_config_error(
         &o,
@@ -388,18 +394,11 @@ fn included_configurations_keep_their_lines_through_sweep_overrides() {
     // A sweep with --set rewrites the merged text; an error in a base file's
     // key must still name that file and line (common practice: errors name
     // the place to edit).
-    let base = write(
-        "include_sweep_base.toml",
-        "[grid]\ntop = 16000.0\nspacing = 100.0\n\n[time]\nstep = -2.0\n",
+    let (base, child) = include_pair(
+        "include_sweep",
+        "[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2000.0, 3000.0]\n",
     );
-    let child = write(
-        "include_sweep_child.toml",
-        &format!(
-            "include = \"{}\"\n\n[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2000.0, 3000.0]\n",
-            base.file_name().unwrap().to_string_lossy()
-        ),
-    );
-    let out = std::env::temp_dir().join("include_sweep_out");
+    let out = scratch("include_sweep_out");
     let o = bin()
         .args(["sweep"])
         .arg(&child)
