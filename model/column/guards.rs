@@ -62,7 +62,7 @@ fn stop(state: &State, process: Process, message: String) -> RunError {
 }
 
 /// Whether every value is finite. A value is not finite exactly when all
-/// its exponent bits are set (IEEE 754-2008, section 3.4); an OR of that
+/// its exponent bits are set (IEEE 754-2008 binary64); an OR of that
 /// test over the slice has no early exit, so the compiler vectorises it,
 /// which the short-circuiting `all(is_finite)` prevents. The guards scan
 /// every array after every process, so this is a measurable share of a
