@@ -462,8 +462,8 @@ fn droplets_freeze_by_bigg_law_near_minus_37_celsius_under_steady_cooling() {
 }
 
 #[test]
-fn one_droplet_size_for_the_whole_model() {
-    // `microphysics.droplet_diameter` sets the droplet of every process
+fn one_droplet_size_for_the_microphysics_and_the_charging() {
+    // `microphysics.droplet_diameter` sets the droplet of every bulk process
     // (homogeneous freezing's crystal mass, Bigg freezing, the collision
     // efficiency, inductive charging): the mass of a sphere scales as d^3
     // (derived), 1.5^3 = 3.375 times the 20 um droplet's at 30 um.
