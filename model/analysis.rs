@@ -185,24 +185,27 @@ pub fn separation(rho: &[f64], dz: f64) -> f64 {
 }
 
 /// The largest charge separation of a running experiment, its time and the
-/// charge regions there. Watched after every step ([`Self::watch`] from an
+/// profiles then. Watched after every step ([`Self::watch`] from an
 /// observer's `stepped`, and once on the initial state): in a flashing storm
 /// the separation is a sawtooth that peaks in the step before a flash, and
 /// records every output interval would sample it at an arbitrary phase
-/// (docs/numerics.md).
+/// (docs/numerics.md). A new peak copies the charge and temperature
+/// profiles into buffers kept from the first one, so watching allocates
+/// nothing after it; the regions are found once, at the end
+/// ([`Self::regions`]).
 #[derive(Debug, Clone, Default)]
 pub struct PeakSeparation {
     /// Largest separation so far (C m-2; 0 before any charge).
     pub separation: f64,
     /// Model time (s) it was reached.
     pub time: f64,
-    /// The charge regions then (bottom to top; empty before any charge).
-    pub regions: Vec<Region>,
+    /// Charge density (C m-3) and temperature (K) of every cell then.
+    charge: Vec<f64>,
+    temperature: Vec<f64>,
 }
 
 impl PeakSeparation {
-    /// Takes the state in if its separation beats the largest so far; the
-    /// regions are found only then.
+    /// Takes the state in if its separation beats the largest so far.
     pub fn watch(
         &mut self,
         exp: &crate::setup::experiment::Experiment,
@@ -212,9 +215,27 @@ impl PeakSeparation {
         if sep > self.separation {
             self.separation = sep;
             self.time = state.time;
-            let t = state.temperatures(exp);
-            self.regions = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+            self.charge.clear();
+            self.charge.extend_from_slice(&state.charge_total);
+            self.temperature.clear();
+            self.temperature
+                .extend((0..state.charge_total.len()).map(|k| state.temperature(exp, k)));
         }
+    }
+
+    /// The charge regions at the largest separation (bottom to top; empty
+    /// before any charge).
+    pub fn regions(&self, exp: &crate::setup::experiment::Experiment) -> Vec<Region> {
+        if self.charge.is_empty() {
+            return Vec::new();
+        }
+        regions(
+            &exp.grid.z,
+            exp.grid.dz,
+            &self.charge,
+            &self.temperature,
+            0.1,
+        )
     }
 }
 

@@ -357,7 +357,7 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
         c.peak.separation * scale,
     ));
     out.push((LARGEST_SEPARATION_TIME.into(), "s", c.peak.time));
-    push_regions(&mut out, &c.peak.regions, "", charge_unit, scale, true);
+    push_regions(&mut out, &c.peak.regions(exp), "", charge_unit, scale, true);
     // Their means over the flashing stage (the records from the first
     // flash to the one after the last), each over the records that hold
     // it: in a flashing storm every tooth of the sawtooth reaches about the

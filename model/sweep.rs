@@ -372,7 +372,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 level_overrides, run_level, Refinement, MAIN_NEGATIVE_CHARGE, PEAK_FIELD,
             };
             let scale = exp.field_solver.column_area().unwrap_or(1.0);
-            let main_negative = tripole_table(&watch.peak.regions)[0][0];
+            let main_negative = tripole_table(&watch.peak.regions(&exp))[0][0];
             let here = [s.peak_field.0 / 1e3, main_negative * scale];
             let (dt, dz) = (exp.schedule.dt, exp.grid.dz);
             for (i, refinement) in [Refinement::Time, Refinement::Space]
@@ -391,21 +391,22 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 }
             }
         }
-        Ok((s, watch))
+        let peak_regions = watch.peak.regions(&exp);
+        Ok((s, watch, peak_regions))
     });
     match result {
-        Ok((s, watch)) => {
+        Ok((s, watch, peak_regions)) => {
             out.flash_counts = s.flash_counts;
             out.first_flash = s.first_flash.unwrap_or(f64::NAN);
             out.peak_field = s.peak_field.0;
-            out.structure = classify(&watch.peak.regions).name().into();
+            out.structure = classify(&peak_regions).name().into();
             out.max_separation = watch.peak.separation;
             out.max_separation_time = watch.peak.time;
             out.precipitation = s.precipitation;
             out.ion_neutralised = s.conduction.neutralised;
             let mut ratios = watch.ratios;
             out.initiation_ratio = spread(&mut ratios);
-            out.regions = tripole_table(&watch.peak.regions);
+            out.regions = tripole_table(&peak_regions);
             out.ground_charge = s.ground_charge;
             out.model_time = s.model_time;
             out.column_area = watch.area;
