@@ -246,6 +246,68 @@ fn persistence_lets_the_field_overshoot() {
     assert!(rel(overshoot, (t1 + 60.0) / crossing) < 1e-9, "{overshoot}");
 }
 
+/// The first flash with the step split where the trigger is reached
+/// (`discharge.locate_in_step`, the default).
+fn first_located(extra: &[&str]) -> (f64, [f64; Criterion::COUNT], f64) {
+    let exp = experiment(RAMP, extra);
+    assert!(exp.discharge_params.locate);
+    let mut s = State::initial(&exp);
+    for _ in 0..exp.schedule.steps {
+        stormcharge::column::step::step(&exp, &mut s, exp.schedule.dt).unwrap();
+        if let Some(f) = s.ledger.flashes.first() {
+            return (f.time, f.criteria_ratio, exp.schedule.dt);
+        }
+    }
+    panic!("no flash");
+}
+
+#[test]
+fn a_located_flash_starts_at_the_analytic_crossing_time() {
+    // The same ramp with the flash placed inside its step: the field is
+    // linear in time, so the secant rule of `discharge::next_piece` finds
+    // the crossing t* = eps0 E_c(7500 m)/(g h) (Gauss's law, analytic) up to
+    // the shortest piece (1e-3 of the step), at every step length; the ratio
+    // at initiation is t/t* (at least 1). With the runaway trigger required
+    // to hold 60 s, the flash comes 60 s after t*.
+    let gh = 0.002e-9 * 1000.0;
+    for dt in ["2.0", "0.5", "4.0"] {
+        for c in [
+            Criterion::ConventionalBreakdown,
+            Criterion::RunawayAvalanche,
+        ] {
+            let trigger = format!("breakdown.trigger=\"{}\"", c.name());
+            let step = format!("time.step={dt}");
+            let exp = experiment(RAMP, &[&trigger, &step]);
+            let threshold = exp.criteria_thresholds.thresholds[c.index()][75];
+            let crossing = EPSILON_0 * threshold / gh;
+            let (t, ratio, dt) = first_located(&[&trigger, &step]);
+            let slack = stormcharge::column::discharge::SHORTEST_PIECE * dt;
+            assert!(
+                t >= crossing - 1e-9 && t <= crossing + slack + 1e-9,
+                "{} at dt {dt}: {t} vs {crossing}",
+                c.name()
+            );
+            // The ratio grows like the time (linear ramp from zero).
+            let r = ratio[c.index()];
+            assert!(r >= 1.0 && rel(r, t / crossing) < 1e-9, "{r}");
+            // The gate opens at the located start plus 60 s; the piece that
+            // reaches it may end a rounding short, adding one shortest piece.
+            // (Only below conventional breakdown: the air cannot hold a
+            // field above it for 60 s, and the run stops with that message.)
+            if c == Criterion::ConventionalBreakdown {
+                continue;
+            }
+            let (t, ratio, _) = first_located(&[&trigger, &step, "breakdown.persistence_time=60"]);
+            assert!(
+                t >= crossing + 60.0 - 1e-9 && t <= crossing + 60.0 + 2.0 * slack + 1e-9,
+                "persistence at dt {dt}: {t} vs {}",
+                crossing + 60.0
+            );
+            assert!(rel(ratio[c.index()], t / crossing) < 1e-9);
+        }
+    }
+}
+
 #[test]
 fn default_trigger_starts_flashes_in_the_observed_overshoot_band() {
     // Before flashes, balloon-measured fields exceeded the runaway threshold

@@ -150,7 +150,7 @@ fn demo_with_default_integrator_matches_a_converged_reference() {
     // ode_solvers Dormand-Prince integrator at 1e-9 / 1e-15: the same
     // charge structure at the record of largest separation (class, region
     // signs and heights; region charges within 0.1 %) and the same flashes
-    // (kind and time; charge within 0.1 %). Also
+    // (kind, time within a tenth of a step, charge within 0.1 %). Also
     // with drops freezing on contact with crystals: bounded by the drops'
     // heat balance, that rate fades at 0 degC, and the tight reference
     // crosses the melting level without stalling (a rate that stopped there
@@ -177,7 +177,17 @@ fn default_matches_reference(extra: &[&str]) {
     assert_eq!(rec_d.flashes.len(), rec_r.flashes.len());
     for (a, b) in rec_d.flashes.iter().zip(&rec_r.flashes) {
         assert_eq!(a.kind, b.kind);
-        assert_eq!(a.time, b.time);
+        // Flashes start inside the step (docs/numerics.md), so their times
+        // are no longer whole steps that must agree: the same start to a
+        // tenth of a step (measured 2026-12-03: at most 0.062 s, the first
+        // flash, shrinking to 0.014 s; the first flash moves by 0.058 s
+        // between the 2 s and the 1 s step).
+        assert!(
+            (a.time - b.time).abs() <= 0.1 * default.schedule.dt,
+            "flash at {} s against {} s",
+            a.time,
+            b.time
+        );
         assert!(rel(a.charge_neutralized, b.charge_neutralized) < 1e-3);
     }
     let dz = default.grid.dz;

@@ -56,6 +56,61 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
     }
 }
 
+/// Shortest piece a step is split into to place a flash, as a fraction of
+/// the model step (1): below it the flash starts at the end of the piece.
+pub const SHORTEST_PIECE: f64 = 1e-3;
+
+/// How far (s) the next piece of a step with `left` s to go should reach:
+/// all of `left`, or up to the time the flash trigger is due when that falls
+/// inside it.
+///
+/// - The trigger does not hold: its margin (`Criteria::margin`, zero where it
+///   starts to hold) is extrapolated linearly from the last two ends of
+///   steps or pieces (`State::trigger_before` and now) to its zero, where the
+///   trigger starts to hold (and with no gates the flash starts). This is
+///   the secant rule; repeated over the pieces it is the secant method of
+///   root finding, which places the start to second order in the step.
+/// - The trigger holds but a gate has held the flash back: the time the
+///   gates open, `breakdown.persistence_time` after the trigger started to
+///   hold and `discharge.min_interval` after the last flash.
+pub fn next_piece(exp: &Experiment, state: &State, left: f64) -> f64 {
+    let p = &exp.discharge_params;
+    if !p.enabled || !p.locate {
+        return left;
+    }
+    let trigger = exp.criteria_thresholds.trigger;
+    let status = &state.criteria_status[trigger.index()];
+    let now = state.time;
+    let due = if status.met {
+        let Some(since) = state.trigger_since else {
+            return left;
+        };
+        let opens = state
+            .ledger
+            .last_time
+            .map_or(since + p.persistence, |last| {
+                (since + p.persistence).max(last + p.min_interval)
+            });
+        opens - now
+    } else {
+        let Some((t0, m0)) = state.trigger_before else {
+            return left;
+        };
+        let m1 = exp.criteria_thresholds.margin(trigger, status);
+        if !(m1 > m0 && now > t0) {
+            return left;
+        }
+        -m1 * (now - t0) / (m1 - m0)
+    };
+    let shortest = SHORTEST_PIECE * exp.schedule.dt;
+    // NaN-safe: anything but a time inside the piece leaves it whole.
+    if due > 0.0 && due < left - shortest {
+        due.max(shortest)
+    } else {
+        left
+    }
+}
+
 fn max_abs(e: &[f64], faces: std::ops::RangeInclusive<usize>) -> f64 {
     faces.map(|k| e[k].abs()).fold(0.0, f64::max)
 }

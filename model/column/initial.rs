@@ -60,6 +60,7 @@ impl State {
                 corona: vec![0.0; n],
             },
             trigger_since: None,
+            trigger_before: None,
             particle_corona: 0.0,
             particle_disruption: 0.0,
             corona_current: 0.0,

@@ -82,6 +82,10 @@ pub struct State {
     pub initiation_scratch: InitiationScratch,
     /// Time since when the trigger has held without a break (s), if it holds.
     pub trigger_since: Option<f64>,
+    /// Model time (s) and trigger margin (`Criteria::margin`) at the end of
+    /// the step or piece before the latest one, for placing the next
+    /// flash's start inside a step.
+    pub trigger_before: Option<(f64, f64)>,
     /// Particle charge moved off by corona and by drop disruption since the
     /// start (C m-2, gross).
     pub particle_corona: f64,

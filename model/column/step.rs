@@ -11,8 +11,24 @@ use crate::setup::experiment::Experiment;
 
 /// Advances the state by one step of `dt` seconds.
 pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
-    step_timed(exp, state, dt, &mut |_, _| {})
+    step_timed(exp, state, dt, &mut |_, _| {}, &mut |_| {})
 }
+
+/// [`step`], showing `watch` the state where the field peaks before a
+/// flash: the end of each piece but the last when the step is split to start
+/// a flash inside it, and the state just before a flash starts (criteria
+/// evaluated, no charge yet removed).
+pub fn step_observed(
+    exp: &Experiment,
+    state: &mut State,
+    dt: f64,
+    watch: &mut dyn FnMut(&State),
+) -> Result<(), RunError> {
+    step_timed(exp, state, dt, &mut |_, _| {}, watch)
+}
+
+/// Most pieces one step is split into to place flashes inside it.
+pub const MAX_PIECES: usize = 8;
 
 /// Names of the phases of a step, in order (for profiles).
 pub const PHASES: [&str; 7] = [
@@ -25,13 +41,57 @@ pub const PHASES: [&str; 7] = [
     "discharge",
 ];
 
-/// [`step`], reporting the time each phase took to `lap(phase, elapsed)`.
+/// [`step_observed`], reporting the time each phase took to
+/// `lap(phase, elapsed)`.
+///
+/// A flash starts when its trigger is reached, not at the end of the step in
+/// which it is (that would delay it by a random fraction of the step, an
+/// error of first order in the step whose constant changes from flash to
+/// flash: docs/numerics.md). Before each piece [`discharge::next_piece`]
+/// says how far to go: the rest of the step, or up to the time the trigger
+/// is due. The pieces run the same sequence of processes; only the last
+/// advances the step counter.
 pub fn step_timed(
     exp: &Experiment,
     state: &mut State,
     dt: f64,
     lap: &mut dyn FnMut(usize, std::time::Duration),
+    watch: &mut dyn FnMut(&State),
 ) -> Result<(), RunError> {
+    let mut left = dt;
+    for _ in 1..MAX_PIECES {
+        let piece = discharge::next_piece(exp, state, left);
+        if piece >= left {
+            break;
+        }
+        advance(exp, state, piece, false, lap, watch)?;
+        watch(state);
+        left -= piece;
+    }
+    advance(exp, state, left, true, lap, watch)
+}
+
+/// The processes over `dt` s; `ends_step` when this ends the model step
+/// (otherwise it is a piece of a split step).
+fn advance(
+    exp: &Experiment,
+    state: &mut State,
+    dt: f64,
+    ends_step: bool,
+    lap: &mut dyn FnMut(usize, std::time::Duration),
+    watch: &mut dyn FnMut(&State),
+) -> Result<(), RunError> {
+    let trigger = exp.criteria_thresholds.trigger;
+    let before = (
+        state.time,
+        exp.criteria_thresholds
+            .margin(trigger, &state.criteria_status[trigger.index()]),
+    );
+    let end_time = if ends_step {
+        exp.schedule.time(state.step + 1)
+    } else {
+        state.time + dt
+    };
     let mut clock = std::time::Instant::now();
     let mut mark = |phase: usize| {
         let now = std::time::Instant::now();
@@ -83,14 +143,21 @@ pub fn step_timed(
     mark(4);
     breakdown::evaluate(exp, state);
     mark(5);
+    if exp.discharge_params.enabled && state.criteria_status[trigger.index()].met {
+        // The peak of the sawtooth: what the flashes about to start remove.
+        watch(state);
+    }
     let flashes = state.ledger.total;
-    discharge::step(exp, state, exp.schedule.time(state.step + 1));
+    discharge::step(exp, state, end_time);
     let flashed = state.ledger.total != flashes;
     guards::check(exp, state, Process::Discharge { flashed })?;
     // Charge that evaporation and flashes gave the ion carrier becomes ions.
     ions::reconcile(exp, state);
     mark(6);
-    state.step += 1;
-    state.time = exp.schedule.time(state.step);
+    if ends_step {
+        state.step += 1;
+    }
+    state.time = end_time;
+    state.trigger_before = Some(before);
     Ok(())
 }

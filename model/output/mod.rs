@@ -24,11 +24,13 @@ pub trait Observer {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError>;
     /// Called at t = 0 and every output interval.
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError>;
-    /// Called after every step, before any record of that step. Most
-    /// observers need only the records; one that looks for an extremum in
-    /// time (the convergence study's largest charge separation) needs every
-    /// step, since records sample a flashing storm's sawtooth at an
-    /// arbitrary phase.
+    /// Called after every step, before any record of that step, and also
+    /// where the field peaks inside a step: just before a flash starts and
+    /// at the end of each piece of a step split to place one
+    /// (`column::step::step_observed`). Most observers need only the
+    /// records; one that looks for an extremum in time (the convergence
+    /// study's largest charge separation) needs these, since records sample
+    /// a flashing storm's sawtooth at an arbitrary phase.
     fn stepped(&mut self, _exp: &Experiment, _state: &State) {}
     /// Called once after a successful run with the final state (which may
     /// hold flashes after the last output record).

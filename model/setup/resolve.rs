@@ -436,6 +436,7 @@ pub fn discharge(
         enabled: c.enabled,
         max_per_step: c.max_flashes_per_step,
         min_interval: c.min_interval,
+        locate: c.locate_in_step,
         require_hydrometeor_breakdown: c.require_hydrometeor_breakdown,
         propagation,
         min_charge_density: c.min_charge_density * NANO,

@@ -148,8 +148,13 @@ pub fn flash_config() -> String {
     std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap()
 }
 
-/// Steps until the first flash; returns the state just before and just after it.
+/// Steps until the first flash; returns the state just before and just after
+/// it. The flash is taken at the end of its step (`discharge.locate_in_step`
+/// off), so the states around that step are the states around the flash.
 pub fn first_flash(exp: &Experiment) -> (State, State, FlashRecord) {
+    let mut exp = exp.clone();
+    exp.discharge_params.locate = false;
+    let exp = &exp;
     let mut s = State::initial(exp);
     for _ in 0..exp.schedule.steps {
         let before = s.clone();

@@ -110,6 +110,19 @@ pub struct Extras<'a> {
 }
 
 impl Criteria {
+    /// How far `status` of criterion `c` is from holding, as a fraction of
+    /// what it needs (1): ratio - 1, or for avalanche multiplication the
+    /// e-folding count over the required count, less 1. Negative while the
+    /// criterion does not hold, zero where it starts to; continuous in the
+    /// field, so a flash's start can be placed inside a step
+    /// (`column::step`).
+    pub fn margin(&self, c: Criterion, status: &CriterionStatus) -> f64 {
+        match c {
+            Criterion::AvalancheMultiplication => status.ratio / self.required_efolds - 1.0,
+            _ => status.ratio - 1.0,
+        }
+    }
+
     /// Threshold profiles from the face air densities (kg m-3) and
     /// pressures (Pa).
     pub fn new(

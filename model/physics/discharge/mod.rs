@@ -39,6 +39,8 @@ pub struct DischargeParams {
     pub max_per_step: u32,
     /// Minimum time between flashes (s).
     pub min_interval: f64,
+    /// Whether a step is split to start a flash when its trigger is reached.
+    pub locate: bool,
     pub require_hydrometeor_breakdown: bool,
     /// Propagation field on faces (V m-1).
     pub propagation: Vec<f64>,

@@ -373,6 +373,7 @@ pub struct DischargeConfig {
     pub enabled: bool,
     pub max_flashes_per_step: u32,
     pub min_interval: f64,
+    pub locate_in_step: bool,
     pub require_hydrometeor_breakdown: bool,
     pub propagation: PropagationMode,
     pub propagation_fraction: f64,

@@ -937,6 +937,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Optional gate: no flash within this time of the previous one.",
     },
     KeySpec {
+        path: "discharge.locate_in_step",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Start a flash at the time its trigger is reached instead of at the end of the step in which it is: the step is split where the trigger margin, extrapolated from the last two step ends, reaches zero (docs/numerics.md). With false, flash times are whole steps.",
+    },
+    KeySpec {
         path: "discharge.require_hydrometeor_breakdown",
         kind: Kind::Bool,
         unit: "",
