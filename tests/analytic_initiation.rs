@@ -265,10 +265,12 @@ fn first_located(extra: &[&str]) -> (f64, [f64; Criterion::COUNT], f64) {
 fn a_located_flash_starts_at_the_analytic_crossing_time() {
     // The same ramp with the flash placed inside its step: the field is
     // linear in time, so the secant rule of `discharge::next_piece` finds
-    // the crossing t* = eps0 E_c(7500 m)/(g h) (Gauss's law, analytic) up to
-    // the shortest piece (1e-3 of the step), at every step length; the ratio
-    // at initiation is t/t* (at least 1). With the runaway trigger required
-    // to hold 60 s, the flash comes 60 s after t*.
+    // the crossing
+    // t* = eps0 E_c(7500 m)/(g h) (Gauss's law, analytic), and the piece
+    // ends the shortest piece (1e-3 of the step) past it, at every step
+    // length; the ratio at initiation is t/t* (at least 1). With the
+    // runaway trigger required to hold 60 s, the flash comes 60 s after
+    // that start.
     let gh = 0.002e-9 * 1000.0;
     for dt in ["2.0", "0.5", "4.0"] {
         for c in [

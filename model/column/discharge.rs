@@ -57,7 +57,8 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
 }
 
 /// Shortest piece a step is split into to place a flash, as a fraction of
-/// the model step (1): below it the flash starts at the end of the piece.
+/// the model step (1); also how far past the predicted start a piece aims,
+/// so that it normally ends with the trigger just reached.
 pub const SHORTEST_PIECE: f64 = 1e-3;
 
 /// How far (s) the next piece of a step with `left` s to go should reach:
@@ -69,7 +70,14 @@ pub const SHORTEST_PIECE: f64 = 1e-3;
 ///   steps or pieces (`State::trigger_before` and now) to its zero, where the
 ///   trigger starts to hold (and with no gates the flash starts). This is
 ///   the secant rule; repeated over the pieces it is the secant method of
-///   root finding, which places the start to second order in the step.
+///   root finding, which places the start to second order in the step. The
+///   piece aims one shortest piece past the zero, so that it ends just after
+///   the trigger is reached when the extrapolation is good. (A margin that
+///   grows ever faster, as before a flash, is reached later than the line
+///   says, so a piece can also end short and the next one, extrapolated
+///   over a shorter interval, gets closer. A quadratic through three ends,
+///   measured on the demo, needed 28 extra pieces against 35 but sometimes
+///   overshot the start by 4 % of the step.)
 /// - The trigger holds but a gate has held the flash back: the time the
 ///   gates open, `breakdown.persistence_time` after the trigger started to
 ///   hold and `discharge.min_interval` after the last flash.
@@ -81,6 +89,7 @@ pub fn next_piece(exp: &Experiment, state: &State, left: f64) -> f64 {
     let trigger = exp.criteria_thresholds.trigger;
     let status = &state.criteria_status[trigger.index()];
     let now = state.time;
+    let shortest = SHORTEST_PIECE * exp.schedule.dt;
     let due = if status.met {
         let Some(since) = state.trigger_since else {
             return left;
@@ -100,9 +109,8 @@ pub fn next_piece(exp: &Experiment, state: &State, left: f64) -> f64 {
         if !(m1 > m0 && now > t0) {
             return left;
         }
-        -m1 * (now - t0) / (m1 - m0)
+        -m1 * (now - t0) / (m1 - m0) + shortest
     };
-    let shortest = SHORTEST_PIECE * exp.schedule.dt;
     // NaN-safe: anything but a time inside the piece leaves it whole.
     if due > 0.0 && due < left - shortest {
         due.max(shortest)
