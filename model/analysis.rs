@@ -185,9 +185,10 @@ pub fn separation(rho: &[f64], dz: f64) -> f64 {
 }
 
 /// The largest charge separation of a running experiment, its time and the
-/// profiles then. Watched after every step ([`Self::watch`] from an
-/// observer's `stepped`, and once on the initial state): in a flashing storm
-/// the separation is a sawtooth that peaks in the step before a flash, and
+/// profiles then. Watched wherever the time loop shows an observer's
+/// `stepped` (the initial state, every step, and just before every flash):
+/// in a flashing storm the separation is a sawtooth that peaks just before
+/// each flash, and
 /// records every output interval would sample it at an arbitrary phase
 /// (docs/numerics.md). A new peak copies the charge and temperature
 /// profiles into buffers kept from the first one, so watching allocates

@@ -173,10 +173,6 @@ impl Observer for Collector {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
-        if state.step == 0 {
-            // The initial state is no step's result but may hold charge.
-            self.peak.watch(exp, state);
-        }
         let flashes_before = self.flashes;
         self.book_flashes(state);
         self.charge.push(state.charge_total.clone());

@@ -242,11 +242,7 @@ impl Observer for Watch {
         Ok(())
     }
 
-    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
-        if state.step == 0 {
-            // The initial state is no step's result but may hold charge.
-            self.peak.watch(exp, state);
-        }
+    fn record(&mut self, _: &Experiment, state: &State) -> Result<(), RunError> {
         let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
         self.ratios.extend(
             state
@@ -360,6 +356,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
         let mut watch = Watch::default();
         let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
         let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        let peak_regions = watch.peak.regions(&exp);
         if exp.config.sweep.error_estimate {
             // The method of the convergence command: the same member at half
             // and a quarter of its step, and of its spacing, in memory only;
@@ -372,7 +369,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 level_overrides, run_level, Refinement, MAIN_NEGATIVE_CHARGE, PEAK_FIELD,
             };
             let scale = exp.field_solver.column_area().unwrap_or(1.0);
-            let main_negative = tripole_table(&watch.peak.regions(&exp))[0][0];
+            let main_negative = tripole_table(&peak_regions)[0][0];
             let here = [s.peak_field.0 / 1e3, main_negative * scale];
             let (dt, dz) = (exp.schedule.dt, exp.grid.dz);
             for (i, refinement) in [Refinement::Time, Refinement::Space]
@@ -391,7 +388,6 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 }
             }
         }
-        let peak_regions = watch.peak.regions(&exp);
         Ok((s, watch, peak_regions))
     });
     match result {

@@ -29,10 +29,20 @@ pub fn run(
 ) -> Result<RunSummary, RunError> {
     let mut state = State::initial(exp);
     let mut summary = RunSummary::new();
-    summary.watch(exp, &state);
     for o in observers.iter_mut() {
         o.begin(exp)?;
     }
+    // What the summary and the observers' `stepped` watch: the initial
+    // state (it may hold charge), the end of every step, and inside a step
+    // the state just before a flash and the end of each piece of a split
+    // step (docs/numerics.md), where the field peaks.
+    let watch = |summary: &mut RunSummary, observers: &mut [&mut dyn Observer], s: &State| {
+        summary.watch(exp, s);
+        for o in observers.iter_mut() {
+            o.stepped(exp, s);
+        }
+    };
+    watch(&mut summary, observers, &state);
     let mut records = 0;
     let mut emit = |state: &State, observers: &mut [&mut dyn Observer]| -> Result<(), RunError> {
         for o in observers.iter_mut() {
@@ -44,19 +54,10 @@ pub fn run(
     emit(&state, observers)?;
     let dt = exp.schedule.dt;
     for _ in 0..exp.schedule.steps {
-        // The state just before a flash and at the end of a piece of a split
-        // step (docs/numerics.md) are watched like the end of a step: they
-        // are where the field peaks.
         step_observed(exp, &mut state, dt, &mut |peak: &State| {
-            summary.watch(exp, peak);
-            for o in observers.iter_mut() {
-                o.stepped(exp, peak);
-            }
+            watch(&mut summary, observers, peak)
         })?;
-        summary.watch(exp, &state);
-        for o in observers.iter_mut() {
-            o.stepped(exp, &state);
-        }
+        watch(&mut summary, observers, &state);
         if state.step % exp.schedule.output_every == 0 {
             emit(&state, observers)?;
             // Every observer has taken the flashes so far: memory stays

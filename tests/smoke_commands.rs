@@ -524,10 +524,11 @@ fn converge_command_writes_its_tables() {
 #[test]
 fn converge_finds_the_largest_separation_whatever_the_output_interval() {
     // The largest charge separation is a maximum over time; in a flashing
-    // storm it peaks in the step before a flash. Records (every
+    // storm it peaks just before a flash. Records (every
     // `output_interval`) sample it at an arbitrary phase, so an argmax
     // over records would change with the interval. Watched after every
-    // step (common practice for a running extremum, like the peak field),
+    // step and before every flash (common practice for a running extremum,
+    // like the peak field),
     // it and the regions read there are the same for records every 60 s
     // and every 600 s, and its time lies between records.
     let run = |interval: &str| -> serde_json::Value {

@@ -390,8 +390,8 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
 #[test]
 fn a_sweeps_largest_separation_does_not_depend_on_the_output_interval() {
     // The structure and regions "at the largest separation" are read at the
-    // step where the separation peaks (the step before a flash in a
-    // flashing storm), watched after every step: records every 60 s or
+    // moment the separation peaks (just before a flash in a flashing
+    // storm), watched after every step and before every flash: records every 60 s or
     // every 1800 s give the same summary columns (a running maximum over
     // time is taken over the finest sampling available, common practice).
     let cfg = config_with_sweep(

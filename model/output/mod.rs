@@ -24,8 +24,9 @@ pub trait Observer {
     fn begin(&mut self, exp: &Experiment) -> Result<(), RunError>;
     /// Called at t = 0 and every output interval.
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError>;
-    /// Called after every step, before any record of that step, and also
-    /// where the field peaks inside a step: just before a flash starts and
+    /// Called on the initial state (after `begin`, before its record),
+    /// after every step, before any record of that step, and also where
+    /// the field peaks inside a step: just before a flash starts and
     /// at the end of each piece of a step split to place one
     /// (`column::step::step_observed`). Most observers need only the
     /// records; one that looks for an extremum in time (the convergence
