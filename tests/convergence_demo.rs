@@ -22,8 +22,8 @@ fn demo_charge_and_field_converge_at_first_order_in_time_and_space() {
     // two halvings of each. A consistent first-order method at least halves
     // the relative L1 difference to the next level: d1 <= d0 / 2 for the
     // charge density and the field. Measured (docs/numerics.md): time,
-    // charge 0.0158 then 0.0060, field 0.0091 then 0.0038; space, charge
-    // 0.0304 then 0.0103, field 0.0153 then 0.0048. The scheme is first
+    // charge 0.0144 then 0.0057, field 0.0078 then 0.0031; space, charge
+    // 0.0306 then 0.0103, field 0.0158 then 0.0047. The scheme is first
     // order, so the bound is near its edge: the demo without its eddy
     // mixing gives a time ratio of 0.57, with K = 50 m2 s-1 0.88.
     let off = ["discharge.enabled=false".to_string()];

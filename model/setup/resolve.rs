@@ -147,6 +147,7 @@ pub fn micro_params(c: &MicrophysicsConfig) -> MicroParams {
         rain_ice_collection: c.rain_ice_collection,
         rain_ice_contact_freezing: c.rain_ice_contact_freezing,
         droplet_freezing: c.droplet_freezing,
+        cloud_equilibrium: c.cloud_equilibrium,
         droplet_diameter: c.droplet_diameter,
         integrator: c.integrator,
         rtol: c.relative_tolerance,

@@ -67,6 +67,9 @@ pub struct MicroParams {
     pub rain_ice_contact_freezing: bool,
     /// Immersion freezing of cloud droplets after Bigg (1953) on or off.
     pub droplet_freezing: bool,
+    /// Cloud water held in equilibrium with the vapour inside the process
+    /// integration ([`super::rates::cloud_equilibrium`]) on or off.
+    pub cloud_equilibrium: bool,
     /// Splinters per kg of rime at the optimum temperature: 350 per mg = 3.5e8
     /// (Hallett & Mossop 1974, from memory).
     pub splinters_per_kg_rime: f64,
@@ -136,6 +139,7 @@ impl Default for MicroParams {
             rain_ice_collection: true,
             rain_ice_contact_freezing: false,
             droplet_freezing: false,
+            cloud_equilibrium: true,
             splinters_per_kg_rime: 3.5e8,
             splinter_mass: 1.0e-12,
             droplet_diameter: 2.0e-5,

@@ -13,7 +13,7 @@
 use super::dsd::{self, Exponential};
 use super::params::MicroParams;
 use super::species::Species;
-use crate::physics::atmosphere::saturation::saturation_pressures;
+use crate::physics::atmosphere::saturation::{liquid_pressure_and_slope, saturation_pressures};
 use crate::physics::constants::{
     C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0, RHO_WATER,
     R_VAPOUR, T_MELT,
@@ -153,6 +153,11 @@ pub struct Rates {
     pub snow_to_rain: f64,
     /// graupel -> rain: melting, LFO83 Eq. 47 (conduction term).
     pub graupel_to_rain: f64,
+    /// vapour -> cloud: condensation (negative: evaporation) that keeps
+    /// the vapour at liquid saturation while cloud water exists, the
+    /// equilibrium the saturation adjustment assumes, held inside the
+    /// integration ([`cloud_equilibrium`]).
+    pub vapour_to_cloud: f64,
     /// Rime-splinter number production (kg-1 s-1), Hallett & Mossop (1974).
     pub splinter_number: f64,
     /// Crystals made by droplet freezing (kg-1 s-1): `cloud_to_ice_freezing`
@@ -429,11 +434,55 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
         }
     }
     r.limit_sinks(&[qv, qc, qr, qi, qs, qg]);
+    if p.cloud_equilibrium && qc > 0.0 {
+        r.vapour_to_cloud = cloud_equilibrium(&r, t, env.p, qc);
+    }
     r
 }
 
+/// Condensation rate C (kg kg-1 s-1; negative: evaporation) that keeps
+/// q_v = q_sw(T) at constant pressure `p` (Pa) while the other processes
+/// `r` change vapour and temperature (K) `t`: with V and Theta their
+/// vapour and temperature tendencies and s = dq_sw/dT,
+/// V - C = s (Theta + L_v C / c_p), so C = (V - s Theta) / (1 + s L_v / c_p).
+/// The bulk scheme's premise is that cloud water is in equilibrium with the
+/// vapour (the saturation adjustment, Soong & Ogura 1973); differentiating
+/// that constraint in time (index reduction of the algebraic condition,
+/// Hairer & Wanner 1996, Solving ODEs II, ch. VII, from memory) holds it
+/// inside the integration too. Without it, deposition on ice drew the
+/// vapour below liquid saturation for a whole step and the cloud water
+/// refilled it only at the step's end, so the Wegener-Bergeron-Findeisen
+/// transfer of cloud water to ice depended on the step wherever the
+/// crystals' deposition time was not long against it (docs/numerics.md).
+/// Evaporation is limited, with the cloud's other sinks, to q_c per
+/// [`SINK_TIMESCALE`] (`qc`, kg kg-1).
+pub fn cloud_equilibrium(r: &Rates, t: f64, p: f64, qc: f64) -> f64 {
+    let (e, de) = liquid_pressure_and_slope(t);
+    // dq_sw/dT = eps p e'/(p - e)^2, zero where e is capped at p/2 (as in
+    // `saturation_ratios`).
+    let slope = if e < 0.5 * p {
+        let inv = 1.0 / (p - e);
+        EPSILON * p * inv * inv * de
+    } else {
+        0.0
+    };
+    let dep = r.vapour_to_ice + r.vapour_to_snow + r.vapour_to_graupel;
+    let vapour = -dep + r.rain_to_vapour;
+    let theta = (L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour
+        + L_FUSION * (r.freezing() - r.melting()))
+        * (1.0 / crate::physics::constants::CP_DRY);
+    let c = (vapour - slope * theta)
+        / (1.0 + slope * L_VAPORISATION / crate::physics::constants::CP_DRY);
+    if c < 0.0 {
+        let room = (qc / SINK_TIMESCALE - r.cloud_sinks()).max(0.0);
+        c.max(-room)
+    } else {
+        c
+    }
+}
+
 /// Number of mass transfers in [`TRANSFER_PAIRS`].
-pub const N_TRANSFERS: usize = 22;
+pub const N_TRANSFERS: usize = 23;
 
 /// Source and destination of every transfer, in [`Rates::transfer_rates`] order;
 /// deposition is listed as vapour -> species.
@@ -462,6 +511,7 @@ pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
         (Cloud, Ice),
         (Snow, Rain),
         (Graupel, Rain),
+        (Vapour, Cloud),
     ]
 };
 
@@ -492,7 +542,35 @@ impl Rates {
             self.cloud_to_ice_freezing,
             self.snow_to_rain,
             self.graupel_to_rain,
+            self.vapour_to_cloud,
         ]
+    }
+
+    /// Mass frozen per time (kg kg-1 s-1): liquid that becomes ice.
+    fn freezing(&self) -> f64 {
+        self.cloud_to_snow
+            + self.cloud_to_graupel
+            + self.cloud_to_ice_splinters
+            + self.rain_to_graupel
+            + self.rain_to_graupel_collection
+            + self.rain_to_graupel_ice_contact
+            + self.cloud_to_ice_freezing
+    }
+
+    /// Mass melted per time (kg kg-1 s-1).
+    fn melting(&self) -> f64 {
+        self.snow_to_rain + self.graupel_to_rain
+    }
+
+    /// The cloud water's sinks other than evaporation (kg kg-1 s-1).
+    fn cloud_sinks(&self) -> f64 {
+        self.cloud_to_rain_autoconversion
+            + self.cloud_to_rain_accretion
+            + self.cloud_to_snow
+            + self.cloud_to_graupel
+            + self.cloud_to_rain_shedding
+            + self.cloud_to_ice_splinters
+            + self.cloud_to_ice_freezing
     }
 }
 
@@ -500,14 +578,8 @@ impl Rates {
 /// order), d n_ice / dt (kg-1 s-1) and d T / dt (K s-1) from the latent heats.
 pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
     let dep = r.vapour_to_ice + r.vapour_to_snow + r.vapour_to_graupel;
-    let dv = -dep + r.rain_to_vapour;
-    let dc = -(r.cloud_to_rain_autoconversion
-        + r.cloud_to_rain_accretion
-        + r.cloud_to_snow
-        + r.cloud_to_graupel
-        + r.cloud_to_rain_shedding
-        + r.cloud_to_ice_splinters
-        + r.cloud_to_ice_freezing);
+    let dv = -dep + r.rain_to_vapour - r.vapour_to_cloud;
+    let dc = r.vapour_to_cloud - r.cloud_sinks();
     let dr = r.cloud_to_rain_autoconversion + r.cloud_to_rain_accretion + r.cloud_to_rain_shedding
         - r.rain_to_vapour
         - r.rain_to_graupel
@@ -546,16 +618,8 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
             + (-r.vapour_to_ice).max(0.0);
         dn -= s.n_ice / qi * lost;
     }
-    let freezing = r.cloud_to_snow
-        + r.cloud_to_graupel
-        + r.cloud_to_ice_splinters
-        + r.rain_to_graupel
-        + r.rain_to_graupel_collection
-        + r.rain_to_graupel_ice_contact
-        + r.cloud_to_ice_freezing;
-    let melting = r.snow_to_rain + r.graupel_to_rain;
-    let heat =
-        L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour + L_FUSION * (freezing - melting);
+    let heat = L_SUBLIMATION * dep - L_VAPORISATION * (r.rain_to_vapour - r.vapour_to_cloud)
+        + L_FUSION * (r.freezing() - r.melting());
     (
         [dv, dc, dr, di, ds, dg],
         dn,

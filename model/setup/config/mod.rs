@@ -173,6 +173,7 @@ pub struct MicrophysicsConfig {
     pub rain_ice_collection: bool,
     pub rain_ice_contact_freezing: bool,
     pub droplet_freezing: bool,
+    pub cloud_equilibrium: bool,
     pub droplet_diameter: f64,
     pub autoconversion_rate: f64,
     pub autoconversion_threshold: f64,

@@ -434,6 +434,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "Immersion freezing of cloud droplets after Bigg (1953), B' [exp(A' (T0 - T)) - 1] per unit droplet volume and time with the constants of the rain law (Lin, Farley & Orville 1983, Eq. 45); cloud water left at -40 degC still freezes at once. Off by default: docs/microphysics.md gives its effect and why.",
     },
     KeySpec {
+        path: "microphysics.cloud_equilibrium",
+        kind: Kind::Bool,
+        unit: "",
+        default: Some("true"),
+        doc: "Hold the cloud water in equilibrium with the vapour inside the process integration too (condensation or evaporation at the rate that keeps liquid saturation while cloud water exists), not only at the saturation adjustments before and after it. false: deposition on ice can draw the vapour below liquid saturation for a whole step, so the transfer of cloud water to ice depends on the step (docs/numerics.md).",
+    },
+    KeySpec {
         path: "microphysics.rain_ice_contact_freezing",
         kind: Kind::Bool,
         unit: "",
