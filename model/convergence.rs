@@ -58,6 +58,8 @@ pub(crate) struct LevelRun {
     /// Records up to the last one before the first flash (all of them in a
     /// run without flashes).
     pre_flash_records: usize,
+    /// Charge density and field just before each flash.
+    before_flash: Vec<(Vec<f64>, Vec<f64>)>,
 }
 
 /// The hydrometeors whose content profiles `converge` compares, with the
@@ -153,6 +155,16 @@ struct Collector {
     /// (`flashing_stage`): the mean structure of the flashing stage.
     flashing: [[f64; 4]; 3],
     flashing_stage: [[f64; 4]; 3],
+    /// The charge density and field of the last state the time loop
+    /// showed (`stepped`), the flashes booked when it was shown, and a
+    /// copy of that state for every flash that followed it: the state
+    /// just before each flash (the time loop shows it before a flash
+    /// starts), which is a continuous function of the step while the flash
+    /// times move with it.
+    last_charge: Vec<f64>,
+    last_field: Vec<f64>,
+    flashes_shown: usize,
+    before_flash: Vec<(Vec<f64>, Vec<f64>)>,
 }
 
 impl Collector {
@@ -240,6 +252,18 @@ impl Observer for Collector {
 
     fn stepped(&mut self, exp: &Experiment, state: &State) {
         self.peak.watch(exp, state);
+        let total = state.ledger.total;
+        if !self.last_charge.is_empty() {
+            for _ in self.flashes_shown..total {
+                self.before_flash
+                    .push((self.last_charge.clone(), self.last_field.clone()));
+            }
+        }
+        self.flashes_shown = total;
+        self.last_charge.clear();
+        self.last_charge.extend_from_slice(&state.charge_total);
+        self.last_field.clear();
+        self.last_field.extend_from_slice(&state.field);
     }
 
     fn finish(&mut self, _: &Experiment, state: &State, s: &RunSummary) -> Result<(), RunError> {
@@ -466,6 +490,9 @@ const LARGEST_SEPARATION_TIME: &str = "time of the largest separation";
 /// flash (not a number in a run without flashes).
 const PRE_FLASH_RECORD: &str = "pre-flash record";
 
+/// Row name of the charge-density profiles just before each flash.
+pub const BEFORE_EACH_FLASH_CHARGE: &str = "charge density, before each flash";
+
 impl LevelRun {
     /// The value of the outcome called `name` (NaN if there is none).
     pub(crate) fn outcome(&self, name: &str) -> f64 {
@@ -495,6 +522,7 @@ pub(crate) fn run_level(
         field: std::mem::take(&mut c.field),
         contents: std::mem::take(&mut c.contents),
         pre_flash_records: c.pre_flash_records,
+        before_flash: std::mem::take(&mut c.before_flash),
     })
 }
 
@@ -567,6 +595,8 @@ enum Profile {
     Field,
     /// Index into a level's `contents`.
     Content(usize),
+    /// The charge density or (with `true`) the field just before each flash.
+    BeforeFlash(bool),
 }
 
 /// The profile row of `name` over the first `records` records of every level.
@@ -577,12 +607,17 @@ fn profile_row(
     which: Profile,
     records: usize,
 ) -> ProfileRow {
-    let faces = matches!(which, Profile::Field);
+    let faces = matches!(which, Profile::Field | Profile::BeforeFlash(true));
     fn records_of(r: &LevelRun, which: Profile) -> Vec<&[f64]> {
         match which {
             Profile::Charge => r.charge.iter().map(|x| x.as_slice()).collect(),
             Profile::Field => r.field.iter().map(|x| x.as_slice()).collect(),
             Profile::Content(i) => r.contents.iter().map(|x| x[i].as_slice()).collect(),
+            Profile::BeforeFlash(field) => r
+                .before_flash
+                .iter()
+                .map(|(c, f)| if field { f.as_slice() } else { c.as_slice() })
+                .collect(),
         }
     }
     let mut differences = Vec::new();
@@ -724,6 +759,28 @@ pub fn study(
                         m,
                     ));
                 }
+            }
+            // Flash by flash: the state just before the k-th flash at every
+            // level, over the flashes every level has. Records fall between
+            // two levels' flash times, where the profiles differ by a whole
+            // flash; the states before the same flash do not
+            // (docs/numerics.md).
+            let flashes = runs.iter().map(|r| r.before_flash.len()).min().unwrap_or(0);
+            if flashes > 0 {
+                profiles.push(profile_row(
+                    BEFORE_EACH_FLASH_CHARGE,
+                    &runs,
+                    refinement,
+                    Profile::BeforeFlash(false),
+                    flashes,
+                ));
+                profiles.push(profile_row(
+                    "vertical field, before each flash",
+                    &runs,
+                    refinement,
+                    Profile::BeforeFlash(true),
+                    flashes,
+                ));
             }
             // The hydrometeors behind the charge: which of them converges
             // slowly tells where a time or space error comes from

@@ -235,7 +235,8 @@ fn converge_books_every_flash_once() {
         }
         assert!(n >= 2.0);
         assert!(rel(row("flashing-stage main negative region charge"), sum / n) < 1e-12);
-        // A flashing storm's profiles are also compared up to that record.
+        // A flashing storm's profiles are also compared up to that record,
+        // and just before each flash.
         let names: Vec<&str> = s.profiles.iter().map(|p| p.name.as_str()).collect();
         assert_eq!(
             names,
@@ -243,8 +244,43 @@ fn converge_books_every_flash_once() {
                 "charge density",
                 "vertical field",
                 "charge density, pre-flash",
-                "vertical field, pre-flash"
+                "vertical field, pre-flash",
+                "charge density, before each flash",
+                "vertical field, before each flash"
             ]
         );
     }
+}
+
+#[test]
+fn states_before_each_flash_converge_at_first_order_for_a_linear_ramp() {
+    // configs/tripole_flashes.toml grows its prescribed charge linearly in
+    // time, so the state just before a flash is the trigger state plus what
+    // the charge grows in the flash's lag behind its crossing time; a located
+    // flash starts at most one shortest piece (1e-3 of the step) past the
+    // crossing (docs/numerics.md, "Flashes inside a step"), a lag
+    // proportional to the step, so the states before the same flash at 2, 1
+    // and 0.5 s differ by amounts that halve with the step (derived; measured
+    // ratios 0.5000). The rows compare the flashes every level has, each with
+    // itself, and appear only with flashes.
+    let text = std::fs::read_to_string(repo("configs/tripole_flashes.toml")).unwrap();
+    let report = study_levels(&text, "flashes", &repo("configs"), &[]);
+    let time = &report.series[0];
+    for name in [
+        "charge density, before each flash",
+        "vertical field, before each flash",
+    ] {
+        let row = time.profiles.iter().find(|p| p.name == name).unwrap();
+        let d = &row.differences;
+        assert!(
+            d[0] > 0.0 && (d[1] / d[0] - 0.5).abs() < 0.01,
+            "{name}: {d:?}"
+        );
+    }
+    let off = ["discharge.enabled=false".to_string()];
+    let quiet = study_levels(&text, "flashes", &repo("configs"), &off);
+    assert!(quiet.series[0]
+        .profiles
+        .iter()
+        .all(|p| !p.name.contains("before each flash")));
 }
