@@ -17,7 +17,8 @@ flatters NumPy where it differs:
   integrated with one
   fixed step of the three-stage Bogacki & Shampine (1989) method (the Rust
   model adapts the step under error control);
-- saturation adjustment (Newton, three iterations), Meyers et al. (1992)
+- saturation adjustment (Newton, three iterations) and cloud water held at
+  liquid saturation inside the integration, Meyers et al. (1992)
   nucleation, homogeneous freezing below -40 degC (limited by its latent heat);
 - limited (monotonised-central) flux-form advection by the demo's updraft
   (a table profile strongest at 8 km) with entrainment of environmental air
@@ -323,8 +324,18 @@ def main():
         dni = np.where(qi > 0, (-(i2s + i2g + raci)) * ni / np.maximum(qi, 1e-30), 0.0) + spl * 1e12
         dtemp = (-LV * evap + LS * (dep_i + dep_s + dep_g)
                  + LF * (c2s + c2g + spl + bigg + r2g_c + iacr - melt_s - melt_g)) / CP
+        # Cloud water held at liquid saturation inside the integration (the
+        # model's microphysics.cloud_equilibrium): the condensation rate that
+        # keeps d(qv)/dt = s dT/dt while cloud water exists; evaporation no
+        # faster than the cloud's other sinks leave in 1 s.
+        s_w = qsw * LV / (R_V * t * t)
+        ceq = (dv - s_w * dtemp) / (1 + s_w * LV / CP)
+        ceq = np.where(qc > 0, np.maximum(ceq, -np.maximum(qc - (auto + accr + c2s + c2g + shed + spl), 0.0)), 0.0)
+        dv = dv - ceq
+        dc = dc + ceq
+        dtemp = dtemp + LV / CP * ceq
         transfers = (auto + accr + shed, c2s, c2g, spl, i2s, i2g + raci, s2g + s2g_c, bigg + r2g_c + iacr, melt_s,
-                     melt_g, evap, dep_i, dep_s, dep_g)
+                     melt_g, evap, dep_i, dep_s, dep_g, ceq)
         return dv, dc, dr, dii, ds, dg, dni, dtemp, transfers
 
     n_env = n_pos.copy()
@@ -475,8 +486,8 @@ def main():
         # Charge follows mass: each transfer moves its share of the source's
         # charge (shares over the mass that passed through the source).
         tr = [dt * (2 * a + 3 * b + 4 * c) / 9.0 for a, b, c in zip(k1[8], k2[8], k3[8])]
-        (c2r, c2s_, c2g_, c2i, i2s_, i2g_, s2g_, r2g_, s2r, g2r, r2v, v2i, v2s, v2g) = tr
-        through = [qc + 1e-30, qr + c2r + s2r + g2r + 1e-30, qi + c2i + np.maximum(v2i, 0) + 1e-30,
+        (c2r, c2s_, c2g_, c2i, i2s_, i2g_, s2g_, r2g_, s2r, g2r, r2v, v2i, v2s, v2g, v2c) = tr
+        through = [qc + np.maximum(v2c, 0) + 1e-30, qr + c2r + s2r + g2r + 1e-30, qi + c2i + np.maximum(v2i, 0) + 1e-30,
                    qs + c2s_ + i2s_ + np.maximum(v2s, 0) + 1e-30,
                    qg + c2g_ + i2g_ + s2g_ + r2g_ + np.maximum(v2g, 0) + 1e-30]
         c0 = [chg[j].copy() for j in range(5)]
@@ -490,7 +501,7 @@ def main():
         released = np.zeros(n)
         for src, dst, m in ((0, 1, c2r), (0, 3, c2s_), (0, 4, c2g_), (0, 2, c2i), (2, 3, i2s_), (2, 4, i2g_),
                             (3, 4, s2g_), (1, 4, r2g_), (3, 1, s2r), (4, 1, g2r), (1, None, r2v),
-                            (2, None, -v2i), (3, None, -v2s), (4, None, -v2g)):
+                            (2, None, -v2i), (3, None, -v2s), (4, None, -v2g), (0, None, -v2c)):
             move(src, dst, m)
         qv, qc, qr, qi, qs, qg, ni = [np.maximum(v, 0.0) for v in new[:7]]
         t = new[7]
