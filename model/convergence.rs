@@ -490,8 +490,12 @@ const LARGEST_SEPARATION_TIME: &str = "time of the largest separation";
 /// flash (not a number in a run without flashes).
 const PRE_FLASH_RECORD: &str = "pre-flash record";
 
-/// Row name of the charge-density profiles just before each flash.
-pub const BEFORE_EACH_FLASH_CHARGE: &str = "charge density, before each flash";
+/// Row names of the charge-density and field profiles just before each
+/// flash.
+const BEFORE_EACH_FLASH: [&str; 2] = [
+    "charge density, before each flash",
+    "vertical field, before each flash",
+];
 
 impl LevelRun {
     /// The value of the outcome called `name` (NaN if there is none).
@@ -767,20 +771,15 @@ pub fn study(
             // (docs/numerics.md).
             let flashes = runs.iter().map(|r| r.before_flash.len()).min().unwrap_or(0);
             if flashes > 0 {
-                profiles.push(profile_row(
-                    BEFORE_EACH_FLASH_CHARGE,
-                    &runs,
-                    refinement,
-                    Profile::BeforeFlash(false),
-                    flashes,
-                ));
-                profiles.push(profile_row(
-                    "vertical field, before each flash",
-                    &runs,
-                    refinement,
-                    Profile::BeforeFlash(true),
-                    flashes,
-                ));
+                for (name, field) in BEFORE_EACH_FLASH.iter().zip([false, true]) {
+                    profiles.push(profile_row(
+                        name,
+                        &runs,
+                        refinement,
+                        Profile::BeforeFlash(field),
+                        flashes,
+                    ));
+                }
             }
             // The hydrometeors behind the charge: which of them converges
             // slowly tells where a time or space error comes from
