@@ -96,19 +96,8 @@ fn table() -> &'static [(f64, f64)] {
 /// evaluated directly.
 #[inline]
 pub fn saturation_pressures(t: f64) -> (f64, f64) {
-    match table_position(t) {
-        Some((i, u)) => {
-            let nodes = &table()[i - 1..i + 3];
-            let w = lagrange_weights(u);
-            let mut e = (0.0, 0.0);
-            for (wj, (ew, ei)) in w.iter().zip(nodes) {
-                e.0 += wj * ew;
-                e.1 += wj * ei;
-            }
-            e
-        }
-        None => murphy_koop_2005_both(t),
-    }
+    let (ew, ei, _) = saturation_pressures_and_liquid_slope(t);
+    (ew, ei)
 }
 
 /// The liquid vapour pressure of [`saturation_pressures`] and its exact
@@ -117,6 +106,15 @@ pub fn saturation_pressures(t: f64) -> (f64, f64) {
 /// Outside the table: the formula and a central difference of it.
 #[inline]
 pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
+    let (ew, _, slope) = saturation_pressures_and_liquid_slope(t);
+    (ew, slope)
+}
+
+/// (e_w, e_i, de_w/dT) (Pa, Pa, Pa K-1) from one pass over the table: the
+/// values of [`saturation_pressures`] and the slope of
+/// [`liquid_pressure_and_slope`], bit for bit.
+#[inline]
+pub fn saturation_pressures_and_liquid_slope(t: f64) -> (f64, f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
             let nodes = &table()[i - 1..i + 3];
@@ -129,17 +127,20 @@ pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
                 -(uu - 2.0 * u - 2.0) * 0.5,
                 (uu - 1.0) * SIXTH,
             ];
-            let (mut e, mut de) = (0.0, 0.0);
-            for ((wj, dwj), (ew, _)) in w.iter().zip(&dw).zip(nodes) {
-                e += wj * ew;
-                de += dwj * ew;
+            let (mut ew, mut ei, mut de) = (0.0, 0.0, 0.0);
+            for ((wj, dwj), (ewj, eij)) in w.iter().zip(&dw).zip(nodes) {
+                ew += wj * ewj;
+                ei += wj * eij;
+                de += dwj * ewj;
             }
-            (e, de * (1.0 / TABLE_STEP))
+            (ew, ei, de * (1.0 / TABLE_STEP))
         }
         None => {
             let h = 1e-4;
+            let (ew, ei) = murphy_koop_2005_both(t);
             (
-                murphy_koop_2005_liquid(t),
+                ew,
+                ei,
                 (murphy_koop_2005_liquid(t + h) - murphy_koop_2005_liquid(t - h)) / (2.0 * h),
             )
         }

@@ -13,7 +13,7 @@
 use super::dsd::{self, Exponential};
 use super::params::MicroParams;
 use super::species::Species;
-use crate::physics::atmosphere::saturation::{liquid_pressure_and_slope, saturation_pressures};
+use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope;
 use crate::physics::constants::{
     C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0, RHO_WATER,
     R_VAPOUR, T_MELT,
@@ -177,9 +177,23 @@ pub fn vapour_pressure(qv: f64, p: f64) -> f64 {
 /// temperatures far outside the troposphere's (it keeps r_s finite if an
 /// integration stage strays there; such states are rejected afterwards).
 pub fn saturation_ratios(t: f64, p: f64) -> (f64, f64) {
-    let (ew, ei) = saturation_pressures(t);
+    let (qsw, qsi, _) = saturation_ratios_and_slope(t, p);
+    (qsw, qsi)
+}
+
+/// [`saturation_ratios`] and dq_sw/dT (K-1) at constant pressure,
+/// eps p (de_w/dT)/(p - e_w)^2 (the derivative of the same definition),
+/// zero where e_w is capped at p/2.
+pub fn saturation_ratios_and_slope(t: f64, p: f64) -> (f64, f64, f64) {
+    let (ew, ei, dew) = saturation_pressures_and_liquid_slope(t);
+    let slope = if ew < 0.5 * p {
+        let inv = 1.0 / (p - ew);
+        EPSILON * p * inv * inv * dew
+    } else {
+        0.0
+    };
     let (ew, ei) = (ew.min(0.5 * p), ei.min(0.5 * p));
-    (EPSILON * ew / (p - ew), EPSILON * ei / (p - ei))
+    (EPSILON * ew / (p - ew), EPSILON * ei / (p - ei), slope)
 }
 
 /// Hallett & Mossop (1974) splinter efficiency: 0 warmer than -3 degC and
@@ -254,7 +268,7 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     let t = s.t;
     let rho = env.rho;
     let cold = t < T_MELT;
-    let (qsw, qsi) = saturation_ratios(t, env.p);
+    let (qsw, qsi, qsw_slope) = saturation_ratios_and_slope(t, env.p);
     let (rain, snow, graupel): (&Exponential, &Exponential, &Exponential) =
         (&p.rain, &p.snow, &p.graupel);
     // Slopes and their powers once per evaluation: they feed every integral
@@ -435,15 +449,16 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
     }
     r.limit_sinks(&[qv, qc, qr, qi, qs, qg]);
     if p.cloud_equilibrium && qc > 0.0 {
-        r.vapour_to_cloud = cloud_equilibrium(&r, t, env.p, qc);
+        r.vapour_to_cloud = cloud_equilibrium(&r, qsw_slope, qc);
     }
     r
 }
 
 /// Condensation rate C (kg kg-1 s-1; negative: evaporation) that keeps
-/// q_v = q_sw(T) at constant pressure `p` (Pa) while the other processes
-/// `r` change vapour and temperature (K) `t`: with V and Theta their
-/// vapour and temperature tendencies and s = dq_sw/dT,
+/// q_v = q_sw(T) at constant pressure while the other processes `r`
+/// change vapour and temperature: with V and Theta their vapour and
+/// temperature tendencies and s = dq_sw/dT (`slope`, K-1, from
+/// [`saturation_ratios_and_slope`]),
 /// V - C = s (Theta + L_v C / c_p), so C = (V - s Theta) / (1 + s L_v / c_p).
 /// The bulk scheme's premise is that cloud water is in equilibrium with the
 /// vapour (the saturation adjustment, Soong & Ogura 1973); differentiating
@@ -456,21 +471,9 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 /// crystals' deposition time was not long against it (docs/numerics.md).
 /// Evaporation is limited, with the cloud's other sinks, to q_c per
 /// [`SINK_TIMESCALE`] (`qc`, kg kg-1).
-pub fn cloud_equilibrium(r: &Rates, t: f64, p: f64, qc: f64) -> f64 {
-    let (e, de) = liquid_pressure_and_slope(t);
-    // dq_sw/dT = eps p e'/(p - e)^2, zero where e is capped at p/2 (as in
-    // `saturation_ratios`).
-    let slope = if e < 0.5 * p {
-        let inv = 1.0 / (p - e);
-        EPSILON * p * inv * inv * de
-    } else {
-        0.0
-    };
-    let dep = r.vapour_to_ice + r.vapour_to_snow + r.vapour_to_graupel;
-    let vapour = -dep + r.rain_to_vapour;
-    let theta = (L_SUBLIMATION * dep - L_VAPORISATION * r.rain_to_vapour
-        + L_FUSION * (r.freezing() - r.melting()))
-        * (1.0 / crate::physics::constants::CP_DRY);
+pub fn cloud_equilibrium(r: &Rates, slope: f64, qc: f64) -> f64 {
+    let (vapour, heat) = r.vapour_and_heat(0.0);
+    let theta = heat * (1.0 / crate::physics::constants::CP_DRY);
     let c = (vapour - slope * theta)
         / (1.0 + slope * L_VAPORISATION / crate::physics::constants::CP_DRY);
     if c < 0.0 {
@@ -546,6 +549,19 @@ impl Rates {
         ]
     }
 
+    /// The vapour tendency (kg kg-1 s-1) and the latent heating (J kg-1
+    /// s-1) of the rates with the condensation `cloud` (kg kg-1 s-1) in
+    /// place of `vapour_to_cloud`: shared by [`tendencies`] and
+    /// [`cloud_equilibrium`] (which passes 0, the other processes alone).
+    fn vapour_and_heat(&self, cloud: f64) -> (f64, f64) {
+        let dep = self.vapour_to_ice + self.vapour_to_snow + self.vapour_to_graupel;
+        (
+            -dep + self.rain_to_vapour - cloud,
+            L_SUBLIMATION * dep - L_VAPORISATION * (self.rain_to_vapour - cloud)
+                + L_FUSION * (self.freezing() - self.melting()),
+        )
+    }
+
     /// Mass frozen per time (kg kg-1 s-1): liquid that becomes ice.
     fn freezing(&self) -> f64 {
         self.cloud_to_snow
@@ -577,8 +593,7 @@ impl Rates {
 /// Tendencies of one cell from its rates: d q / dt (kg kg-1 s-1, `Species`
 /// order), d n_ice / dt (kg-1 s-1) and d T / dt (K s-1) from the latent heats.
 pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
-    let dep = r.vapour_to_ice + r.vapour_to_snow + r.vapour_to_graupel;
-    let dv = -dep + r.rain_to_vapour - r.vapour_to_cloud;
+    let (dv, heat) = r.vapour_and_heat(r.vapour_to_cloud);
     let dc = r.vapour_to_cloud - r.cloud_sinks();
     let dr = r.cloud_to_rain_autoconversion + r.cloud_to_rain_accretion + r.cloud_to_rain_shedding
         - r.rain_to_vapour
@@ -618,8 +633,6 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
             + (-r.vapour_to_ice).max(0.0);
         dn -= s.n_ice / qi * lost;
     }
-    let heat = L_SUBLIMATION * dep - L_VAPORISATION * (r.rain_to_vapour - r.vapour_to_cloud)
-        + L_FUSION * (r.freezing() - r.melting());
     (
         [dv, dc, dr, di, ds, dg],
         dn,
