@@ -11,7 +11,6 @@ use crate::analysis::{classify, PeakSeparation, Region};
 use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::netcdf_writer::NetcdfWriter;
-use crate::output::summary::RunSummary;
 use crate::output::Observer;
 use crate::setup::config::{Config, ConfigText, SweepCombine};
 use crate::setup::experiment::Experiment;
@@ -256,10 +255,6 @@ impl Observer for Watch {
 
     fn stepped(&mut self, exp: &Experiment, state: &State) {
         self.peak.watch(exp, state);
-    }
-
-    fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
-        Ok(())
     }
 }
 

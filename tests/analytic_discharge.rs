@@ -100,20 +100,13 @@ fn flash_records_are_streamed_not_kept() {
     use stormcharge::column::state::State;
     use stormcharge::error::RunError;
     use stormcharge::output::memory::MemoryRecorder;
-    use stormcharge::output::summary::RunSummary;
     use stormcharge::output::Observer;
     use stormcharge::setup::experiment::Experiment;
     #[derive(Default)]
     struct Pending(usize);
     impl Observer for Pending {
-        fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
-            Ok(())
-        }
         fn record(&mut self, _: &Experiment, s: &State) -> Result<(), RunError> {
             self.0 = self.0.max(s.ledger.flashes.len());
-            Ok(())
-        }
-        fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
             Ok(())
         }
     }

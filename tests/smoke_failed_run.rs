@@ -11,7 +11,6 @@ use std::path::Path;
 use stormcharge::column::state::State;
 use stormcharge::error::RunError;
 use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter, STATUS_ATTRIBUTE};
-use stormcharge::output::summary::RunSummary;
 use stormcharge::output::Observer;
 use stormcharge::setup::config::DEMO_TOML;
 use stormcharge::setup::experiment::Experiment;
@@ -21,9 +20,6 @@ use stormcharge::timeloop;
 struct FailAt(usize, usize);
 
 impl Observer for FailAt {
-    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
-        Ok(())
-    }
     fn record(&mut self, _: &Experiment, s: &State) -> Result<(), RunError> {
         self.1 += 1;
         if self.1 > self.0 {
@@ -32,9 +28,6 @@ impl Observer for FailAt {
                 message: "injected failure".into(),
             });
         }
-        Ok(())
-    }
-    fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
         Ok(())
     }
 }

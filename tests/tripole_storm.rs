@@ -22,17 +22,11 @@ use stormcharge::timeloop;
 struct Peak(PeakSeparation);
 
 impl Observer for Peak {
-    fn begin(&mut self, _: &Experiment) -> Result<(), RunError> {
-        Ok(())
-    }
     fn record(&mut self, _: &Experiment, _: &State) -> Result<(), RunError> {
         Ok(())
     }
     fn stepped(&mut self, exp: &Experiment, state: &State) {
         self.0.watch(exp, state);
-    }
-    fn finish(&mut self, _: &Experiment, _: &State, _: &RunSummary) -> Result<(), RunError> {
-        Ok(())
     }
 }
 

@@ -20,8 +20,10 @@ use std::path::{Path, PathBuf};
 
 /// Receives the state at output times.
 pub trait Observer {
-    /// Called once before the first record.
-    fn begin(&mut self, exp: &Experiment) -> Result<(), RunError>;
+    /// Called once before the first record (nothing by default).
+    fn begin(&mut self, _exp: &Experiment) -> Result<(), RunError> {
+        Ok(())
+    }
     /// Called at t = 0 and every output interval.
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError>;
     /// Called on the initial state (after `begin`, before its record),
@@ -34,13 +36,15 @@ pub trait Observer {
     /// a flashing storm's sawtooth at an arbitrary phase.
     fn stepped(&mut self, _exp: &Experiment, _state: &State) {}
     /// Called once after a successful run with the final state (which may
-    /// hold flashes after the last output record).
+    /// hold flashes after the last output record; nothing by default).
     fn finish(
         &mut self,
-        exp: &Experiment,
-        state: &State,
-        summary: &RunSummary,
-    ) -> Result<(), RunError>;
+        _exp: &Experiment,
+        _state: &State,
+        _summary: &RunSummary,
+    ) -> Result<(), RunError> {
+        Ok(())
+    }
 }
 
 /// Dimensions of an output variable.
