@@ -66,30 +66,9 @@ fn demo_storm_charges_and_is_plausible() {
     );
 }
 
-/// Temperatures (degC) of the main negative region in the records of the
-/// flashing stage (first to last flash), and whether every one of those
-/// records is a normal dipole.
+/// [`flashing_main_negative`] of a fresh run of `exp`.
 fn main_negative_while_flashing(exp: &Experiment) -> (Vec<f64>, bool) {
-    let (rec, _) = run_recorded(exp);
-    let (first, last) = (rec.flashes[0].time, rec.flashes[rec.flashes.len() - 1].time);
-    let rho = rec.get("charge_density");
-    let t = rec.get("air_temperature");
-    let mut temps = Vec::new();
-    let mut all_normal = true;
-    for (r, &time) in rec.times.iter().enumerate() {
-        if !(first..=last).contains(&time) {
-            continue;
-        }
-        let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
-        temps.push(main_region(&regs, -1.0).unwrap().temperature);
-        all_normal &= classify(&regs) == Structure::NormalDipole;
-    }
-    (temps, all_normal)
-}
-
-fn median(mut x: Vec<f64>) -> f64 {
-    x.sort_by(f64::total_cmp);
-    x[x.len() / 2]
+    flashing_main_negative(exp, &run_recorded(exp).0)
 }
 
 #[test]

@@ -7,7 +7,8 @@
 mod common;
 use common::*;
 
-use stormcharge::analysis::{classify, main_region, regions, PeakSeparation, Structure};
+use std::sync::OnceLock;
+use stormcharge::analysis::{classify, tripole_regions, PeakSeparation, Region, Structure};
 use stormcharge::column::state::State;
 use stormcharge::error::RunError;
 use stormcharge::output::memory::MemoryRecorder;
@@ -30,25 +31,41 @@ impl Observer for Peak {
     }
 }
 
+/// What the tests read from one level's run.
+struct Level {
+    /// The override that sets the level.
+    set: &'static str,
+    summary: RunSummary,
+    /// Charge regions at the largest separation, and its time (s).
+    peak_regions: Vec<Region>,
+    peak_time: f64,
+    /// Main negative region's temperature (degC) in each record of the
+    /// flashing stage.
+    flashing_temps: Vec<f64>,
+}
+
 /// The storm at the configured numerics and at half the step and half the
-/// spacing: its records, run summary and largest separation.
-fn levels() -> Vec<(
-    &'static str,
-    Experiment,
-    MemoryRecorder,
-    RunSummary,
-    PeakSeparation,
-)> {
-    ["time.step=2.0", "time.step=1.0", "grid.spacing=50.0"]
-        .into_iter()
-        .map(|set| {
-            let exp = config_file("tripole_storm.toml", &[set]);
-            let (mut rec, mut peak) = (MemoryRecorder::default(), Peak::default());
-            let mut obs: [&mut dyn Observer; 2] = [&mut rec, &mut peak];
-            let summary = timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
-            (set, exp, rec, summary, peak.0)
-        })
-        .collect()
+/// spacing, run once for all the tests of this file.
+fn levels() -> &'static [Level] {
+    static LEVELS: OnceLock<Vec<Level>> = OnceLock::new();
+    LEVELS.get_or_init(|| {
+        ["time.step=2.0", "time.step=1.0", "grid.spacing=50.0"]
+            .into_iter()
+            .map(|set| {
+                let exp = config_file("tripole_storm.toml", &[set]);
+                let (mut rec, mut peak) = (MemoryRecorder::default(), Peak::default());
+                let mut obs: [&mut dyn Observer; 2] = [&mut rec, &mut peak];
+                let summary = timeloop::run(&exp, &mut obs, &mut |_| {}).unwrap();
+                Level {
+                    set,
+                    summary,
+                    peak_regions: peak.0.regions(&exp),
+                    peak_time: peak.0.time,
+                    flashing_temps: flashing_main_negative(&exp, &rec).0,
+                }
+            })
+            .collect()
+    })
 }
 
 #[test]
@@ -64,15 +81,15 @@ fn tripole_storm_is_a_normal_tripole_at_every_level() {
     // -88.9 C at 8.8 km, upper positive +50.5 / +50.4 / +49.4 C at 10.4 km.
     // The detector is tested on synthetic profiles in the analysis unit
     // tests.
-    for (set, exp, _, _, peak) in levels() {
-        let regs = peak.regions(&exp);
+    for l in levels() {
+        let (set, regs) = (l.set, &l.peak_regions);
         assert_eq!(
-            classify(&regs),
+            classify(regs),
             Structure::NormalTripole,
             "{set}: {regs:?} at {} s",
-            peak.time
+            l.peak_time
         );
-        let [neg, upper, lower] = stormcharge::analysis::tripole_regions(&regs);
+        let [neg, upper, lower] = tripole_regions(regs);
         let (neg, upper, lower) = (neg.unwrap(), upper.unwrap(), lower.unwrap());
         assert!(lower.height < neg.height && neg.height < upper.height);
         assert!(lower.temperature > neg.temperature, "{set}: {lower:?}");
@@ -87,9 +104,9 @@ fn tripole_storm_flashes_at_an_observed_rate() {
     // minute then: the busiest ten minutes lie within the 1-10 per minute
     // of ordinary thunderstorms. Measured: 1.5 / 1.4 / 1.5 per minute;
     // Price & Rind (1992) give 9.7 per minute for the 12.9 km cloud top.
-    for (set, _, _, s, _) in levels() {
-        let rate = s.max_flashes_per_10_min as f64 / 10.0;
-        assert!((1.0..=10.0).contains(&rate), "{set}: {rate} per minute");
+    for l in levels() {
+        let rate = l.summary.max_flashes_per_10_min as f64 / 10.0;
+        assert!((1.0..=10.0).contains(&rate), "{}: {rate} per minute", l.set);
     }
 }
 
@@ -99,10 +116,10 @@ fn tripole_storm_graupel_carries_observed_charges() {
     // by surface area) carries the tens to a few hundred pC measured on 1-3
     // mm precipitation particles (Marshall & Winn 1982; docs/references.md):
     // between 10 and 400 pC. Measured: 48 pC. (Its 2.5 mm drops carry
-    // about 6.5 pC, below that range: docs/charging.md.)
-    for (set, _, _, s, _) in levels() {
-        let q = s.max_charge_2p5mm[1];
-        assert!((10e-12..=400e-12).contains(&q), "{set}: graupel {q} C");
+    // about 6.6 pC, below that range: docs/charging.md.)
+    for l in levels() {
+        let q = l.summary.max_charge_2p5mm[1];
+        assert!((10e-12..=400e-12).contains(&q), "{}: graupel {q} C", l.set);
     }
 }
 
@@ -114,26 +131,14 @@ fn tripole_storm_main_negative_sits_at_the_observed_temperature() {
     // docs/references.md, "Charge structure"), at every level. Measured:
     // -24.88 / -24.96 / -24.83 degC, inside the band by 0.04-0.17 K: a
     // narrow pass, stated as such in docs/charging.md.
-    for (set, exp, rec, _, _) in levels() {
-        let (first, last) = (rec.flashes[0].time, rec.flashes[rec.flashes.len() - 1].time);
-        let rho = rec.get("charge_density");
-        let t = rec.get("air_temperature");
-        let mut temps: Vec<f64> = rec
-            .times
-            .iter()
-            .enumerate()
-            .filter(|(_, time)| (first..=last).contains(*time))
-            .map(|(r, _)| {
-                let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
-                main_region(&regs, -1.0).unwrap().temperature
-            })
-            .collect();
-        assert!(temps.len() >= 10, "{set}: {} records", temps.len());
-        temps.sort_by(f64::total_cmp);
-        let median = temps[temps.len() / 2];
+    for l in levels() {
+        let temps = &l.flashing_temps;
+        assert!(temps.len() >= 10, "{}: {} records", l.set, temps.len());
+        let median = median(temps.clone());
         assert!(
             (-25.0..=-10.0).contains(&median),
-            "{set}: main negative at {median} degC ({temps:?})"
+            "{}: main negative at {median} degC ({temps:?})",
+            l.set
         );
     }
 }

@@ -219,3 +219,30 @@ growth_rate = 0.001
 );
 
 pub const NC: f64 = 1e-9;
+
+/// Temperatures (degC) of the main negative region in the records `rec` of
+/// the flashing stage (first to last flash) of a run of `exp`, and whether
+/// every one of those records is a normal dipole.
+pub fn flashing_main_negative(exp: &Experiment, rec: &MemoryRecorder) -> (Vec<f64>, bool) {
+    use stormcharge::analysis::{classify, main_region, regions, Structure};
+    let (first, last) = (rec.flashes[0].time, rec.flashes[rec.flashes.len() - 1].time);
+    let rho = rec.get("charge_density");
+    let t = rec.get("air_temperature");
+    let mut temps = Vec::new();
+    let mut all_normal = true;
+    for (r, &time) in rec.times.iter().enumerate() {
+        if !(first..=last).contains(&time) {
+            continue;
+        }
+        let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
+        temps.push(main_region(&regs, -1.0).unwrap().temperature);
+        all_normal &= classify(&regs) == Structure::NormalDipole;
+    }
+    (temps, all_normal)
+}
+
+/// The median (the upper of the two middle values for an even count).
+pub fn median(mut x: Vec<f64>) -> f64 {
+    x.sort_by(f64::total_cmp);
+    x[x.len() / 2]
+}
