@@ -327,10 +327,10 @@ def main():
         # Cloud water held at liquid saturation inside the integration (the
         # model's microphysics.cloud_equilibrium): the condensation rate that
         # keeps d(qv)/dt = s dT/dt while cloud water exists; evaporation no
-        # faster than the cloud's other sinks leave in 1 s.
+        # faster than the cloud's other sinks (-dc so far) leave in 1 s.
         s_w = qsw * LV / (R_V * t * t)
         ceq = (dv - s_w * dtemp) / (1 + s_w * LV / CP)
-        ceq = np.where(qc > 0, np.maximum(ceq, -np.maximum(qc - (auto + accr + c2s + c2g + shed + spl), 0.0)), 0.0)
+        ceq = np.where(qc > 0, np.maximum(ceq, -np.maximum(qc + dc, 0.0)), 0.0)
         dv = dv - ceq
         dc = dc + ceq
         dtemp = dtemp + LV / CP * ceq
