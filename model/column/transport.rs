@@ -331,9 +331,8 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
 /// Vertical eddy diffusion of every transported quantity over one step
 /// ([`crate::physics::kinematics::eddy_diffusion`]): potential temperature
 /// and vapour as departures from the base state, the hydrometeors, the
-/// crystal number and every carrier's charge per kg of air, the small ions
-/// as departures from the clear-air concentration. Column totals are
-/// conserved, so no budget term changes.
+/// crystal number, every carrier's charge and the small ions per kg of air.
+/// Column totals are conserved, so no budget term changes.
 fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
     let base = &exp.base.centre;
     let sc = &mut state.transport_scratch;
@@ -373,8 +372,17 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         per_mass(&mut state.charge[c.index()], None, &mut sc.field);
     }
     if ions_on {
+        // The ions mix as concentrations, not as departures from the clear
+        // air's profile: backward Euler keeps a non-negative field
+        // non-negative only in that form. Mixed as departures, a layer the
+        // charged particles had stripped of one sign went negative where
+        // the clear-air profile curves (measured on the demo at 50 m), and
+        // the ion balance then clipped it to zero, losing charge that no
+        // budget term held. The clear-air profile itself is kept by
+        // production and recombination within minutes, far faster than
+        // mixing at K ~ 100 m2 s-1 changes it over its kilometres.
         for ions in state.n_ion.iter_mut() {
-            per_mass(ions, Some(&exp.ions.environment_specific), &mut sc.field);
+            per_mass(ions, None, &mut sc.field);
         }
         crate::column::ions::set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
     }
