@@ -62,8 +62,9 @@ fn plot_writes_png_and_svg() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("unknown panel"));
     // The analysis of the same output finds the demo's charge regions at its
-    // largest charge separation: a negative region with positive charge
-    // above it (docs/charging.md), and its flashes.
+    // largest charge separation: the normal tripole, a negative region with
+    // positive charge above and below it (docs/charging.md), and its
+    // flashes.
     let o = bin().arg("analyze").arg(&out).output().unwrap();
     assert_eq!(o.status.code(), Some(0));
     let text = String::from_utf8_lossy(&o.stdout);
@@ -72,9 +73,9 @@ fn plot_writes_png_and_svg() {
         .filter_map(|l| l.split_whitespace().next())
         .filter(|w| *w == "positive" || *w == "negative")
         .collect();
-    assert_eq!(signs, ["negative", "positive"], "{text}");
+    assert_eq!(signs, ["positive", "negative", "positive"], "{text}");
     assert!(
-        text.contains("normal_dipole") && text.contains("intracloud"),
+        text.contains("normal_tripole") && text.contains("intracloud"),
         "{text}"
     );
     // SVG only when asked; a missing directory is named, with the reason.

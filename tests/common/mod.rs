@@ -222,9 +222,10 @@ pub const NC: f64 = 1e-9;
 
 /// Temperatures (degC) of the main negative region in the records `rec` of
 /// the flashing stage (first to last flash) of a run of `exp`, and whether
-/// every one of those records is a normal dipole.
+/// every one of those records has normal polarity: a positive region above
+/// the main negative one.
 pub fn flashing_main_negative(exp: &Experiment, rec: &MemoryRecorder) -> (Vec<f64>, bool) {
-    use stormcharge::analysis::{classify, main_region, regions, Structure};
+    use stormcharge::analysis::{main_region, regions};
     let (first, last) = (rec.flashes[0].time, rec.flashes[rec.flashes.len() - 1].time);
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");
@@ -235,8 +236,9 @@ pub fn flashing_main_negative(exp: &Experiment, rec: &MemoryRecorder) -> (Vec<f6
             continue;
         }
         let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
-        temps.push(main_region(&regs, -1.0).unwrap().temperature);
-        all_normal &= classify(&regs) == Structure::NormalDipole;
+        let n = main_region(&regs, -1.0).unwrap();
+        temps.push(n.temperature);
+        all_normal &= regs.iter().any(|x| x.polarity > 0.0 && x.height > n.height);
     }
     (temps, all_normal)
 }

@@ -375,7 +375,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: float(0.0, false, 1.0e4, false),
         unit: "m2 s-1",
         default: Some("0.0"),
-        doc: "Vertical eddy diffusivity K of the turbulence inside the column (first-order closure, docs/transport.md): every transported quantity is mixed as its departure from the base state. 0 (the default) turns it off; the demo takes 100, estimated from dissipation rates measured in clouds (docs/transport.md), and docs/numerics.md measures its effect on convergence.",
+        doc: "Vertical eddy diffusivity K of the turbulence inside the column (first-order closure, docs/transport.md): potential temperature and vapour are mixed as departures from the base state, every other transported quantity as itself. 0 (the default) turns it off; the demo takes 100, estimated from dissipation rates measured in clouds (docs/transport.md), and docs/numerics.md measures its effect on convergence.",
     },
     KeySpec {
         path: "microphysics.scheme",
@@ -431,7 +431,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Bool,
         unit: "",
         default: Some("false"),
-        doc: "Immersion freezing of cloud droplets after Bigg (1953), B' [exp(A' (T0 - T)) - 1] per unit droplet volume and time with the constants of the rain law (Lin, Farley & Orville 1983, Eq. 45); cloud water left at -40 degC still freezes at once. Off by default: docs/microphysics.md gives its effect and why.",
+        doc: "Immersion freezing of cloud droplets after Bigg (1953), B' [exp(A' (T0 - T)) - 1] per unit droplet volume and time with the constants of the rain law (Lin, Farley & Orville 1983, Eq. 45); cloud water left at -40 degC still freezes at once. Off by default, on in the demo: docs/microphysics.md gives its effect and why.",
     },
     KeySpec {
         path: "microphysics.cloud_equilibrium",
