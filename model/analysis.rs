@@ -36,6 +36,13 @@ pub enum Structure {
     NormalDipole,
     /// Negative above positive only.
     InvertedDipole,
+    /// Main negative with positive above and below, the lower positive
+    /// region the larger of the two: a tripole with an enhanced lower
+    /// positive charge region (the term of observational studies of storms
+    /// with a strong lower positive region, e.g. Qie et al. 2005, GRL 32,
+    /// from memory). In a flashing storm it appears just after intracloud
+    /// flashes have drained the upper positive region.
+    EnhancedLowerTripole,
     /// Anything else.
     Other,
     /// No charge density above [`NOISE_FLOOR`] anywhere.
@@ -55,6 +62,7 @@ impl Structure {
             Structure::InvertedTripole => "inverted_tripole",
             Structure::NormalDipole => "normal_dipole",
             Structure::InvertedDipole => "inverted_dipole",
+            Structure::EnhancedLowerTripole => "enhanced_lower_tripole",
             Structure::Other => "other",
             Structure::Uncharged => "uncharged",
         }
@@ -131,7 +139,11 @@ pub fn main_region(regions: &[Region], polarity: f64) -> Option<&Region> {
 /// Structure class of regions ordered bottom to top. With N the region of
 /// largest negative charge and P the region of largest positive charge:
 /// P above N is the normal family, a tripole when some positive region
-/// below N holds less charge than N, a dipole otherwise; N above P is the
+/// below N holds less charge than N, a dipole otherwise. P below N with a
+/// positive region above N as well is a tripole whose lower positive
+/// region is the larger ([`Structure::EnhancedLowerTripole`]; until
+/// 2026-12-03 it was called an inverted dipole, against that class's own
+/// definition, negative above positive only). Otherwise N above P is the
 /// inverted family, a tripole when some negative region below P holds less
 /// charge than P. Only one polarity: other.
 pub fn classify(regions: &[Region]) -> Structure {
@@ -150,6 +162,11 @@ pub fn classify(regions: &[Region]) -> Structure {
         } else {
             Structure::NormalDipole
         }
+    } else if regions
+        .iter()
+        .any(|r| r.polarity > 0.0 && r.bottom >= n.top)
+    {
+        Structure::EnhancedLowerTripole
     } else {
         let lower = regions
             .iter()
@@ -533,7 +550,7 @@ impl EnsembleReport {
         );
         for (name, share, list) in &self.classes {
             out.push_str(&format!(
-                "  {name:<18} {:>5.1} %  ({} member{})\n",
+                "  {name:<22} {:>5.1} %  ({} member{})\n",
                 100.0 * share,
                 list.len(),
                 if list.len() == 1 { "" } else { "s" }

@@ -826,6 +826,7 @@ fn structure_colour(name: &str) -> RGBColor {
     match name {
         "normal_tripole" => RGBColor(200, 0, 0),
         "normal_dipole" => RGBColor(240, 140, 120),
+        "enhanced_lower_tripole" => RGBColor(150, 40, 110),
         "inverted_tripole" => RGBColor(20, 60, 200),
         "inverted_dipole" => RGBColor(130, 160, 240),
         "uncharged" => RGBColor(220, 220, 220),

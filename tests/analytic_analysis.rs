@@ -58,6 +58,19 @@ fn structure_detector_on_synthetic_profiles() {
         classify(&regions(&z, 100.0, &rho, &t, 0.1)),
         Structure::InvertedDipole
     );
+    // Positive charge above and below the main negative region, the lower
+    // region the larger (a normal tripole whose upper positive region a
+    // flash has drained): not an inverted dipole, which has no positive
+    // charge above its negative region.
+    let (z, rho, t) = synthetic(&[
+        (10_000.0, 400.0, 1.0),
+        (8000.0, 600.0, -2.0),
+        (6000.0, 500.0, 1.6),
+    ]);
+    assert_eq!(
+        classify(&regions(&z, 100.0, &rho, &t, 0.1)),
+        Structure::EnhancedLowerTripole
+    );
     let (z, rho, t) = synthetic(&[]);
     assert_eq!(
         classify(&regions(&z, 100.0, &rho, &t, 0.1)),

@@ -62,9 +62,8 @@ fn demo_storm_has_normal_polarity_while_it_flashes() {
     // every record from the first flash to the last (Williams 1989, JGR 94;
     // docs/references.md, "Charge structure"). In some records just after
     // a flash the lower positive region holds more charge than the upper
-    // one the flash has drained, and the detector, which calls the larger
-    // positive region the main one, names the record an inverted dipole
-    // (docs/charging.md, "The demo storm"); the polarity stays normal.
+    // one the flash has drained (an enhanced-lower tripole,
+    // docs/charging.md, "The demo storm"); the polarity stays normal.
     let (temps, all_normal) = main_negative_while_flashing(&demo(&[]));
     assert!(temps.len() >= 10, "{} records", temps.len());
     assert!(all_normal);
