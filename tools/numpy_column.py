@@ -12,8 +12,9 @@ flatters NumPy where it differs:
   intercepts and efficiencies of docs/microphysics.md (warm rain,
   deposition, riming with the wet-growth limit of Musil 1970, rime
   splintering after Hallett & Mossop 1974, collection of ice and snow and of
-  supercooled rain by graupel, Bigg freezing, drops freezing on the
-  crystals they collect within the heat they can give off, melting),
+  supercooled rain by graupel, Bigg freezing of rain and of the 20 um
+  cloud droplets, drops freezing on the crystals they collect within the
+  heat they can give off, melting),
   integrated with one
   fixed step of the three-stage Bogacki & Shampine (1989) method (the Rust
   model adapts the step under error control);
@@ -70,6 +71,7 @@ LF = LS - LV
 T0 = 273.15
 RHO_W = 1000.0
 RHO_I = 916.7
+V_DROPLET = math.pi / 6 * (20e-6) ** 3  # volume (m3) of the 20 um cloud droplet
 K_AIR = 2.43e-2
 PSI = 2.26e-5
 NU = 1.5e-5
@@ -215,8 +217,8 @@ def main():
     air = (RHO0 / rho) ** 0.25 / math.sqrt(NU)
     rain = Species(8e6, RHO_W, 842.0, 0.8, 0.4)
     snow = Species(3e6, 100.0, 4.836, 0.25, 0.5)
-    graupel = Species(4e5, 400.0, 1.3 * 1000 ** 0.66, 0.66, 0.5)
-    # Updraft: the demo's table profile (factor of 12 m/s at 0, 1, 3, 5,
+    graupel = Species(1.26e5, 400.0, 1.3 * 1000 ** 0.66, 0.66, 0.5)
+    # Updraft: the demo's table profile (factor of 11 m/s at 0, 1, 3, 5,
     # 8, 10, 13 km), pulse 900/1200/900 s.
     up_z = [0.0, 1000.0, 3000.0, 5000.0, 8000.0, 10000.0, 13000.0]
     up_f = [0.0, 0.25, 0.5, 0.7, 1.0, 0.9, 0.0]
@@ -309,6 +311,8 @@ def main():
         by_g = by_g * f
         r2g_c = r2g_c * f
         spl = np.where(cold & (t < T0 - 3) & (t > T0 - 8), 3.5e8 * (by_s + by_g) * 1e-12, 0.0)
+        # Cloud droplets (20 um) freezing by Bigg's law, each a crystal.
+        frz = np.where(cold & (qc > 0), qc * 100.0 * (np.exp(0.66 * (T0 - t)) - 1) * V_DROPLET, 0.0)
         c2s = np.where(cold, by_s, 0.0); c2g = np.where(cold, by_g, 0.0)
         s2g = np.where(cold & (by_s > 0), 1e-3 * e_g * np.maximum(qs - 6e-4, 0), 0.0)
         bigg = np.where(cold & (lr > 0), 20 * math.pi ** 2 * 100.0 * rain.n0 * (RHO_W / rho)
@@ -316,14 +320,15 @@ def main():
         melt_s = np.where(~cold, 2 * math.pi * K_AIR / LF * (t - T0) * snow.vent(ls, air) / rho, 0.0)
         melt_g = np.where(~cold, 2 * math.pi * K_AIR / LF * (t - T0) * graupel.vent(lg, air) / rho, 0.0)
         dv = -(dep_i + dep_s + dep_g) + evap
-        dc = -(auto + accr + c2s + c2g + shed + spl)
+        dc = -(auto + accr + c2s + c2g + shed + spl + frz)
         dr = auto + accr + shed - evap - bigg - r2g_c - iacr + melt_s + melt_g
-        dii = dep_i + spl - i2s - i2g - raci
+        dii = dep_i + spl + frz - i2s - i2g - raci
         ds = dep_s + i2s + c2s - s2g - s2g_c - melt_s
         dg = dep_g + c2g + s2g + s2g_c + bigg + r2g_c + iacr + raci + i2g - melt_g
-        dni = np.where(qi > 0, (-(i2s + i2g + raci)) * ni / np.maximum(qi, 1e-30), 0.0) + spl * 1e12
+        dni = (np.where(qi > 0, (-(i2s + i2g + raci)) * ni / np.maximum(qi, 1e-30), 0.0) + spl * 1e12
+               + frz / (RHO_W * V_DROPLET))
         dtemp = (-LV * evap + LS * (dep_i + dep_s + dep_g)
-                 + LF * (c2s + c2g + spl + bigg + r2g_c + iacr - melt_s - melt_g)) / CP
+                 + LF * (c2s + c2g + spl + frz + bigg + r2g_c + iacr - melt_s - melt_g)) / CP
         # Cloud water held at liquid saturation inside the integration (the
         # model's microphysics.cloud_equilibrium): the condensation rate that
         # keeps d(qv)/dt = s dT/dt while cloud water exists; evaporation no
@@ -334,7 +339,7 @@ def main():
         dv = dv - ceq
         dc = dc + ceq
         dtemp = dtemp + LV / CP * ceq
-        transfers = (auto + accr + shed, c2s, c2g, spl, i2s, i2g + raci, s2g + s2g_c, bigg + r2g_c + iacr, melt_s,
+        transfers = (auto + accr + shed, c2s, c2g, spl + frz, i2s, i2g + raci, s2g + s2g_c, bigg + r2g_c + iacr, melt_s,
                      melt_g, evap, dep_i, dep_s, dep_g, ceq)
         return dv, dc, dr, dii, ds, dg, dni, dtemp, transfers
 
@@ -397,18 +402,26 @@ def main():
             chg[j] += E_CH * (sp_ - sm_) / rho
         n_pos[:] = np.maximum(pp - rec - att_p, 0.0)
         n_neg[:] = np.maximum(mm - rec - att_m, 0.0)
-        # Drift in the field, with the field the flux itself removes.
+        # Drift in the field, with the field the flux itself removes,
+        # sub-stepped to drift Courant number 0.5 as in the model (one
+        # explicit step drove concentrations negative where the drift
+        # crossed more than a cell).
         e_f = 0.5 * (e_f_centres[1:] + e_f_centres[:-1])
-        fp = np.where(e_f > 0, n_pos[:-1], n_pos[1:]) * mu_p[1:] * e_f * h / dz
-        fn = np.where(e_f < 0, n_neg[:-1], n_neg[1:]) * mu_n[1:] * (-e_f) * h / dz
-        sig = E_CH * (np.where(e_f > 0, n_pos[:-1], n_pos[1:]) * mu_p[1:]
-                      + np.where(e_f < 0, n_neg[:-1], n_neg[1:]) * mu_n[1:])
-        xx = sig * h / EPS0
-        relax = np.where(xx > 1e-8, -np.expm1(-xx) / np.maximum(xx, 1e-8), 1.0)
-        fp *= relax
-        fn *= relax
-        n_pos[:-1] -= fp; n_pos[1:] += fp
-        n_neg[:-1] -= fn; n_neg[1:] += fn
+        fastest = float(np.max(np.maximum(mu_p[1:], mu_n[1:]) * np.abs(e_f)))
+        nsub = max(1, int(math.ceil(fastest * h / (0.5 * dz))))
+        hs = h / nsub
+        for _ in range(nsub):
+            fp = np.where(e_f > 0, n_pos[:-1], n_pos[1:]) * mu_p[1:] * e_f * hs / dz
+            fn = np.where(e_f < 0, n_neg[:-1], n_neg[1:]) * mu_n[1:] * (-e_f) * hs / dz
+            sig = E_CH * (np.where(e_f > 0, n_pos[:-1], n_pos[1:]) * mu_p[1:]
+                          + np.where(e_f < 0, n_neg[:-1], n_neg[1:]) * mu_n[1:])
+            xx = sig * hs / EPS0
+            relax = np.where(xx > 1e-8, -np.expm1(-xx) / np.maximum(xx, 1e-8), 1.0)
+            fp *= relax
+            fn *= relax
+            n_pos[:-1] -= fp; n_pos[1:] += fp
+            n_neg[:-1] -= fn; n_neg[1:] += fn
+            e_f = e_f - E_CH * (fp - fn) * dz / EPS0
 
     def charging(qv, qc, qr, qi, qs, qg, t, ni, h):
         """SP98 graupel-ice and snow-ice charging over h s."""
@@ -430,7 +443,7 @@ def main():
     for it in range(steps):
         tnow = it * dt
         env = min(tnow / 900.0, 1.0) if tnow < 2100.0 else max(0.0, 1.0 - (tnow - 2100.0) / 900.0)
-        w_f = 12.0 * env * shape_f
+        w_f = 11.0 * env * shape_f
         mflux = rho_f * w_f
         # First half of the small ions, in the field of the last step.
         ions(qc, qr, qi, qs, qg, ni, th * exner, e_field, 0.5 * dt)
@@ -452,7 +465,7 @@ def main():
                 fl[1:-1] = mflux * limited_flux(f, c)
                 ml[1:-1] = mflux
                 f -= h / (rho * dz) * (np.diff(fl) - f * np.diff(ml))
-        ent = np.exp(-eps_ent * 12.0 * env * shape * dt)
+        ent = np.exp(-eps_ent * 11.0 * env * shape * dt)
         th[:] = th_env + (th - th_env) * ent
         qv[:] = qv_env + (qv - qv_env) * ent
         for f in (qc, qr, qi, qs, qg, ni, *chg):
@@ -461,13 +474,16 @@ def main():
         n_pos[:] = rho * (ion_env + (ion_pos - ion_env) * ent)
         n_neg[:] = rho * (ion_env + (ion_neg - ion_env) * ent)
         # Eddy diffusion of every field as its departure from the base state.
+        # The small ions mix as concentrations per kg, as in the model
+        # (docs/transport.md): mixed as departures from clear air they went
+        # negative in stripped layers.
         mixed = np.vstack([th - th_env, qv - qv_env, qc, qr, qi, qs, qg, ni, chg,
-                           n_pos / rho - ion_env, n_neg / rho - ion_env]) @ diffuse_t
+                           n_pos / rho, n_neg / rho]) @ diffuse_t
         th[:] = th_env + mixed[0]; qv[:] = qv_env + mixed[1]
         for j, f in enumerate((qc, qr, qi, qs, qg, ni)):
             f[:] = mixed[2 + j]
         chg[:] = mixed[8:13]
-        n_pos[:] = rho * (ion_env + mixed[13]); n_neg[:] = rho * (ion_env + mixed[14])
+        n_pos[:] = rho * mixed[13]; n_neg[:] = rho * mixed[14]
         # Charging, first half (SP98 graupel-ice and snow-ice).
         charging(qv, qc, qr, qi, qs, qg, th * exner, ni, 0.5 * dt)
         # Microphysics: one Bogacki-Shampine step of the rates.
