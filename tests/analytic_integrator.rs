@@ -169,7 +169,8 @@ fn demo_integrator_error_stays_below_its_step_error() {
         let mut set = vec!["time.step=1.0"];
         set.extend_from_slice(extra);
         let half = demo(&set);
-        let h = (half.clone(), run_recorded(&half).0);
+        let rec_h = run_recorded(&half).0;
+        let h = (half, rec_h);
         let solver = compare(&d, &r, true);
         let step = compare(&d, &h, false);
         assert_eq!(d.1.flashes.len(), r.1.flashes.len());

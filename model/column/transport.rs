@@ -355,11 +355,11 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
     d.apply(&mut state.n_ice, None);
     // Per-volume fields (charge densities, ion numbers) mix as amounts per
     // kilogram of air, like the specific quantities.
-    let per_mass = |x: &mut [f64], env: Option<&[f64]>, work: &mut [f64]| {
+    let per_mass = |x: &mut [f64], work: &mut [f64]| {
         for (f, (v, cell)) in work.iter_mut().zip(x.iter().zip(&exp.cell_env)) {
             *f = v * cell.inv_rho;
         }
-        d.apply(work, env);
+        d.apply(work, None);
         for (v, (f, r)) in x.iter_mut().zip(work.iter().zip(&base.density)) {
             *v = f * r;
         }
@@ -369,7 +369,7 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         .iter()
         .filter(|c| c.advected() && !(ions_on && **c == Carrier::Ions))
     {
-        per_mass(&mut state.charge[c.index()], None, &mut sc.field);
+        per_mass(&mut state.charge[c.index()], &mut sc.field);
     }
     if ions_on {
         // The ions mix as concentrations, not as departures from the clear
@@ -382,7 +382,7 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         // production and recombination within minutes, far faster than
         // mixing at K ~ 100 m2 s-1 changes it over its kilometres.
         for ions in state.n_ion.iter_mut() {
-            per_mass(ions, None, &mut sc.field);
+            per_mass(ions, &mut sc.field);
         }
         crate::column::ions::set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
     }

@@ -15,8 +15,8 @@ use super::params::MicroParams;
 use super::species::Species;
 use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope;
 use crate::physics::constants::{
-    C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0, RHO_WATER,
-    R_VAPOUR, T_MELT,
+    CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0,
+    RHO_WATER, R_VAPOUR, T_MELT,
 };
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 
@@ -473,9 +473,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 /// [`SINK_TIMESCALE`] (`qc`, kg kg-1).
 pub fn cloud_equilibrium(r: &Rates, slope: f64, qc: f64) -> f64 {
     let (vapour, heat) = r.vapour_and_heat(0.0);
-    let theta = heat * (1.0 / crate::physics::constants::CP_DRY);
-    let c = (vapour - slope * theta)
-        / (1.0 + slope * L_VAPORISATION / crate::physics::constants::CP_DRY);
+    let theta = heat * (1.0 / CP_DRY);
+    let c = (vapour - slope * theta) / (1.0 + slope * L_VAPORISATION / CP_DRY);
     if c < 0.0 {
         let room = (qc / SINK_TIMESCALE - r.cloud_sinks()).max(0.0);
         c.max(-room)
@@ -633,11 +632,7 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
             + (-r.vapour_to_ice).max(0.0);
         dn -= s.n_ice / qi * lost;
     }
-    (
-        [dv, dc, dr, di, ds, dg],
-        dn,
-        heat * (1.0 / crate::physics::constants::CP_DRY),
-    )
+    ([dv, dc, dr, di, ds, dg], dn, heat * (1.0 / CP_DRY))
 }
 
 /// Shortest time (s) in which the sinks of a species may empty it. Rates such
