@@ -225,14 +225,24 @@ pub const NC: f64 = 1e-9;
 /// every one of those records has normal polarity: a positive region above
 /// the main negative one.
 pub fn flashing_main_negative(exp: &Experiment, rec: &MemoryRecorder) -> (Vec<f64>, bool) {
-    use stormcharge::analysis::{main_region, regions};
     let (first, last) = (rec.flashes[0].time, rec.flashes[rec.flashes.len() - 1].time);
+    main_negative_between(exp, rec, first, last)
+}
+
+/// [`flashing_main_negative`] over the records from `from` to `to` (s).
+pub fn main_negative_between(
+    exp: &Experiment,
+    rec: &MemoryRecorder,
+    from: f64,
+    to: f64,
+) -> (Vec<f64>, bool) {
+    use stormcharge::analysis::{main_region, regions};
     let rho = rec.get("charge_density");
     let t = rec.get("air_temperature");
     let mut temps = Vec::new();
     let mut all_normal = true;
     for (r, &time) in rec.times.iter().enumerate() {
-        if !(first..=last).contains(&time) {
+        if !(from..=to).contains(&time) {
             continue;
         }
         let regs = regions(&exp.grid.z, exp.grid.dz, &rho[r], &t[r], 0.1);
