@@ -1,12 +1,16 @@
 //! Flash neutralisation against its definitions: the target-field mode hits
 //! its target, the fraction mode removes that fraction, gates and the
-//! per-step bound hold.
+//! per-step bound hold; the equipotential channel ends where the zero
+//! net charge of a floating conductor puts them.
 #![allow(clippy::needless_range_loop)]
 
 mod common;
 use common::*;
 
 use stormcharge::column::state::State;
+use stormcharge::physics::discharge::channel::{
+    extend_equipotential, Channel, EquipotentialInputs,
+};
 use stormcharge::physics::discharge::record::FlashKind;
 use stormcharge::physics::discharge::trigger_threshold;
 
@@ -121,4 +125,143 @@ fn flash_records_are_streamed_not_kept() {
     assert_eq!(s.first_flash, Some(rec.flashes[0].time));
     assert!(rec.flashes.windows(2).all(|w| w[0].time <= w[1].time));
     assert!(pending.0 >= 1 && pending.0 < 13, "{} pending", pending.0);
+}
+
+/// Cell-centre potentials A sin(pi (z - z0) / H) on `n` cells of 1 m.
+fn sine_potential(n: usize, z0: f64, h: f64, a: f64) -> Vec<f64> {
+    (0..n)
+        .map(|k| a * (std::f64::consts::PI * (k as f64 + 0.5 - z0) / h).sin())
+        .collect()
+}
+
+#[test]
+fn equipotential_channel_ends_where_the_sine_potential_says() {
+    // A floating conductor with zero net charge in the ambient potential
+    // phi_a takes the mean of phi_a over its length (Kasemir 1960, uniform
+    // capacitance per unit length: docs/discharge.md). In
+    // phi_a = A sin(pi (z - z0) / H), a channel centred on z0 has mean 0 by
+    // symmetry; with margin U its ends stop where A sin(pi d / H) falls back
+    // to U beyond the crest: d = H (1 - asin(U / A) / pi), so d = H for U = 0
+    // and d = 5H/6 for U = A/2 (worked here, not taken from a table). The
+    // ends advance one cell in turn, so each may land a cell or two off.
+    let (n, z0, h, a) = (3000, 1500.0, 600.0, 1.0e8);
+    let phi = sine_potential(n, z0, h, a);
+    // The potential rises through z0: E_z = -dphi/dz < 0.
+    for (margin, d) in [(0.0, h), (0.5 * a, h * 5.0 / 6.0)] {
+        let initial = Channel {
+            bottom: 1500 - 180,
+            top: 1500 + 180,
+        };
+        let ch = extend_equipotential(
+            &EquipotentialInputs {
+                potential: &phi,
+                sign0: -1.0,
+                margin,
+                negative_factor: 1.0,
+            },
+            initial,
+        );
+        let (lo, hi) = (ch.bottom as f64, ch.top as f64);
+        assert!(
+            (hi - (z0 + d)).abs() <= 2.0 && (lo - (z0 - d)).abs() <= 2.0,
+            "margin {margin}: channel {lo}-{hi}, expected {}-{}",
+            z0 - d,
+            z0 + d
+        );
+    }
+    // A channel whose ends already see less than the margin does not grow:
+    // at 180 cells from the crest line the ends see A sin(0.3 pi) = 0.81 A.
+    let initial = Channel {
+        bottom: 1320,
+        top: 1680,
+    };
+    let ch = extend_equipotential(
+        &EquipotentialInputs {
+            potential: &phi,
+            sign0: -1.0,
+            margin: 0.85 * a,
+            negative_factor: 1.0,
+        },
+        initial,
+    );
+    assert_eq!(ch, initial);
+}
+
+#[test]
+fn equipotential_channel_polarity_and_asymmetry() {
+    // With E_z > 0 at initiation the potential falls upward and the lower
+    // end is the negative one. In phi_a = -A sin(pi (z - z0) / H) the same
+    // channel grows to the same symmetric ends with U = 0; with U = A/2 and
+    // the positive end needing U / 2 the upper (positive) end goes further
+    // than the lower: an asymmetric channel whose mean differs from zero,
+    // checked against its own definition (each end stopped: the next cell
+    // outside sees at most its margin).
+    let (n, z0, h, a) = (3000, 1500.0, 600.0, 1.0e8);
+    let phi: Vec<f64> = sine_potential(n, z0, h, a).iter().map(|p| -p).collect();
+    let initial = Channel {
+        bottom: 1320,
+        top: 1680,
+    };
+    let grow = |margin: f64, factor: f64| {
+        extend_equipotential(
+            &EquipotentialInputs {
+                potential: &phi,
+                sign0: 1.0,
+                margin,
+                negative_factor: factor,
+            },
+            initial,
+        )
+    };
+    let ch = grow(0.0, 2.0);
+    assert!((ch.top as f64 - 2100.0).abs() <= 2.0 && (ch.bottom as f64 - 900.0).abs() <= 2.0);
+    let (u, factor) = (0.5 * a, 2.0);
+    let ch = grow(u, factor);
+    let mean: f64 = phi[ch.bottom..ch.top].iter().sum::<f64>() / (ch.top - ch.bottom) as f64;
+    // Upper end positive: it would need mean - phi_a > U / factor.
+    assert!(mean - phi[ch.top] <= u / factor, "upper end could go on");
+    // Lower end negative: it would need phi_a - mean > U.
+    assert!(phi[ch.bottom - 1] - mean <= u, "lower end could go on");
+    assert!(
+        ch.top - 1500 > 1500 - ch.bottom,
+        "positive end not longer: {}-{}",
+        ch.bottom,
+        ch.top
+    );
+}
+
+#[test]
+fn equipotential_channel_in_a_uniform_field_spans_the_column() {
+    // In a uniform field the potential is linear; a conductor of length L
+    // centred in it sees E L / 2 at each end, which only grows as it grows
+    // (the classical field enhancement of a conductor in a uniform field):
+    // once the ends exceed the margin the channel reaches both boundaries.
+    let e = 1.0e5; // V m-1, E_z < 0: potential rising upward
+    let phi: Vec<f64> = (0..800).map(|k| e * (k as f64 + 0.5)).collect();
+    let initial = Channel {
+        bottom: 390,
+        top: 410,
+    };
+    let ch = extend_equipotential(
+        &EquipotentialInputs {
+            potential: &phi,
+            sign0: -1.0,
+            margin: 0.9e6,
+            negative_factor: 1.0,
+        },
+        initial,
+    );
+    assert_eq!((ch.bottom, ch.top), (0, 800));
+    // Below the margin at its ends (the next cells' centres see
+    // 1.05 MV < 1.1 MV) it stays.
+    let ch = extend_equipotential(
+        &EquipotentialInputs {
+            potential: &phi,
+            sign0: -1.0,
+            margin: 1.1e6,
+            negative_factor: 1.0,
+        },
+        initial,
+    );
+    assert_eq!(ch, initial);
 }

@@ -81,9 +81,19 @@ fn negative_ground_flash_from_a_low_negative_layer() {
 #[test]
 fn budget_closes_over_a_whole_run() {
     // Charge conservation: everything added by the prescribed growth, minus
-    // everything lowered to ground, is what the column holds (round-off).
-    let exp = experiment(&flash_config(), &[]);
-    let rec = run_recorded(&exp).0;
+    // everything lowered to ground, is what the column holds (round-off),
+    // with either channel rule.
+    for rule in ["local_field", "equipotential"] {
+        let exp = experiment(
+            &flash_config(),
+            &[&format!("discharge.channel_rule=\"{rule}\"")],
+        );
+        budget_closes(&exp);
+    }
+}
+
+fn budget_closes(exp: &Experiment) {
+    let rec = run_recorded(exp).0;
     let initial: f64 = exp.prescribed.initial.iter().sum::<f64>() * exp.grid.dz;
     let added: f64 =
         exp.prescribed.growth.iter().sum::<f64>() * exp.grid.dz * exp.config.time.duration;

@@ -6,7 +6,7 @@
 use crate::column::state::State;
 use crate::column::work::FlashScratch;
 use crate::physics::breakdown::Criterion;
-use crate::physics::discharge::channel::{self, Channel, ChannelInputs};
+use crate::physics::discharge::channel::{self, Channel, ChannelInputs, EquipotentialInputs};
 use crate::physics::discharge::neutralization;
 use crate::physics::discharge::record::{FlashKind, FlashRecord};
 use crate::physics::discharge::{trigger_threshold, Neutralization};
@@ -147,7 +147,7 @@ fn flash_with(
     let criteria_met = state.criteria_status.map(|c| c.met);
     let criteria_ratio = state.criteria_status.map(|c| c.ratio);
     let sign0 = state.field[start].signum();
-    let Channel { mut bottom, top } = channel::grow(
+    let local = channel::grow(
         &ChannelInputs {
             field: &state.field,
             propagation: &p.propagation,
@@ -157,6 +157,19 @@ fn flash_with(
         },
         start,
     )?;
+    let Channel { mut bottom, top } = if p.equipotential {
+        channel::extend_equipotential(
+            &EquipotentialInputs {
+                potential: &state.potential,
+                sign0,
+                margin: p.leader_margin,
+                negative_factor: p.negative_end_factor,
+            },
+            local,
+        )
+    } else {
+        local
+    };
     let ground = grid.z_face[bottom] <= p.ground_height;
     if ground {
         bottom = 0;

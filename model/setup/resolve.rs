@@ -21,10 +21,10 @@ use crate::physics::microphysics::prescribed::{HydroLayer, PrescribedHydrometeor
 use crate::physics::microphysics::species::Species;
 use crate::physics::profile::{self, Table, TableError};
 use crate::setup::config::{
-    BreakdownConfig, ChargingConfig, ColumnConfig, DischargeConfig, ElectrostaticsConfig,
-    EnvelopeConfig, EnvelopeKind, Geometry, HydroLayerConfig, IonisationSource, IonsConfig,
-    LayerConfig, LayerShape, MicrophysicsConfig, NeutralizationMode, PropagationMode, TopBoundary,
-    UpdraftConfig, UpdraftShape,
+    BreakdownConfig, ChannelRule, ChargingConfig, ColumnConfig, DischargeConfig,
+    ElectrostaticsConfig, EnvelopeConfig, EnvelopeKind, Geometry, HydroLayerConfig,
+    IonisationSource, IonsConfig, LayerConfig, LayerShape, MicrophysicsConfig, NeutralizationMode,
+    PropagationMode, TopBoundary, UpdraftConfig, UpdraftShape,
 };
 
 /// One nanocoulomb (C): charge-density keys are given in nC m-3.
@@ -449,6 +449,8 @@ pub fn discharge(
         ground_height: c.ground_connection_height,
         negative_end_factor: c.negative_end_factor,
         persistence: persistence_time,
+        equipotential: c.channel_rule == ChannelRule::Equipotential,
+        leader_margin: c.leader_potential_margin,
     }
 }
 

@@ -71,3 +71,83 @@ pub fn grow(inp: &ChannelInputs, start: usize) -> Option<Channel> {
     }
     Some(Channel { bottom, top })
 }
+
+/// Inputs of the equipotential (potential-driven) extension.
+pub struct EquipotentialInputs<'a> {
+    /// Ambient electric potential at cell centres (V), ground at 0 V.
+    pub potential: &'a [f64],
+    /// Sign of the field E_z at the initiation face.
+    pub sign0: f64,
+    /// Potential difference between channel and ambient air that the
+    /// negative end needs to advance (V, >= 0).
+    pub margin: f64,
+    /// The positive end needs `margin / negative_factor` (1; 1 symmetric).
+    pub negative_factor: f64,
+}
+
+/// Extends a channel as a floating, equipotential conductor with zero net
+/// charge (the bidirectional leader of Kasemir 1960, from memory).
+///
+/// A thin conductor in an ambient potential phi_a(z) takes the potential
+/// phi_c and carries the induced line charge lambda(z) = C' (phi_c - phi_a(z)).
+/// With a capacitance per unit length C' taken uniform along the channel (the
+/// slender-conductor approximation, C' = 2 pi eps0 / ln(L/a), varies only
+/// logarithmically; a modelling simplification) the zero net charge of a
+/// floating channel gives phi_c = mean of phi_a over the channel. Where
+/// phi_a > phi_c the induced charge is negative (the negative end), where
+/// phi_a < phi_c positive. An end advances one cell while the induced charge
+/// the next cell would carry has that end's polarity and the potential
+/// difference exceeds the end's margin: |phi_c - phi_a| > margin for the
+/// negative end, margin / `negative_factor` for the positive end; phi_c is
+/// updated as the channel grows (running mean), the two ends advancing in
+/// turn. An end can so cross air whose field is far below any breakdown
+/// value as long as the channel's potential differs enough from the air's:
+/// the mechanism by which a stepped leader carries a cloud's potential to
+/// ground.
+///
+/// The channel starts as `initial` (the local-field rule's channel, so that
+/// the leader forms where the field supports breakdown and the extension
+/// does not depend on the grid through a one-cell seed) and only grows.
+/// With E_z < 0 at initiation the potential rises upward, so the upper end
+/// is the negative end; with E_z > 0 the lower one.
+pub fn extend_equipotential(inp: &EquipotentialInputs, initial: Channel) -> Channel {
+    let n_cells = inp.potential.len();
+    let Channel {
+        mut bottom,
+        mut top,
+    } = initial;
+    if top <= bottom {
+        return initial;
+    }
+    let rising = -inp.sign0;
+    let easy = inp.margin / inp.negative_factor;
+    let (up_margin, down_margin) = if inp.sign0 > 0.0 {
+        (easy, inp.margin)
+    } else {
+        (inp.margin, easy)
+    };
+    let mut sum: f64 = inp.potential[bottom..top].iter().sum();
+    loop {
+        let mut moved = false;
+        if top < n_cells {
+            let mean = sum / (top - bottom) as f64;
+            if rising * (inp.potential[top] - mean) > up_margin {
+                sum += inp.potential[top];
+                top += 1;
+                moved = true;
+            }
+        }
+        if bottom > 0 {
+            let mean = sum / (top - bottom) as f64;
+            if rising * (mean - inp.potential[bottom - 1]) > down_margin {
+                bottom -= 1;
+                sum += inp.potential[bottom];
+                moved = true;
+            }
+        }
+        if !moved {
+            break;
+        }
+    }
+    Channel { bottom, top }
+}

@@ -54,6 +54,10 @@ pub struct DischargeParams {
     pub negative_end_factor: f64,
     /// Time the trigger must hold before a flash starts (s).
     pub persistence: f64,
+    /// Equipotential channel growth instead of the local-field rule.
+    pub equipotential: bool,
+    /// Potential margin of the equipotential rule's negative end (V).
+    pub leader_margin: f64,
 }
 
 /// Index of the threshold profile a trigger is measured against (the

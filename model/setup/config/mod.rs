@@ -361,6 +361,13 @@ named_choice! {
 }
 
 named_choice! {
+    pub enum ChannelRule {
+        LocalField = "local_field",
+        Equipotential = "equipotential",
+    }
+}
+
+named_choice! {
     pub enum NeutralizationMode {
         TargetField = "target_field",
         Fraction = "fraction",
@@ -387,6 +394,9 @@ pub struct DischargeConfig {
     pub neutralization_fraction: f64,
     pub ground_connection_height: f64,
     pub negative_end_factor: f64,
+    pub channel_rule: ChannelRule,
+    /// V.
+    pub leader_potential_margin: f64,
 }
 
 named_choice! {

@@ -1034,6 +1034,20 @@ pub const KEYS: &[KeySpec] = &[
         default: Some("2.0"),
         doc: "Asymmetry of the bidirectional channel: the propagation field is what the negative end needs, the positive end needs it divided by this factor. Negative streamers need 7.5-12.5 kV/cm against 4.5-5 for positive ones at sea level (Raizer 1991, via secondary sources), a ratio of about 1.5-2.8; 1 makes the channel symmetric.",
     },
+    KeySpec {
+        path: "discharge.channel_rule",
+        kind: Kind::Choice(super::ChannelRule::NAMES),
+        unit: "",
+        default: Some("\"local_field\""),
+        doc: "How a channel grows (docs/discharge.md): \"local_field\" (each end advances while the field is at least the propagation field, or through charge it seeks when follow_charge) or \"equipotential\" (that channel is then extended as a floating conductor with zero net charge, Kasemir 1960: each end keeps advancing while the ambient potential differs from the channel's, in the end's direction, by more than leader_potential_margin).",
+    },
+    KeySpec {
+        path: "discharge.leader_potential_margin",
+        kind: float(0.0, false, 1.0e10, false),
+        unit: "V",
+        default: Some("0.0"),
+        doc: "Equipotential rule only: the potential difference between channel and ambient air that the negative end needs to advance; the positive end needs it divided by negative_end_factor. 0 (the default) lets an end advance wherever its induced charge keeps its polarity, the most permissive case; a larger margin is a modelling choice (no published value was verified here).",
+    },
     // --- sweep
     KeySpec {
         path: "sweep.combine",
