@@ -265,3 +265,39 @@ fn equipotential_channel_in_a_uniform_field_spans_the_column() {
     );
     assert_eq!(ch, initial);
 }
+
+#[test]
+fn flash_records_the_channel_potential() {
+    // Each flash records the potential a floating channel with zero net
+    // charge takes (Kasemir 1960; docs/discharge.md): the mean of the
+    // ambient potential over its cells before the flash, which lies between
+    // the least and the largest ambient potential on the channel. Checked
+    // against the pre-flash potential in both geometries.
+    for geometry in ["column", "planar"] {
+        let exp = experiment(DIPOLE, &[&format!("electrostatics.geometry={geometry}")]);
+        let (mut before, _, f) = first_flash(&exp);
+        assert_eq!(f.kind, FlashKind::Intracloud);
+        // The state the flash saw: the flash's step without its flash.
+        let mut quiet = exp.clone();
+        quiet.discharge_params.enabled = false;
+        stormcharge::column::step::step(&quiet, &mut before, quiet.schedule.dt).unwrap();
+        let (lo, hi) = (
+            (f.z_bottom / exp.grid.dz).round() as usize,
+            (f.z_top / exp.grid.dz).round() as usize,
+        );
+        let cells = &before.potential[lo..hi];
+        let mean = cells.iter().sum::<f64>() / cells.len() as f64;
+        assert!(
+            (f.channel_potential - mean).abs() <= 1e-12 * mean.abs().max(1.0),
+            "{geometry}: {} vs {mean}",
+            f.channel_potential
+        );
+        let (min, max) = cells
+            .iter()
+            .fold((f64::MAX, f64::MIN), |(a, b), &p| (a.min(p), b.max(p)));
+        assert!(
+            min < f.channel_potential && f.channel_potential < max,
+            "{geometry}"
+        );
+    }
+}

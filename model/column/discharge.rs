@@ -170,6 +170,8 @@ fn flash_with(
     } else {
         local
     };
+    let channel_potential =
+        state.potential[bottom..top].iter().sum::<f64>() / (top - bottom).max(1) as f64;
     let ground = grid.z_face[bottom] <= p.ground_height;
     if ground {
         bottom = 0;
@@ -263,5 +265,6 @@ fn flash_with(
         } else {
             grid.z_face[top] - grid.z_face[start]
         },
+        channel_potential,
     })
 }

@@ -738,6 +738,12 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         "m",
         Box::new(|f| f.negative_end),
     ));
+    v.push(real(
+        "flash_channel_potential",
+        "potential of the channel as a floating conductor with zero net charge: the mean ambient potential over it before the flash (ground at 0 V)",
+        "V",
+        Box::new(|f| f.channel_potential),
+    ));
     v
 }
 

@@ -68,4 +68,10 @@ pub struct FlashRecord {
     /// initiation height (a ground connection counts in the lower end).
     pub positive_end: f64,
     pub negative_end: f64,
+    /// Potential (V, ground at 0 V) a floating channel with zero net charge
+    /// takes: the mean of the ambient potential over the channel's cells
+    /// before the flash (Kasemir 1960, uniform capacitance per unit length;
+    /// docs/discharge.md), whichever rule grew the channel. For a ground
+    /// flash, the channel as grown before it was extended to the ground.
+    pub channel_potential: f64,
 }
