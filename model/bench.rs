@@ -34,10 +34,15 @@ pub struct BenchReport {
     pub sweep_one: f64,
     pub sweep_all: f64,
     pub efficiency: f64,
-    /// Scaling over column sizes: (cells, cell-steps per second of the step,
-    /// share of the step in the field solve), the demo's first
-    /// `member_duration` seconds at spacings from 200 m to 12.5 m.
-    pub scaling: Vec<(usize, f64, f64)>,
+    /// Scaling over column sizes, the demo's first `member_duration`
+    /// seconds at spacings from 200 m to 12.5 m, each size run once per
+    /// round over `repeats` interleaved rounds: (cells, median, slowest and
+    /// fastest cell-steps per second of the step, median share of the step
+    /// in the field solve).
+    pub scaling: Vec<(usize, f64, f64, f64, f64)>,
+    /// Cell-steps per second at the largest column over those at the
+    /// smallest, per round: median, lowest, highest (1 is flat).
+    pub flatness: (f64, f64, f64),
     /// Whole demo runs with NetCDF output (the `run` path, into a scratch
     /// directory): median cell-steps per second with slowest and fastest.
     pub with_output: (f64, f64, f64),
@@ -176,20 +181,39 @@ pub fn run(
     // Cost per cell-step over column sizes (the field solve's share shows
     // how it scales).
     let solve = PHASES.iter().position(|p| *p == "poisson").unwrap_or(0);
-    let mut scaling = Vec::new();
-    for dz in SCALING_SPACINGS {
-        let mut o = short.clone();
-        o.push(format!("grid.spacing={dz}"));
-        let mut ph = [Duration::ZERO; PHASES.len()];
-        let t = Instant::now();
-        let (c, st) = run_demo(&o, &mut |p, d| ph[p] += d)?;
-        let total: f64 = ph.iter().map(|d| d.as_secs_f64()).sum();
-        scaling.push((
-            c,
-            c as f64 * st as f64 / t.elapsed().as_secs_f64(),
-            ph[solve].as_secs_f64() / total,
-        ));
+    // Rounds interleave the sizes, so that a machine that slows down or
+    // speeds up during the benchmark affects every size alike.
+    let mut rounds: Vec<Vec<(usize, f64, f64)>> = Vec::new();
+    for _ in 0..repeats.max(1) {
+        let mut round = Vec::new();
+        for dz in SCALING_SPACINGS {
+            let mut o = short.clone();
+            o.push(format!("grid.spacing={dz}"));
+            let mut ph = [Duration::ZERO; PHASES.len()];
+            let t = Instant::now();
+            let (c, st) = run_demo(&o, &mut |p, d| ph[p] += d)?;
+            let total: f64 = ph.iter().map(|d| d.as_secs_f64()).sum();
+            round.push((
+                c,
+                c as f64 * st as f64 / t.elapsed().as_secs_f64(),
+                ph[solve].as_secs_f64() / total,
+            ));
+        }
+        rounds.push(round);
     }
+    let spread = |mut v: Vec<f64>| {
+        v.sort_by(f64::total_cmp);
+        (v[v.len() / 2], v[0], v[v.len() - 1])
+    };
+    let scaling = (0..SCALING_SPACINGS.len())
+        .map(|i| {
+            let (rate, slow, fast) = spread(rounds.iter().map(|r| r[i].1).collect());
+            let (share, _, _) = spread(rounds.iter().map(|r| r[i].2).collect());
+            (rounds[0][i].0, rate, slow, fast, share)
+        })
+        .collect();
+    let last = SCALING_SPACINGS.len() - 1;
+    let flatness = spread(rounds.iter().map(|r| r[last].1 / r[0].1).collect());
     Ok(BenchReport {
         with_output,
         cells,
@@ -204,6 +228,7 @@ pub fn run(
         sweep_all: all,
         efficiency,
         scaling,
+        flatness,
     })
 }
 
@@ -236,15 +261,20 @@ impl BenchReport {
             self.threads,
             100.0 * self.efficiency
         ));
-        s.push_str(
-            "scaling over column sizes (the demo's first member-duration seconds, one run each):\n",
-        );
-        for (cells, rate, solve) in &self.scaling {
+        s.push_str(&format!(
+            "scaling over column sizes (the demo's first member-duration seconds, medians of {} interleaved rounds):\n",
+            self.repeats
+        ));
+        for (cells, rate, slow, fast, solve) in &self.scaling {
             s.push_str(&format!(
-                "  {cells:>5} cells: {rate:.3e} cell-steps per second, field solve {:.1} % of the step\n",
+                "  {cells:>5} cells: {rate:.3e} cell-steps per second ({slow:.3e} to {fast:.3e}), field solve {:.1} % of the step\n",
                 100.0 * solve
             ));
         }
+        let (ratio, low, high) = self.flatness;
+        s.push_str(&format!(
+            "largest over smallest column, per cell-step and round: {ratio:.3} (median; {low:.3} to {high:.3})\n"
+        ));
         s
     }
 }

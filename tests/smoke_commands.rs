@@ -362,17 +362,28 @@ fn bench_prints_its_figures() {
         v.len() == 6 && v.iter().all(|x| x.is_finite() && *x > 0.0),
         "{sweep}"
     );
-    // The scaling over column sizes: 80 to 1280 cells, positive rates.
+    // The scaling over column sizes: 80 to 1280 cells, positive rates, the
+    // median between the slowest and fastest round.
     let cells: Vec<f64> = text
         .lines()
         .filter(|l| l.contains(" cells: "))
         .map(|l| {
             let v = numbers(l);
-            assert!(v.len() >= 3 && v[1] > 0.0, "{l}");
+            assert!(v.len() == 5 && v[2] > 0.0, "{l}");
+            assert!(v[2] <= v[1] && v[1] <= v[3], "{l}");
             v[0]
         })
         .collect();
     assert_eq!(cells, [80.0, 160.0, 320.0, 640.0, 1280.0]);
+    let flat = text
+        .lines()
+        .find(|l| l.starts_with("largest over smallest column"))
+        .unwrap();
+    let v = numbers(flat);
+    assert!(
+        v.len() == 3 && v[1] > 0.0 && v[1] <= v[0] && v[0] <= v[2],
+        "{flat}"
+    );
 }
 
 #[test]
