@@ -539,6 +539,11 @@ pub struct EnsembleReport {
     /// For each class found: its name, share of the members that ran, and
     /// the members (number and swept values).
     pub classes: Vec<(String, f64, Vec<String>)>,
+    /// Flashes of the members that ran, summed: intracloud, negative and
+    /// positive ground.
+    pub flashes: [u64; 3],
+    /// Members that made at least one ground flash.
+    pub members_with_ground_flashes: Vec<String>,
 }
 
 impl EnsembleReport {
@@ -558,6 +563,28 @@ impl EnsembleReport {
             for m in list {
                 out.push_str(&format!("      {m}\n"));
             }
+        }
+        let [ic, neg, pos] = self.flashes;
+        let total = ic + neg + pos;
+        out.push_str(&format!(
+            "flashes: {ic} intracloud, {neg} negative ground, {pos} positive ground; ground flashes {:.1} % of all",
+            if total > 0 {
+                100.0 * (neg + pos) as f64 / total as f64
+            } else {
+                0.0
+            }
+        ));
+        out.push_str(&format!(
+            " (in {} member{})\n",
+            self.members_with_ground_flashes.len(),
+            if self.members_with_ground_flashes.len() == 1 {
+                ""
+            } else {
+                "s"
+            }
+        ));
+        for m in &self.members_with_ground_flashes {
+            out.push_str(&format!("      {m}\n"));
         }
         out
     }
@@ -621,7 +648,18 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         members: 0,
         failed: 0,
         classes: Vec::new(),
+        flashes: [0; 3],
+        members_with_ground_flashes: Vec::new(),
     };
+    let fail = |m: String| crate::error::RunError::Output {
+        context: format!("reading {}", dir.join("summary.csv").display()),
+        message: m,
+    };
+    let kinds = [
+        table.column("flashes_intracloud").map_err(&fail)?,
+        table.column("flashes_negative_ground").map_err(&fail)?,
+        table.column("flashes_positive_ground").map_err(&fail)?,
+    ];
     for f in &table.rows {
         if f[status] != "ok" {
             report.failed += 1;
@@ -634,6 +672,26 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
             .map(|(k, v)| format!("{k}={v}"))
             .collect();
         let member = format!("member {}: {}", f[0], values.join(", "));
+        let mut counts = [0u64; 3];
+        for (c, &col) in counts.iter_mut().zip(&kinds) {
+            *c = f.get(col).and_then(|v| v.parse().ok()).ok_or_else(|| {
+                fail(format!(
+                    "member {}: column {} is not a flash count",
+                    f[0], table.header[col]
+                ))
+            })?;
+        }
+        for (t, c) in report.flashes.iter_mut().zip(counts) {
+            *t += c;
+        }
+        if counts[1] + counts[2] > 0 {
+            report.members_with_ground_flashes.push(format!(
+                "{member} ({} negative, {} positive ground of {})",
+                counts[1],
+                counts[2],
+                counts.iter().sum::<u64>()
+            ));
+        }
         match report.classes.iter_mut().find(|c| c.0 == f[structure]) {
             Some(c) => c.2.push(member),
             None => report

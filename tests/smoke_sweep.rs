@@ -385,6 +385,24 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
             .count();
         assert_eq!(listed, in_csv, "{name}");
     }
+    // The flash totals are the sums of the summary's flash columns.
+    let header: Vec<&str> = summary.lines().next().unwrap().split(',').collect();
+    for (i, kind) in ["intracloud", "negative_ground", "positive_ground"]
+        .iter()
+        .enumerate()
+    {
+        let col = header
+            .iter()
+            .position(|h| *h == format!("flashes_{kind}"))
+            .unwrap();
+        let sum: u64 = summary
+            .lines()
+            .skip(1)
+            .map(|l| l.split(',').nth(col).unwrap().parse::<u64>().unwrap())
+            .sum();
+        assert_eq!(v["flashes"][i].as_u64().unwrap(), sum, "{kind}");
+    }
+    assert!(text.contains("ground flashes"), "{text}");
 }
 
 #[test]
