@@ -300,6 +300,13 @@ pub struct FlashReport {
     /// Per flash: time (s), |E| at initiation over the runaway threshold,
     /// and the criteria that held.
     pub initiation: Vec<FlashInitiation>,
+    /// Flashes whose negative end pointed down (started below a negative
+    /// region, as a negative ground flash must) and up; `None` for files
+    /// without the end lengths.
+    pub negative_end_down: Option<(usize, usize)>,
+    /// Channel potential as a floating conductor (V): median, lowest,
+    /// highest; `None` without flashes or for files without it.
+    pub channel_potential: Option<(f64, f64, f64)>,
 }
 
 /// What held when one flash started.
@@ -426,6 +433,33 @@ pub fn analyze_file(
             out.optional::<f64>(&format!("flash_criterion_{}", c.name()))?,
         ));
     }
+    let (z_init, z_bottom, negative_end) = (
+        flash_f64("flash_z_init")?,
+        flash_f64("flash_z_bottom")?,
+        flash_f64("flash_negative_end_length")?,
+    );
+    let negative_end_down = (!negative_end.is_empty()
+        && negative_end.len() == z_init.len()
+        && z_init.len() == z_bottom.len())
+    .then(|| {
+        // The negative end is the lower one when its length is the distance
+        // from the initiation height down to the channel's bottom.
+        let down = negative_end
+            .iter()
+            .zip(z_init.iter().zip(&z_bottom))
+            .filter(|(n, (zi, zb))| (**n - (**zi - **zb)).abs() <= 1e-6 * zi.abs().max(1.0))
+            .count();
+        (down, negative_end.len() - down)
+    });
+    let mut potentials = flash_f64("flash_channel_potential")?;
+    potentials.sort_by(f64::total_cmp);
+    let channel_potential = (!potentials.is_empty()).then(|| {
+        (
+            potentials[potentials.len() / 2],
+            potentials[0],
+            potentials[potentials.len() - 1],
+        )
+    });
     let initiation = times
         .iter()
         .enumerate()
@@ -453,6 +487,8 @@ pub fn analyze_file(
             mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),
             mean_energy: mean(&energy).zip(area).map(|(m, a)| m * a),
             initiation,
+            negative_end_down,
+            channel_potential,
         },
     })
 }
@@ -502,6 +538,17 @@ impl Report {
                 s.push_str(&format!(" ({qc:.1} C, {wc:.2e} J)"));
             }
             s.push('\n');
+        }
+        if let (Some((down, up)), Some((mid, lo, hi))) =
+            (fl.negative_end_down, fl.channel_potential)
+        {
+            s.push_str(&format!(
+                "channels: {down} with the negative end down (started below a negative region), {up} with it up; \
+                 potential as a floating conductor median {:.1} MV ({:.1} to {:.1} MV)\n",
+                mid / 1e6,
+                lo / 1e6,
+                hi / 1e6
+            ));
         }
         if !fl.initiation.is_empty() {
             let mut r: Vec<f64> = fl.initiation.iter().map(|f| f.over_runaway).collect();

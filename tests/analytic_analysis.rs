@@ -201,3 +201,43 @@ fn analyze_warns_when_the_stored_configuration_cannot_be_read() {
     assert!((q - 1.5e-9 * 600.0).abs() < 1e-12 * q.abs());
     assert!(regions.iter().all(|r| r["charge"].is_null()));
 }
+
+#[test]
+fn analyze_reports_which_way_the_negative_ends_point() {
+    // configs/tripole_flashes.toml: positive charge at 7 km over negative at
+    // 3 km over a thin positive layer at 1.2 km. A negative ground flash
+    // starts below the negative region and brings its negative end down
+    // (common practice: the downward negative stepped leader; Mansell et
+    // al. 2002 need a lower positive region for it), while the intracloud
+    // flashes between the upper two regions have the negative end up. The
+    // report's count of channels with the negative end down equals the
+    // negative ground flashes, and the channel potentials' median lies
+    // within their range.
+    let out = scratch("ends.nc");
+    succeed(
+        bin()
+            .args(["run", "--quiet"])
+            .arg(repo("configs/tripole_flashes.toml"))
+            .arg("-o")
+            .arg(&out),
+    );
+    let json = scratch("ends.json");
+    let o = succeed(bin().arg("analyze").arg(&out).arg("--json").arg(&json));
+    assert!(String::from_utf8_lossy(&o.stdout).contains("negative end down"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let fl = &v["flashes"];
+    let ground = fl["count_negative_ground"].as_u64().unwrap();
+    let intracloud = fl["count_intracloud"].as_u64().unwrap();
+    assert!(ground > 0 && intracloud > 0);
+    let ends = fl["negative_end_down"].as_array().unwrap();
+    assert_eq!(ends[0].as_u64().unwrap(), ground);
+    assert_eq!(ends[1].as_u64().unwrap(), intracloud);
+    let p = fl["channel_potential"].as_array().unwrap();
+    let (mid, lo, hi) = (
+        p[0].as_f64().unwrap(),
+        p[1].as_f64().unwrap(),
+        p[2].as_f64().unwrap(),
+    );
+    assert!(lo <= mid && mid <= hi, "{p:?}");
+}
