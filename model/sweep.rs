@@ -69,6 +69,15 @@ pub struct Outcome {
     /// (NaN unless `sweep.error_estimate`).
     #[serde(default = "no_estimate", deserialize_with = "nan::two_by_two")]
     pub error_estimate: [[f64; 2]; 2],
+    /// Largest charge (C, magnitude) on a 2.5 mm drop and a 2.5 mm graupel
+    /// particle over the run, the charge shared over the size distribution
+    /// in proportion to surface area (the run summary's diagnostic).
+    #[serde(default = "no_pair", deserialize_with = "nan::two")]
+    pub charge_2p5mm: [f64; 2],
+}
+
+fn no_pair() -> [f64; 2] {
+    [f64::NAN; 2]
 }
 
 fn no_estimate() -> [[f64; 2]; 2] {
@@ -82,6 +91,10 @@ mod nan {
 
     pub fn one<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
         Ok(Option::<f64>::deserialize(d)?.unwrap_or(f64::NAN))
+    }
+
+    pub fn two<'de, D: Deserializer<'de>>(d: D) -> Result<[f64; 2], D::Error> {
+        Ok(<[Option<f64>; 2]>::deserialize(d)?.map(|x| x.unwrap_or(f64::NAN)))
     }
 
     pub fn three<'de, D: Deserializer<'de>>(d: D) -> Result<[f64; 3], D::Error> {
@@ -327,6 +340,7 @@ fn failed_outcome(member: Member) -> Outcome {
         model_time: f64::NAN,
         column_area: f64::NAN,
         error_estimate: no_estimate(),
+        charge_2p5mm: no_pair(),
     }
 }
 
@@ -402,6 +416,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
             out.model_time = s.model_time;
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
+            out.charge_2p5mm = s.max_charge_2p5mm;
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -679,6 +694,20 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             "particle charge neutralised by the capture of small ions",
             "C m-2",
             |o| N(o.ion_neutralised),
+        ),
+        col(
+            "drop_2p5mm_charge_C",
+            "drop_2p5mm_charge",
+            "largest charge magnitude on a 2.5 mm drop over the run (charge shared over the size distribution by surface area)",
+            "C",
+            |o| N(o.charge_2p5mm[0]),
+        ),
+        col(
+            "graupel_2p5mm_charge_C",
+            "graupel_2p5mm_charge",
+            "largest charge magnitude on a 2.5 mm graupel particle over the run (charge shared over the size distribution by surface area)",
+            "C",
+            |o| N(o.charge_2p5mm[1]),
         ),
     ]);
     for (q, what) in ["peak_field", "main_negative"].into_iter().enumerate() {

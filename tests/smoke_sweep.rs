@@ -482,6 +482,8 @@ fn summary_has_numeric_parameters_and_the_outcomes_a_comparison_needs() {
         "flash_rate_intracloud_per_min",
         "ground_charge_C_m2",
         "first_flash_s",
+        "drop_2p5mm_charge_C",
+        "graupel_2p5mm_charge_C",
     ] {
         assert!(header.split(',').any(|h| h == col), "{col} in {header}");
     }
