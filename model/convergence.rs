@@ -311,6 +311,16 @@ fn outcomes(exp: &Experiment, c: &Collector) -> Vec<(String, &'static str, f64)>
         ));
     }
     out.push((
+        "largest charge on a 2.5 mm drop".into(),
+        "pC",
+        s.max_charge_2p5mm[0] * 1e12,
+    ));
+    out.push((
+        "largest charge on 2.5 mm graupel".into(),
+        "pC",
+        s.max_charge_2p5mm[1] * 1e12,
+    ));
+    out.push((
         "largest warming of the 5-10 km layer".into(),
         "K",
         if c.max_warming.is_finite() {
