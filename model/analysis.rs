@@ -452,13 +452,9 @@ pub fn analyze_file(
         (down, negative_end.len() - down)
     });
     let mut potentials = flash_f64("flash_channel_potential")?;
-    potentials.sort_by(f64::total_cmp);
     let channel_potential = (!potentials.is_empty()).then(|| {
-        (
-            potentials[potentials.len() / 2],
-            potentials[0],
-            potentials[potentials.len() - 1],
-        )
+        let [lo, mid, hi] = crate::sweep::spread(&mut potentials);
+        (mid, lo, hi)
     });
     let initiation = times
         .iter()
@@ -650,10 +646,7 @@ pub struct SweepTable {
 impl SweepTable {
     pub fn read(dir: &std::path::Path) -> Result<Self, crate::error::RunError> {
         let path = dir.join("summary.csv");
-        let fail = |m: String| crate::error::RunError::Output {
-            context: format!("reading {}", path.display()),
-            message: m,
-        };
+        let fail = |m: String| summary_error(dir, m);
         let text = std::fs::read_to_string(&path).map_err(|e| {
             fail(format!(
                 "{e} (run the sweep, or sweep-merge its shards, first)"
@@ -686,6 +679,14 @@ impl SweepTable {
     }
 }
 
+/// An error reading the `summary.csv` of the sweep directory `dir`.
+fn summary_error(dir: &std::path::Path, message: String) -> crate::error::RunError {
+    crate::error::RunError::Output {
+        context: format!("reading {}", dir.join("summary.csv").display()),
+        message,
+    }
+}
+
 /// Reads a sweep directory's `summary.csv` and counts the structure classes.
 pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::error::RunError> {
     let table = SweepTable::read(dir)?;
@@ -698,10 +699,7 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         flashes: [0; 3],
         members_with_ground_flashes: Vec::new(),
     };
-    let fail = |m: String| crate::error::RunError::Output {
-        context: format!("reading {}", dir.join("summary.csv").display()),
-        message: m,
-    };
+    let fail = |m: String| summary_error(dir, m);
     let kinds = [
         table.column("flashes_intracloud").map_err(&fail)?,
         table.column("flashes_negative_ground").map_err(&fail)?,

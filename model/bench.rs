@@ -201,9 +201,10 @@ pub fn run(
         }
         rounds.push(round);
     }
+    // (median, lowest, highest) of the rounds.
     let spread = |mut v: Vec<f64>| {
-        v.sort_by(f64::total_cmp);
-        (v[v.len() / 2], v[0], v[v.len() - 1])
+        let [lo, mid, hi] = crate::sweep::spread(&mut v);
+        (mid, lo, hi)
     };
     let scaling = (0..SCALING_SPACINGS.len())
         .map(|i| {

@@ -127,7 +127,7 @@ fn run_layers(name: &str) -> std::path::PathBuf {
     let cfg = scratch(&format!("{name}.toml"));
     std::fs::write(&cfg, LAYERS).unwrap();
     let out = scratch(&format!("{name}.nc"));
-    succeed(bin().args(["run", "--quiet"]).arg(&cfg).arg("-o").arg(&out));
+    run_quiet(&cfg, &out);
     out
 }
 
@@ -214,13 +214,7 @@ fn analyze_reports_which_way_the_negative_ends_point() {
     // negative ground flashes, and the channel potentials' median lies
     // within their range.
     let out = scratch("ends.nc");
-    succeed(
-        bin()
-            .args(["run", "--quiet"])
-            .arg(repo("configs/tripole_flashes.toml"))
-            .arg("-o")
-            .arg(&out),
-    );
+    run_quiet(&repo("configs/tripole_flashes.toml"), &out);
     let json = scratch("ends.json");
     let o = succeed(bin().arg("analyze").arg(&out).arg("--json").arg(&json));
     assert!(String::from_utf8_lossy(&o.stdout).contains("negative end down"));

@@ -246,13 +246,7 @@ fn every_shipped_config_resolves() {
 fn flash_records_in_the_file() {
     // Flash records on their own unlimited dimension; counts by kind agree.
     let out = scratch("flashes.nc");
-    succeed(
-        bin()
-            .args(["run", "--quiet"])
-            .arg(repo("configs/tripole_flashes.toml"))
-            .arg("-o")
-            .arg(&out),
-    );
+    run_quiet(&repo("configs/tripole_flashes.toml"), &out);
     let f = netcdf::open(&out).unwrap();
     let n_flash = f.dimension_len("flash").expect("flash dimension");
     assert!(f.dimension("flash").unwrap().is_unlimited());

@@ -36,6 +36,17 @@ pub fn scratch(name: &str) -> PathBuf {
 }
 
 /// A path inside the repository.
+/// Runs `stormcharge run --quiet CONFIG -o OUT` and requires success.
+pub fn run_quiet(config: &std::path::Path, out: &std::path::Path) {
+    succeed(
+        bin()
+            .args(["run", "--quiet"])
+            .arg(config)
+            .arg("-o")
+            .arg(out),
+    );
+}
+
 pub fn repo(rel: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
 }
