@@ -307,6 +307,12 @@ pub struct FlashReport {
     /// Channel potential as a floating conductor (V): median, lowest,
     /// highest; `None` without flashes or for files without it.
     pub channel_potential: Option<(f64, f64, f64)>,
+    /// Temperature (degC) at the flashes' negative and positive charge
+    /// centres (the centroids of the charge each flash neutralised):
+    /// median, lowest, highest over the flashes that had one; `None`
+    /// without them or for files without the variables.
+    pub negative_charge_temperature: Option<(f64, f64, f64)>,
+    pub positive_charge_temperature: Option<(f64, f64, f64)>,
 }
 
 /// What held when one flash started.
@@ -456,6 +462,19 @@ pub fn analyze_file(
         let [lo, mid, hi] = crate::sweep::spread(&mut potentials);
         (mid, lo, hi)
     });
+    let centre = |name: &str| -> Result<Option<(f64, f64, f64)>, crate::error::RunError> {
+        let mut t: Vec<f64> = flash_f64(name)?
+            .into_iter()
+            .filter(|x| x.is_finite())
+            .map(|x| x - crate::physics::constants::T_MELT)
+            .collect();
+        Ok((!t.is_empty()).then(|| {
+            let [lo, mid, hi] = crate::sweep::spread(&mut t);
+            (mid, lo, hi)
+        }))
+    };
+    let negative_charge_temperature = centre("flash_temperature_negative_charge")?;
+    let positive_charge_temperature = centre("flash_temperature_positive_charge")?;
     let initiation = times
         .iter()
         .enumerate()
@@ -485,6 +504,8 @@ pub fn analyze_file(
             initiation,
             negative_end_down,
             channel_potential,
+            negative_charge_temperature,
+            positive_charge_temperature,
         },
     })
 }
@@ -545,6 +566,16 @@ impl Report {
                 lo / 1e6,
                 hi / 1e6
             ));
+        }
+        for (sign, t) in [
+            ("negative", fl.negative_charge_temperature),
+            ("positive", fl.positive_charge_temperature),
+        ] {
+            if let Some((mid, lo, hi)) = t {
+                s.push_str(&format!(
+                    "{sign} charge centres of the flashes (centroids of the {sign} charge they neutralised): median {mid:.1} degC ({lo:.1} to {hi:.1} degC)\n"
+                ));
+            }
         }
         if !fl.initiation.is_empty() {
             let mut r: Vec<f64> = fl.initiation.iter().map(|f| f.over_runaway).collect();

@@ -234,4 +234,18 @@ fn analyze_reports_which_way_the_negative_ends_point() {
         p[2].as_f64().unwrap(),
     );
     assert!(lo <= mid && mid <= hi, "{p:?}");
+    // Every flash takes its negative charge from the one negative layer,
+    // symmetric about 3 km, so every negative charge centre sits at the
+    // same temperature; the intracloud flashes, the majority, take their
+    // positive charge from the layer at 7 km, colder than 3 km (wiring of
+    // the charge centres into the report; their analytic check is in
+    // tests/analytic_discharge.rs).
+    let t = |key: &str| -> [f64; 3] {
+        let a = fl[key].as_array().unwrap();
+        [0, 1, 2].map(|i| a[i].as_f64().unwrap())
+    };
+    let [neg_mid, neg_lo, neg_hi] = t("negative_charge_temperature");
+    assert!(neg_hi - neg_lo < 1e-3, "{neg_lo} to {neg_hi} degC");
+    let [pos_mid, _, _] = t("positive_charge_temperature");
+    assert!(pos_mid < neg_mid - 20.0, "{pos_mid} vs {neg_mid} degC");
 }

@@ -275,3 +275,43 @@ fn flash_records_the_channel_potential() {
         );
     }
 }
+
+#[test]
+fn flash_charge_centres_are_the_centroids_of_what_it_neutralised() {
+    // A flash's charge centres are the centroids of the negative and the
+    // positive charge it neutralised (the charge sources that field-change
+    // and lightning-mapping analyses retrieve; docs/discharge.md). The two
+    // prescribed layers are symmetric about 6 and 9 km on the cell grid and
+    // the neutralisation takes the same fraction of each cell's excess, so
+    // when the channel spans both layers the centres are their centres
+    // (analytic, to rounding); the temperatures are the column's there.
+    for mode in ["fraction", "target_field"] {
+        let exp = experiment(DIPOLE, &[&format!("discharge.neutralization={mode}")]);
+        let (_, after, f) = first_flash(&exp);
+        assert_eq!(f.kind, FlashKind::Intracloud);
+        assert!(
+            f.z_bottom <= 5500.0 && f.z_top >= 9500.0,
+            "{mode}: channel {} - {} m",
+            f.z_bottom,
+            f.z_top
+        );
+        assert!(
+            (f.z_negative_charge - 6000.0).abs() < 1e-6,
+            "{mode}: {}",
+            f.z_negative_charge
+        );
+        assert!(
+            (f.z_positive_charge - 9000.0).abs() < 1e-6,
+            "{mode}: {}",
+            f.z_positive_charge
+        );
+        // Cell centres lie at 50 m + k 100 m: 6000 m is halfway between
+        // cells 59 and 60.
+        let t = 0.5 * (after.temperature(&exp, 59) + after.temperature(&exp, 60));
+        assert!(
+            (f.t_negative_charge - t).abs() < 1e-9,
+            "{mode}: {} vs {t}",
+            f.t_negative_charge
+        );
+    }
+}

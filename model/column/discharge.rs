@@ -223,9 +223,17 @@ fn flash_with(
 
     let mut net_change = 0.0;
     let mut energy_from_charges = 0.0;
+    // Weights and first moments of the negative (d > 0: negative charge
+    // neutralised) and positive charge the flash took away.
+    let (mut neg_moment, mut pos_moment) = ((0.0, 0.0), (0.0, 0.0));
     for k in bottom..top {
         let d = state.charge_total[k] - sc.rho_before[k];
         net_change += d * dz;
+        if d > 0.0 {
+            neg_moment = (neg_moment.0 + d, neg_moment.1 + d * grid.z[k]);
+        } else if d < 0.0 {
+            pos_moment = (pos_moment.0 - d, pos_moment.1 - d * grid.z[k]);
+        }
         let before = exp
             .field_solver
             .pairing_potential(&sc.phi_before, &sc.rho_before, k);
@@ -266,5 +274,38 @@ fn flash_with(
             grid.z_face[top] - grid.z_face[start]
         },
         channel_potential,
+        z_negative_charge: centroid(neg_moment),
+        z_positive_charge: centroid(pos_moment),
+        t_negative_charge: temperature_at(exp, state, centroid(neg_moment)),
+        t_positive_charge: temperature_at(exp, state, centroid(pos_moment)),
     })
+}
+
+/// Height (m) of a centroid from its weight and first moment; NaN without
+/// weight.
+fn centroid((weight, moment): (f64, f64)) -> f64 {
+    if weight > 0.0 {
+        moment / weight
+    } else {
+        f64::NAN
+    }
+}
+
+/// Air temperature (K) at height `z` (m), linear between cell centres and
+/// constant beyond the first and last; NaN for a NaN height.
+fn temperature_at(exp: &Experiment, state: &State, z: f64) -> f64 {
+    if z.is_nan() {
+        return f64::NAN;
+    }
+    let zc = &exp.grid.z;
+    let n = zc.len();
+    let j = zc.partition_point(|&h| h <= z);
+    if j == 0 {
+        return state.temperature(exp, 0);
+    }
+    if j >= n {
+        return state.temperature(exp, n - 1);
+    }
+    let u = (z - zc[j - 1]) / (zc[j] - zc[j - 1]);
+    (1.0 - u) * state.temperature(exp, j - 1) + u * state.temperature(exp, j)
 }

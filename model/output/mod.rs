@@ -623,6 +623,8 @@ pub struct FlashVar {
     pub units: &'static str,
     pub value: FlashValue,
     pub get: Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>,
+    /// Whether a flash may have no value (written as NaN, the _FillValue).
+    pub may_be_missing: bool,
 }
 
 const KIND_VALUES: &[i32] = &[1, 2, 3];
@@ -641,6 +643,7 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         units,
         value: FlashValue::Real,
         get,
+        may_be_missing: false,
     };
     let mut v = vec![
         real("flash_z_init", "height of flash initiation", "m", Box::new(|f| f.z_init)),
@@ -703,6 +706,7 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         units: "",
         value: FlashValue::Flag(KIND_VALUES, KIND_MEANINGS),
         get: Box::new(|f| f.kind as i32 as f64),
+        may_be_missing: false,
     });
     for c in Criterion::ALL {
         let i = c.index();
@@ -715,6 +719,7 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
             units: "",
             value: FlashValue::Flag(MET_VALUES, MET_MEANINGS),
             get: Box::new(move |f| f64::from(u8::from(f.criteria_met[i]))),
+            may_be_missing: false,
         });
         v.push(real(
             &format!("flash_ratio_{}", c.name()),
@@ -744,6 +749,36 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         "V",
         Box::new(|f| f.channel_potential),
     ));
+    for (name, long, units, get) in [
+        (
+            "flash_z_negative_charge",
+            "height of the flash's negative charge centre: centroid of the negative charge it neutralised (missing when none)",
+            "m",
+            Box::new(|f: &FlashRecord| f.z_negative_charge) as Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>,
+        ),
+        (
+            "flash_z_positive_charge",
+            "height of the flash's positive charge centre: centroid of the positive charge it neutralised (missing when none)",
+            "m",
+            Box::new(|f: &FlashRecord| f.z_positive_charge),
+        ),
+        (
+            "flash_temperature_negative_charge",
+            "air temperature at the flash's negative charge centre (missing when none)",
+            "K",
+            Box::new(|f: &FlashRecord| f.t_negative_charge),
+        ),
+        (
+            "flash_temperature_positive_charge",
+            "air temperature at the flash's positive charge centre (missing when none)",
+            "K",
+            Box::new(|f: &FlashRecord| f.t_positive_charge),
+        ),
+    ] {
+        let mut var = real(name, long, units, get);
+        var.may_be_missing = true;
+        v.push(var);
+    }
     v
 }
 

@@ -437,6 +437,9 @@ impl NetcdfWriter {
                     v.put_attribute("long_name", var.long_name.as_str())
                         .map_err(&e)?;
                     v.put_attribute("units", var.units).map_err(&e)?;
+                    if var.may_be_missing {
+                        v.put_attribute("_FillValue", f64::NAN).map_err(&e)?;
+                    }
                 }
                 FlashValue::Flag(values, meanings) => {
                     let mut v = f.add_variable::<i32>(&var.name, &["flash"]).map_err(&e)?;

@@ -74,4 +74,17 @@ pub struct FlashRecord {
     /// docs/discharge.md), whichever rule grew the channel. For a ground
     /// flash, the channel as grown before it was extended to the ground.
     pub channel_potential: f64,
+    /// Charge centres of the flash (m): the centroids, over the cells the
+    /// channel crossed, of the negative and of the positive charge it
+    /// neutralised, weighted by the change of the charge density each
+    /// cell saw (NaN when the flash neutralised none of that sign). This is
+    /// what multi-station field-change and lightning-mapping analyses
+    /// retrieve as a flash's charge sources (Krehbiel 1986, from memory;
+    /// docs/discharge.md).
+    pub z_negative_charge: f64,
+    pub z_positive_charge: f64,
+    /// Air temperature (K) at those heights (linear between cell centres;
+    /// NaN with the height).
+    pub t_negative_charge: f64,
+    pub t_positive_charge: f64,
 }
