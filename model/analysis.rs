@@ -567,15 +567,17 @@ impl Report {
                 hi / 1e6
             ));
         }
-        for (sign, t) in [
-            ("negative", fl.negative_charge_temperature),
-            ("positive", fl.positive_charge_temperature),
-        ] {
-            if let Some((mid, lo, hi)) = t {
-                s.push_str(&format!(
-                    "{sign} charge centres of the flashes (centroids of the {sign} charge they neutralised): median {mid:.1} degC ({lo:.1} to {hi:.1} degC)\n"
-                ));
-            }
+        let centre = |t: Option<(f64, f64, f64)>| {
+            t.map_or("none".to_string(), |(mid, lo, hi)| {
+                format!("median {mid:.1} degC ({lo:.1} to {hi:.1} degC)")
+            })
+        };
+        if fl.negative_charge_temperature.is_some() || fl.positive_charge_temperature.is_some() {
+            s.push_str(&format!(
+                "flash charge centres (centroids of the charge each flash neutralised): negative {}, positive {}\n",
+                centre(fl.negative_charge_temperature),
+                centre(fl.positive_charge_temperature)
+            ));
         }
         if !fl.initiation.is_empty() {
             let mut r: Vec<f64> = fl.initiation.iter().map(|f| f.over_runaway).collect();
