@@ -620,6 +620,43 @@ pub struct EnsembleReport {
     pub flashes: [u64; 3],
     /// Members that made at least one ground flash.
     pub members_with_ground_flashes: Vec<String>,
+    /// The same as `classes` for the structure most records of each
+    /// member's flashing stage show ("no_flashes" for members without
+    /// any); empty for summaries written before the column existed.
+    pub classes_while_flashing: Vec<(String, f64, Vec<String>)>,
+}
+
+/// Appends the lines of one class table (name, share, members).
+fn class_lines(out: &mut String, classes: &[(String, f64, Vec<String>)]) {
+    for (name, share, list) in classes {
+        out.push_str(&format!(
+            "  {name:<22} {:>5.1} %  ({} member{})\n",
+            100.0 * share,
+            list.len(),
+            if list.len() == 1 { "" } else { "s" }
+        ));
+        for m in list {
+            out.push_str(&format!("      {m}\n"));
+        }
+    }
+}
+
+/// Adds `member` to the class `name` of `classes`.
+fn tally(classes: &mut Vec<(String, f64, Vec<String>)>, name: &str, member: String) {
+    match classes.iter_mut().find(|c| c.0 == name) {
+        Some(c) => c.2.push(member),
+        None => classes.push((name.to_string(), 0.0, vec![member])),
+    }
+}
+
+/// Turns the member lists of `classes` into shares of `n` members, largest
+/// first.
+fn shares(classes: &mut [(String, f64, Vec<String>)], n: usize) {
+    let n = n.max(1) as f64;
+    for c in classes.iter_mut() {
+        c.1 = c.2.len() as f64 / n;
+    }
+    classes.sort_by(|a, b| b.1.total_cmp(&a.1));
 }
 
 impl EnsembleReport {
@@ -629,16 +666,12 @@ impl EnsembleReport {
             "{} members ran ({} failed); structure at the largest charge separation:\n",
             self.members, self.failed
         );
-        for (name, share, list) in &self.classes {
-            out.push_str(&format!(
-                "  {name:<22} {:>5.1} %  ({} member{})\n",
-                100.0 * share,
-                list.len(),
-                if list.len() == 1 { "" } else { "s" }
-            ));
-            for m in list {
-                out.push_str(&format!("      {m}\n"));
-            }
+        class_lines(&mut out, &self.classes);
+        if !self.classes_while_flashing.is_empty() {
+            out.push_str(
+                "structure while the storm flashes (the class most records from the first flash to the last show):\n",
+            );
+            class_lines(&mut out, &self.classes_while_flashing);
         }
         let [ic, neg, pos] = self.flashes;
         let total = ic + neg + pos;
@@ -731,7 +764,9 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         classes: Vec::new(),
         flashes: [0; 3],
         members_with_ground_flashes: Vec::new(),
+        classes_while_flashing: Vec::new(),
     };
+    let while_flashing = table.column("structure_while_flashing").ok();
     let fail = |m: String| summary_error(dir, m);
     let kinds = [
         table.column("flashes_intracloud").map_err(&fail)?,
@@ -770,17 +805,18 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
                 counts.iter().sum::<u64>()
             ));
         }
-        match report.classes.iter_mut().find(|c| c.0 == f[structure]) {
-            Some(c) => c.2.push(member),
-            None => report
-                .classes
-                .push((f[structure].to_string(), 0.0, vec![member])),
+        if let Some(col) = while_flashing {
+            let class = f.get(col).map_or("", String::as_str);
+            let class = if class.is_empty() {
+                "no_flashes"
+            } else {
+                class
+            };
+            tally(&mut report.classes_while_flashing, class, member.clone());
         }
+        tally(&mut report.classes, &f[structure], member);
     }
-    let n = report.members.max(1) as f64;
-    for c in &mut report.classes {
-        c.1 = c.2.len() as f64 / n;
-    }
-    report.classes.sort_by(|a, b| b.1.total_cmp(&a.1));
+    shares(&mut report.classes, report.members);
+    shares(&mut report.classes_while_flashing, report.members);
     Ok(report)
 }

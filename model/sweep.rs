@@ -7,7 +7,7 @@
 //! (a Slurm job array runs the shards on several nodes) and
 //! [`merge`] joins the shard summaries.
 
-use crate::analysis::{classify, PeakSeparation, Region};
+use crate::analysis::{classify, PeakSeparation, Region, Structure};
 use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::netcdf_writer::NetcdfWriter;
@@ -74,6 +74,16 @@ pub struct Outcome {
     /// in proportion to surface area (the run summary's diagnostic).
     #[serde(default = "no_pair", deserialize_with = "nan::two")]
     pub charge_2p5mm: [f64; 2],
+    /// The structure class most output records of the flashing stage show
+    /// (from the first record at or after the first flash to the first at
+    /// or after the last) and the share of those records in it; empty and
+    /// NaN for a member without flashes. The class at the largest
+    /// separation can belong to the decaying stage; this one describes the
+    /// storm while it flashes.
+    #[serde(default)]
+    pub structure_while_flashing: String,
+    #[serde(default = "no_time", deserialize_with = "nan::one")]
+    pub structure_while_flashing_share: f64,
 }
 
 fn no_pair() -> [f64; 2] {
@@ -245,6 +255,10 @@ struct Watch {
     ratios: Vec<f64>,
     area: f64,
     error_estimate: [[f64; 2]; 2],
+    /// Model time and structure class of every output record, and the
+    /// times of the first and last flash.
+    classes: Vec<(f64, Structure)>,
+    flash_span: Option<(f64, f64)>,
 }
 
 impl Observer for Watch {
@@ -254,7 +268,17 @@ impl Observer for Watch {
         Ok(())
     }
 
-    fn record(&mut self, _: &Experiment, state: &State) -> Result<(), RunError> {
+    fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
+        for f in &state.ledger.flashes {
+            self.flash_span = Some(match self.flash_span {
+                None => (f.time, f.time),
+                Some((a, b)) => (a.min(f.time), b.max(f.time)),
+            });
+        }
+        let temps = state.temperatures(exp);
+        let regions =
+            crate::analysis::regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &temps, 0.1);
+        self.classes.push((state.time, classify(&regions)));
         let runaway = crate::physics::breakdown::Criterion::RunawayAvalanche.index();
         self.ratios.extend(
             state
@@ -269,6 +293,38 @@ impl Observer for Watch {
     fn stepped(&mut self, exp: &Experiment, state: &State) {
         self.peak.watch(exp, state);
     }
+}
+
+/// The class most of the records in `classes` (model time, class) show from
+/// the first at or after `span.0` to the first at or after `span.1`, and
+/// the share of those records in it; ties go to the class seen first.
+/// `None` without a span or without records after its start.
+pub fn majority_class(
+    classes: &[(f64, Structure)],
+    span: Option<(f64, f64)>,
+) -> Option<(Structure, f64)> {
+    let (first, last) = span?;
+    let start = classes.iter().position(|c| c.0 >= first)?;
+    let end = classes[start..]
+        .iter()
+        .position(|c| c.0 >= last)
+        .map_or(classes.len(), |i| start + i + 1);
+    let stage = &classes[start..end];
+    let mut counts: Vec<(Structure, usize)> = Vec::new();
+    for (_, c) in stage {
+        match counts.iter_mut().find(|(k, _)| k == c) {
+            Some(e) => e.1 += 1,
+            None => counts.push((*c, 1)),
+        }
+    }
+    // The first of the largest counts (max_by_key would take the last).
+    let best = counts
+        .iter()
+        .fold(None::<(Structure, usize)>, |b, &(k, n)| match b {
+            Some((_, m)) if m >= n => b,
+            _ => Some((k, n)),
+        })?;
+    Some((best.0, best.1 as f64 / stage.len() as f64))
 }
 
 /// Charge (C m-2), height (m) and temperature (degC) of the main negative,
@@ -341,6 +397,8 @@ fn failed_outcome(member: Member) -> Outcome {
         column_area: f64::NAN,
         error_estimate: no_estimate(),
         charge_2p5mm: no_pair(),
+        structure_while_flashing: String::new(),
+        structure_while_flashing_share: f64::NAN,
     }
 }
 
@@ -417,6 +475,10 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
             out.charge_2p5mm = s.max_charge_2p5mm;
+            if let Some((class, share)) = majority_class(&watch.classes, watch.flash_span) {
+                out.structure_while_flashing = class.name().into();
+                out.structure_while_flashing_share = share;
+            }
         }
         Err(e) => out.error = Some(e.to_string().replace('\n', " ")),
     }
@@ -630,6 +692,20 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             "charge structure at the largest separation",
             "",
             |o| T(o.structure.clone()),
+        ),
+        col(
+            "structure_while_flashing",
+            "structure_while_flashing",
+            "charge structure most output records show from the first flash to the last (empty without flashes)",
+            "",
+            |o| T(o.structure_while_flashing.clone()),
+        ),
+        col(
+            "structure_while_flashing_share",
+            "structure_while_flashing_share",
+            "share of the flashing stage's records in that structure",
+            "1",
+            |o| N(o.structure_while_flashing_share),
         ),
         col(
             "peak_separation_C_m2",
@@ -1198,4 +1274,38 @@ pub fn write_summary_netcdf(
             .map_err(e)?;
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use Structure::{NormalDipole as D, NormalTripole as T};
+
+    #[test]
+    fn majority_class_reads_the_flashing_stage_only() {
+        // Records every 60 s; flashes from 100 s to 250 s: the stage runs
+        // from the record at 120 s to the one at 300 s (four records), and
+        // the records before and after it do not count.
+        let classes = [
+            (60.0, D),
+            (120.0, T),
+            (180.0, T),
+            (240.0, D),
+            (300.0, T),
+            (360.0, D),
+            (420.0, D),
+        ];
+        let (c, share) = majority_class(&classes, Some((100.0, 250.0))).unwrap();
+        assert_eq!(c, T);
+        assert!((share - 0.75).abs() < 1e-15);
+        // A tie goes to the class seen first in the stage (240 and 300 s).
+        let (c, share) = majority_class(&classes, Some((200.0, 250.0))).unwrap();
+        assert_eq!((c, share), (D, 0.5));
+        // Flashes until after the last record: the stage runs to the end.
+        let (c, share) = majority_class(&classes, Some((330.0, 900.0))).unwrap();
+        assert_eq!((c, share), (D, 1.0));
+        // No flashes, or flashes after the last record: no class.
+        assert!(majority_class(&classes, None).is_none());
+        assert!(majority_class(&classes, Some((500.0, 600.0))).is_none());
+    }
 }

@@ -385,6 +385,30 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
             .count();
         assert_eq!(listed, in_csv, "{name}");
     }
+    // The same for the structure while each member flashes (an empty
+    // field: a member without flashes, listed as "no_flashes").
+    let column = summary
+        .lines()
+        .next()
+        .unwrap()
+        .split(',')
+        .position(|h| h == "structure_while_flashing")
+        .unwrap();
+    let classes = v["classes_while_flashing"].as_array().unwrap();
+    let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
+    assert!((total - 1.0).abs() < 1e-12);
+    for c in classes {
+        let name = c[0].as_str().unwrap();
+        let in_csv = summary
+            .lines()
+            .skip(1)
+            .filter(|l| {
+                let f = l.split(',').nth(column).unwrap_or("");
+                f == name || (f.is_empty() && name == "no_flashes")
+            })
+            .count();
+        assert_eq!(c[2].as_array().unwrap().len(), in_csv, "{name}");
+    }
     // The flash totals are the sums of the summary's flash columns.
     let header: Vec<&str> = summary.lines().next().unwrap().split(',').collect();
     for (i, kind) in ["intracloud", "negative_ground", "positive_ground"]
