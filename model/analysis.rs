@@ -459,7 +459,7 @@ pub fn analyze_file(
     });
     let mut potentials = flash_f64("flash_channel_potential")?;
     let channel_potential = (!potentials.is_empty()).then(|| {
-        let [lo, mid, hi] = crate::sweep::spread(&mut potentials);
+        let [lo, mid, hi] = spread(&mut potentials);
         (mid, lo, hi)
     });
     let centre = |name: &str| -> Result<Option<(f64, f64, f64)>, crate::error::RunError> {
@@ -469,7 +469,7 @@ pub fn analyze_file(
             .map(|x| x - crate::physics::constants::T_MELT)
             .collect();
         Ok((!t.is_empty()).then(|| {
-            let [lo, mid, hi] = crate::sweep::spread(&mut t);
+            let [lo, mid, hi] = spread(&mut t);
             (mid, lo, hi)
         }))
     };
@@ -581,7 +581,7 @@ impl Report {
         }
         if !fl.initiation.is_empty() {
             let mut r: Vec<f64> = fl.initiation.iter().map(|f| f.over_runaway).collect();
-            let [lo, mid, hi] = crate::sweep::spread(&mut r);
+            let [lo, mid, hi] = spread(&mut r);
             s.push_str(&format!(
                 "field at initiation over the runaway threshold: median {mid:.2} ({lo:.2}-{hi:.2}; observed before flashes 1.1-3.3, Stolzenburg et al. 2007)\n"
             ));
@@ -719,10 +719,10 @@ impl SweepTable {
             ))
         })?;
         let mut lines = text.lines();
-        let header = crate::sweep::csv_fields(lines.next().unwrap_or(""));
+        let header = crate::output::csv::csv_fields(lines.next().unwrap_or(""));
         let mut table = SweepTable {
             header,
-            rows: lines.map(crate::sweep::csv_fields).collect(),
+            rows: lines.map(crate::output::csv::csv_fields).collect(),
             status: 0,
             structure: 0,
         };
@@ -819,4 +819,19 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
     shares(&mut report.classes, report.members);
     shares(&mut report.classes_while_flashing, report.members);
     Ok(report)
+}
+
+/// Smallest, median and largest of `v` (NaN when empty).
+pub fn spread(v: &mut [f64]) -> [f64; 3] {
+    if v.is_empty() {
+        return [f64::NAN; 3];
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    let median = if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    };
+    [v[0], median, v[n - 1]]
 }

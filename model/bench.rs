@@ -132,7 +132,7 @@ pub fn run(
     ));
     let mut round = 0;
     let mut sweep = |threads: usize| -> Result<f64, RunError> {
-        let pool = crate::sweep::thread_pool(threads)?;
+        let pool = crate::workers::thread_pool(threads)?;
         let dir = scratch.join(format!("sweep_{round}"));
         round += 1;
         std::fs::create_dir_all(&dir).map_err(|e| crate::output::io_error("creating", &dir, e))?;
@@ -203,7 +203,7 @@ pub fn run(
     }
     // (median, lowest, highest) of the rounds.
     let spread = |mut v: Vec<f64>| {
-        let [lo, mid, hi] = crate::sweep::spread(&mut v);
+        let [lo, mid, hi] = crate::analysis::spread(&mut v);
         (mid, lo, hi)
     };
     let scaling = (0..SCALING_SPACINGS.len())

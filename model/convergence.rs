@@ -711,7 +711,7 @@ pub fn study(
     }
     // The configured level is the first of both series: run it once.
     jobs.retain(|(r, l, _)| !(*r == Refinement::Space && *l == 0));
-    let pool = crate::sweep::thread_pool(threads)?;
+    let pool = crate::workers::thread_pool(threads)?;
     let results: Vec<Result<LevelRun, RunError>> = pool.install(|| {
         jobs.par_iter()
             .map(|(_, _, o)| run_level(text, origin, base_dir, o))

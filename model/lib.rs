@@ -55,3 +55,4 @@ pub mod plot;
 pub mod setup;
 pub mod sweep;
 pub mod timeloop;
+pub mod workers;

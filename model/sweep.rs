@@ -7,14 +7,16 @@
 //! (a Slurm job array runs the shards on several nodes) and
 //! [`merge`] joins the shard summaries.
 
-use crate::analysis::{classify, PeakSeparation, Region, Structure};
+use crate::analysis::{classify, spread, PeakSeparation, Region, Structure};
 use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
+use crate::output::csv::{csv_field, csv_fields};
 use crate::output::netcdf_writer::NetcdfWriter;
 use crate::output::Observer;
 use crate::setup::config::{Config, ConfigText, SweepCombine};
 use crate::setup::experiment::Experiment;
 use crate::timeloop;
+use crate::workers::thread_pool;
 use rayon::prelude::*;
 use std::path::{Path, PathBuf};
 
@@ -137,28 +139,9 @@ fn no_time() -> f64 {
     f64::NAN
 }
 
-/// Smallest, median and largest of `v` (NaN when empty).
-pub fn spread(v: &mut [f64]) -> [f64; 3] {
-    if v.is_empty() {
-        return no_ratios();
-    }
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    let median = if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    };
-    [v[0], median, v[n - 1]]
-}
-
 /// Most members one sweep may have: each writes its own output file, and
 /// the expansion is held in memory.
 pub const MAX_MEMBERS: usize = 100_000;
-
-/// Most worker threads: more than this only adds scheduling overhead on
-/// any machine this model runs on (each member is one thread's work).
-pub const MAX_THREADS: usize = 256;
 
 /// Expands the sweep section into members. Errors name the offending key.
 pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member>), ConfigError> {
@@ -525,25 +508,6 @@ pub fn reusable(
     (outcome.member == *member && outcome.error.is_none()).then_some(outcome)
 }
 
-/// A rayon pool of `threads` workers (0: one per core).
-pub fn thread_pool(threads: usize) -> Result<rayon::ThreadPool, RunError> {
-    if threads > MAX_THREADS {
-        return Err(RunError::Config(ConfigError::single(
-            "command line",
-            ConfigIssue::new("--threads", "too many worker threads")
-                .value(threads.to_string())
-                .allowed(format!("0 (one per core) to {MAX_THREADS}")),
-        )));
-    }
-    rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| RunError::Output {
-            context: "sweep thread pool".into(),
-            message: e.to_string(),
-        })
-}
-
 /// Whether member `index` (from 1) belongs to shard (K, N): every N-th
 /// member starting at the K-th, so the shards get members of every kind.
 pub fn in_shard(index: usize, shard: Option<(usize, usize)>) -> bool {
@@ -877,38 +841,6 @@ pub fn summary_csv(keys: &[String], outcomes: &[Outcome]) -> String {
         s.push('\n');
     }
     s
-}
-
-/// One CSV field, quoted as RFC 4180 (2005) section 2 asks when it holds a
-/// comma or a quote (inner quotes doubled).
-pub fn csv_field(v: &str) -> String {
-    if v.contains(',') || v.contains('"') {
-        format!("\"{}\"", v.replace('"', "\"\""))
-    } else {
-        v.to_string()
-    }
-}
-
-/// The fields of one CSV record written by [`csv_field`] (RFC 4180 section
-/// 2: a quoted field may hold commas, and a doubled quote stands for one).
-pub fn csv_fields(line: &str) -> Vec<String> {
-    let mut fields = Vec::new();
-    let mut field = String::new();
-    let mut quoted = false;
-    let mut chars = line.chars().peekable();
-    while let Some(c) = chars.next() {
-        match (c, quoted) {
-            ('"', true) if chars.peek() == Some(&'"') => {
-                field.push('"');
-                chars.next();
-            }
-            ('"', _) => quoted = !quoted,
-            (',', false) => fields.push(std::mem::take(&mut field)),
-            _ => field.push(c),
-        }
-    }
-    fields.push(field);
-    fields
 }
 
 /// FNV-1a 64-bit hash of a text (Fowler, Noll & Vo; the published offset

@@ -330,7 +330,7 @@ fn default_trigger_starts_flashes_in_the_observed_overshoot_band() {
         .map(|f| f.criteria_ratio[Criterion::RunawayAvalanche.index()])
         .collect();
     assert!(r.len() >= 3, "{} flashes", r.len());
-    let [_, median, _] = stormcharge::sweep::spread(&mut r);
+    let [_, median, _] = stormcharge::analysis::spread(&mut r);
     assert!((1.1..=3.3).contains(&median), "median {median}");
     assert!(s.peak_ratio[Criterion::ConventionalBreakdown.index()] < 1.0);
 }

@@ -474,7 +474,7 @@ fn a_sweeps_largest_separation_does_not_depend_on_the_output_interval() {
 /// (its example `"aaa","b""bb","ccc"` reads back as aaa, b"bb, ccc).
 #[test]
 fn summary_csv_fields_round_trip_with_commas_and_quotes() {
-    use stormcharge::sweep::{csv_field, csv_fields};
+    use stormcharge::output::csv::{csv_field, csv_fields};
     assert_eq!(
         csv_fields(r#""aaa","b""bb","ccc""#),
         ["aaa", "b\"bb", "ccc"]

@@ -3,6 +3,7 @@
 //! name, units, long name, dimensions, how to fill it) is registered in one
 //! place, [`variables`].
 
+pub mod csv;
 pub mod memory;
 pub mod netcdf_writer;
 pub mod reader;
@@ -861,12 +862,9 @@ pub fn beside(path: &Path, suffix: &str) -> PathBuf {
     PathBuf::from(s)
 }
 
-/// The directory holding `path` (`.` for a bare file name).
-pub fn directory_of(path: &Path) -> &Path {
-    path.parent()
-        .filter(|d| !d.as_os_str().is_empty())
-        .unwrap_or(Path::new("."))
-}
+/// The directory holding a path (`.` for a bare file name); configuration
+/// files resolve their relative paths against it too.
+pub use crate::setup::config::load::directory_of;
 
 /// An I/O error naming the action and the file; the operating system's
 /// reason (a full disk reads "No space left on device") rides along.

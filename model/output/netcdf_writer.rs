@@ -24,6 +24,7 @@ use super::{
 };
 use crate::column::state::State;
 use crate::error::RunError;
+use crate::output::reader::STATUS_ATTRIBUTE;
 use crate::output::summary::RunSummary;
 use crate::physics::discharge::record::FlashRecord;
 use crate::setup::experiment::Experiment;
@@ -31,8 +32,6 @@ use std::path::{Path, PathBuf};
 
 /// Global attribute holding the resolved configuration (TOML text).
 pub const CONFIG_ATTRIBUTE: &str = "run_configuration";
-/// Global attribute marking whether the run finished.
-pub const STATUS_ATTRIBUTE: &str = "run_status";
 
 /// The NetCDF observer.
 pub struct NetcdfWriter {

@@ -3,6 +3,9 @@
 use crate::error::RunError;
 use std::path::{Path, PathBuf};
 
+/// Global attribute marking whether the run finished.
+pub const STATUS_ATTRIBUTE: &str = "run_status";
+
 /// An opened output file with errors that name it.
 pub struct OutputFile {
     path: PathBuf,
@@ -79,7 +82,7 @@ impl OutputFile {
             return Err(self.fail("has no levels".into()));
         }
         let mut warnings = Vec::new();
-        match self.text(crate::output::netcdf_writer::STATUS_ATTRIBUTE) {
+        match self.text(STATUS_ATTRIBUTE) {
             Some(s) if s == "complete" => {}
             Some(s) => warnings.push(format!(
                 "{} is marked run_status = \"{s}\": the run did not finish, so the file holds only what was written before it stopped",

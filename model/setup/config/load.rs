@@ -680,7 +680,7 @@ fn merge_includes(
             "more than {MAX_INCLUDE_DEPTH} nested includes (does a file include itself?)"
         )));
     }
-    let base_path = crate::output::directory_of(path).join(&name);
+    let base_path = directory_of(path).join(&name);
     let base_text = std::fs::read_to_string(&base_path).map_err(|e| {
         issue(format!(
             "cannot read the base configuration {}: {e}",
@@ -700,6 +700,13 @@ fn merge_includes(
     let mut sources = vec![(origin.clone(), text.to_string())];
     sources.extend(base_sources);
     Ok((merged, sources))
+}
+
+/// The directory holding `path` (`.` for a bare file name).
+pub fn directory_of(path: &std::path::Path) -> &std::path::Path {
+    path.parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(std::path::Path::new("."))
 }
 
 #[cfg(test)]
