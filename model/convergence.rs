@@ -23,6 +23,7 @@ use crate::column::state::State;
 use crate::error::RunError;
 use crate::output::summary::RunSummary;
 use crate::output::Observer;
+use crate::physics::carriers::Carrier;
 use crate::physics::microphysics::species::Species;
 use crate::setup::config::ConfigText;
 use crate::setup::experiment::Experiment;
@@ -55,6 +56,9 @@ pub(crate) struct LevelRun {
     /// the crystal number concentration (m-3); empty without bulk
     /// microphysics.
     contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
+    /// Per record, the charge density (C m-3) of every carrier, in
+    /// `Carrier::ALL` order.
+    carriers: Vec<Vec<Vec<f64>>>,
     /// Records up to the last one before the first flash (all of them in a
     /// run without flashes).
     pre_flash_records: usize,
@@ -133,6 +137,7 @@ struct Collector {
     charge: Vec<Vec<f64>>,
     field: Vec<Vec<f64>>,
     contents: Vec<[Vec<f64>; CONTENTS.len() + 1]>,
+    carriers: Vec<Vec<Vec<f64>>>,
     peak: PeakSeparation,
     max_q: [f64; 6],
     max_rain_content: f64,
@@ -188,6 +193,7 @@ impl Observer for Collector {
         let flashes_before = self.flashes;
         self.book_flashes(state);
         self.charge.push(state.charge_total.clone());
+        self.carriers.push(state.charge.clone());
         self.field.push(state.field.clone());
         if exp.microphysics == crate::physics::microphysics::Mode::Bulk {
             // Contents per volume, so that a finer grid's cell pairs average
@@ -535,6 +541,7 @@ pub(crate) fn run_level(
         charge: std::mem::take(&mut c.charge),
         field: std::mem::take(&mut c.field),
         contents: std::mem::take(&mut c.contents),
+        carriers: std::mem::take(&mut c.carriers),
         pre_flash_records: c.pre_flash_records,
         before_flash: std::mem::take(&mut c.before_flash),
     })
@@ -609,6 +616,8 @@ enum Profile {
     Field,
     /// Index into a level's `contents`.
     Content(usize),
+    /// Index of a carrier (`Carrier::ALL` order) into a level's `carriers`.
+    Carrier(usize),
     /// The charge density or (with `true`) the field just before each flash.
     BeforeFlash(bool),
 }
@@ -627,6 +636,7 @@ fn profile_row(
             Profile::Charge => r.charge.iter().map(|x| x.as_slice()).collect(),
             Profile::Field => r.field.iter().map(|x| x.as_slice()).collect(),
             Profile::Content(i) => r.contents.iter().map(|x| x[i].as_slice()).collect(),
+            Profile::Carrier(i) => r.carriers.iter().map(|x| x[i].as_slice()).collect(),
             Profile::BeforeFlash(field) => r
                 .before_flash
                 .iter()
@@ -811,6 +821,27 @@ pub fn study(
                     Profile::Content(CONTENTS.len()),
                     all,
                 ));
+            }
+            // The charge of each carrier that holds any: the total is their
+            // sum, and their errors can partly cancel in it, so its order
+            // can differ from every one of theirs (docs/numerics.md).
+            // With a single carrier its row would repeat the total's.
+            let holding: Vec<usize> = (0..Carrier::COUNT)
+                .filter(|&i| {
+                    runs.iter()
+                        .all(|r| r.carriers.iter().any(|x| x[i].iter().any(|&v| v != 0.0)))
+                })
+                .collect();
+            if holding.len() > 1 {
+                for i in holding {
+                    profiles.push(profile_row(
+                        &format!("charge density, {}", Carrier::ALL[i].name()),
+                        &runs,
+                        refinement,
+                        Profile::Carrier(i),
+                        all,
+                    ));
+                }
             }
             Series {
                 refinement,
