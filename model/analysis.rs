@@ -329,6 +329,10 @@ pub struct Report {
     pub file: String,
     pub records: Vec<RecordReport>,
     pub flashes: FlashReport,
+    /// The class most records from the first flash to the last show, the
+    /// share of those records in it and their number; `None` without
+    /// flashes.
+    pub structure_while_flashing: Option<(String, f64, usize)>,
 }
 
 fn mean(v: &[f64]) -> Option<f64> {
@@ -431,6 +435,18 @@ pub fn analyze_file(
     let energy = flash_f64("flash_energy")?;
     let times = flash_f64("flash_time")?;
     let first_flash_time = times.first().copied();
+    // The structure while the storm flashes, as the sweep summary gives it.
+    let span = times.iter().fold(None, |s: Option<(f64, f64)>, &t| {
+        Some(s.map_or((t, t), |(a, b)| (a.min(t), b.max(t))))
+    });
+    let classes: Vec<(f64, Structure)> = (0..time.len())
+        .map(|r| {
+            let regs = regions(&z, dz, record(r), &temp[r * n..(r + 1) * n], 0.1);
+            (time[r], classify(&regs))
+        })
+        .collect();
+    let structure_while_flashing = majority_class(&classes, span)
+        .map(|(c, share, records)| (c.name().to_string(), share, records));
     let over_runaway = flash_f64("flash_ratio_runaway_avalanche")?;
     let mut met: Vec<(String, Vec<f64>)> = Vec::new();
     for c in crate::physics::breakdown::Criterion::ALL {
@@ -490,6 +506,7 @@ pub fn analyze_file(
         .collect();
     Ok(Report {
         file: path.display().to_string(),
+        structure_while_flashing,
         records,
         flashes: FlashReport {
             count_intracloud: counts[0],
@@ -548,6 +565,12 @@ impl Report {
         ));
         if let Some(t) = fl.first_flash_time {
             s.push_str(&format!("first flash at {t} s\n"));
+        }
+        if let Some((class, share, records)) = &self.structure_while_flashing {
+            s.push_str(&format!(
+                "while the storm flashes: {class} in {:.0} % of the {records} records from the first flash to the last\n",
+                100.0 * share
+            ));
         }
         if let (Some(q), Some(w)) = (fl.mean_charge_per_area, fl.mean_energy_per_area) {
             s.push_str(&format!("mean per flash: {q:.3e} C m-2, {w:.3e} J m-2"));
@@ -834,4 +857,71 @@ pub fn spread(v: &mut [f64]) -> [f64; 3] {
         0.5 * (v[n / 2 - 1] + v[n / 2])
     };
     [v[0], median, v[n - 1]]
+}
+
+/// The class most of the records in `classes` (model time, class) show from
+/// the first at or after `span.0` to the first at or after `span.1`, and
+/// the share of those records in it, and their number; ties go to the
+/// class seen first. `None` without a span or without records after its
+/// start.
+pub fn majority_class(
+    classes: &[(f64, Structure)],
+    span: Option<(f64, f64)>,
+) -> Option<(Structure, f64, usize)> {
+    let (first, last) = span?;
+    let start = classes.iter().position(|c| c.0 >= first)?;
+    let end = classes[start..]
+        .iter()
+        .position(|c| c.0 >= last)
+        .map_or(classes.len(), |i| start + i + 1);
+    let stage = &classes[start..end];
+    let mut counts: Vec<(Structure, usize)> = Vec::new();
+    for (_, c) in stage {
+        match counts.iter_mut().find(|(k, _)| k == c) {
+            Some(e) => e.1 += 1,
+            None => counts.push((*c, 1)),
+        }
+    }
+    // The first of the largest counts (max_by_key would take the last).
+    let best = counts
+        .iter()
+        .fold(None::<(Structure, usize)>, |b, &(k, n)| match b {
+            Some((_, m)) if m >= n => b,
+            _ => Some((k, n)),
+        })?;
+    Some((best.0, best.1 as f64 / stage.len() as f64, stage.len()))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use Structure::{NormalDipole as D, NormalTripole as T};
+
+    #[test]
+    fn majority_class_reads_the_flashing_stage_only() {
+        // Records every 60 s; flashes from 100 s to 250 s: the stage runs
+        // from the record at 120 s to the one at 300 s (four records), and
+        // the records before and after it do not count.
+        let classes = [
+            (60.0, D),
+            (120.0, T),
+            (180.0, T),
+            (240.0, D),
+            (300.0, T),
+            (360.0, D),
+            (420.0, D),
+        ];
+        let (c, share, records) = majority_class(&classes, Some((100.0, 250.0))).unwrap();
+        assert_eq!((c, records), (T, 4));
+        assert!((share - 0.75).abs() < 1e-15);
+        // A tie goes to the class seen first in the stage (240 and 300 s).
+        let (c, share, _) = majority_class(&classes, Some((200.0, 250.0))).unwrap();
+        assert_eq!((c, share), (D, 0.5));
+        // Flashes until after the last record: the stage runs to the end.
+        let (c, share, _) = majority_class(&classes, Some((330.0, 900.0))).unwrap();
+        assert_eq!((c, share), (D, 1.0));
+        // No flashes, or flashes after the last record: no class.
+        assert!(majority_class(&classes, None).is_none());
+        assert!(majority_class(&classes, Some((500.0, 600.0))).is_none());
+    }
 }

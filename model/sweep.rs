@@ -7,7 +7,7 @@
 //! (a Slurm job array runs the shards on several nodes) and
 //! [`merge`] joins the shard summaries.
 
-use crate::analysis::{classify, spread, PeakSeparation, Region, Structure};
+use crate::analysis::{classify, majority_class, spread, PeakSeparation, Region, Structure};
 use crate::column::state::State;
 use crate::error::{ConfigError, ConfigIssue, RunError};
 use crate::output::csv::{csv_field, csv_fields};
@@ -278,38 +278,6 @@ impl Observer for Watch {
     }
 }
 
-/// The class most of the records in `classes` (model time, class) show from
-/// the first at or after `span.0` to the first at or after `span.1`, and
-/// the share of those records in it; ties go to the class seen first.
-/// `None` without a span or without records after its start.
-pub fn majority_class(
-    classes: &[(f64, Structure)],
-    span: Option<(f64, f64)>,
-) -> Option<(Structure, f64)> {
-    let (first, last) = span?;
-    let start = classes.iter().position(|c| c.0 >= first)?;
-    let end = classes[start..]
-        .iter()
-        .position(|c| c.0 >= last)
-        .map_or(classes.len(), |i| start + i + 1);
-    let stage = &classes[start..end];
-    let mut counts: Vec<(Structure, usize)> = Vec::new();
-    for (_, c) in stage {
-        match counts.iter_mut().find(|(k, _)| k == c) {
-            Some(e) => e.1 += 1,
-            None => counts.push((*c, 1)),
-        }
-    }
-    // The first of the largest counts (max_by_key would take the last).
-    let best = counts
-        .iter()
-        .fold(None::<(Structure, usize)>, |b, &(k, n)| match b {
-            Some((_, m)) if m >= n => b,
-            _ => Some((k, n)),
-        })?;
-    Some((best.0, best.1 as f64 / stage.len() as f64))
-}
-
 /// Charge (C m-2), height (m) and temperature (degC) of the main negative,
 /// upper positive and lower positive regions in `regions` (NaN where one is
 /// absent), as [`Outcome::regions`] holds them.
@@ -458,7 +426,7 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
             out.charge_2p5mm = s.max_charge_2p5mm;
-            if let Some((class, share)) = majority_class(&watch.classes, watch.flash_span) {
+            if let Some((class, share, _)) = majority_class(&watch.classes, watch.flash_span) {
                 out.structure_while_flashing = class.name().into();
                 out.structure_while_flashing_share = share;
             }
@@ -1206,38 +1174,4 @@ pub fn write_summary_netcdf(
             .map_err(e)?;
     }
     Ok(())
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use Structure::{NormalDipole as D, NormalTripole as T};
-
-    #[test]
-    fn majority_class_reads_the_flashing_stage_only() {
-        // Records every 60 s; flashes from 100 s to 250 s: the stage runs
-        // from the record at 120 s to the one at 300 s (four records), and
-        // the records before and after it do not count.
-        let classes = [
-            (60.0, D),
-            (120.0, T),
-            (180.0, T),
-            (240.0, D),
-            (300.0, T),
-            (360.0, D),
-            (420.0, D),
-        ];
-        let (c, share) = majority_class(&classes, Some((100.0, 250.0))).unwrap();
-        assert_eq!(c, T);
-        assert!((share - 0.75).abs() < 1e-15);
-        // A tie goes to the class seen first in the stage (240 and 300 s).
-        let (c, share) = majority_class(&classes, Some((200.0, 250.0))).unwrap();
-        assert_eq!((c, share), (D, 0.5));
-        // Flashes until after the last record: the stage runs to the end.
-        let (c, share) = majority_class(&classes, Some((330.0, 900.0))).unwrap();
-        assert_eq!((c, share), (D, 1.0));
-        // No flashes, or flashes after the last record: no class.
-        assert!(majority_class(&classes, None).is_none());
-        assert!(majority_class(&classes, Some((500.0, 600.0))).is_none());
-    }
 }

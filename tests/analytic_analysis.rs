@@ -248,4 +248,16 @@ fn analyze_reports_which_way_the_negative_ends_point() {
     assert!(neg_hi - neg_lo < 1e-3, "{neg_lo} to {neg_hi} degC");
     let [pos_mid, _, _] = t("positive_charge_temperature");
     assert!(pos_mid < neg_mid - 20.0, "{pos_mid} vs {neg_mid} degC");
+    // The structure while the storm flashes: a class of the detector, held
+    // by a whole number of the flashing stage's records (wiring; the rule
+    // is checked on synthetic records in the library's unit tests).
+    let w = v["structure_while_flashing"].as_array().unwrap();
+    let (class, share, records) = (
+        w[0].as_str().unwrap(),
+        w[1].as_f64().unwrap(),
+        w[2].as_u64().unwrap() as f64,
+    );
+    assert!(class.starts_with("normal_"), "{class}");
+    assert!(records > 0.0 && share > 0.0 && share <= 1.0);
+    assert!(((share * records).round() - share * records).abs() < 1e-9);
 }
