@@ -390,13 +390,18 @@ pub fn analyze_file(
             })
             .collect()
     };
+    // The charge regions of every record, found once: the chosen records
+    // report them, the flashing stage's class is read from them all.
+    let all_regions: Vec<Vec<Region>> = (0..time.len())
+        .map(|r| regions(&z, dz, record(r), &temp[r * n..(r + 1) * n], 0.1))
+        .collect();
     let records = chosen
         .into_iter()
         .map(|r| {
-            let regs = regions(&z, dz, record(r), &temp[r * n..(r + 1) * n], 0.1);
+            let regs = &all_regions[r];
             RecordReport {
                 time: time[r],
-                structure: classify(&regs).name().into(),
+                structure: classify(regs).name().into(),
                 separation: separation(record(r), dz),
                 regions: regs
                     .iter()
@@ -435,15 +440,11 @@ pub fn analyze_file(
     let energy = flash_f64("flash_energy")?;
     let times = flash_f64("flash_time")?;
     let first_flash_time = times.first().copied();
-    // The structure while the storm flashes, as the sweep summary gives it.
-    let span = times.iter().fold(None, |s: Option<(f64, f64)>, &t| {
-        Some(s.map_or((t, t), |(a, b)| (a.min(t), b.max(t))))
-    });
+    // The structure while the storm flashes, as the sweep summary gives it
+    // (flashes are written in the order they happen).
+    let span = times.first().copied().zip(times.last().copied());
     let classes: Vec<(f64, Structure)> = (0..time.len())
-        .map(|r| {
-            let regs = regions(&z, dz, record(r), &temp[r * n..(r + 1) * n], 0.1);
-            (time[r], classify(&regs))
-        })
+        .map(|r| (time[r], classify(&all_regions[r])))
         .collect();
     let structure_while_flashing = majority_class(&classes, span)
         .map(|(c, share, records)| (c.name().to_string(), share, records));
@@ -473,21 +474,17 @@ pub fn analyze_file(
             .count();
         (down, negative_end.len() - down)
     });
-    let mut potentials = flash_f64("flash_channel_potential")?;
-    let channel_potential = (!potentials.is_empty()).then(|| {
-        let [lo, mid, hi] = spread(&mut potentials);
-        (mid, lo, hi)
-    });
+    let channel_potential = median_range(flash_f64("flash_channel_potential")?);
+    // Missing centres (NaN) are the flashes that neutralised no charge of
+    // that sign.
     let centre = |name: &str| -> Result<Option<(f64, f64, f64)>, crate::error::RunError> {
-        let mut t: Vec<f64> = flash_f64(name)?
-            .into_iter()
-            .filter(|x| x.is_finite())
-            .map(|x| x - crate::physics::constants::T_MELT)
-            .collect();
-        Ok((!t.is_empty()).then(|| {
-            let [lo, mid, hi] = spread(&mut t);
-            (mid, lo, hi)
-        }))
+        Ok(median_range(
+            flash_f64(name)?
+                .into_iter()
+                .filter(|x| x.is_finite())
+                .map(|x| x - crate::physics::constants::T_MELT)
+                .collect(),
+        ))
     };
     let negative_charge_temperature = centre("flash_temperature_negative_charge")?;
     let positive_charge_temperature = centre("flash_temperature_positive_charge")?;
@@ -842,6 +839,15 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
     shares(&mut report.classes, report.members);
     shares(&mut report.classes_while_flashing, report.members);
     Ok(report)
+}
+
+/// Median, smallest and largest of `v` ([`spread`] in the order the
+/// reports print them); `None` when empty.
+pub fn median_range(mut v: Vec<f64>) -> Option<(f64, f64, f64)> {
+    (!v.is_empty()).then(|| {
+        let [lo, mid, hi] = spread(&mut v);
+        (mid, lo, hi)
+    })
 }
 
 /// Smallest, median and largest of `v` (NaN when empty).

@@ -201,11 +201,9 @@ pub fn run(
         }
         rounds.push(round);
     }
-    // (median, lowest, highest) of the rounds.
-    let spread = |mut v: Vec<f64>| {
-        let [lo, mid, hi] = crate::analysis::spread(&mut v);
-        (mid, lo, hi)
-    };
+    // (median, lowest, highest) of the rounds (at least one round).
+    let spread =
+        |v: Vec<f64>| crate::analysis::median_range(v).unwrap_or((f64::NAN, f64::NAN, f64::NAN));
     let scaling = (0..SCALING_SPACINGS.len())
         .map(|i| {
             let (rate, slow, fast) = spread(rounds.iter().map(|r| r[i].1).collect());

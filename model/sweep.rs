@@ -252,11 +252,12 @@ impl Observer for Watch {
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
-        for f in &state.ledger.flashes {
-            self.flash_span = Some(match self.flash_span {
-                None => (f.time, f.time),
-                Some((a, b)) => (a.min(f.time), b.max(f.time)),
-            });
+        // Flashes come in the order they happen.
+        if let Some(last) = state.ledger.flashes.last() {
+            let first = self
+                .flash_span
+                .map_or(state.ledger.flashes[0].time, |s| s.0);
+            self.flash_span = Some((first, last.time));
         }
         let temps = state.temperatures(exp);
         let regions =

@@ -364,61 +364,39 @@ fn analyze_reports_the_structure_shares_of_a_sweep() {
     assert!(text.contains("6 members ran (0 failed)"), "{text}");
     let v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
-    let classes = v["classes"].as_array().unwrap();
-    let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
-    assert!((total - 1.0).abs() < 1e-12);
     let summary = read("shares", "summary.csv");
-    let column = summary
-        .lines()
-        .next()
-        .unwrap()
-        .split(',')
-        .position(|h| h == "structure_at_peak_separation")
-        .unwrap();
-    for c in classes {
-        let name = c[0].as_str().unwrap();
-        let listed = c[2].as_array().unwrap().len();
-        let in_csv = summary
-            .lines()
-            .skip(1)
-            .filter(|l| l.split(',').nth(column) == Some(name))
-            .count();
-        assert_eq!(listed, in_csv, "{name}");
-    }
-    // The same for the structure while each member flashes (an empty
-    // field: a member without flashes, listed as "no_flashes").
-    let column = summary
-        .lines()
-        .next()
-        .unwrap()
-        .split(',')
-        .position(|h| h == "structure_while_flashing")
-        .unwrap();
-    let classes = v["classes_while_flashing"].as_array().unwrap();
-    let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
-    assert!((total - 1.0).abs() < 1e-12);
-    for c in classes {
-        let name = c[0].as_str().unwrap();
-        let in_csv = summary
-            .lines()
-            .skip(1)
-            .filter(|l| {
-                let f = l.split(',').nth(column).unwrap_or("");
-                f == name || (f.is_empty() && name == "no_flashes")
-            })
-            .count();
-        assert_eq!(c[2].as_array().unwrap().len(), in_csv, "{name}");
+    let header: Vec<&str> = summary.lines().next().unwrap().split(',').collect();
+    let column = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    // Each class table lists exactly the members whose summary field holds
+    // the class; its shares add up to one. In the flashing-stage column an
+    // empty field is a member without flashes, listed as "no_flashes".
+    for (key, col) in [
+        ("classes", "structure_at_peak_separation"),
+        ("classes_while_flashing", "structure_while_flashing"),
+    ] {
+        let classes = v[key].as_array().unwrap();
+        let total: f64 = classes.iter().map(|c| c[1].as_f64().unwrap()).sum();
+        assert!((total - 1.0).abs() < 1e-12, "{key}");
+        let col = column(col);
+        for c in classes {
+            let name = c[0].as_str().unwrap();
+            let in_csv = summary
+                .lines()
+                .skip(1)
+                .filter(|l| {
+                    let f = l.split(',').nth(col).unwrap_or("");
+                    f == name || (f.is_empty() && name == "no_flashes")
+                })
+                .count();
+            assert_eq!(c[2].as_array().unwrap().len(), in_csv, "{key}: {name}");
+        }
     }
     // The flash totals are the sums of the summary's flash columns.
-    let header: Vec<&str> = summary.lines().next().unwrap().split(',').collect();
     for (i, kind) in ["intracloud", "negative_ground", "positive_ground"]
         .iter()
         .enumerate()
     {
-        let col = header
-            .iter()
-            .position(|h| *h == format!("flashes_{kind}"))
-            .unwrap();
+        let col = column(&format!("flashes_{kind}"));
         let sum: u64 = summary
             .lines()
             .skip(1)

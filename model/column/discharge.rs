@@ -170,8 +170,7 @@ fn flash_with(
     } else {
         local
     };
-    let channel_potential =
-        state.potential[bottom..top].iter().sum::<f64>() / (top - bottom).max(1) as f64;
+    let channel_potential = channel::floating_potential(&state.potential, Channel { bottom, top });
     let ground = grid.z_face[bottom] <= p.ground_height;
     if ground {
         bottom = 0;

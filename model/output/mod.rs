@@ -750,36 +750,38 @@ pub fn flash_variables(exp: &Experiment) -> Vec<FlashVar> {
         "V",
         Box::new(|f| f.channel_potential),
     ));
-    for (name, long, units, get) in [
-        (
+    // The charge centres are missing for a flash that neutralised no charge
+    // of that sign.
+    let optional = |name: &str, long: &str, units, get| FlashVar {
+        may_be_missing: true,
+        ..real(name, long, units, get)
+    };
+    v.extend([
+        optional(
             "flash_z_negative_charge",
             "height of the flash's negative charge centre: centroid of the negative charge it neutralised (missing when none)",
             "m",
-            Box::new(|f: &FlashRecord| f.z_negative_charge) as Box<dyn Fn(&FlashRecord) -> f64 + Send + Sync>,
+            Box::new(|f| f.z_negative_charge),
         ),
-        (
+        optional(
             "flash_z_positive_charge",
             "height of the flash's positive charge centre: centroid of the positive charge it neutralised (missing when none)",
             "m",
-            Box::new(|f: &FlashRecord| f.z_positive_charge),
+            Box::new(|f| f.z_positive_charge),
         ),
-        (
+        optional(
             "flash_temperature_negative_charge",
             "air temperature at the flash's negative charge centre (missing when none)",
             "K",
-            Box::new(|f: &FlashRecord| f.t_negative_charge),
+            Box::new(|f| f.t_negative_charge),
         ),
-        (
+        optional(
             "flash_temperature_positive_charge",
             "air temperature at the flash's positive charge centre (missing when none)",
             "K",
-            Box::new(|f: &FlashRecord| f.t_positive_charge),
+            Box::new(|f| f.t_positive_charge),
         ),
-    ] {
-        let mut var = real(name, long, units, get);
-        var.may_be_missing = true;
-        v.push(var);
-    }
+    ]);
     v
 }
 

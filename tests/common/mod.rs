@@ -35,7 +35,6 @@ pub fn scratch(name: &str) -> PathBuf {
     dir.join(name)
 }
 
-/// A path inside the repository.
 /// Runs `stormcharge run --quiet CONFIG -o OUT` and requires success.
 pub fn run_quiet(config: &std::path::Path, out: &std::path::Path) {
     succeed(
@@ -47,6 +46,7 @@ pub fn run_quiet(config: &std::path::Path, out: &std::path::Path) {
     );
 }
 
+/// A path inside the repository.
 pub fn repo(rel: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
 }

@@ -72,6 +72,16 @@ pub fn grow(inp: &ChannelInputs, start: usize) -> Option<Channel> {
     Some(Channel { bottom, top })
 }
 
+/// Potential (V) a floating channel with zero net charge takes in the
+/// ambient potential `potential` (V, at cell centres): the mean over its
+/// cells, with the capacitance per unit length taken uniform along it
+/// (Kasemir 1960, from memory; [`extend_equipotential`] keeps the same
+/// mean as a running sum while it grows).
+pub fn floating_potential(potential: &[f64], channel: Channel) -> f64 {
+    let cells = &potential[channel.bottom..channel.top];
+    cells.iter().sum::<f64>() / cells.len().max(1) as f64
+}
+
 /// Inputs of the equipotential (potential-driven) extension.
 pub struct EquipotentialInputs<'a> {
     /// Ambient electric potential at cell centres (V), ground at 0 V.
