@@ -3,7 +3,7 @@
 
 use crate::column::state::{ChargeLedger, InitiationScratch, IonScratch, State, WaterLedger};
 use crate::column::transport;
-use crate::column::work::{ChargingRates, FlashScratch, TransportScratch};
+use crate::column::work::{ChargingRates, FlashScratch, MicroScratch, TransportScratch};
 use crate::physics::breakdown::{Criterion, CriterionStatus};
 use crate::physics::carriers::Carrier;
 use crate::physics::discharge::FlashLedger;
@@ -39,6 +39,7 @@ impl State {
             initial_column_charge: 0.0,
             substeps: (0, 1),
             transport_scratch: TransportScratch::new(n),
+            micro_scratch: MicroScratch::new(n),
             charge,
             charge_total: vec![0.0; n],
             potential: vec![0.0; n],

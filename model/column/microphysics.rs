@@ -1,5 +1,6 @@
 //! Microphysics over the column: the bulk cell step
-//! ([`crate::physics::microphysics::step_cell`]) in every cell, with the
+//! ([`crate::physics::microphysics::step_cell`], here in its three parts
+//! with the integrations grouped) in every cell, with the
 //! charge that follows the mass, or the imposed profiles of the prescribed
 //! mode.
 
@@ -8,7 +9,7 @@ use crate::error::RunError;
 use crate::physics::charging::follow_mass;
 use crate::physics::microphysics::rates::CellState;
 use crate::physics::microphysics::species::Species;
-use crate::physics::microphysics::{step_cell, CellReport, Mode};
+use crate::physics::microphysics::{finish_cell, integrate_cells, prepare_cell, CellReport, Mode};
 use crate::setup::experiment::Experiment;
 
 /// Imposes the prescribed hydrometeor layers at time `t` (s).
@@ -27,28 +28,54 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
         }
         Mode::Bulk => {
             let params = exp.micro_params();
-            let mut report = CellReport::default();
+            let fail = |state: &State, k: usize, message: String| RunError::Numerics {
+                time: state.time,
+                message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
+            };
+            // Three passes: each cell's preparation; the integration of the
+            // cells whose rates act, in groups side by side; each cell's
+            // finish with the charge that follows its mass. The cells are
+            // independent, so the result is that of one cell after another.
+            let mut scratch = std::mem::take(&mut state.micro_scratch);
+            scratch.cells.clear();
+            scratch.moving.clear();
+            scratch.moving_index.clear();
             for (k, &env) in exp.cell_env.iter().enumerate() {
-                let pi = env.exner;
                 let mut cell = CellState {
                     q: Species::ALL.map(|sp| state.q[sp.index()][k]),
                     n_ice: state.n_ice[k],
-                    t: state.potential_temperature[k] * pi,
+                    t: state.potential_temperature[k] * env.exner,
                 };
-                step_cell(&mut cell, env, params, dt, &mut report).map_err(|message| {
-                    RunError::Numerics {
-                        time: state.time,
-                        message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
-                    }
-                })?;
+                let mut report = CellReport::default();
+                if prepare_cell(&mut cell, env, params, &mut report) {
+                    scratch.moving.push((cell, env, report));
+                    scratch.moving_index.push(k);
+                }
+                scratch.cells.push((cell, env, report));
+            }
+            let integrated = integrate_cells(&mut scratch.moving, params, dt);
+            if let Err((i, message)) = integrated {
+                let k = scratch.moving_index[i];
+                state.micro_scratch = scratch;
+                return Err(fail(state, k, message));
+            }
+            for (&k, moved) in scratch.moving_index.iter().zip(&scratch.moving) {
+                scratch.cells[k] = *moved;
+            }
+            for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
+                if let Err(message) = finish_cell(cell, *env, report) {
+                    state.micro_scratch = scratch;
+                    return Err(fail(state, k, message));
+                }
                 state.water.clip_created += report.created * env.rho * exp.grid.dz;
-                follow_mass::apply(&report, &cell.q, &mut state.charge, k);
+                follow_mass::apply(report, &cell.q, &mut state.charge, k);
                 for sp in Species::ALL {
                     state.q[sp.index()][k] = cell.q[sp.index()];
                 }
                 state.n_ice[k] = cell.n_ice;
-                state.potential_temperature[k] = cell.t / pi;
+                state.potential_temperature[k] = cell.t / env.exner;
             }
+            state.micro_scratch = scratch;
             Ok(())
         }
     }

@@ -1,7 +1,7 @@
 //! The prognostic state of the column and the diagnostics each step leaves
 //! behind. Later processes add their fields here.
 
-use crate::column::work::{ChargingRates, FlashScratch, TransportScratch};
+use crate::column::work::{ChargingRates, FlashScratch, MicroScratch, TransportScratch};
 use crate::physics::breakdown::{Criterion, CriterionStatus};
 use crate::physics::discharge::FlashLedger;
 
@@ -43,6 +43,8 @@ pub struct State {
     pub substeps: (u64, usize),
     /// Work arrays of the transport (allocated once).
     pub transport_scratch: TransportScratch,
+    /// Work arrays of the microphysics (allocated once).
+    pub micro_scratch: MicroScratch,
     /// Charge density of each carrier at centres (C m-3), indexed by [`crate::physics::carriers::Carrier::index`].
     pub charge: Vec<Vec<f64>>,
     /// Total charge density at centres (C m-3): the sum over carriers.

@@ -3,6 +3,8 @@
 
 use crate::physics::charging::CellRates;
 use crate::physics::kinematics::{advection, eddy_diffusion};
+use crate::physics::microphysics::rates::{CellEnv, CellState};
+use crate::physics::microphysics::CellReport;
 
 /// Work arrays, allocated once with the state.
 #[derive(Debug, Clone, PartialEq)]
@@ -26,6 +28,28 @@ impl TransportScratch {
             flow: advection::FlowFactors::new(n),
             survival: vec![1.0; n],
             diffusion: eddy_diffusion::Diffusion::new(n),
+        }
+    }
+}
+
+/// Work arrays of the bulk microphysics, with room for every cell
+/// (allocated once with the state): each cell's variables, environment and
+/// step report between its preparation, the grouped integration and its
+/// finish, and the cells whose rates must be integrated, packed together
+/// with their indices.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct MicroScratch {
+    pub(crate) cells: Vec<(CellState, CellEnv, CellReport)>,
+    pub(crate) moving: Vec<(CellState, CellEnv, CellReport)>,
+    pub(crate) moving_index: Vec<usize>,
+}
+
+impl MicroScratch {
+    pub fn new(n: usize) -> Self {
+        MicroScratch {
+            cells: Vec::with_capacity(n),
+            moving: Vec::with_capacity(n),
+            moving_index: Vec::with_capacity(n),
         }
     }
 }

@@ -24,6 +24,7 @@
 //! moments are then upper incomplete gamma integrals from D0, also closed
 //! forms (see [`tail_moment`]).
 
+use super::lanes::Lane;
 use crate::physics::constants::{RHO_AIR_SEA_LEVEL, RHO_ICE, RHO_WATER};
 
 /// Gamma function for x > 0 by the Lanczos approximation (g = 7, 9 terms;
@@ -65,14 +66,14 @@ pub fn tail_moment(m: u32, k: f64, d0: f64) -> f64 {
 /// `tail_moment` without its factor exp(-k d0) (m^(m+1)). Orders 0-3 in
 /// closed form; higher orders by the recursion of integration by parts,
 /// P_m = (d0^m + m P_(m-1))/k.
-fn tail_polynomial(m: u32, k: f64, d0: f64) -> f64 {
-    let r = 1.0 / k;
+fn tail_polynomial<T: Lane>(m: u32, k: T, d0: f64) -> T {
+    let r = T::splat(1.0) / k;
     match m {
         0 => r,
-        1 => r * (d0 + r),
-        2 => r * (d0 * d0 + 2.0 * r * (d0 + r)),
-        3 => r * (d0 * d0 * d0 + 3.0 * r * (d0 * d0 + 2.0 * r * (d0 + r))),
-        _ => r * (d0.powi(m as i32) + f64::from(m) * tail_polynomial(m - 1, k, d0)),
+        1 => r * (r + d0),
+        2 => r * (r * 2.0 * (r + d0) + d0 * d0),
+        3 => r * (r * 3.0 * (r * 2.0 * (r + d0) + d0 * d0) + d0 * d0 * d0),
+        _ => r * (tail_polynomial(m - 1, k, d0) * f64::from(m) + d0.powi(m as i32)),
     }
 }
 
@@ -130,14 +131,14 @@ struct SpeciesConstants {
 /// and, for the rain form, exp(-lambda D0). `None` from
 /// [`Exponential::slope_powers`] stands for "no mass".
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct SlopePowers {
+pub struct SlopePowers<T = f64> {
     /// lambda (m-1).
-    pub lambda: f64,
+    pub lambda: T,
     /// lambda^b' (m^-b') for power-law species (NaN for the rain form,
     /// whose ventilation integral computes it when needed).
-    lambda_b: f64,
+    lambda_b: T,
     /// exp(-lambda D0) (1); 1 for power laws.
-    tail: f64,
+    tail: T,
 }
 
 impl Exponential {
@@ -195,11 +196,12 @@ pub fn graupel(n0: f64, rho_p: f64) -> Exponential {
 /// x^b for x > 0: two square roots when b = 1/4 (snow's exponent; exact to
 /// rounding), otherwise exp(b ln x), which is within a few units in the last
 /// place of `powf` and about half its cost.
-pub(crate) fn power(x: f64, b: f64) -> f64 {
+#[inline(always)]
+pub(crate) fn power<T: Lane>(x: T, b: f64) -> T {
     if b == 0.25 {
         x.sqrt().sqrt()
     } else {
-        (b * x.ln()).exp()
+        (x.ln() * b).exp()
     }
 }
 
@@ -228,21 +230,38 @@ impl Exponential {
         if q <= 0.0 {
             return None;
         }
-        let lambda = self.slope(rho, q);
+        Some(self.powers_of(rho, q))
+    }
+
+    /// [`Self::slope_powers`] for each lane, with whether the lane holds
+    /// mass; lanes without mass get the powers of q = 1 kg kg-1 (finite
+    /// placeholders that the caller's mask discards).
+    #[inline(always)]
+    pub fn slope_powers_masked<T: Lane>(&self, rho: T, q: T) -> (T::Mask, SlopePowers<T>) {
+        let present = q.gt(T::splat(0.0));
+        let q = T::select(present, q, T::splat(1.0));
+        (present, self.powers_of(rho, q))
+    }
+
+    /// The slope powers for q > 0.
+    #[inline(always)]
+    fn powers_of<T: Lane>(&self, rho: T, q: T) -> SlopePowers<T> {
+        // x^(1/4) as two square roots, as in [`Self::slope`].
+        let lambda = (T::splat(self.k.mass_per_slope) / (rho * q)).sqrt().sqrt();
         let tail = match self.fall {
-            FallLaw::Power { .. } => 1.0,
+            FallLaw::Power { .. } => T::splat(1.0),
             FallLaw::Exponential { .. } => (-lambda * self.k.d0).exp(),
         };
-        Some(SlopePowers {
+        SlopePowers {
             lambda,
             // The rain form needs lambda^b' only for ventilation, which
             // computes it there (rain evaporates only in subsaturated air).
             lambda_b: match self.fall {
                 FallLaw::Power { .. } => power(lambda, self.k.b_vent),
-                FallLaw::Exponential { .. } => f64::NAN,
+                FallLaw::Exponential { .. } => T::splat(f64::NAN),
             },
             tail,
-        })
+        }
     }
 
     /// Air-density correction factor (rho0/rho)^x.
@@ -263,13 +282,14 @@ impl Exponential {
     }
 
     /// Mass-weighted speed for known slope powers and density correction.
-    pub fn mass_weighted_speed_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+    #[inline(always)]
+    pub fn mass_weighted_speed_at<T: Lane>(&self, s: &SlopePowers<T>, correction: T) -> T {
         let l = s.lambda;
         let v = match self.fall {
-            FallLaw::Power { .. } => self.k.a_gammas[1] / s.lambda_b,
+            FallLaw::Power { .. } => T::splat(self.k.a_gammas[1]) / s.lambda_b,
             FallLaw::Exponential { .. } => self.rain_moment(3, s) * (l * l) * (l * l) / 6.0,
         };
-        v.max(0.0) * correction
+        v.max(T::splat(0.0)) * correction
     }
 
     /// For the rain form `V = alpha - beta exp(-c D)`, zero below D0: the
@@ -278,12 +298,13 @@ impl Exponential {
     /// moments T_m of [`tail_moment`]. Their exponentials exp(-lambda D0) and
     /// exp(-(lambda + c) D0) = exp(-lambda D0) alpha/beta share one
     /// evaluation (`SlopePowers::tail`). Zero for power laws.
-    fn rain_moment(&self, m: u32, s: &SlopePowers) -> f64 {
+    #[inline(always)]
+    fn rain_moment<T: Lane>(&self, m: u32, s: &SlopePowers<T>) -> T {
         match self.fall {
-            FallLaw::Power { .. } => 0.0,
+            FallLaw::Power { .. } => T::splat(0.0),
             FallLaw::Exponential { alpha, c, .. } => {
                 let (l, d0) = (s.lambda, self.k.d0);
-                alpha * s.tail * (tail_polynomial(m, l, d0) - tail_polynomial(m, l + c, d0))
+                s.tail * alpha * (tail_polynomial(m, l, d0) - tail_polynomial(m, l + c, d0))
             }
         }
     }
@@ -297,13 +318,14 @@ impl Exponential {
     }
 
     /// Sweep-out integral for known slope powers and density correction.
-    pub fn sweep_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+    #[inline(always)]
+    pub fn sweep_at<T: Lane>(&self, s: &SlopePowers<T>, correction: T) -> T {
         let l = s.lambda;
         let integral = match self.fall {
-            FallLaw::Power { .. } => self.k.a_gammas[0] / (l * l * l * s.lambda_b),
+            FallLaw::Power { .. } => T::splat(self.k.a_gammas[0]) / (l * l * l * s.lambda_b),
             FallLaw::Exponential { .. } => self.rain_moment(2, s),
         };
-        0.25 * std::f64::consts::PI * self.n0 * integral * correction
+        integral * (0.25 * std::f64::consts::PI * self.n0) * correction
     }
 
     /// Mass of the particles that hit one small, slow target per second
@@ -312,16 +334,15 @@ impl Exponential {
     /// per kg of air it is LFO83's P_iacr (their Eq. 26 for a power fall law:
     /// pi^2 E n_i a rho_w Gamma(6+b)/(24 rho lambda^(6+b)); equation number
     /// from memory), the rain frozen by collisions with cloud ice.
-    pub fn mass_sweep_at(&self, s: &SlopePowers, correction: f64) -> f64 {
+    #[inline(always)]
+    pub fn mass_sweep_at<T: Lane>(&self, s: &SlopePowers<T>, correction: T) -> T {
         let l = s.lambda;
         let integral = match self.fall {
-            FallLaw::Power { a, b } => a * gamma(6.0 + b) / (l.powi(6) * s.lambda_b),
+            FallLaw::Power { a, b } => T::splat(a * gamma(6.0 + b)) / (l.powi(6) * s.lambda_b),
             FallLaw::Exponential { .. } => self.rain_moment(5, s),
         };
-        std::f64::consts::PI * std::f64::consts::PI / 24.0
-            * self.n0
-            * self.rho_p
-            * integral
+        integral
+            * (std::f64::consts::PI * std::f64::consts::PI / 24.0 * self.n0 * self.rho_p)
             * correction
     }
 
@@ -337,13 +358,14 @@ impl Exponential {
 
     /// Ventilation integral for known slope powers, with
     /// `air` = (rho0/rho)^(1/4) / nu^(1/2) precomputed for the cell.
-    pub fn ventilation_at(&self, s: &SlopePowers, air: f64) -> f64 {
+    #[inline(always)]
+    pub fn ventilation_at<T: Lane>(&self, s: &SlopePowers<T>, air: T) -> T {
         let l2 = s.lambda * s.lambda;
         let lambda_b = match self.fall {
             FallLaw::Power { .. } => s.lambda_b,
             FallLaw::Exponential { .. } => power(s.lambda, self.k.b_vent),
         };
-        self.n0 * (0.78 / l2 + self.k.vent * air / (l2 * (s.lambda * lambda_b).sqrt()))
+        (T::splat(0.78) / l2 + air * self.k.vent / (l2 * (s.lambda * lambda_b).sqrt())) * self.n0
     }
 
     /// The power law used for ventilation (LFO83 needs V = a D^b).

@@ -26,6 +26,8 @@
 //! the pair. The first trial step is the whole interval. Everything lives in
 //! fixed-size arrays on the stack: no allocation per cell or step.
 
+use super::lanes::Lane;
+
 /// An explicit embedded Runge-Kutta pair of `S` stages with the
 /// first-same-as-last property (its last row of `a` equals `b`).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -146,6 +148,91 @@ pub enum Failure {
 /// Upper bound on steps per integration; far above any physical need.
 pub const MAX_STEPS: u32 = 100_000;
 
+/// The stages of one trial step of size `h` from `y` (`k[0]`, `w[0]`: the
+/// derivative and quadrature rates at `y`, already known): fills the other
+/// stages and returns the new state (the last stage's point, first same as
+/// last) and the error norm. Written over [`Lane`] so that a group of cells
+/// takes the step together, each lane with the bits of its own scalar step.
+#[inline(always)]
+fn attempt<T: Lane, const S: usize, const N: usize, const M: usize>(
+    pair: &EmbeddedPair<S>,
+    f: &mut impl FnMut(&[T; N], &mut [T; N], &mut [T; M]),
+    y: &[T; N],
+    k: &mut [[T; N]; S],
+    w: &mut [[T; M]; S],
+    h: f64,
+    tol: Tolerance,
+) -> ([T; N], T) {
+    let mut stage = *y;
+    for s in 1..S {
+        stage = *y;
+        for (j, kj) in k.iter().enumerate().take(s) {
+            let a = h * pair.a[s][j];
+            if a != 0.0 {
+                for i in 0..N {
+                    stage[i] += kj[i] * a;
+                }
+            }
+        }
+        let (ks, ws) = (&mut k[s], &mut w[s]);
+        f(&stage, ks, ws);
+    }
+    let mut sum = T::splat(0.0);
+    for i in 0..N {
+        let mut est = T::splat(0.0);
+        for (j, kj) in k.iter().enumerate() {
+            est += kj[i] * pair.e[j];
+        }
+        let scale = y[i].abs().max(stage[i].abs()) * tol.relative + tol.absolute;
+        let r = est * h / scale;
+        sum += r * r;
+    }
+    (stage, (sum / N as f64).sqrt())
+}
+
+/// Adds the quadrature of the rates `w` over an accepted step of size `h`
+/// to `integrals`.
+#[inline(always)]
+fn accumulate<T: Lane, const S: usize, const M: usize>(
+    pair: &EmbeddedPair<S>,
+    w: &[[T; M]; S],
+    h: f64,
+    integrals: &mut [T; M],
+) {
+    for (j, wj) in w.iter().enumerate() {
+        let c = h * pair.b[j];
+        if c != 0.0 {
+            for (acc, wm) in integrals.iter_mut().zip(wj) {
+                *acc += *wm * c;
+            }
+        }
+    }
+}
+
+/// The first trial step of [`integrate`] (the whole `span` at once) for a
+/// group of cells side by side: the end state, the transfer integrals, and
+/// for each lane whether the step was accepted. A lane that was not
+/// accepted must be integrated again on its own ([`integrate`] repeats the
+/// same trial, rejects it and goes on with smaller steps); an accepted
+/// lane's results are the bits [`integrate`] returns for that cell.
+#[inline(always)]
+pub fn whole_step<T: Lane, const S: usize, const N: usize, const M: usize>(
+    pair: &EmbeddedPair<S>,
+    mut f: impl FnMut(&[T; N], &mut [T; N], &mut [T; M]),
+    y0: [T; N],
+    first: ([T; N], [T; M]),
+    span: f64,
+    tol: Tolerance,
+) -> (T::Mask, [T; N], [T; M]) {
+    let mut k = [[T::splat(0.0); N]; S];
+    let mut w = [[T::splat(0.0); M]; S];
+    (k[0], w[0]) = first;
+    let (y, err) = attempt(pair, &mut f, &y0, &mut k, &mut w, span, tol);
+    let mut integrals = [T::splat(0.0); M];
+    accumulate(pair, &w, span, &mut integrals);
+    (err.le(T::splat(1.0)), y, integrals)
+}
+
 /// Integrates the autonomous system `f` over `span` from `y0`.
 ///
 /// `f(y, dy, w)` writes the derivative `dy` of the state and the `M`
@@ -171,7 +258,6 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
     };
     let mut x = 0.0;
     let mut h = span;
-    let mut stage = [0.0; N];
     let exponent = 1.0 / (pair.lower_order as f64 + 1.0);
     loop {
         if out.accepted + out.rejected >= MAX_STEPS {
@@ -184,42 +270,11 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
         if last {
             h = span - x;
         }
-        for s in 1..S {
-            stage = out.y;
-            for (j, kj) in k.iter().enumerate().take(s) {
-                let a = h * pair.a[s][j];
-                if a != 0.0 {
-                    for i in 0..N {
-                        stage[i] += a * kj[i];
-                    }
-                }
-            }
-            let (ks, ws) = (&mut k[s], &mut w[s]);
-            f(&stage, ks, ws);
-        }
         // First same as last: the last stage was evaluated at the new solution.
-        let y_new = stage;
-        let mut sum = 0.0;
-        for i in 0..N {
-            let mut est = 0.0;
-            for (j, kj) in k.iter().enumerate() {
-                est += pair.e[j] * kj[i];
-            }
-            let scale = tol.absolute + tol.relative * out.y[i].abs().max(y_new[i].abs());
-            let r = h * est / scale;
-            sum += r * r;
-        }
-        let err = (sum / N as f64).sqrt();
+        let (y_new, err) = attempt(pair, &mut f, &out.y, &mut k, &mut w, h, tol);
         let accept = err <= 1.0;
         if accept {
-            for (j, wj) in w.iter().enumerate() {
-                let c = h * pair.b[j];
-                if c != 0.0 {
-                    for (acc, wm) in out.integrals.iter_mut().zip(wj) {
-                        *acc += c * wm;
-                    }
-                }
-            }
+            accumulate(pair, &w, h, &mut out.integrals);
             out.y = y_new;
             x += h;
             out.accepted += 1;

@@ -11,12 +11,13 @@
 //! Schmidt number 0.6.
 
 use super::dsd::{self, Exponential};
+use super::lanes::{Cells, Lane, Mask, WIDTH};
 use super::params::MicroParams;
 use super::species::Species;
 use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope;
 use crate::physics::constants::{
-    CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0,
-    RHO_WATER, R_VAPOUR, T_MELT,
+    CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_ICE,
+    RHO_VAPOUR_SAT_T0, RHO_WATER, R_VAPOUR, T_MELT,
 };
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 
@@ -30,20 +31,35 @@ pub const MU_AIR: f64 = 1.718e-5;
 /// Cell-local inputs that stay fixed during a run (the base state does not
 /// change), with the factors that depend only on them computed once per
 /// experiment (`Experiment::cell_env`).
-#[derive(Debug, Clone, Copy)]
-pub struct CellEnv {
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct CellEnv<T = f64> {
     /// Air pressure (Pa).
-    pub p: f64,
+    pub p: T,
     /// Air density (kg m-3) and its reciprocal (m3 kg-1).
-    pub rho: f64,
-    pub inv_rho: f64,
+    pub rho: T,
+    pub inv_rho: T,
     /// Air-density corrections of the rain, snow and graupel fall speeds (1).
-    pub corrections: [f64; 3],
+    pub corrections: [T; 3],
     /// (rho0/rho)^(1/4) / nu^(1/2) of the ventilation terms (s^(1/2) m-1).
-    air: f64,
+    air: T,
     /// Exner function (p/p_ref)^(R_d/c_p) (1), turning potential temperature
     /// into temperature.
-    pub exner: f64,
+    pub exner: T,
+}
+
+impl CellEnv<Cells> {
+    /// The environments of [`WIDTH`] cells side by side.
+    pub fn gather(envs: [&CellEnv; WIDTH]) -> Self {
+        let each = |f: &dyn Fn(&CellEnv) -> f64| Cells(envs.map(f));
+        CellEnv {
+            p: each(&|e| e.p),
+            rho: each(&|e| e.rho),
+            inv_rho: each(&|e| e.inv_rho),
+            corrections: [0, 1, 2].map(|i| each(&|e| e.corrections[i])),
+            air: each(&|e| e.air),
+            exner: each(&|e| e.exner),
+        }
+    }
 }
 
 impl CellEnv {
@@ -69,68 +85,68 @@ impl CellEnv {
 
 /// One cell's microphysical variables.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct CellState {
+pub struct CellState<T = f64> {
     /// Mixing ratios (kg kg-1) in `Species` order.
-    pub q: [f64; 6],
+    pub q: [T; 6],
     /// Cloud-ice number (kg-1).
-    pub n_ice: f64,
+    pub n_ice: T,
     /// Temperature (K).
-    pub t: f64,
+    pub t: T,
 }
 
 /// Every mass transfer (kg kg-1 s-1). Names say source -> destination.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct Rates {
+pub struct Rates<T = f64> {
     /// cloud -> rain: autoconversion, Kessler (1969) in the form of Klemp &
     /// Wilhelmson (1978), k1 (q_c - q_c0).
-    pub cloud_to_rain_autoconversion: f64,
+    pub cloud_to_rain_autoconversion: T,
     /// cloud -> rain: accretion by rain, LFO83 Eq. 51 with the Atlas et al.
     /// (1973) fall law; collection efficiency 1.
-    pub cloud_to_rain_accretion: f64,
+    pub cloud_to_rain_accretion: T,
     /// rain -> vapour: evaporation, LFO83 Eq. 52 (only when subsaturated).
-    pub rain_to_vapour: f64,
+    pub rain_to_vapour: T,
     /// vapour -> ice: depositional growth of the monodisperse crystals,
     /// dm/dt = 4 pi C (S_i - 1)/(A + B) with C = d/2 (diffusion-growth
     /// equation, e.g. Rogers & Yau 1989, Eq. 9.4, from memory); negative:
     /// sublimation.
-    pub vapour_to_ice: f64,
+    pub vapour_to_ice: T,
     /// vapour -> snow: deposition (negative: sublimation), LFO83 Eq. 31 form.
-    pub vapour_to_snow: f64,
+    pub vapour_to_snow: T,
     /// vapour -> graupel: deposition (negative: sublimation), LFO83 Eq. 46 form.
-    pub vapour_to_graupel: f64,
+    pub vapour_to_graupel: T,
     /// ice -> snow: conversion, LFO83 Eq. 21: 1e-3 exp(0.025 (T - T0)) (q_i - q_i0).
-    pub ice_to_snow: f64,
+    pub ice_to_snow: T,
     /// cloud -> snow: riming below 0 degC, LFO83 Eq. 24 (above 0 degC the
     /// collected water is shed as rain: see `cloud_to_rain_shedding`).
-    pub cloud_to_snow: f64,
+    pub cloud_to_snow: T,
     /// cloud -> graupel: riming below 0 degC, LFO83 Eq. 40 form.
-    pub cloud_to_graupel: f64,
+    pub cloud_to_graupel: T,
     /// cloud -> rain: water collected by snow and graupel above 0 degC, shed;
     /// below 0 degC the cloud water graupel collects beyond its wet-growth
     /// capacity ([`wet_growth_capacity`]).
-    pub cloud_to_rain_shedding: f64,
+    pub cloud_to_rain_shedding: T,
     /// cloud -> ice: rime-splinter mass (Hallett & Mossop 1974), taken from
     /// the riming.
-    pub cloud_to_ice_splinters: f64,
+    pub cloud_to_ice_splinters: T,
     /// snow -> graupel: conversion of riming snow, LFO83 Eq. 37 form,
     /// 1e-3 exp(0.09 (T - T0)) (q_s - q_s0), only where snow rimes.
-    pub snow_to_graupel: f64,
+    pub snow_to_graupel: T,
     /// ice -> snow: collection of ice by snow, LFO83 Eq. 22, E = exp(0.025 (T - T0)).
-    pub ice_to_snow_collection: f64,
+    pub ice_to_snow_collection: T,
     /// ice -> graupel: collection of ice by graupel, LFO83 Eq. 41 form,
     /// E = exp(0.09 (T - T0)).
-    pub ice_to_graupel: f64,
+    pub ice_to_graupel: T,
     /// snow -> graupel: collection of snow by graupel, LFO83 Eq. 42,
     /// E = exp(0.09 (T - T0)).
-    pub snow_to_graupel_collection: f64,
+    pub snow_to_graupel_collection: T,
     /// rain -> graupel: immersion freezing after Bigg (1953), LFO83 Eq. 45.
-    pub rain_to_graupel: f64,
+    pub rain_to_graupel: T,
     /// rain -> graupel: supercooled rain collected by graupel, which freezes
     /// on it (LFO83's PGACR term; their Eq. 42 kernel with rain in place of
     /// snow): pi^2 E N0r N0g |Vg - Vr| (rho_w/rho) [5/(lr^6 lg) +
     /// 2/(lr^5 lg^2) + 0.5/(lr^4 lg^3)], E = 1 (LFO83), limited with the
     /// riming by the heat balance of wet growth ([`wet_growth_capacity`]).
-    pub rain_to_graupel_collection: f64,
+    pub rain_to_graupel_collection: T,
     /// rain -> graupel: drops frozen by collisions with cloud ice (LFO83's
     /// P_iacr, their Eq. 26: every drop that collects a crystal freezes, the
     /// rate n_i (pi/4) integral D^2 V (pi/6) rho_w D^3 N dD), no faster than
@@ -139,30 +155,30 @@ pub struct Rates {
     /// ([`wet_growth_capacity`] with rain's ventilation). That bound fades
     /// to zero at 0 degC in saturated air, so the rate is continuous where
     /// melting takes over.
-    pub rain_to_graupel_ice_contact: f64,
+    pub rain_to_graupel_ice_contact: T,
     /// ice -> graupel: crystals collected by rain (LFO83's P_raci, their
     /// Eq. 25: E q_i (pi/4) integral D^2 V N dD, E = 1), which end in the
     /// frozen drops.
-    pub ice_to_graupel_by_rain: f64,
+    pub ice_to_graupel_by_rain: T,
     /// cloud -> ice: immersion freezing of the cloud droplets after Bigg
     /// (1953), the rain law of LFO83 Eq. 45 for droplets of one size:
     /// q_c B' [exp(A' (T0 - T)) - 1] (pi/6) d^3, each frozen droplet a new
     /// crystal (optional, `microphysics.droplet_freezing`).
-    pub cloud_to_ice_freezing: f64,
+    pub cloud_to_ice_freezing: T,
     /// snow -> rain: melting, LFO83 Eq. 32 (conduction term).
-    pub snow_to_rain: f64,
+    pub snow_to_rain: T,
     /// graupel -> rain: melting, LFO83 Eq. 47 (conduction term).
-    pub graupel_to_rain: f64,
+    pub graupel_to_rain: T,
     /// vapour -> cloud: condensation (negative: evaporation) that keeps
     /// the vapour at liquid saturation while cloud water exists, the
     /// equilibrium the saturation adjustment assumes, held inside the
     /// integration ([`cloud_equilibrium`]).
-    pub vapour_to_cloud: f64,
+    pub vapour_to_cloud: T,
     /// Rime-splinter number production (kg-1 s-1), Hallett & Mossop (1974).
-    pub splinter_number: f64,
+    pub splinter_number: T,
     /// Crystals made by droplet freezing (kg-1 s-1): `cloud_to_ice_freezing`
     /// over the droplet mass.
-    pub frozen_droplet_number: f64,
+    pub frozen_droplet_number: T,
 }
 
 /// Vapour pressure (Pa) from mixing ratio and pressure, e = r p/(eps + r),
@@ -199,15 +215,16 @@ pub fn saturation_ratios_and_slope(t: f64, p: f64) -> (f64, f64, f64) {
 /// Hallett & Mossop (1974) splinter efficiency: 0 warmer than -3 degC and
 /// colder than -8 degC, rising linearly to 1 at -5 degC (the triangular form
 /// used by e.g. Cotton et al. 1986, JCAM 25; from memory).
-pub fn splinter_efficiency(t: f64) -> f64 {
+#[inline(always)]
+pub fn splinter_efficiency<T: Lane>(t: T) -> T {
     let tc = t - T_MELT;
-    if (-5.0..=-3.0).contains(&tc) {
-        (-3.0 - tc) / 2.0
-    } else if (-8.0..-5.0).contains(&tc) {
-        (tc + 8.0) / 3.0
-    } else {
-        0.0
-    }
+    let upper = tc.ge(T::splat(-5.0)) & tc.le(T::splat(-3.0));
+    let lower = tc.ge(T::splat(-8.0)) & tc.lt(T::splat(-5.0));
+    T::select(
+        upper,
+        (T::splat(-3.0) - tc) / 2.0,
+        T::select(lower, (tc + 8.0) / 3.0, T::splat(0.0)),
+    )
 }
 
 /// The temperature-dependent collection efficiencies of ice particles of
@@ -215,8 +232,9 @@ pub fn splinter_efficiency(t: f64) -> f64 {
 /// (their Eq. 41 form), dT = T - T0 (K). Computed from one exponential as
 /// b^5 and b^18 with b = exp(0.005 dT) (exact identities; the repeated
 /// products add a few units in the last place).
-pub fn collection_efficiencies(dtc: f64) -> (f64, f64) {
-    let b = (0.005 * dtc).exp();
+#[inline(always)]
+pub fn collection_efficiencies<T: Lane>(dtc: T) -> (T, T) {
+    let b = (dtc * 0.005).exp();
     let b2 = b * b;
     let b4 = b2 * b2;
     let b16 = (b4 * b4) * (b4 * b4);
@@ -226,10 +244,11 @@ pub fn collection_efficiencies(dtc: f64) -> (f64, f64) {
 /// 5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3) of LFO83 Eq. 42 (m^7) for
 /// slopes `ls` and `lg` (m-1), with two reciprocals instead of three
 /// divisions.
-fn slope_sum(ls: f64, lg: f64) -> f64 {
-    let (a, b) = (1.0 / ls, 1.0 / lg);
+#[inline(always)]
+fn slope_sum<T: Lane>(ls: T, lg: T) -> T {
+    let (a, b) = (T::splat(1.0) / ls, T::splat(1.0) / lg);
     let a2 = a * a;
-    a2 * a2 * b * (5.0 * a2 + 2.0 * a * b + 0.5 * b * b)
+    a2 * a2 * b * (a2 * 5.0 + a * 2.0 * b + b * 0.5 * b)
 }
 
 /// Liquid water (kg kg-1 s-1) that graupel can freeze: the heat-balance
@@ -249,209 +268,327 @@ fn slope_sum(ls: f64, lg: f64) -> f64 {
 /// dry-growth efficiencies). Zero at 0 degC in air saturated there, so
 /// freezing of collected water fades continuously into the shedding above
 /// 0 degC. Liquid collected beyond it is shed as rain (LFO83).
-pub fn wet_growth_capacity(t: f64, qv: f64, rho: f64, ventilation: f64, ice_collected: f64) -> f64 {
-    let dt = T_MELT - t;
-    let heat = 2.0
-        * std::f64::consts::PI
-        * ventilation
-        * (K_AIR * dt + L_VAPORISATION * PSI_VAPOUR * (RHO_VAPOUR_SAT_T0 - rho * qv))
+#[inline(always)]
+pub fn wet_growth_capacity<T: Lane>(t: T, qv: T, rho: T, ventilation: T, ice_collected: T) -> T {
+    let dt = T::splat(T_MELT) - t;
+    let heat = ventilation
+        * (2.0 * std::f64::consts::PI)
+        * (dt * K_AIR + (T::splat(RHO_VAPOUR_SAT_T0) - rho * qv) * (L_VAPORISATION * PSI_VAPOUR))
         / rho
-        + C_ICE * dt * ice_collected;
-    (heat / (L_FUSION - C_WATER * dt)).max(0.0)
+        + dt * C_ICE * ice_collected;
+    (heat / (T::splat(L_FUSION) - dt * C_WATER)).max(T::splat(0.0))
 }
 
 /// All process rates for one cell.
 pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
-    let mut r = Rates::default();
-    let q = |i: usize| s.q[i].max(0.0);
+    rates_of(s, &env, p)
+}
+
+/// All process rates for one cell (`T = f64`) or for a group of cells side
+/// by side (`T = `[`Cells`]), lane by lane the same bits. Where a rate
+/// applies only under a condition (a species present, the air below 0 degC,
+/// subsaturation), it is computed for every lane and kept where the
+/// condition holds; a block is skipped when it holds in no lane.
+#[inline(always)]
+pub fn rates_of<T: Lane>(s: &CellState<T>, env: &CellEnv<T>, p: &MicroParams) -> Rates<T> {
+    let mut r = Rates::<T>::default();
+    let zero = T::splat(0.0);
+    let q = |i: usize| s.q[i].max(zero);
     let (qv, qc, qr, qi, qs, qg) = (q(VAPOUR), q(CLOUD), q(RAIN), q(ICE), q(SNOW), q(GRAUPEL));
     let t = s.t;
     let rho = env.rho;
-    let cold = t < T_MELT;
-    let (qsw, qsi, qsw_slope) = saturation_ratios_and_slope(t, env.p);
+    let cold = t.lt(T::splat(T_MELT));
+    let (qsw, qsi, qsw_slope) = T::map2x3(t, env.p, saturation_ratios_and_slope);
     let (rain, snow, graupel): (&Exponential, &Exponential, &Exponential) =
         (&p.rain, &p.snow, &p.graupel);
     // Slopes and their powers once per evaluation: they feed every integral
-    // below (and powf dominates the cost of this function).
-    let (lr, ls, lg) = (
-        rain.slope_powers(rho, qr),
-        snow.slope_powers(rho, qs),
-        graupel.slope_powers(rho, qg),
+    // below (and powf dominates the cost of this function). Each comes with
+    // whether its species holds mass.
+    let ((has_r, lr), (has_s, ls), (has_g, lg)) = (
+        rain.slope_powers_masked(rho, qr),
+        snow.slope_powers_masked(rho, qs),
+        graupel.slope_powers_masked(rho, qg),
     );
     let [cr, cs, cg] = env.corrections;
     let air = env.air;
 
     // Warm rain.
     r.cloud_to_rain_autoconversion =
-        p.autoconversion_rate * (qc - p.autoconversion_threshold).max(0.0);
-    r.cloud_to_rain_accretion = lr.map_or(0.0, |l| rain.sweep_at(&l, cr)) * qc;
+        (qc - p.autoconversion_threshold).max(zero) * p.autoconversion_rate;
+    r.cloud_to_rain_accretion = T::select(has_r, rain.sweep_at(&lr, cr), zero) * qc;
     // Reciprocals shared by several rates keep the divisions few.
-    let inv_t2 = 1.0 / (t * t);
+    let inv_t2 = T::splat(1.0) / (t * t);
     let inv_rho = env.inv_rho;
     let sw = qv / qsw;
-    if let (true, Some(l)) = (sw < 1.0, lr) {
+    let evaporating = sw.lt(T::splat(1.0)) & has_r;
+    if evaporating.any() {
         // LFO83 Eq. 52: A' = L_v^2/(K_a R_v T^2), B' = 1/(rho q_sw psi).
-        let ab = L_VAPORISATION * L_VAPORISATION / (K_AIR * R_VAPOUR) * inv_t2
+        let ab = inv_t2 * (L_VAPORISATION * L_VAPORISATION / (K_AIR * R_VAPOUR))
             + inv_rho / (qsw * PSI_VAPOUR);
-        r.rain_to_vapour =
-            2.0 * std::f64::consts::PI * (1.0 - sw) * rain.ventilation_at(&l, air) * inv_rho / ab;
+        let rate = (T::splat(1.0) - sw)
+            * (2.0 * std::f64::consts::PI)
+            * rain.ventilation_at(&lr, air)
+            * inv_rho
+            / ab;
+        r.rain_to_vapour = T::select(evaporating, rate, zero);
     }
 
     // Vapour and ice: A'' = L_s^2/(K_a R_v T^2), B'' = 1/(rho q_si psi).
     let si = qv / qsi;
-    let ab_ice =
-        L_SUBLIMATION * L_SUBLIMATION / (K_AIR * R_VAPOUR) * inv_t2 + inv_rho / (qsi * PSI_VAPOUR);
-    let inv_ab_ice = 1.0 / ab_ice;
-    if qi > 0.0 && s.n_ice > 0.0 && (cold || si < 1.0) {
-        let c = 0.5 * dsd::ice::diameter(qi, s.n_ice);
-        r.vapour_to_ice = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) * inv_ab_ice;
+    let ab_ice = inv_t2 * (L_SUBLIMATION * L_SUBLIMATION / (K_AIR * R_VAPOUR))
+        + inv_rho / (qsi * PSI_VAPOUR);
+    let inv_ab_ice = T::splat(1.0) / ab_ice;
+    let depositing = cold | si.lt(T::splat(1.0));
+    let crystals = qi.gt(zero) & s.n_ice.gt(zero);
+    if (crystals & depositing).any() {
+        // The crystal diameter (6 m / (pi rho_ice))^(1/3), m = q_i / n_i
+        // (`dsd::ice::diameter`).
+        let d = (qi / s.n_ice * 6.0 / (std::f64::consts::PI * RHO_ICE)).cbrt();
+        let c = d * 0.5;
+        let rate = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) * inv_ab_ice;
+        r.vapour_to_ice = T::select(crystals & depositing, rate, zero);
     }
-    for (rate, dist, l) in [
-        (&mut r.vapour_to_snow, &snow, ls),
-        (&mut r.vapour_to_graupel, &graupel, lg),
+    for (rate, dist, l, has) in [
+        (&mut r.vapour_to_snow, &snow, &ls, has_s),
+        (&mut r.vapour_to_graupel, &graupel, &lg, has_g),
     ] {
-        if let (true, Some(l)) = (cold || si < 1.0, l) {
-            *rate = 2.0
-                * std::f64::consts::PI
-                * (si - 1.0)
-                * dist.ventilation_at(&l, air)
+        if (depositing & has).any() {
+            let v = (si - 1.0)
+                * (2.0 * std::f64::consts::PI)
+                * dist.ventilation_at(l, air)
                 * inv_rho
                 * inv_ab_ice;
+            *rate = T::select(depositing & has, v, zero);
         }
     }
 
     // Riming and collection.
-    let snow_sweep = ls.map_or(0.0, |l| snow.sweep_at(&l, cs));
-    let graupel_sweep = lg.map_or(0.0, |l| graupel.sweep_at(&l, cg));
+    let snow_sweep = T::select(has_s, snow.sweep_at(&ls, cs), zero);
+    let graupel_sweep = T::select(has_g, graupel.sweep_at(&lg, cg), zero);
     let by_snow = snow_sweep * qc;
-    let mut by_graupel = graupel_sweep * qc;
-    if cold {
-        let dtc = t - T_MELT;
-        let (e_snow, e_graupel) = collection_efficiencies(dtc);
-        r.ice_to_snow = 1e-3 * e_snow * (qi - p.ice_to_snow_threshold).max(0.0);
-        r.ice_to_snow_collection = snow_sweep * e_snow * qi;
-        r.ice_to_graupel = graupel_sweep * e_graupel * qi;
-        // Graupel's mass-weighted speed, for both of its collections below.
-        let vg = lg.map_or(0.0, |l| graupel.mass_weighted_speed_at(&l, cg));
-        if let (Some(ls), Some(lg)) = (ls, lg) {
-            // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
-            //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
-            let dv = (vg - snow.mass_weighted_speed_at(&ls, cs)).abs();
-            r.snow_to_graupel_collection = std::f64::consts::PI.powi(2)
-                * e_graupel
-                * graupel.n0
-                * snow.n0
-                * dv
-                * (snow.rho_p * inv_rho)
-                * slope_sum(ls.lambda, lg.lambda);
-        }
-        if let Some(lg) = lg {
-            // Supercooled rain collected by graupel (LFO83 PGACR), then the
-            // heat balance of wet growth on everything liquid graupel collects.
-            if let (true, Some(lr)) = (p.rain_ice_collection, lr) {
-                let dv = (vg - rain.mass_weighted_speed_at(&lr, cr)).abs();
-                r.rain_to_graupel_collection = std::f64::consts::PI.powi(2)
-                    * graupel.n0
-                    * rain.n0
-                    * dv
-                    * (RHO_WATER * inv_rho)
-                    * slope_sum(lr.lambda, lg.lambda);
-            }
-            let liquid = by_graupel + r.rain_to_graupel_collection;
-            if liquid > 0.0 {
-                let capacity = wet_growth_capacity(
-                    t,
-                    qv,
-                    rho,
-                    graupel.ventilation_at(&lg, air),
-                    r.ice_to_graupel + r.snow_to_graupel_collection,
-                );
-                if liquid > capacity {
-                    // Wet growth: what cannot freeze is shed (collected
-                    // cloud water) or not kept (rain).
-                    let f = capacity / liquid;
-                    r.cloud_to_rain_shedding = by_graupel * (1.0 - f);
-                    by_graupel *= f;
-                    r.rain_to_graupel_collection *= f;
-                }
-            }
-        }
-        if p.rime_splintering {
-            let f = splinter_efficiency(t);
-            r.splinter_number = p.splinters_per_kg_rime * f * (by_snow + by_graupel);
-            r.cloud_to_ice_splinters =
-                (r.splinter_number * p.splinter_mass).min(by_snow + by_graupel);
-        }
-        let share = if by_snow + by_graupel > 0.0 {
-            r.cloud_to_ice_splinters / (by_snow + by_graupel)
-        } else {
-            0.0
+    let by_graupel = graupel_sweep * qc;
+    if cold.any() {
+        let inputs = ColdInputs {
+            cold,
+            mixing: (qv, qc, qi, qs),
+            swept: (by_snow, by_graupel),
+            has_r,
+            lr,
+            has_s,
+            ls,
+            has_g,
+            lg,
+            snow_sweep,
+            graupel_sweep,
         };
-        r.cloud_to_snow = by_snow * (1.0 - share);
-        r.cloud_to_graupel = by_graupel * (1.0 - share);
-        if by_snow > 0.0 {
-            r.snow_to_graupel = 1e-3 * e_graupel * (qs - p.snow_to_graupel_threshold).max(0.0);
-        }
-        let crystals = s.n_ice > 0.0 && qi > 0.0;
-        if let (true, Some(l)) = (p.rain_ice_contact_freezing && crystals, lr) {
-            // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
-            // within the heat the drops can give off (Musil 1970).
-            r.ice_to_graupel_by_rain = rain.sweep_at(&l, cr) * qi;
-            let contact = s.n_ice * rain.mass_sweep_at(&l, cr);
-            let capacity = wet_growth_capacity(
-                t,
-                qv,
-                rho,
-                rain.ventilation_at(&l, air),
-                r.ice_to_graupel_by_rain,
-            );
-            r.rain_to_graupel_ice_contact = contact.min(capacity);
-        }
-        // The supercooling factor exp(A' (T0 - T)) - 1 of Bigg's (1953)
-        // freezing probability B' [exp(A' (T0 - T)) - 1] per unit volume and
-        // time, shared by rain and droplets and evaluated only when one of
-        // them freezes by it.
-        let freezing_droplets = p.droplet_freezing && qc > 0.0;
-        let bigg = if lr.is_some() || freezing_droplets {
-            (p.bigg_a * (T_MELT - t)).exp() - 1.0
-        } else {
-            0.0
-        };
-        if freezing_droplets {
-            // A droplet of volume v freezes with probability B' bigg v per second.
-            r.cloud_to_ice_freezing = qc * p.bigg_b * bigg * p.droplet_volume();
-            r.frozen_droplet_number = r.cloud_to_ice_freezing / p.droplet_mass();
-        }
-        if let Some(lr) = lr {
-            // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
-            r.rain_to_graupel = 20.0
-                * std::f64::consts::PI.powi(2)
-                * p.bigg_b
-                * rain.n0
-                * (RHO_WATER * inv_rho)
-                * bigg
-                / lr.lambda.powi(7);
-        }
-    } else {
-        r.cloud_to_rain_shedding = by_snow + by_graupel;
+        cold_rates(&mut r, s, env, p, inputs);
+    }
+    let warm = !cold;
+    if warm.any() {
+        r.cloud_to_rain_shedding = T::select(warm, by_snow + by_graupel, r.cloud_to_rain_shedding);
         // LFO83 Eqs. 32 and 47, conduction term: 2 pi K_a (T - T0) N0 [ventilation] / (rho L_f).
-        for (rate, dist, l) in [
-            (&mut r.snow_to_rain, &snow, ls),
-            (&mut r.graupel_to_rain, &graupel, lg),
+        for (rate, dist, l, has) in [
+            (&mut r.snow_to_rain, &snow, &ls, has_s),
+            (&mut r.graupel_to_rain, &graupel, &lg, has_g),
         ] {
-            if let Some(l) = l {
-                *rate = 2.0 * std::f64::consts::PI * K_AIR / L_FUSION
-                    * (t - T_MELT)
-                    * dist.ventilation_at(&l, air)
+            if (warm & has).any() {
+                let v = (t - T_MELT)
+                    * (2.0 * std::f64::consts::PI * K_AIR / L_FUSION)
+                    * dist.ventilation_at(l, air)
                     * inv_rho;
+                *rate = T::select(warm & has, v, zero);
             }
         }
     }
     r.limit_sinks(&[qv, qc, qr, qi, qs, qg]);
-    if p.cloud_equilibrium && qc > 0.0 {
-        r.vapour_to_cloud = cloud_equilibrium(&r, qsw_slope, qc);
+    if p.cloud_equilibrium {
+        let cloudy = qc.gt(zero);
+        if cloudy.any() {
+            r.vapour_to_cloud = T::select(cloudy, cloud_equilibrium(&r, qsw_slope, qc), zero);
+        }
     }
     r
+}
+
+/// What the rates below 0 degC start from: the lanes below 0 degC; the
+/// non-negative mixing ratios of vapour, cloud water, ice and snow (kg
+/// kg-1); the cloud water snow and graupel sweep out (kg kg-1 s-1); the
+/// slope powers of rain, snow and graupel with whether each holds mass; the
+/// sweep-out integrals of snow and graupel (zero without mass).
+struct ColdInputs<T: Lane> {
+    cold: T::Mask,
+    mixing: (T, T, T, T),
+    swept: (T, T),
+    has_r: T::Mask,
+    lr: dsd::SlopePowers<T>,
+    has_s: T::Mask,
+    ls: dsd::SlopePowers<T>,
+    has_g: T::Mask,
+    lg: dsd::SlopePowers<T>,
+    snow_sweep: T,
+    graupel_sweep: T,
+}
+
+/// The rates below 0 degC (lanes where `cold` holds; the others keep what
+/// `r` holds): collection, riming with wet growth and shedding, rime
+/// splinters, conversions, contact and immersion freezing.
+#[inline(always)]
+fn cold_rates<T: Lane>(
+    r: &mut Rates<T>,
+    s: &CellState<T>,
+    env: &CellEnv<T>,
+    p: &MicroParams,
+    inputs: ColdInputs<T>,
+) {
+    let zero = T::splat(0.0);
+    let (rain, snow, graupel) = (&p.rain, &p.snow, &p.graupel);
+    let [cr, cs, cg] = env.corrections;
+    let (t, rho, inv_rho, air) = (s.t, env.rho, env.inv_rho, env.air);
+    let ColdInputs {
+        cold,
+        mixing: (qv, qc, qi, qs),
+        swept: (by_snow, by_graupel),
+        has_r,
+        lr,
+        has_s,
+        ls,
+        has_g,
+        lg,
+        snow_sweep,
+        graupel_sweep,
+    } = inputs;
+    let keep = |field: &mut T, value: T| *field = T::select(cold, value, *field);
+    let dtc = t - T_MELT;
+    let (e_snow, e_graupel) = collection_efficiencies(dtc);
+    keep(
+        &mut r.ice_to_snow,
+        e_snow * 1e-3 * (qi - p.ice_to_snow_threshold).max(zero),
+    );
+    keep(&mut r.ice_to_snow_collection, snow_sweep * e_snow * qi);
+    let ice_to_graupel = graupel_sweep * e_graupel * qi;
+    keep(&mut r.ice_to_graupel, ice_to_graupel);
+    // Graupel's mass-weighted speed, for both of its collections below.
+    let vg = T::select(has_g, graupel.mass_weighted_speed_at(&lg, cg), zero);
+    let mut snow_to_graupel_collection = zero;
+    if (has_s & has_g).any() {
+        // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
+        //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
+        let dv = (vg - snow.mass_weighted_speed_at(&ls, cs)).abs();
+        let v = e_graupel
+            * std::f64::consts::PI.powi(2)
+            * graupel.n0
+            * snow.n0
+            * dv
+            * (inv_rho * snow.rho_p)
+            * slope_sum(ls.lambda, lg.lambda);
+        snow_to_graupel_collection = T::select(has_s & has_g, v, zero);
+        keep(
+            &mut r.snow_to_graupel_collection,
+            snow_to_graupel_collection,
+        );
+    }
+    let mut by_graupel = by_graupel;
+    if has_g.any() {
+        // Supercooled rain collected by graupel (LFO83 PGACR), then the
+        // heat balance of wet growth on everything liquid graupel collects.
+        let mut rain_collected = zero;
+        if p.rain_ice_collection && (has_r & has_g).any() {
+            let dv = (vg - rain.mass_weighted_speed_at(&lr, cr)).abs();
+            let v = dv
+                * (std::f64::consts::PI.powi(2) * graupel.n0 * rain.n0)
+                * (inv_rho * RHO_WATER)
+                * slope_sum(lr.lambda, lg.lambda);
+            rain_collected = T::select(has_r & has_g, v, zero);
+        }
+        let liquid = by_graupel + rain_collected;
+        let wetting = has_g & liquid.gt(zero);
+        if wetting.any() {
+            let capacity = wet_growth_capacity(
+                t,
+                qv,
+                rho,
+                graupel.ventilation_at(&lg, air),
+                ice_to_graupel + snow_to_graupel_collection,
+            );
+            // Wet growth: what cannot freeze is shed (collected cloud
+            // water) or not kept (rain).
+            let wet = wetting & liquid.gt(capacity);
+            if wet.any() {
+                let f = capacity / liquid;
+                keep(
+                    &mut r.cloud_to_rain_shedding,
+                    T::select(wet, by_graupel * (T::splat(1.0) - f), zero),
+                );
+                by_graupel = T::select(wet, by_graupel * f, by_graupel);
+                rain_collected = T::select(wet, rain_collected * f, rain_collected);
+            }
+        }
+        keep(&mut r.rain_to_graupel_collection, rain_collected);
+    }
+    let rimed = by_snow + by_graupel;
+    if p.rime_splintering {
+        let f = splinter_efficiency(t);
+        let number = f * p.splinters_per_kg_rime * rimed;
+        keep(&mut r.splinter_number, number);
+        keep(
+            &mut r.cloud_to_ice_splinters,
+            (number * p.splinter_mass).min(rimed),
+        );
+    }
+    let share = T::select(rimed.gt(zero), r.cloud_to_ice_splinters / rimed, zero);
+    keep(&mut r.cloud_to_snow, by_snow * (T::splat(1.0) - share));
+    keep(
+        &mut r.cloud_to_graupel,
+        by_graupel * (T::splat(1.0) - share),
+    );
+    let riming_snow = cold & by_snow.gt(zero);
+    if riming_snow.any() {
+        let v = e_graupel * 1e-3 * (qs - p.snow_to_graupel_threshold).max(zero);
+        r.snow_to_graupel = T::select(riming_snow, v, r.snow_to_graupel);
+    }
+    let crystals = s.n_ice.gt(zero) & qi.gt(zero);
+    let contact = cold & crystals & has_r;
+    if p.rain_ice_contact_freezing && contact.any() {
+        // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
+        // within the heat the drops can give off (Musil 1970).
+        let by_rain = rain.sweep_at(&lr, cr) * qi;
+        let frozen = s.n_ice * rain.mass_sweep_at(&lr, cr);
+        let capacity = wet_growth_capacity(t, qv, rho, rain.ventilation_at(&lr, air), by_rain);
+        r.ice_to_graupel_by_rain = T::select(contact, by_rain, r.ice_to_graupel_by_rain);
+        r.rain_to_graupel_ice_contact =
+            T::select(contact, frozen.min(capacity), r.rain_to_graupel_ice_contact);
+    }
+    // The supercooling factor exp(A' (T0 - T)) - 1 of Bigg's (1953)
+    // freezing probability B' [exp(A' (T0 - T)) - 1] per unit volume and
+    // time, shared by rain and droplets and evaluated only when one of
+    // them freezes by it.
+    let freezing_droplets = if p.droplet_freezing {
+        cold & qc.gt(zero)
+    } else {
+        cold & !cold
+    };
+    let rain_freezing = cold & has_r;
+    if (freezing_droplets | rain_freezing).any() {
+        let bigg = ((T::splat(T_MELT) - t) * p.bigg_a).exp() - 1.0;
+        if freezing_droplets.any() {
+            // A droplet of volume v freezes with probability B' bigg v per second.
+            let v = qc * p.bigg_b * bigg * p.droplet_volume();
+            r.cloud_to_ice_freezing = T::select(freezing_droplets, v, r.cloud_to_ice_freezing);
+            r.frozen_droplet_number = T::select(
+                freezing_droplets,
+                v / p.droplet_mass(),
+                r.frozen_droplet_number,
+            );
+        }
+        if rain_freezing.any() {
+            // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
+            let v = (inv_rho * RHO_WATER)
+                * (20.0 * std::f64::consts::PI.powi(2) * p.bigg_b * rain.n0)
+                * bigg
+                / lr.lambda.powi(7);
+            r.rain_to_graupel = T::select(rain_freezing, v, r.rain_to_graupel);
+        }
+    }
 }
 
 /// Condensation rate C (kg kg-1 s-1; negative: evaporation) that keeps
@@ -471,16 +608,13 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 /// crystals' deposition time was not long against it (docs/numerics.md).
 /// Evaporation is limited, with the cloud's other sinks, to q_c per
 /// [`SINK_TIMESCALE`] (`qc`, kg kg-1).
-pub fn cloud_equilibrium(r: &Rates, slope: f64, qc: f64) -> f64 {
-    let (vapour, heat) = r.vapour_and_heat(0.0);
+#[inline(always)]
+pub fn cloud_equilibrium<T: Lane>(r: &Rates<T>, slope: T, qc: T) -> T {
+    let (vapour, heat) = r.vapour_and_heat(T::splat(0.0));
     let theta = heat * (1.0 / CP_DRY);
-    let c = (vapour - slope * theta) / (1.0 + slope * L_VAPORISATION / CP_DRY);
-    if c < 0.0 {
-        let room = (qc / SINK_TIMESCALE - r.cloud_sinks()).max(0.0);
-        c.max(-room)
-    } else {
-        c
-    }
+    let c = (vapour - slope * theta) / (slope * L_VAPORISATION / CP_DRY + 1.0);
+    let room = (qc / SINK_TIMESCALE - r.cloud_sinks()).max(T::splat(0.0));
+    T::select(c.lt(T::splat(0.0)), c.max(-room), c)
 }
 
 /// Number of mass transfers in [`TRANSFER_PAIRS`].
@@ -517,10 +651,11 @@ pub const TRANSFER_PAIRS: [(Species, Species); N_TRANSFERS] = {
     ]
 };
 
-impl Rates {
+impl<T: Lane> Rates<T> {
     /// Every mass transfer rate, in [`TRANSFER_PAIRS`] order; deposition is
     /// negative when it is sublimation.
-    pub fn transfer_rates(&self) -> [f64; N_TRANSFERS] {
+    #[inline(always)]
+    pub fn transfer_rates(&self) -> [T; N_TRANSFERS] {
         [
             self.cloud_to_rain_autoconversion,
             self.cloud_to_rain_accretion,
@@ -552,17 +687,19 @@ impl Rates {
     /// s-1) of the rates with the condensation `cloud` (kg kg-1 s-1) in
     /// place of `vapour_to_cloud`: shared by [`tendencies`] and
     /// [`cloud_equilibrium`] (which passes 0, the other processes alone).
-    fn vapour_and_heat(&self, cloud: f64) -> (f64, f64) {
+    #[inline(always)]
+    fn vapour_and_heat(&self, cloud: T) -> (T, T) {
         let dep = self.vapour_to_ice + self.vapour_to_snow + self.vapour_to_graupel;
         (
             -dep + self.rain_to_vapour - cloud,
-            L_SUBLIMATION * dep - L_VAPORISATION * (self.rain_to_vapour - cloud)
-                + L_FUSION * (self.freezing() - self.melting()),
+            dep * L_SUBLIMATION - (self.rain_to_vapour - cloud) * L_VAPORISATION
+                + (self.freezing() - self.melting()) * L_FUSION,
         )
     }
 
     /// Mass frozen per time (kg kg-1 s-1): liquid that becomes ice.
-    fn freezing(&self) -> f64 {
+    #[inline(always)]
+    fn freezing(&self) -> T {
         self.cloud_to_snow
             + self.cloud_to_graupel
             + self.cloud_to_ice_splinters
@@ -573,12 +710,14 @@ impl Rates {
     }
 
     /// Mass melted per time (kg kg-1 s-1).
-    fn melting(&self) -> f64 {
+    #[inline(always)]
+    fn melting(&self) -> T {
         self.snow_to_rain + self.graupel_to_rain
     }
 
     /// The cloud water's sinks other than evaporation (kg kg-1 s-1).
-    fn cloud_sinks(&self) -> f64 {
+    #[inline(always)]
+    fn cloud_sinks(&self) -> T {
         self.cloud_to_rain_autoconversion
             + self.cloud_to_rain_accretion
             + self.cloud_to_snow
@@ -591,7 +730,8 @@ impl Rates {
 
 /// Tendencies of one cell from its rates: d q / dt (kg kg-1 s-1, `Species`
 /// order), d n_ice / dt (kg-1 s-1) and d T / dt (K s-1) from the latent heats.
-pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
+#[inline(always)]
+pub fn tendencies<T: Lane>(s: &CellState<T>, r: &Rates<T>) -> ([T; 6], T, T) {
     let (dv, heat) = r.vapour_and_heat(r.vapour_to_cloud);
     let dc = r.vapour_to_cloud - r.cloud_sinks();
     let dr = r.cloud_to_rain_autoconversion + r.cloud_to_rain_accretion + r.cloud_to_rain_shedding
@@ -623,15 +763,13 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
     // Crystals are lost in proportion to the mass lost by conversion,
     // collection and sublimation; splinters add crystals.
     let qi = s.q[ICE];
-    let mut dn = r.splinter_number + r.frozen_droplet_number;
-    if qi > 0.0 {
-        let lost = r.ice_to_snow
-            + r.ice_to_snow_collection
-            + r.ice_to_graupel
-            + r.ice_to_graupel_by_rain
-            + (-r.vapour_to_ice).max(0.0);
-        dn -= s.n_ice / qi * lost;
-    }
+    let dn = r.splinter_number + r.frozen_droplet_number;
+    let lost = r.ice_to_snow
+        + r.ice_to_snow_collection
+        + r.ice_to_graupel
+        + r.ice_to_graupel_by_rain
+        + (-r.vapour_to_ice).max(T::splat(0.0));
+    let dn = T::select(qi.gt(T::splat(0.0)), dn - s.n_ice / qi * lost, dn);
     ([dv, dc, dr, di, ds, dg], dn, heat * (1.0 / CP_DRY))
 }
 
@@ -644,31 +782,29 @@ pub fn tendencies(s: &CellState, r: &Rates) -> ([f64; 6], f64, f64) {
 /// smooth; it only acts on species that would be exhausted within a second.
 pub const SINK_TIMESCALE: f64 = 1.0;
 
-impl Rates {
-    /// Applies the sink limiter to mixing ratios `q` (Species order).
-    pub fn limit_sinks(&mut self, q: &[f64; 6]) {
-        let q = q.map(|x| x.max(0.0));
-        let scale = |sink: f64, q: f64| {
+impl<T: Lane> Rates<T> {
+    /// Applies the sink limiter to mixing ratios `q` (Species order). A
+    /// factor of 1 leaves a rate's bits unchanged, so the factors are
+    /// applied without testing them.
+    #[inline(always)]
+    pub fn limit_sinks(&mut self, q: &[T; 6]) {
+        let zero = T::splat(0.0);
+        let q = q.map(|x| x.max(zero));
+        let scale = |sink: T, q: T| {
             let cap = q / SINK_TIMESCALE;
-            if sink > cap {
-                cap / sink
-            } else {
-                1.0
-            }
+            T::select(sink.gt(cap), cap / sink, T::splat(1.0))
         };
         // Vapour: deposition (positive parts).
-        let dep = self.vapour_to_ice.max(0.0)
-            + self.vapour_to_snow.max(0.0)
-            + self.vapour_to_graupel.max(0.0);
+        let dep = self.vapour_to_ice.max(zero)
+            + self.vapour_to_snow.max(zero)
+            + self.vapour_to_graupel.max(zero);
         let f = scale(dep, q[VAPOUR]);
         for r in [
             &mut self.vapour_to_ice,
             &mut self.vapour_to_snow,
             &mut self.vapour_to_graupel,
         ] {
-            if *r > 0.0 {
-                *r *= f;
-            }
+            *r = T::select(r.gt(zero), *r * f, *r);
         }
         // Cloud water.
         let sinks = self.cloud_to_rain_autoconversion
@@ -679,16 +815,18 @@ impl Rates {
             + self.cloud_to_ice_splinters
             + self.cloud_to_ice_freezing;
         let f = scale(sinks, q[CLOUD]);
-        if f < 1.0 {
-            self.cloud_to_ice_freezing *= f;
-            self.frozen_droplet_number *= f;
-            self.cloud_to_rain_autoconversion *= f;
-            self.cloud_to_rain_accretion *= f;
-            self.cloud_to_snow *= f;
-            self.cloud_to_graupel *= f;
-            self.cloud_to_rain_shedding *= f;
-            self.cloud_to_ice_splinters *= f;
-            self.splinter_number *= f;
+        for r in [
+            &mut self.cloud_to_ice_freezing,
+            &mut self.frozen_droplet_number,
+            &mut self.cloud_to_rain_autoconversion,
+            &mut self.cloud_to_rain_accretion,
+            &mut self.cloud_to_snow,
+            &mut self.cloud_to_graupel,
+            &mut self.cloud_to_rain_shedding,
+            &mut self.cloud_to_ice_splinters,
+            &mut self.splinter_number,
+        ] {
+            *r *= f;
         }
         // Rain.
         let f = scale(
@@ -707,39 +845,41 @@ impl Rates {
             + self.ice_to_snow_collection
             + self.ice_to_graupel
             + self.ice_to_graupel_by_rain
-            + (-self.vapour_to_ice).max(0.0);
+            + (-self.vapour_to_ice).max(zero);
         let f = scale(sinks, q[ICE]);
-        if f < 1.0 {
-            self.ice_to_snow *= f;
-            self.ice_to_snow_collection *= f;
-            self.ice_to_graupel *= f;
-            self.ice_to_graupel_by_rain *= f;
-            if self.vapour_to_ice < 0.0 {
-                self.vapour_to_ice *= f;
-            }
-        }
+        self.ice_to_snow *= f;
+        self.ice_to_snow_collection *= f;
+        self.ice_to_graupel *= f;
+        self.ice_to_graupel_by_rain *= f;
+        self.vapour_to_ice = T::select(
+            self.vapour_to_ice.lt(zero),
+            self.vapour_to_ice * f,
+            self.vapour_to_ice,
+        );
         // Snow.
         let sinks = self.snow_to_graupel
             + self.snow_to_graupel_collection
             + self.snow_to_rain
-            + (-self.vapour_to_snow).max(0.0);
+            + (-self.vapour_to_snow).max(zero);
         let f = scale(sinks, q[SNOW]);
-        if f < 1.0 {
-            self.snow_to_graupel *= f;
-            self.snow_to_graupel_collection *= f;
-            self.snow_to_rain *= f;
-            if self.vapour_to_snow < 0.0 {
-                self.vapour_to_snow *= f;
-            }
-        }
+        self.snow_to_graupel *= f;
+        self.snow_to_graupel_collection *= f;
+        self.snow_to_rain *= f;
+        self.vapour_to_snow = T::select(
+            self.vapour_to_snow.lt(zero),
+            self.vapour_to_snow * f,
+            self.vapour_to_snow,
+        );
         // Graupel.
         let f = scale(
-            self.graupel_to_rain + (-self.vapour_to_graupel).max(0.0),
+            self.graupel_to_rain + (-self.vapour_to_graupel).max(zero),
             q[GRAUPEL],
         );
         self.graupel_to_rain *= f;
-        if self.vapour_to_graupel < 0.0 {
-            self.vapour_to_graupel *= f;
-        }
+        self.vapour_to_graupel = T::select(
+            self.vapour_to_graupel.lt(zero),
+            self.vapour_to_graupel * f,
+            self.vapour_to_graupel,
+        );
     }
 }
