@@ -547,14 +547,17 @@ fn cloud_water_feeds_growing_crystals_at_a_rate_that_does_not_depend_on_the_step
 }
 
 /// The column integrates its cells in groups side by side
-/// (`integrate_cells`) and must give every cell what the cell step alone
-/// gives it, bit for bit: IEEE 754 arithmetic is exact per lane (common
-/// practice) and the groups' integrator takes the same trial step. Cells
-/// over the whole range the column meets: warm and cold, sub- and
-/// supersaturated, every mix of species, groups of every size including a
-/// short last one, both embedded integrators.
+/// (`integrate_cells`). Each cell's result must not depend on its group:
+/// the same bits whatever the group size (IEEE 754 arithmetic is exact per
+/// lane; common practice). Against the cell step alone (`step_cell`, the
+/// platform's exp, ln and cbrt where the group uses its own, within one
+/// unit in the last place of them) every variable agrees to 1e-12
+/// relative: a rounding-level difference. Cells over the whole range the
+/// column meets: warm and cold, sub- and supersaturated, every mix of
+/// species, groups of every size including a short last one, both
+/// embedded integrators.
 #[test]
-fn grouped_integration_gives_each_cell_its_own_bits() {
+fn grouped_integration_does_not_depend_on_the_group() {
     use stormcharge::physics::microphysics::params::Integrator;
     use stormcharge::physics::microphysics::{finish_cell, integrate_cells, prepare_cell};
     // A small linear congruential generator (Knuth, TAOCP vol. 2, 3.3.4,
@@ -603,6 +606,7 @@ fn grouped_integration_gives_each_cell_its_own_bits() {
         for (s, env) in &mut alone {
             step_cell(s, *env, &p, dt, &mut Default::default()).unwrap();
         }
+        let mut first: Option<Vec<(CellState, CellEnv)>> = None;
         for group_of in [cells.len(), 7, 1] {
             let mut grouped = cells.clone();
             for chunk in grouped.chunks_mut(group_of) {
@@ -627,10 +631,24 @@ fn grouped_integration_gives_each_cell_its_own_bits() {
                 }
             }
             for (k, ((a, _), (g, _))) in alone.iter().zip(&grouped).enumerate() {
-                assert_eq!(
-                    a, g,
-                    "{integrator:?}, groups of {group_of}: cell {k} differs: {a:?} against {g:?}"
-                );
+                let pairs =
+                    a.q.iter()
+                        .chain([&a.n_ice, &a.t])
+                        .zip(g.q.iter().chain([&g.n_ice, &g.t]));
+                for (x, y) in pairs {
+                    assert!(
+                        (x - y).abs() <= 1e-12 * x.abs().max(1e-20),
+                        "{integrator:?}, groups of {group_of}: cell {k}: {a:?} against {g:?}"
+                    );
+                }
+            }
+            match &first {
+                None => first = Some(grouped),
+                Some(f) => {
+                    for (k, (a, g)) in f.iter().zip(&grouped).enumerate() {
+                        assert_eq!(a, g, "{integrator:?}, groups of {group_of}: cell {k}");
+                    }
+                }
             }
         }
         // The set exercises the processes, not only dry cells.

@@ -18,5 +18,6 @@ pub mod electrostatics;
 pub mod initiation;
 pub mod ions;
 pub mod kinematics;
+pub mod lanes;
 pub mod microphysics;
 pub mod profile;

@@ -6,6 +6,8 @@
 //! (including supercooled): their Eq. (10), valid for 123 K < T < 332 K.
 //! Temperatures in K, pressures in Pa.
 
+use crate::physics::lanes::{Lane, Mask};
+
 /// Lower validity limit of the liquid formula, Murphy & Koop (2005) Eq. (10) (K).
 pub const LIQUID_T_MIN: f64 = 123.0;
 /// Upper validity limit of the liquid formula, Murphy & Koop (2005) Eq. (10) (K).
@@ -117,23 +119,8 @@ pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
 pub fn saturation_pressures_and_liquid_slope(t: f64) -> (f64, f64, f64) {
     match table_position(t) {
         Some((i, u)) => {
-            let nodes = &table()[i - 1..i + 3];
-            let w = lagrange_weights(u);
-            // d w / d u of the weights above.
-            let uu = 3.0 * u * u;
-            let dw = [
-                -(uu - 6.0 * u + 2.0) * SIXTH,
-                (uu - 4.0 * u - 1.0) * 0.5,
-                -(uu - 2.0 * u - 2.0) * 0.5,
-                (uu - 1.0) * SIXTH,
-            ];
-            let (mut ew, mut ei, mut de) = (0.0, 0.0, 0.0);
-            for ((wj, dwj), (ewj, eij)) in w.iter().zip(&dw).zip(nodes) {
-                ew += wj * ewj;
-                ei += wj * eij;
-                de += dwj * ewj;
-            }
-            (ew, ei, de * (1.0 / TABLE_STEP))
+            let n = &table()[i - 1..i + 3];
+            interpolate([n[0], n[1], n[2], n[3]], u)
         }
         None => {
             let h = 1e-4;
@@ -147,10 +134,57 @@ pub fn saturation_pressures_and_liquid_slope(t: f64) -> (f64, f64, f64) {
     }
 }
 
+/// [`saturation_pressures_and_liquid_slope`] for each lane of `t`: the
+/// table's interpolation with the lanes side by side (the same operations,
+/// so each lane has the bits of the one-cell function). A group with a lane
+/// outside the table takes the one-cell function lane by lane.
+#[inline(always)]
+pub fn saturation_pressures_and_liquid_slope_of<T: Lane>(t: T) -> (T, T, T) {
+    let x = (t - LIQUID_T_MIN) * (1.0 / TABLE_STEP);
+    let inside = x.ge(T::splat(1.0)) & x.lt(T::splat((TABLE_LEN - 2) as f64));
+    if !inside.all() {
+        return T::map2x3(t, t, |t, _| saturation_pressures_and_liquid_slope(t));
+    }
+    // As in `table_position`: the interval's index and the position in it.
+    let index = |l: usize| x.lane(l) as usize;
+    let u = x - T::from_lanes(|l| index(l) as f64);
+    let table = table();
+    let nodes: [(T, T); 4] = std::array::from_fn(|j| {
+        (
+            T::from_lanes(|l| table[index(l) - 1 + j].0),
+            T::from_lanes(|l| table[index(l) - 1 + j].1),
+        )
+    });
+    interpolate(nodes, u)
+}
+
+/// Cubic Lagrange interpolation of (e_w, e_i) between the second and the
+/// third of four table `nodes` at the fraction `u`, with the derivative of
+/// e_w (Pa, Pa, Pa K-1).
+#[inline(always)]
+fn interpolate<T: Lane>(nodes: [(T, T); 4], u: T) -> (T, T, T) {
+    let w = lagrange_weights(u);
+    // d w / d u of the weights above.
+    let uu = u * 3.0 * u;
+    let dw = [
+        -(uu - u * 6.0 + 2.0) * SIXTH,
+        (uu - u * 4.0 - 1.0) * 0.5,
+        -(uu - u * 2.0 - 2.0) * 0.5,
+        (uu - 1.0) * SIXTH,
+    ];
+    let (mut ew, mut ei, mut de) = (T::splat(0.0), T::splat(0.0), T::splat(0.0));
+    for ((wj, dwj), (ewj, eij)) in w.iter().zip(&dw).zip(nodes) {
+        ew += *wj * ewj;
+        ei += *wj * eij;
+        de += *dwj * ewj;
+    }
+    (ew, ei, de * (1.0 / TABLE_STEP))
+}
+
 /// Weights of the cubic Lagrange polynomial through the nodes at -1, 0, 1, 2
 /// (in units of the spacing) for the point u in [0, 1).
-#[inline]
-fn lagrange_weights(u: f64) -> [f64; 4] {
+#[inline(always)]
+fn lagrange_weights<T: Lane>(u: T) -> [T; 4] {
     let (um, u1, u2) = (u + 1.0, u - 1.0, u - 2.0);
     [
         -u * u1 * u2 * SIXTH,

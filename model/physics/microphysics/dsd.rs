@@ -24,8 +24,8 @@
 //! moments are then upper incomplete gamma integrals from D0, also closed
 //! forms (see [`tail_moment`]).
 
-use super::lanes::Lane;
 use crate::physics::constants::{RHO_AIR_SEA_LEVEL, RHO_ICE, RHO_WATER};
+use crate::physics::lanes::Lane;
 
 /// Gamma function for x > 0 by the Lanczos approximation (g = 7, 9 terms;
 /// Press et al., Numerical Recipes, 3rd ed., sec. 6.1), relative accuracy

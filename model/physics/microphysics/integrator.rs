@@ -26,7 +26,7 @@
 //! the pair. The first trial step is the whole interval. Everything lives in
 //! fixed-size arrays on the stack: no allocation per cell or step.
 
-use super::lanes::Lane;
+use crate::physics::lanes::Lane;
 
 /// An explicit embedded Runge-Kutta pair of `S` stages with the
 /// first-same-as-last property (its last row of `a` equals `b`).

@@ -20,14 +20,13 @@
 pub mod adjust;
 pub mod dsd;
 pub mod integrator;
-pub mod lanes;
 pub mod params;
 pub mod prescribed;
 pub mod rates;
 pub mod species;
 
+use crate::physics::lanes::{Cells, CellsMask, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
-use lanes::{Cells, CellsMask, Lane, Mask, WIDTH};
 use ode_solvers::{Dopri5, OutputType, SVector, System};
 use params::{Integrator, MicroParams};
 use rates::{CellEnv, CellState};
@@ -288,7 +287,7 @@ pub fn prepare_cell(
 
 /// Integrates the processes of the prepared cells `cells` (each with its
 /// environment and report) over `dt` s, [`WIDTH`] at a time: the rates of a
-/// group are evaluated side by side ([`lanes`]) and the group takes the
+/// group are evaluated side by side ([`crate::physics::lanes`]) and the group takes the
 /// integrator's first trial step, the whole `dt`, together. A cell whose
 /// trial is rejected (rare: about 3 % of the demo's integrations) is
 /// integrated again on its own, which repeats that trial and goes on with

@@ -11,14 +11,14 @@
 //! Schmidt number 0.6.
 
 use super::dsd::{self, Exponential};
-use super::lanes::{Cells, Lane, Mask, WIDTH};
 use super::params::MicroParams;
 use super::species::Species;
-use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope;
+use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope_of;
 use crate::physics::constants::{
     CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_ICE,
     RHO_VAPOUR_SAT_T0, RHO_WATER, R_VAPOUR, T_MELT,
 };
+use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 
 /// Thermal conductivity of air K_a (J m-1 s-1 K-1), LFO83.
@@ -201,15 +201,18 @@ pub fn saturation_ratios(t: f64, p: f64) -> (f64, f64) {
 /// eps p (de_w/dT)/(p - e_w)^2 (the derivative of the same definition),
 /// zero where e_w is capped at p/2.
 pub fn saturation_ratios_and_slope(t: f64, p: f64) -> (f64, f64, f64) {
-    let (ew, ei, dew) = saturation_pressures_and_liquid_slope(t);
-    let slope = if ew < 0.5 * p {
-        let inv = 1.0 / (p - ew);
-        EPSILON * p * inv * inv * dew
-    } else {
-        0.0
-    };
-    let (ew, ei) = (ew.min(0.5 * p), ei.min(0.5 * p));
-    (EPSILON * ew / (p - ew), EPSILON * ei / (p - ei), slope)
+    saturation_ratios_and_slope_of(t, p)
+}
+
+/// [`saturation_ratios_and_slope`] for each lane (the same bits).
+#[inline(always)]
+fn saturation_ratios_and_slope_of<T: Lane>(t: T, p: T) -> (T, T, T) {
+    let (ew, ei, dew) = saturation_pressures_and_liquid_slope_of(t);
+    let half = p * 0.5;
+    let inv = T::splat(1.0) / (p - ew);
+    let slope = T::select(ew.lt(half), p * EPSILON * inv * inv * dew, T::splat(0.0));
+    let (ew, ei) = (ew.min(half), ei.min(half));
+    (ew * EPSILON / (p - ew), ei * EPSILON / (p - ei), slope)
 }
 
 /// Hallett & Mossop (1974) splinter efficiency: 0 warmer than -3 degC and
@@ -298,7 +301,7 @@ pub fn rates_of<T: Lane>(s: &CellState<T>, env: &CellEnv<T>, p: &MicroParams) ->
     let t = s.t;
     let rho = env.rho;
     let cold = t.lt(T::splat(T_MELT));
-    let (qsw, qsi, qsw_slope) = T::map2x3(t, env.p, saturation_ratios_and_slope);
+    let (qsw, qsi, qsw_slope) = saturation_ratios_and_slope_of(t, env.p);
     let (rain, snow, graupel): (&Exponential, &Exponential, &Exponential) =
         (&p.rain, &p.snow, &p.graupel);
     // Slopes and their powers once per evaluation: they feed every integral
