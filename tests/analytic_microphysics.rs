@@ -620,11 +620,7 @@ fn grouped_integration_does_not_depend_on_the_group() {
                         moving.push(i);
                     }
                 }
-                let mut packed: Vec<_> = moving.iter().map(|&i| work[i]).collect();
-                integrate_cells(&mut packed, &p, dt).unwrap();
-                for (&i, cell) in moving.iter().zip(&packed) {
-                    work[i] = *cell;
-                }
+                integrate_cells(&mut work, &moving, &p, dt).unwrap();
                 for ((s, _), (w, env, report)) in chunk.iter_mut().zip(&mut work) {
                     finish_cell(w, *env, report).unwrap();
                     *s = *w;

@@ -39,28 +39,24 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
             let mut scratch = std::mem::take(&mut state.micro_scratch);
             scratch.cells.clear();
             scratch.moving.clear();
-            scratch.moving_index.clear();
             for (k, &env) in exp.cell_env.iter().enumerate() {
                 let mut cell = CellState {
                     q: Species::ALL.map(|sp| state.q[sp.index()][k]),
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * env.exner,
                 };
-                let mut report = CellReport::default();
-                if prepare_cell(&mut cell, env, params, &mut report) {
-                    scratch.moving.push((cell, env, report));
-                    scratch.moving_index.push(k);
+                scratch.cells.push((cell, env, CellReport::default()));
+                let report = &mut scratch.cells[k].2;
+                if prepare_cell(&mut cell, env, params, report) {
+                    scratch.moving.push(k);
                 }
-                scratch.cells.push((cell, env, report));
+                scratch.cells[k].0 = cell;
             }
-            let integrated = integrate_cells(&mut scratch.moving, params, dt);
-            if let Err((i, message)) = integrated {
-                let k = scratch.moving_index[i];
+            if let Err((k, message)) =
+                integrate_cells(&mut scratch.cells, &scratch.moving, params, dt)
+            {
                 state.micro_scratch = scratch;
                 return Err(fail(state, k, message));
-            }
-            for (&k, moved) in scratch.moving_index.iter().zip(&scratch.moving) {
-                scratch.cells[k] = *moved;
             }
             for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
                 if let Err(message) = finish_cell(cell, *env, report) {

@@ -344,46 +344,89 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         dt,
     );
     let d = &sc.diffusion;
-    d.apply(
-        &mut state.potential_temperature,
-        Some(&base.potential_temperature),
+    // The potential temperature and the vapour mix as departures from the
+    // base state; every field of a step shares the matrix, so they are
+    // swept four at a time (`Diffusion::apply_all`, the same bits).
+    let departures = [
+        (
+            &mut state.potential_temperature,
+            &base.potential_temperature,
+        ),
+        (&mut state.q[Species::Vapour.index()], &base.vapour),
+    ];
+    for (x, env) in departures {
+        for (v, e) in x.iter_mut().zip(env) {
+            *v -= e;
+        }
+    }
+    d.apply_all(
+        std::iter::once(state.potential_temperature.as_mut_slice())
+            .chain(state.q.iter_mut().map(|q| q.as_mut_slice()))
+            .chain(std::iter::once(state.n_ice.as_mut_slice())),
     );
-    for sp in Species::ALL {
-        let env = (sp == Species::Vapour).then_some(base.vapour.as_slice());
-        d.apply(&mut state.q[sp.index()], env);
+    for (x, env) in [
+        (
+            &mut state.potential_temperature,
+            &base.potential_temperature,
+        ),
+        (&mut state.q[Species::Vapour.index()], &base.vapour),
+    ] {
+        for (v, e) in x.iter_mut().zip(env) {
+            *v += e;
+        }
     }
-    d.apply(&mut state.n_ice, None);
     // Per-volume fields (charge densities, ion numbers) mix as amounts per
-    // kilogram of air, like the specific quantities.
-    let per_mass = |x: &mut [f64], work: &mut [f64]| {
-        for (f, (v, cell)) in work.iter_mut().zip(x.iter().zip(&exp.cell_env)) {
-            *f = v * cell.inv_rho;
-        }
-        d.apply(work, None);
-        for (v, (f, r)) in x.iter_mut().zip(work.iter().zip(&base.density)) {
-            *v = f * r;
-        }
-    };
+    // kilogram of air, like the specific quantities. The ions mix as
+    // concentrations, not as departures from the clear air's profile:
+    // backward Euler keeps a non-negative field non-negative only in that
+    // form. Mixed as departures, a layer the charged particles had stripped
+    // of one sign went negative where the clear-air profile curves
+    // (measured on the demo at 50 m), and the ion balance then clipped it
+    // to zero, losing charge that no budget term held. The clear-air
+    // profile itself is kept by production and recombination within
+    // minutes, far faster than mixing at K ~ 100 m2 s-1 changes it over
+    // its kilometres.
     let ions_on = exp.ions.enabled;
-    for c in Carrier::ALL
-        .iter()
-        .filter(|c| c.advected() && !(ions_on && **c == Carrier::Ions))
-    {
-        per_mass(&mut state.charge[c.index()], &mut sc.field);
-    }
+    let mixed = |c: usize| {
+        let c = Carrier::ALL[c];
+        c.advected() && !(ions_on && c == Carrier::Ions)
+    };
+    let per_volume =
+        |charge: &mut Vec<Vec<f64>>, ions: &mut [Vec<f64>; 2], f: &dyn Fn(&mut f64, usize)| {
+            for x in charge
+                .iter_mut()
+                .enumerate()
+                .filter(|(c, _)| mixed(*c))
+                .map(|(_, x)| x)
+                .chain(ions.iter_mut().filter(|_| ions_on))
+            {
+                for (k, v) in x.iter_mut().enumerate() {
+                    f(v, k);
+                }
+            }
+        };
+    per_volume(&mut state.charge, &mut state.n_ion, &|v, k| {
+        *v *= exp.cell_env[k].inv_rho
+    });
+    d.apply_all(
+        state
+            .charge
+            .iter_mut()
+            .enumerate()
+            .filter(|(c, _)| mixed(*c))
+            .map(|(_, x)| x.as_mut_slice())
+            .chain(
+                state
+                    .n_ion
+                    .iter_mut()
+                    .filter(|_| ions_on)
+                    .map(|x| x.as_mut_slice()),
+            ),
+    );
+    per_volume(&mut state.charge, &mut state.n_ion, &|v, k| {
+        *v *= base.density[k]
+    });
     if ions_on {
-        // The ions mix as concentrations, not as departures from the clear
-        // air's profile: backward Euler keeps a non-negative field
-        // non-negative only in that form. Mixed as departures, a layer the
-        // charged particles had stripped of one sign went negative where
-        // the clear-air profile curves (measured on the demo at 50 m), and
-        // the ion balance then clipped it to zero, losing charge that no
-        // budget term held. The clear-air profile itself is kept by
-        // production and recombination within minutes, far faster than
-        // mixing at K ~ 100 m2 s-1 changes it over its kilometres.
-        for ions in state.n_ion.iter_mut() {
-            per_mass(ions, &mut sc.field);
-        }
         crate::column::ions::set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
     }
 }

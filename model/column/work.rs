@@ -35,13 +35,11 @@ impl TransportScratch {
 /// Work arrays of the bulk microphysics, with room for every cell
 /// (allocated once with the state): each cell's variables, environment and
 /// step report between its preparation, the grouped integration and its
-/// finish, and the cells whose rates must be integrated, packed together
-/// with their indices.
+/// finish, and the indices of the cells whose rates must be integrated.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct MicroScratch {
     pub(crate) cells: Vec<(CellState, CellEnv, CellReport)>,
-    pub(crate) moving: Vec<(CellState, CellEnv, CellReport)>,
-    pub(crate) moving_index: Vec<usize>,
+    pub(crate) moving: Vec<usize>,
 }
 
 impl MicroScratch {
@@ -49,7 +47,6 @@ impl MicroScratch {
         MicroScratch {
             cells: Vec::with_capacity(n),
             moving: Vec::with_capacity(n),
-            moving_index: Vec::with_capacity(n),
         }
     }
 }

@@ -101,18 +101,52 @@ impl Diffusion {
                 *v -= e;
             }
         }
-        // Forward sweep, then back substitution, in place.
-        let mut previous = 0.0;
-        for ((v, lower), pivot) in x.iter_mut().zip(&self.lower).zip(&self.pivot) {
-            *v = (*v - lower * previous) * pivot;
-            previous = *v;
-        }
-        for i in (0..n.saturating_sub(1)).rev() {
-            x[i] -= self.upper[i] * x[i + 1];
-        }
+        self.apply_together([&mut *x]);
         if let Some(e) = env {
             for (v, e) in x.iter_mut().zip(e) {
                 *v += e;
+            }
+        }
+    }
+
+    /// Diffuses `W` fields (specific quantities without an environment
+    /// profile) over the factorised step together: the forward and back
+    /// sweeps of the Thomas algorithm are chains from cell to cell, so
+    /// sweeping several fields in one pass lets the processor overlap
+    /// their chains. Each field gets the bits [`Self::apply`] gives it.
+    pub fn apply_together<const W: usize>(&self, xs: [&mut [f64]; W]) {
+        let n = self.pivot.len();
+        for x in &xs {
+            debug_assert_eq!(x.len(), n);
+        }
+        let mut xs = xs;
+        // Forward sweep, then back substitution, in place.
+        let mut previous = [0.0; W];
+        for i in 0..n {
+            let (lower, pivot) = (self.lower[i], self.pivot[i]);
+            for (x, p) in xs.iter_mut().zip(&mut previous) {
+                x[i] = (x[i] - lower * *p) * pivot;
+                *p = x[i];
+            }
+        }
+        for i in (0..n.saturating_sub(1)).rev() {
+            let upper = self.upper[i];
+            for x in xs.iter_mut() {
+                x[i] -= upper * x[i + 1];
+            }
+        }
+    }
+
+    /// [`Self::apply_together`] over any number of fields, four at a time.
+    pub fn apply_all<'a>(&self, fields: impl Iterator<Item = &'a mut [f64]>) {
+        let mut fields = fields.fuse();
+        loop {
+            match (fields.next(), fields.next(), fields.next(), fields.next()) {
+                (Some(a), Some(b), Some(c), Some(d)) => self.apply_together([a, b, c, d]),
+                (Some(a), Some(b), Some(c), None) => self.apply_together([a, b, c]),
+                (Some(a), Some(b), None, _) => self.apply_together([a, b]),
+                (Some(a), None, _, _) => self.apply_together([a]),
+                _ => return,
             }
         }
     }

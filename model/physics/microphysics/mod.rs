@@ -285,8 +285,9 @@ pub fn prepare_cell(
     has_condensate && !only_light_cloud
 }
 
-/// Integrates the processes of the prepared cells `cells` (each with its
-/// environment and report) over `dt` s, [`WIDTH`] at a time: the rates of a
+/// Integrates the processes of the prepared cells `cells[k]` for k in
+/// `which` (each cell with its environment and report) over `dt` s,
+/// [`WIDTH`] at a time: the rates of a
 /// group are evaluated side by side ([`crate::physics::lanes`]) and the group takes the
 /// integrator's first trial step, the whole `dt`, together. A cell whose
 /// trial is rejected (rare: about 3 % of the demo's integrations) is
@@ -296,6 +297,7 @@ pub fn prepare_cell(
 /// are dropped.
 pub fn integrate_cells(
     cells: &mut [(CellState, CellEnv, CellReport)],
+    which: &[usize],
     p: &MicroParams,
     dt: f64,
 ) -> Result<(), (usize, String)> {
@@ -303,9 +305,9 @@ pub fn integrate_cells(
     if std::arch::is_x86_feature_detected!("avx2") {
         // SAFETY: the processor has AVX2, the only requirement of the
         // function's target feature.
-        return unsafe { integrate_cells_avx2(cells, p, dt) };
+        return unsafe { integrate_cells_avx2(cells, which, p, dt) };
     }
-    integrate_cells_with(cells, p, dt, evaluate::<Cells>)
+    integrate_cells_with(cells, which, p, dt, evaluate::<Cells>)
 }
 
 /// The rates of a group ([`evaluate`]) compiled for AVX2.
@@ -330,12 +332,13 @@ unsafe fn evaluate_avx2(
 #[target_feature(enable = "avx2")]
 unsafe fn integrate_cells_avx2(
     cells: &mut [(CellState, CellEnv, CellReport)],
+    which: &[usize],
     p: &MicroParams,
     dt: f64,
 ) -> Result<(), (usize, String)> {
     // Closures do not take on the caller's target features, so the rate
     // function is called through its own AVX2 build.
-    integrate_cells_with(cells, p, dt, |y, env, p, dy, w| {
+    integrate_cells_with(cells, which, p, dt, |y, env, p, dy, w| {
         // SAFETY: this function runs only where the processor has AVX2.
         unsafe { evaluate_avx2(y, env, p, dy, w) }
     })
@@ -346,6 +349,7 @@ unsafe fn integrate_cells_avx2(
 #[inline(always)]
 fn integrate_cells_with(
     cells: &mut [(CellState, CellEnv, CellReport)],
+    which: &[usize],
     p: &MicroParams,
     dt: f64,
     eval: impl Fn(
@@ -360,12 +364,12 @@ fn integrate_cells_with(
         relative: p.rtol,
         absolute: p.atol,
     };
-    for (g, group) in cells.chunks_mut(WIDTH).enumerate() {
-        let lane = |i: usize| i.min(group.len() - 1);
+    for group in which.chunks(WIDTH) {
+        let lane = |i: usize| group[i.min(group.len() - 1)];
         let y0 = std::array::from_fn::<_, 8, _>(|v| {
-            Cells(std::array::from_fn(|i| state_vector(&group[lane(i)].0)[v]))
+            Cells(std::array::from_fn(|i| state_vector(&cells[lane(i)].0)[v]))
         });
-        let env = CellEnv::gather(std::array::from_fn(|i| &group[lane(i)].1));
+        let env = CellEnv::gather(std::array::from_fn(|i| &cells[lane(i)].1));
         let mut first = (
             [Cells::default(); 8],
             [Cells::default(); rates::N_TRANSFERS],
@@ -390,17 +394,18 @@ fn integrate_cells_with(
             // The reference integrator takes every cell on its own.
             Integrator::OdeSolversDopri5 => (!moving, y0, first.1),
         };
-        for (i, (cell, env, report)) in group.iter_mut().enumerate() {
+        for (i, &k) in group.iter().enumerate() {
             if !moving.get(i) {
                 continue;
             }
+            let (cell, env, report) = &mut cells[k];
             if accepted.get(i) {
                 *cell = cell_of(y.map(|v| v.0[i]));
                 report.transfers = integrals.map(|v| v.0[i]);
             } else {
                 let one = (first.0.map(|v| v.0[i]), first.1.map(|v| v.0[i]));
                 let end = integrate_cell(state_vector(cell), one, *env, p, dt, report)
-                    .map_err(|e| (g * WIDTH + i, e))?;
+                    .map_err(|e| (k, e))?;
                 *cell = cell_of(end);
             }
         }
