@@ -72,6 +72,38 @@ fn coulomb_factor_limits() {
     assert!(rel(coulomb_factor(1.0), 1.0 / (std::f64::consts::E - 1.0)) < 1e-15);
 }
 
+/// The Coulomb factor the column evaluates for four cells at once (Bernoulli
+/// series below 1/2, x/(e^x - 1) above; `coulomb_factor_nonnegative`)
+/// against the one-cell form with the platform's `expm1`
+/// (`coulomb_factor`), for one cell and for a group, from 0 to beyond the
+/// overflow of e^x: within 4 units in the last place (the group's exp is
+/// within one of the platform's, the subtraction e^x - 1 >= 0.64 loses at
+/// most two bits, the division one; analytic error bound).
+#[test]
+fn coulomb_factor_of_groups_within_rounding() {
+    use stormcharge::physics::ions::attachment::coulomb_factor_nonnegative;
+    use stormcharge::physics::lanes::Cells;
+    let mut worst = 0.0f64;
+    let mut xs: Vec<f64> = (0..4000).map(|i| 1e-12 * 1.01f64.powi(i)).collect();
+    xs.extend((0..8000).map(|i| i as f64 * 0.1));
+    xs.extend([0.0, 0.5, 0.5f64.next_down(), 700.0, 700.5, 745.0, 800.0]);
+    for x in xs {
+        let want = coulomb_factor(x);
+        let one = coulomb_factor_nonnegative(x);
+        let group = coulomb_factor_nonnegative(Cells([x, 0.3, 2.0, 750.0])).0[0];
+        for got in [one, group] {
+            let ulp = f64::from_bits(want.to_bits() + 1) - want;
+            let err = if want == 0.0 {
+                got.abs() / f64::MIN_POSITIVE
+            } else {
+                (got - want).abs() / ulp
+            };
+            worst = worst.max(err);
+        }
+    }
+    assert!(worst <= 4.0, "worst {worst} units in the last place");
+}
+
 #[test]
 fn strongly_charged_sphere_takes_ions_at_the_conduction_rate() {
     // For large attracting charge the diffusion rate with its Coulomb
@@ -277,10 +309,10 @@ fn coulomb_pair_equals_both_factors() {
     // x e^x/(e^x - 1)); the pair from one exponential must match the two
     // factors computed apart to rounding over attracting and repelling
     // charges of every size.
-    use stormcharge::physics::ions::attachment::coulomb_pair;
+    use stormcharge::physics::ions::attachment::coulomb_pair_of;
     for i in -400..=400 {
         let x = 0.05 * i as f64 * (1.0 + 1e-3 * i as f64);
-        let (p, m) = coulomb_pair(x);
+        let (p, m) = coulomb_pair_of(x);
         for (got, want) in [(p, coulomb_factor(x)), (m, coulomb_factor(-x))] {
             assert!(
                 (got - want).abs() <= 1e-13 * want.max(1e-300),

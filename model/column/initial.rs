@@ -69,6 +69,7 @@ impl State {
                 IonScratch {
                     flux_pos: vec![0.0; n + 1],
                     flux_neg: vec![0.0; n + 1],
+                    attachment: vec![[(0.0, 0.0); 5]; n],
                 }
             } else {
                 IonScratch::default()

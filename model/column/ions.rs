@@ -7,11 +7,11 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
-use crate::physics::constants::{ELEMENTARY_CHARGE, RHO_WATER};
-use crate::physics::ions::attachment::population_rates;
+use crate::physics::constants::{ELEMENTARY_CHARGE, RHO_ICE, RHO_WATER};
+use crate::physics::ions::attachment::population_rates_of;
+use crate::physics::ions::balance_step;
 use crate::physics::ions::conduction::{drift, DriftColumn};
-use crate::physics::ions::{balance_step, IonColumn};
-use crate::physics::microphysics::dsd;
+use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 use std::f64::consts::PI;
@@ -48,45 +48,91 @@ pub fn set_carrier(charge: &mut [f64], n_ion: &[Vec<f64>; 2]) {
     }
 }
 
-/// Number (m-3), mean radius (m) and mean charge (C) of the particles of
-/// `sp` in cell `k`, when the species is present.
-fn population(
-    exp: &Experiment,
-    ions: &IonColumn,
-    state: &State,
-    sp: Species,
-    k: usize,
-) -> Option<(f64, f64, f64)> {
-    let q = state.q[sp.index()][k];
-    if q <= PRESENT {
-        return None;
+/// The attachment rates (s-1) of positive and negative ions to every
+/// hydrometeor population of every cell (`out[k]`, `Species::HYDROMETEORS`
+/// order; zero where a species is absent), four cells side by side
+/// ([`crate::physics::lanes`]): each population's number, mean radius and
+/// mean charge, then [`population_rates_of`]. An AVX2 build is chosen at
+/// run time.
+fn attachment_rates(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, the only requirement of the
+        // function's target feature.
+        return unsafe { attachment_rates_avx2(exp, state, out) };
     }
-    let rho = exp.base.centre.density[k];
+    attachment_rates_with(exp, state, out)
+}
+
+/// [`attachment_rates`] compiled for AVX2 (without fused multiply-add).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn attachment_rates_avx2(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
+    attachment_rates_with(exp, state, out)
+}
+
+#[inline(always)]
+fn attachment_rates_with(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
+    let ions = &exp.ions;
     let f = exp.micro_params();
-    let (number, radius) = match sp {
-        Species::Cloud => {
-            let nc = ions.cloud_droplet_number;
-            (nc, (3.0 * rho * q / (4.0 * PI * RHO_WATER * nc)).cbrt())
-        }
-        Species::Ice => {
-            let n = state.n_ice[k];
-            if n <= 0.0 {
-                return None;
+    let n = out.len();
+    let zero = Cells::splat(0.0);
+    for first in (0..n).step_by(WIDTH) {
+        // A short last group repeats its last cell; those lanes are dropped.
+        let cell = |i: usize| (first + i).min(n - 1);
+        let each = |x: &[f64]| Cells::from_lanes(|i| x[cell(i)]);
+        let t = Cells::from_lanes(|i| state.temperature(exp, cell(i)));
+        let rho = each(&exp.base.centre.density);
+        let mu = (each(&ions.mu_pos), each(&ions.mu_neg));
+        for (s, sp) in Species::HYDROMETEORS.iter().enumerate() {
+            let q = each(&state.q[sp.index()]);
+            let mut some = q.gt(Cells::splat(PRESENT));
+            let (number, radius) = match sp {
+                Species::Cloud => {
+                    let nc = ions.cloud_droplet_number;
+                    let volume = rho * 3.0 * q / (4.0 * PI * RHO_WATER * nc);
+                    (Cells::splat(nc), volume.cbrt())
+                }
+                Species::Ice => {
+                    let n_ice = each(&state.n_ice);
+                    some = some & n_ice.gt(zero);
+                    // 0.5 (6 m / (pi rho_ice))^(1/3), m = q/n
+                    // (`dsd::ice::diameter`).
+                    let d = (q / n_ice * 6.0 / (PI * RHO_ICE)).cbrt();
+                    (rho * n_ice, d * 0.5)
+                }
+                Species::Rain | Species::Snow | Species::Graupel => match f.exponential(*sp) {
+                    Some(dist) => {
+                        // Exponential N0 e^(-lambda D): N = N0/lambda, mean
+                        // radius 1/(2 lambda), so N <r> is the exact first
+                        // moment the diffusion rate integrates.
+                        let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
+                        (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
+                    }
+                    None => {
+                        some = some & !some;
+                        (zero, zero)
+                    }
+                },
+                Species::Vapour => unreachable!("not a hydrometeor"),
+            };
+            if !some.any() {
+                for o in out[first..(first + WIDTH).min(n)].iter_mut() {
+                    o[s] = (0.0, 0.0);
+                }
+                continue;
             }
-            (rho * n, 0.5 * dsd::ice::diameter(q, n))
+            let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
+            let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
+            let (pos, neg) = (
+                Cells::select(some, pos, zero),
+                Cells::select(some, neg, zero),
+            );
+            for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+                o[s] = (pos.0[i], neg.0[i]);
+            }
         }
-        Species::Rain | Species::Snow | Species::Graupel => {
-            let dist = f.exponential(sp)?;
-            // Exponential N0 e^(-lambda D): N = N0/lambda, mean radius
-            // 1/(2 lambda), so N <r> is the exact first moment the
-            // diffusion rate integrates.
-            let lambda = dist.slope(rho, q);
-            (dist.n0 / lambda, 0.5 / lambda)
-        }
-        Species::Vapour => return None,
-    };
-    let charge = state.charge[Carrier::of(sp).index()][k] / number;
-    Some((number, radius, charge))
+    }
 }
 
 /// The ion balance and the drift over one step of `dt` s.
@@ -99,18 +145,13 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     // initial state and the reconcile that ends each step), so the step
     // starts from consistent ions.
     let e = ELEMENTARY_CHARGE;
-    let n = exp.grid.len();
-    for k in 0..n {
-        let t = state.temperature(exp, k);
-        let mu = (ions.mu_pos[k], ions.mu_neg[k]);
-        let mut rates = [(0.0, 0.0); Species::HYDROMETEORS.len()];
+    let mut attachment = std::mem::take(&mut state.ion_scratch.attachment);
+    attachment_rates(exp, state, &mut attachment);
+    for (k, rates) in attachment.iter().enumerate() {
         let (mut loss_pos, mut loss_neg) = (ions.aerosol_sink[k], ions.aerosol_sink[k]);
-        for (i, sp) in Species::HYDROMETEORS.iter().enumerate() {
-            if let Some((number, radius, charge)) = population(exp, ions, state, *sp, k) {
-                rates[i] = population_rates(mu, t, number, radius, charge);
-                loss_pos += rates[i].0;
-                loss_neg += rates[i].1;
-            }
+        for r in rates {
+            loss_pos += r.0;
+            loss_neg += r.1;
         }
         let b = balance_step(
             state.n_ion[0][k],
@@ -158,6 +199,7 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
         state.n_ion[0][k] = b.positive;
         state.n_ion[1][k] = b.negative;
     }
+    state.ion_scratch.attachment = attachment;
     let [np, nn] = &mut state.n_ion;
     let mut col = DriftColumn {
         n_pos: np,

@@ -105,6 +105,9 @@ pub struct InitiationScratch {
 pub struct IonScratch {
     pub(crate) flux_pos: Vec<f64>,
     pub(crate) flux_neg: Vec<f64>,
+    /// Attachment rates (s-1) of positive and negative ions to each
+    /// hydrometeor species (`Species::HYDROMETEORS` order) in each cell.
+    pub(crate) attachment: Vec<[(f64, f64); 5]>,
 }
 
 /// Water entering and leaving the column (kg m-2, accumulated).

@@ -222,6 +222,12 @@ impl Exponential {
         (self.k.mass_per_slope / (rho * q)).sqrt().sqrt()
     }
 
+    /// [`Self::slope`] lane by lane for mixing ratios known to be positive.
+    #[inline(always)]
+    pub fn slope_of<T: Lane>(&self, rho: T, q: T) -> T {
+        (T::splat(self.k.mass_per_slope) / (rho * q)).sqrt().sqrt()
+    }
+
     /// The slope and the powers of it that the integrals need, or `None`
     /// without mass. One `powf` per species and evaluation: the other powers
     /// follow by multiplication and square roots (lambda^(3+b) = lambda^3
