@@ -20,7 +20,7 @@
 //! Meteorology, "combination coefficient").
 
 use crate::physics::constants::{BOLTZMANN, ELEMENTARY_CHARGE, EPSILON_0};
-use crate::physics::lanes::Lane;
+use crate::physics::lanes::{Lane, Mask};
 use std::f64::consts::PI;
 
 /// Diffusion coefficient (m2 s-1) of an ion of mobility `mu` (m2 V-1 s-1)
@@ -68,13 +68,20 @@ pub fn coulomb_factor_nonnegative<T: Lane>(a: T) -> T {
     }
     let series = series * z - a * 0.5 + 1.0;
     let small = a.lt(T::splat(0.5));
+    if !(!small).any() {
+        return series;
+    }
     let large = a.gt(T::splat(700.0));
     // Clamped so that no lane overflows; each branch is kept only where it
     // applies.
     let moderate = a.min(T::splat(700.0));
     let direct = moderate / (moderate.exp() - 1.0);
-    let tail = a * (-a).exp();
-    T::select(small, series, T::select(large, tail, direct))
+    let beyond = if large.any() {
+        T::select(large, a * (-a).exp(), direct)
+    } else {
+        direct
+    };
+    T::select(small, series, beyond)
 }
 
 /// The Coulomb factors f(x) and f(-x) of [`coulomb_factor`] (for the
