@@ -25,7 +25,7 @@
 //! forms (see [`tail_moment`]).
 
 use crate::physics::constants::{RHO_AIR_SEA_LEVEL, RHO_ICE, RHO_WATER};
-use crate::physics::lanes::Lane;
+use crate::physics::lanes::{Lane, Mask};
 
 /// Gamma function for x > 0 by the Lanczos approximation (g = 7, 9 terms;
 /// Press et al., Numerical Recipes, 3rd ed., sec. 6.1), relative accuracy
@@ -240,11 +240,22 @@ impl Exponential {
     }
 
     /// [`Self::slope_powers`] for each lane, with whether the lane holds
-    /// mass; lanes without mass get the powers of q = 1 kg kg-1 (finite
-    /// placeholders that the caller's mask discards).
+    /// mass; lanes without mass get the powers of q = 1 kg kg-1, or ones
+    /// when no lane holds mass (finite placeholders that the caller's mask
+    /// discards).
     #[inline(always)]
     pub fn slope_powers_masked<T: Lane>(&self, rho: T, q: T) -> (T::Mask, SlopePowers<T>) {
         let present = q.gt(T::splat(0.0));
+        if !present.any() {
+            // No lane uses them: finite placeholders without the powers' cost.
+            let one = T::splat(1.0);
+            let placeholder = SlopePowers {
+                lambda: one,
+                lambda_b: one,
+                tail: one,
+            };
+            return (present, placeholder);
+        }
         let q = T::select(present, q, T::splat(1.0));
         (present, self.powers_of(rho, q))
     }
