@@ -92,13 +92,7 @@ fn coulomb_factor_of_groups_within_rounding() {
         let one = coulomb_factor_nonnegative(x);
         let group = coulomb_factor_nonnegative(Cells([x, 0.3, 2.0, 750.0])).0[0];
         for got in [one, group] {
-            let ulp = f64::from_bits(want.to_bits() + 1) - want;
-            let err = if want == 0.0 {
-                got.abs() / f64::MIN_POSITIVE
-            } else {
-                (got - want).abs() / ulp
-            };
-            worst = worst.max(err);
+            worst = worst.max(ulps(got, want));
         }
     }
     assert!(worst <= 4.0, "worst {worst} units in the last place");

@@ -560,15 +560,7 @@ fn cloud_water_feeds_growing_crystals_at_a_rate_that_does_not_depend_on_the_step
 fn grouped_integration_does_not_depend_on_the_group() {
     use stormcharge::physics::microphysics::params::Integrator;
     use stormcharge::physics::microphysics::{finish_cell, integrate_cells, prepare_cell};
-    // A small linear congruential generator (Knuth, TAOCP vol. 2, 3.3.4,
-    // MMIX constants) keeps the cells reproducible without a dependency.
-    let mut seed: u64 = 12345;
-    let mut uniform = move || {
-        seed = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        (seed >> 11) as f64 / (1u64 << 53) as f64
-    };
+    let mut uniform = uniform_stream(12345);
     for integrator in [
         Integrator::BogackiShampine1989,
         Integrator::DormandPrince1980,

@@ -7,11 +7,12 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
-use crate::physics::constants::{ELEMENTARY_CHARGE, RHO_ICE, RHO_WATER};
+use crate::physics::constants::{ELEMENTARY_CHARGE, RHO_WATER};
 use crate::physics::ions::attachment::population_rates_of;
 use crate::physics::ions::balance_step;
 use crate::physics::ions::conduction::{drift, DriftColumn};
 use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
+use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 use std::f64::consts::PI;
@@ -96,38 +97,32 @@ fn attachment_rates_with(exp: &Experiment, state: &State, out: &mut [[(f64, f64)
                 Species::Ice => {
                     let n_ice = each(&state.n_ice);
                     some = some & n_ice.gt(zero);
-                    // 0.5 (6 m / (pi rho_ice))^(1/3), m = q/n
-                    // (`dsd::ice::diameter`).
-                    let d = (q / n_ice * 6.0 / (PI * RHO_ICE)).cbrt();
-                    (rho * n_ice, d * 0.5)
+                    (rho * n_ice, dsd::ice::diameter_of(q, n_ice) * 0.5)
                 }
-                Species::Rain | Species::Snow | Species::Graupel => match f.exponential(*sp) {
-                    Some(dist) => {
-                        // Exponential N0 e^(-lambda D): N = N0/lambda, mean
-                        // radius 1/(2 lambda), so N <r> is the exact first
-                        // moment the diffusion rate integrates.
-                        let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
-                        (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
-                    }
-                    None => {
-                        some = some & !some;
-                        (zero, zero)
-                    }
-                },
-                Species::Vapour => unreachable!("not a hydrometeor"),
+                Species::Rain | Species::Snow | Species::Graupel => {
+                    let dist = match sp {
+                        Species::Rain => &f.rain,
+                        Species::Snow => &f.snow,
+                        _ => &f.graupel,
+                    };
+                    // Exponential N0 e^(-lambda D): N = N0/lambda, mean
+                    // radius 1/(2 lambda), so N <r> is the exact first
+                    // moment the diffusion rate integrates.
+                    let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
+                    (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
+                }
+                Species::Vapour => unreachable!("the hydrometeors hold no vapour"),
             };
-            if !some.any() {
-                for o in out[first..(first + WIDTH).min(n)].iter_mut() {
-                    o[s] = (0.0, 0.0);
-                }
-                continue;
-            }
-            let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
-            let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
-            let (pos, neg) = (
-                Cells::select(some, pos, zero),
-                Cells::select(some, neg, zero),
-            );
+            let (pos, neg) = if some.any() {
+                let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
+                let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
+                (
+                    Cells::select(some, pos, zero),
+                    Cells::select(some, neg, zero),
+                )
+            } else {
+                (zero, zero)
+            };
             for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
                 o[s] = (pos.0[i], neg.0[i]);
             }

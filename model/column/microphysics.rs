@@ -28,15 +28,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
         }
         Mode::Bulk => {
             let params = exp.micro_params();
-            let fail = |state: &State, k: usize, message: String| RunError::Numerics {
-                time: state.time,
+            let time = state.time;
+            let fail = |k: usize, message: String| RunError::Numerics {
+                time,
                 message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
             };
             // Three passes: each cell's preparation; the integration of the
             // cells whose rates act, in groups side by side; each cell's
             // finish with the charge that follows its mass. The cells are
             // independent, so the result is that of one cell after another.
-            let mut scratch = std::mem::take(&mut state.micro_scratch);
+            let scratch = &mut state.micro_scratch;
             scratch.cells.clear();
             scratch.moving.clear();
             for (k, &env) in exp.cell_env.iter().enumerate() {
@@ -45,24 +46,16 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * env.exner,
                 };
-                scratch.cells.push((cell, env, CellReport::default()));
-                let report = &mut scratch.cells[k].2;
-                if prepare_cell(&mut cell, env, params, report) {
+                let mut report = CellReport::default();
+                if prepare_cell(&mut cell, env, params, &mut report) {
                     scratch.moving.push(k);
                 }
-                scratch.cells[k].0 = cell;
+                scratch.cells.push((cell, env, report));
             }
-            if let Err((k, message)) =
-                integrate_cells(&mut scratch.cells, &scratch.moving, params, dt)
-            {
-                state.micro_scratch = scratch;
-                return Err(fail(state, k, message));
-            }
+            integrate_cells(&mut scratch.cells, &scratch.moving, params, dt)
+                .map_err(|(k, message)| fail(k, message))?;
             for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
-                if let Err(message) = finish_cell(cell, *env, report) {
-                    state.micro_scratch = scratch;
-                    return Err(fail(state, k, message));
-                }
+                finish_cell(cell, *env, report).map_err(|message| fail(k, message))?;
                 state.water.clip_created += report.created * env.rho * exp.grid.dz;
                 follow_mass::apply(report, &cell.q, &mut state.charge, k);
                 for sp in Species::ALL {
@@ -71,7 +64,6 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                 state.n_ice[k] = cell.n_ice;
                 state.potential_temperature[k] = cell.t / env.exner;
             }
-            state.micro_scratch = scratch;
             Ok(())
         }
     }

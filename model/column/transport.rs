@@ -344,37 +344,21 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
         dt,
     );
     let d = &sc.diffusion;
-    // The potential temperature and the vapour mix as departures from the
-    // base state; every field of a step shares the matrix, so they are
-    // swept four at a time (`Diffusion::apply_all`, the same bits).
-    let departures = [
-        (
-            &mut state.potential_temperature,
-            &base.potential_temperature,
-        ),
-        (&mut state.q[Species::Vapour.index()], &base.vapour),
-    ];
-    for (x, env) in departures {
-        for (v, e) in x.iter_mut().zip(env) {
-            *v -= e;
-        }
-    }
+    // Every field of a step shares the matrix, so the fields are swept four
+    // at a time (`Diffusion::apply_all`). The potential temperature and the
+    // vapour mix as departures from the base state.
+    let vapour = Species::Vapour.index();
     d.apply_all(
-        std::iter::once(state.potential_temperature.as_mut_slice())
-            .chain(state.q.iter_mut().map(|q| q.as_mut_slice()))
-            .chain(std::iter::once(state.n_ice.as_mut_slice())),
+        std::iter::once((
+            state.potential_temperature.as_mut_slice(),
+            Some(base.potential_temperature.as_slice()),
+        ))
+        .chain(state.q.iter_mut().enumerate().map(|(i, q)| {
+            let env = (i == vapour).then_some(base.vapour.as_slice());
+            (q.as_mut_slice(), env)
+        }))
+        .chain(std::iter::once((state.n_ice.as_mut_slice(), None))),
     );
-    for (x, env) in [
-        (
-            &mut state.potential_temperature,
-            &base.potential_temperature,
-        ),
-        (&mut state.q[Species::Vapour.index()], &base.vapour),
-    ] {
-        for (v, e) in x.iter_mut().zip(env) {
-            *v += e;
-        }
-    }
     // Per-volume fields (charge densities, ion numbers) mix as amounts per
     // kilogram of air, like the specific quantities. The ions mix as
     // concentrations, not as departures from the clear air's profile:
@@ -387,46 +371,39 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
     // minutes, far faster than mixing at K ~ 100 m2 s-1 changes it over
     // its kilometres.
     let ions_on = exp.ions.enabled;
-    let mixed = |c: usize| {
-        let c = Carrier::ALL[c];
-        c.advected() && !(ions_on && c == Carrier::Ions)
-    };
-    let per_volume =
-        |charge: &mut Vec<Vec<f64>>, ions: &mut [Vec<f64>; 2], f: &dyn Fn(&mut f64, usize)| {
-            for x in charge
-                .iter_mut()
-                .enumerate()
-                .filter(|(c, _)| mixed(*c))
-                .map(|(_, x)| x)
-                .chain(ions.iter_mut().filter(|_| ions_on))
-            {
-                for (k, v) in x.iter_mut().enumerate() {
-                    f(v, k);
-                }
-            }
-        };
-    per_volume(&mut state.charge, &mut state.n_ion, &|v, k| {
-        *v *= exp.cell_env[k].inv_rho
-    });
-    d.apply_all(
-        state
-            .charge
-            .iter_mut()
-            .enumerate()
-            .filter(|(c, _)| mixed(*c))
-            .map(|(_, x)| x.as_mut_slice())
-            .chain(
-                state
-                    .n_ion
-                    .iter_mut()
-                    .filter(|_| ions_on)
-                    .map(|x| x.as_mut_slice()),
-            ),
-    );
-    per_volume(&mut state.charge, &mut state.n_ion, &|v, k| {
-        *v *= base.density[k]
-    });
+    for x in per_volume(&mut state.charge, &mut state.n_ion, ions_on) {
+        for (v, cell) in x.iter_mut().zip(&exp.cell_env) {
+            *v *= cell.inv_rho;
+        }
+    }
+    d.apply_all(per_volume(&mut state.charge, &mut state.n_ion, ions_on).map(|x| (x, None)));
+    for x in per_volume(&mut state.charge, &mut state.n_ion, ions_on) {
+        for (v, r) in x.iter_mut().zip(&base.density) {
+            *v *= r;
+        }
+    }
     if ions_on {
         crate::column::ions::set_carrier(&mut state.charge[Carrier::Ions.index()], &state.n_ion);
     }
+}
+
+/// The per-volume fields the eddy diffusion mixes: the charge densities of
+/// the carriers that move with the air (not the ions' own when they are
+/// prognostic, `ions_on`) and then the ion numbers.
+fn per_volume<'a>(
+    charge: &'a mut [Vec<f64>],
+    n_ion: &'a mut [Vec<f64>; 2],
+    ions_on: bool,
+) -> impl Iterator<Item = &'a mut [f64]> {
+    charge
+        .iter_mut()
+        .zip(Carrier::ALL)
+        .filter(move |(_, c)| c.advected() && !(ions_on && *c == Carrier::Ions))
+        .map(|(x, _)| x.as_mut_slice())
+        .chain(
+            n_ion
+                .iter_mut()
+                .filter(move |_| ions_on)
+                .map(|x| x.as_mut_slice()),
+        )
 }

@@ -65,8 +65,6 @@ pub trait Lane:
     + MulAssign
 {
     type Mask: Mask;
-    /// Number of lanes.
-    const LANES: usize;
     fn splat(x: f64) -> Self;
     /// The value of lane `i`.
     fn lane(self, i: usize) -> f64;
@@ -83,7 +81,7 @@ pub trait Lane:
     fn cbrt(self) -> Self;
     fn powi(self, n: i32) -> Self;
     /// `f(a, b)` lane by lane, for functions with three results.
-    fn map2x3(a: Self, b: Self, f: impl Fn(f64, f64) -> (f64, f64, f64)) -> (Self, Self, Self);
+    fn map3(a: Self, f: impl Fn(f64) -> (f64, f64, f64)) -> (Self, Self, Self);
     fn lt(self, o: Self) -> Self::Mask;
     fn le(self, o: Self) -> Self::Mask;
     fn gt(self, o: Self) -> Self::Mask;
@@ -95,7 +93,6 @@ pub trait Lane:
 
 impl Lane for f64 {
     type Mask = bool;
-    const LANES: usize = 1;
     #[inline(always)]
     fn splat(x: f64) -> Self {
         x
@@ -141,8 +138,8 @@ impl Lane for f64 {
         f64::powi(self, n)
     }
     #[inline(always)]
-    fn map2x3(a: Self, b: Self, f: impl Fn(f64, f64) -> (f64, f64, f64)) -> (Self, Self, Self) {
-        f(a, b)
+    fn map3(a: Self, f: impl Fn(f64) -> (f64, f64, f64)) -> (Self, Self, Self) {
+        f(a)
     }
     #[inline(always)]
     fn lt(self, o: Self) -> bool {
@@ -327,7 +324,6 @@ impl Cells {
 
 impl Lane for Cells {
     type Mask = CellsMask;
-    const LANES: usize = WIDTH;
     #[inline(always)]
     fn splat(x: f64) -> Self {
         Cells([x; WIDTH])
@@ -373,10 +369,10 @@ impl Lane for Cells {
         self.map(|x| x.powi(n))
     }
     #[inline(always)]
-    fn map2x3(a: Self, b: Self, f: impl Fn(f64, f64) -> (f64, f64, f64)) -> (Self, Self, Self) {
+    fn map3(a: Self, f: impl Fn(f64) -> (f64, f64, f64)) -> (Self, Self, Self) {
         let (mut x, mut y, mut z) = ([0.0; WIDTH], [0.0; WIDTH], [0.0; WIDTH]);
         for i in 0..WIDTH {
-            (x[i], y[i], z[i]) = f(a.0[i], b.0[i]);
+            (x[i], y[i], z[i]) = f(a.0[i]);
         }
         (Cells(x), Cells(y), Cells(z))
     }
@@ -437,6 +433,40 @@ const Z5: f64 = 1.818_357_216_161_805_012e-1;
 const Z6: f64 = 1.531_383_769_920_937_332e-1;
 const Z7: f64 = 1.479_819_860_511_658_591e-1;
 
+/// Where the vector form of e^x holds: 2^n stays in the normal range
+/// (false for NaN).
+#[inline(always)]
+fn exp_range(x: f64) -> bool {
+    (-708.0..=709.0).contains(&x)
+}
+
+/// Where the vector forms of ln x and the cube root hold: positive,
+/// normal and finite (false for NaN).
+#[inline(always)]
+fn positive_normal(x: f64) -> bool {
+    (f64::MIN_POSITIVE..=f64::MAX).contains(&x)
+}
+
+/// `out` with the lanes of `x` where `holds` fails replaced by the
+/// platform's `f` of them (behind one test, so that the common case stays
+/// a straight vector path); each lane depends on its own input only.
+#[inline(always)]
+fn platform_outside<const W: usize>(
+    x: [f64; W],
+    mut out: [f64; W],
+    holds: fn(f64) -> bool,
+    f: fn(f64) -> f64,
+) -> [f64; W] {
+    if !x.iter().all(|&v| holds(v)) {
+        for (o, &v) in out.iter_mut().zip(&x) {
+            if !holds(v) {
+                *o = f(v);
+            }
+        }
+    }
+    out
+}
+
 /// e^x lane by lane, branch-free so that the lanes run as one vector:
 /// x = n ln 2 + r with n = round(x / ln 2) and |r| <= ln 2 / 2 (Cody &
 /// Waite 1980, Software Manual for the Elementary Functions, ch. 6), e^r by
@@ -449,12 +479,8 @@ const Z7: f64 = 1.479_819_860_511_658_591e-1;
 pub fn exp_each<const W: usize>(x: [f64; W]) -> [f64; W] {
     let mut out = [0.0; W];
     for i in 0..W {
-        // Lanes outside are computed at 0 here and replaced below.
-        let x = if x[i] >= -708.0 && x[i] <= 709.0 {
-            x[i]
-        } else {
-            0.0
-        };
+        // Lanes outside are computed at 0 here and replaced at the end.
+        let x = if exp_range(x[i]) { x[i] } else { 0.0 };
         let shifted = x * std::f64::consts::LOG2_E + ROUNDER;
         let n = shifted - ROUNDER;
         let (hi, lo) = (x - n * LN2_HI, n * LN2_LO);
@@ -470,18 +496,7 @@ pub fn exp_each<const W: usize>(x: [f64; W]) -> [f64; W] {
         let scale = f64::from_bits(k.wrapping_add(1023) << 52);
         out[i] = p * scale;
     }
-    let mut inside = true;
-    for i in 0..W {
-        inside &= x[i] >= -708.0 && x[i] <= 709.0;
-    }
-    if !inside {
-        for i in 0..W {
-            if !(x[i] >= -708.0 && x[i] <= 709.0) {
-                out[i] = x[i].exp();
-            }
-        }
-    }
-    out
+    platform_outside(x, out, exp_range, f64::exp)
 }
 
 /// ln x lane by lane, branch-free: x = m 2^e with m in [sqrt(1/2),
@@ -496,9 +511,8 @@ pub fn ln_each<const W: usize>(x: [f64; W]) -> [f64; W] {
     const MANTISSA: u64 = (1 << 52) - 1;
     let mut out = [0.0; W];
     for i in 0..W {
-        // Lanes outside are computed at 1 here and replaced below.
-        let inside = x[i] >= f64::MIN_POSITIVE && x[i] <= f64::MAX;
-        let bits = if inside { x[i] } else { 1.0 }.to_bits();
+        // Lanes outside are computed at 1 here and replaced at the end.
+        let bits = if positive_normal(x[i]) { x[i] } else { 1.0 }.to_bits();
         let field = bits >> 52;
         let m = f64::from_bits((bits & MANTISSA) | 1.0f64.to_bits());
         // The exponent field as a double: 2^52 + field, less 2^52 + 1023.
@@ -519,18 +533,7 @@ pub fn ln_each<const W: usize>(x: [f64; W]) -> [f64; W] {
         let hfsq = 0.5 * f * f;
         out[i] = e * LN2_HI - ((hfsq - (s * (hfsq + r) + e * LN2_LO)) - f);
     }
-    let mut inside = true;
-    for i in 0..W {
-        inside &= x[i] >= f64::MIN_POSITIVE && x[i] <= f64::MAX;
-    }
-    if !inside {
-        for i in 0..W {
-            if !(x[i] >= f64::MIN_POSITIVE && x[i] <= f64::MAX) {
-                out[i] = x[i].ln();
-            }
-        }
-    }
-    out
+    platform_outside(x, out, positive_normal, f64::ln)
 }
 
 /// The cube root lane by lane: exp(ln x / 3) ([`exp_each`], [`ln_each`])
@@ -549,95 +552,5 @@ pub fn cbrt_each<const W: usize>(x: [f64; W]) -> [f64; W] {
         let y2 = y[i] * y[i];
         out[i] = y[i] - (y2 * y[i] - x[i]) / (3.0 * y2);
     }
-    let mut inside = true;
-    for i in 0..W {
-        inside &= x[i] >= f64::MIN_POSITIVE && x[i] <= f64::MAX;
-    }
-    if !inside {
-        for i in 0..W {
-            if !(x[i] >= f64::MIN_POSITIVE && x[i] <= f64::MAX) {
-                out[i] = x[i].cbrt();
-            }
-        }
-    }
-    out
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// Largest error in units of the last place of the reference value.
-    fn ulps(got: f64, want: f64) -> f64 {
-        let ulp = f64::from_bits(want.abs().to_bits() + 1) - want.abs();
-        (got - want).abs() / ulp
-    }
-
-    /// The lane functions against the platform's `f64` functions (correctly
-    /// rounded or within one unit in the last place: glibc's libm manual,
-    /// "Errors in Math Functions"; from memory) over their whole ranges:
-    /// within one unit in the last place of them, so within two of the
-    /// exact value: a rounding-level difference.
-    #[test]
-    fn elementary_functions_within_rounding() {
-        let mut seed: u64 = 7;
-        let mut uniform = move || {
-            seed = seed
-                .wrapping_mul(6364136223846793005)
-                .wrapping_add(1442695040888963407);
-            (seed >> 11) as f64 / (1u64 << 53) as f64
-        };
-        let (mut worst_exp, mut worst_ln, mut worst_cbrt) = (0.0f64, 0.0f64, 0.0f64);
-        for _ in 0..200_000 {
-            let x = [0; WIDTH].map(|_| -708.0 + 1417.0 * uniform());
-            let e = exp_each(x);
-            let y = [0; WIDTH].map(|_| 10f64.powf(-300.0 + 600.0 * uniform()));
-            let (l, c) = (ln_each(y), cbrt_each(y));
-            for i in 0..WIDTH {
-                worst_exp = worst_exp.max(ulps(e[i], x[i].exp()));
-                worst_ln = worst_ln.max(ulps(l[i], y[i].ln()));
-                worst_cbrt = worst_cbrt.max(ulps(c[i], y[i].cbrt()));
-            }
-        }
-        // Near 1, where ln is small and its relative error largest.
-        for _ in 0..200_000 {
-            let y = [0; WIDTH].map(|_| 0.5 + 1.5 * uniform());
-            let l = ln_each(y);
-            for i in 0..WIDTH {
-                worst_ln = worst_ln.max(ulps(l[i], y[i].ln()));
-            }
-        }
-        assert!(
-            worst_exp <= 1.0 && worst_ln <= 1.0 && worst_cbrt <= 1.0,
-            "exp {worst_exp}, ln {worst_ln}, cbrt {worst_cbrt} ulp"
-        );
-        // Outside the vector range the group falls back to the platform.
-        let edge = exp_each([800.0, -800.0, f64::NAN, 0.0]);
-        assert!(edge[0].is_infinite() && edge[1] == 0.0 && edge[2].is_nan() && edge[3] == 1.0);
-        let edge = ln_each([0.0, -1.0, 1.0, f64::INFINITY]);
-        assert!(edge[0] == f64::NEG_INFINITY && edge[1].is_nan() && edge[2] == 0.0);
-        assert_eq!(cbrt_each([0.0, -8.0, 27.0, 1e-310])[..2], [0.0, -2.0]);
-    }
-
-    /// IEEE 754 arithmetic is exact per lane: a group gives the bits of the
-    /// scalar evaluation (common practice; the premise of this module).
-    #[test]
-    fn lanes_give_the_scalar_bits() {
-        let xs = [0.3, -1.7e-12, 4.2e5, 7.0];
-        let ys = [1.1, 2.5e-3, -0.0, 3.0];
-        let (a, b) = (Cells(xs), Cells(ys));
-        let f = |x: f64, y: f64| ((x * y + 3.0) / (y - x)).max(x.abs().sqrt()) * 0.5;
-        let g = |x: Cells, y: Cells| ((x * y + 3.0) / (y - x)).max(x.abs().sqrt()) * 0.5;
-        let r = g(a, b);
-        for i in 0..WIDTH {
-            assert_eq!(r.0[i].to_bits(), f(xs[i], ys[i]).to_bits());
-        }
-        let m = a.lt(b);
-        let s = Cells::select(m, a, b);
-        for i in 0..WIDTH {
-            assert_eq!(m.get(i), xs[i] < ys[i]);
-            assert_eq!(s.0[i], if xs[i] < ys[i] { xs[i] } else { ys[i] });
-        }
-        assert!(m.any() && !(m & !m).any());
-    }
+    platform_outside(x, out, positive_normal, f64::cbrt)
 }

@@ -269,3 +269,22 @@ pub fn median(mut x: Vec<f64>) -> f64 {
     x.sort_by(f64::total_cmp);
     x[x.len() / 2]
 }
+
+/// A reproducible stream of uniform numbers in [0, 1): a linear
+/// congruential generator with Knuth's MMIX constants (TAOCP vol. 2, sec.
+/// 3.3.4, from memory), the top 53 bits of each state.
+pub fn uniform_stream(seed: u64) -> impl FnMut() -> f64 {
+    let mut state = seed;
+    move || {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (state >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
+
+/// |got - want| in units of the last place of `want`.
+pub fn ulps(got: f64, want: f64) -> f64 {
+    let ulp = f64::from_bits(want.abs().to_bits() + 1) - want.abs();
+    (got - want).abs() / ulp
+}

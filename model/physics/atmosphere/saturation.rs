@@ -143,7 +143,7 @@ pub fn saturation_pressures_and_liquid_slope_of<T: Lane>(t: T) -> (T, T, T) {
     let x = (t - LIQUID_T_MIN) * (1.0 / TABLE_STEP);
     let inside = x.ge(T::splat(1.0)) & x.lt(T::splat((TABLE_LEN - 2) as f64));
     if !inside.all() {
-        return T::map2x3(t, t, |t, _| saturation_pressures_and_liquid_slope(t));
+        return T::map3(t, saturation_pressures_and_liquid_slope);
     }
     // As in `table_position`: the interval's index and the position in it.
     let index = |l: usize| x.lane(l) as usize;

@@ -94,51 +94,15 @@ impl Diffusion {
     /// Diffuses the specific quantity `x` over the factorised step, its
     /// departure from `env` when given (the environment's profile of x).
     pub fn apply(&self, x: &mut [f64], env: Option<&[f64]>) {
-        let n = x.len();
-        debug_assert_eq!(n, self.pivot.len());
-        if let Some(e) = env {
-            for (v, e) in x.iter_mut().zip(e) {
-                *v -= e;
-            }
-        }
-        self.apply_together([&mut *x]);
-        if let Some(e) = env {
-            for (v, e) in x.iter_mut().zip(e) {
-                *v += e;
-            }
-        }
+        self.apply_all(std::iter::once((x, env)));
     }
 
-    /// Diffuses `W` fields (specific quantities without an environment
-    /// profile) over the factorised step together: the forward and back
-    /// sweeps of the Thomas algorithm are chains from cell to cell, so
-    /// sweeping several fields in one pass lets the processor overlap
-    /// their chains. Each field gets the bits [`Self::apply`] gives it.
-    pub fn apply_together<const W: usize>(&self, xs: [&mut [f64]; W]) {
-        let n = self.pivot.len();
-        for x in &xs {
-            debug_assert_eq!(x.len(), n);
-        }
-        let mut xs = xs;
-        // Forward sweep, then back substitution, in place.
-        let mut previous = [0.0; W];
-        for i in 0..n {
-            let (lower, pivot) = (self.lower[i], self.pivot[i]);
-            for (x, p) in xs.iter_mut().zip(&mut previous) {
-                x[i] = (x[i] - lower * *p) * pivot;
-                *p = x[i];
-            }
-        }
-        for i in (0..n.saturating_sub(1)).rev() {
-            let upper = self.upper[i];
-            for x in xs.iter_mut() {
-                x[i] -= upper * x[i + 1];
-            }
-        }
-    }
-
-    /// [`Self::apply_together`] over any number of fields, four at a time.
-    pub fn apply_all<'a>(&self, fields: impl Iterator<Item = &'a mut [f64]>) {
+    /// [`Self::apply`] over any number of fields, each with its optional
+    /// environment profile, four at a time: the forward and back sweeps of
+    /// the Thomas algorithm are chains from cell to cell, so sweeping
+    /// several fields in one pass lets the processor overlap their chains.
+    /// Each field gets the bits it gets alone.
+    pub fn apply_all<'a>(&self, fields: impl Iterator<Item = (&'a mut [f64], Option<&'a [f64]>)>) {
         let mut fields = fields.fuse();
         loop {
             match (fields.next(), fields.next(), fields.next(), fields.next()) {
@@ -147,6 +111,41 @@ impl Diffusion {
                 (Some(a), Some(b), None, _) => self.apply_together([a, b]),
                 (Some(a), None, _, _) => self.apply_together([a]),
                 _ => return,
+            }
+        }
+    }
+
+    /// One pass of the sweeps over `W` fields.
+    fn apply_together<const W: usize>(&self, mut xs: [(&mut [f64], Option<&[f64]>); W]) {
+        let n = self.pivot.len();
+        for (x, env) in xs.iter_mut() {
+            debug_assert_eq!(x.len(), n);
+            if let Some(e) = env {
+                for (v, e) in x.iter_mut().zip(e.iter()) {
+                    *v -= e;
+                }
+            }
+        }
+        // Forward sweep, then back substitution, in place.
+        let mut previous = [0.0; W];
+        for i in 0..n {
+            let (lower, pivot) = (self.lower[i], self.pivot[i]);
+            for ((x, _), p) in xs.iter_mut().zip(&mut previous) {
+                x[i] = (x[i] - lower * *p) * pivot;
+                *p = x[i];
+            }
+        }
+        for i in (0..n.saturating_sub(1)).rev() {
+            let upper = self.upper[i];
+            for (x, _) in xs.iter_mut() {
+                x[i] -= upper * x[i + 1];
+            }
+        }
+        for (x, env) in xs.iter_mut() {
+            if let Some(e) = env {
+                for (v, e) in x.iter_mut().zip(e.iter()) {
+                    *v += e;
+                }
             }
         }
     }

@@ -218,13 +218,13 @@ impl Exponential {
         if q <= 0.0 {
             return f64::INFINITY;
         }
-        // x^(1/4) as two square roots: exact to rounding and cheaper than powf.
-        (self.k.mass_per_slope / (rho * q)).sqrt().sqrt()
+        self.slope_of(rho, q)
     }
 
     /// [`Self::slope`] lane by lane for mixing ratios known to be positive.
     #[inline(always)]
     pub fn slope_of<T: Lane>(&self, rho: T, q: T) -> T {
+        // x^(1/4) as two square roots: exact to rounding and cheaper than powf.
         (T::splat(self.k.mass_per_slope) / (rho * q)).sqrt().sqrt()
     }
 
@@ -263,8 +263,7 @@ impl Exponential {
     /// The slope powers for q > 0.
     #[inline(always)]
     fn powers_of<T: Lane>(&self, rho: T, q: T) -> SlopePowers<T> {
-        // x^(1/4) as two square roots, as in [`Self::slope`].
-        let lambda = (T::splat(self.k.mass_per_slope) / (rho * q)).sqrt().sqrt();
+        let lambda = self.slope_of(rho, q);
         let tail = match self.fall {
             FallLaw::Power { .. } => T::splat(1.0),
             FallLaw::Exponential { .. } => (-lambda * self.k.d0).exp(),
@@ -398,18 +397,19 @@ impl Exponential {
 pub mod ice {
     use super::*;
 
-    /// Mean crystal mass (kg) from mixing ratio (kg kg-1) and number (kg-1).
-    pub fn mass(q: f64, n: f64) -> f64 {
-        if q <= 0.0 || n <= 0.0 {
-            0.0
-        } else {
-            q / n
-        }
-    }
-
     /// Crystal diameter (m): d = (6 m / (pi rho_ice))^(1/3).
     pub fn diameter(q: f64, n: f64) -> f64 {
-        (6.0 * mass(q, n) / (std::f64::consts::PI * RHO_ICE)).cbrt()
+        if q <= 0.0 || n <= 0.0 {
+            return 0.0;
+        }
+        diameter_of(q, n)
+    }
+
+    /// [`diameter`] lane by lane for mixing ratios and numbers known to be
+    /// positive.
+    #[inline(always)]
+    pub fn diameter_of<T: Lane>(q: T, n: T) -> T {
+        (q / n * 6.0 / (std::f64::consts::PI * RHO_ICE)).cbrt()
     }
 
     /// Mass-weighted fall speed (m s-1), Heymsfield & Donner (1990), with

@@ -76,11 +76,7 @@ fn evaluate<T: Lane>(
     dy: &mut [T; 8],
     w: &mut [T; rates::N_TRANSFERS],
 ) {
-    let s = CellState {
-        q: [y[0], y[1], y[2], y[3], y[4], y[5]],
-        n_ice: y[6],
-        t: y[7],
-    };
+    let s = cell_of(*y);
     let r = rates::rates_of(&s, env, params);
     let (dq, dn, dt) = rates::tendencies(&s, &r);
     dy[..6].copy_from_slice(&dq);
@@ -233,7 +229,8 @@ fn state_vector(s: &CellState) -> [f64; 8] {
 }
 
 /// The cell of integrated variables `y` ([`state_vector`]).
-fn cell_of(y: [f64; 8]) -> CellState {
+#[inline(always)]
+fn cell_of<T: Copy>(y: [T; 8]) -> CellState<T> {
     CellState {
         q: [y[0], y[1], y[2], y[3], y[4], y[5]],
         n_ice: y[6],
@@ -292,9 +289,9 @@ pub fn prepare_cell(
 /// integrator's first trial step, the whole `dt`, together. A cell whose
 /// trial is rejected (rare: about 3 % of the demo's integrations) is
 /// integrated again on its own, which repeats that trial and goes on with
-/// smaller steps. Every cell ends with the bits that [`step_cell`] gives it.
-/// A short last group is filled with copies of its first cell, whose results
-/// are dropped.
+/// smaller steps. Every cell ends with what [`step_cell`] gives it, to
+/// rounding (the group's exp, ln and cbrt are its own). A short last group
+/// is filled with copies of its last cell, whose results are dropped.
 pub fn integrate_cells(
     cells: &mut [(CellState, CellEnv, CellReport)],
     which: &[usize],
@@ -366,9 +363,8 @@ fn integrate_cells_with(
     };
     for group in which.chunks(WIDTH) {
         let lane = |i: usize| group[i.min(group.len() - 1)];
-        let y0 = std::array::from_fn::<_, 8, _>(|v| {
-            Cells(std::array::from_fn(|i| state_vector(&cells[lane(i)].0)[v]))
-        });
+        let vectors: [[f64; 8]; WIDTH] = std::array::from_fn(|i| state_vector(&cells[lane(i)].0));
+        let y0 = std::array::from_fn::<_, 8, _>(|v| Cells(vectors.map(|y| y[v])));
         let env = CellEnv::gather(std::array::from_fn(|i| &cells[lane(i)].1));
         let mut first = (
             [Cells::default(); 8],

@@ -15,8 +15,8 @@ use super::params::MicroParams;
 use super::species::Species;
 use crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope_of;
 use crate::physics::constants::{
-    CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_ICE,
-    RHO_VAPOUR_SAT_T0, RHO_WATER, R_VAPOUR, T_MELT,
+    CP_DRY, C_ICE, C_WATER, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, RHO_VAPOUR_SAT_T0,
+    RHO_WATER, R_VAPOUR, T_MELT,
 };
 use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
@@ -288,7 +288,8 @@ pub fn rates(s: &CellState, env: CellEnv, p: &MicroParams) -> Rates {
 }
 
 /// All process rates for one cell (`T = f64`) or for a group of cells side
-/// by side (`T = `[`Cells`]), lane by lane the same bits. Where a rate
+/// by side (`T = `[`Cells`]): lane by lane the same arithmetic, so the same
+/// bits apart from exp, ln and cbrt (`crate::physics::lanes`). Where a rate
 /// applies only under a condition (a species present, the air below 0 degC,
 /// subsaturation), it is computed for every lane and kept where the
 /// condition holds; a block is skipped when it holds in no lane.
@@ -344,10 +345,7 @@ pub fn rates_of<T: Lane>(s: &CellState<T>, env: &CellEnv<T>, p: &MicroParams) ->
     let depositing = cold | si.lt(T::splat(1.0));
     let crystals = qi.gt(zero) & s.n_ice.gt(zero);
     if (crystals & depositing).any() {
-        // The crystal diameter (6 m / (pi rho_ice))^(1/3), m = q_i / n_i
-        // (`dsd::ice::diameter`).
-        let d = (qi / s.n_ice * 6.0 / (std::f64::consts::PI * RHO_ICE)).cbrt();
-        let c = d * 0.5;
+        let c = dsd::ice::diameter_of(qi, s.n_ice) * 0.5;
         let rate = s.n_ice * 4.0 * std::f64::consts::PI * c * (si - 1.0) * inv_ab_ice;
         r.vapour_to_ice = T::select(crystals & depositing, rate, zero);
     }
@@ -371,20 +369,141 @@ pub fn rates_of<T: Lane>(s: &CellState<T>, env: &CellEnv<T>, p: &MicroParams) ->
     let by_snow = snow_sweep * qc;
     let by_graupel = graupel_sweep * qc;
     if cold.any() {
-        let inputs = ColdInputs {
-            cold,
-            mixing: (qv, qc, qi, qs),
-            swept: (by_snow, by_graupel),
-            has_r,
-            lr,
-            has_s,
-            ls,
-            has_g,
-            lg,
-            snow_sweep,
-            graupel_sweep,
+        // The rates below 0 degC (lanes where `cold` holds; the others keep
+        // what `r` holds): collection, riming with wet growth and shedding,
+        // rime splinters, conversions, contact and immersion freezing.
+        let keep = |field: &mut T, value: T| *field = T::select(cold, value, *field);
+        let dtc = t - T_MELT;
+        let (e_snow, e_graupel) = collection_efficiencies(dtc);
+        keep(
+            &mut r.ice_to_snow,
+            e_snow * 1e-3 * (qi - p.ice_to_snow_threshold).max(zero),
+        );
+        keep(&mut r.ice_to_snow_collection, snow_sweep * e_snow * qi);
+        let ice_to_graupel = graupel_sweep * e_graupel * qi;
+        keep(&mut r.ice_to_graupel, ice_to_graupel);
+        // Graupel's mass-weighted speed, for both of its collections below.
+        let vg = T::select(has_g, graupel.mass_weighted_speed_at(&lg, cg), zero);
+        let mut snow_to_graupel_collection = zero;
+        if (has_s & has_g).any() {
+            // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
+            //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
+            let dv = (vg - snow.mass_weighted_speed_at(&ls, cs)).abs();
+            let v = e_graupel
+                * std::f64::consts::PI.powi(2)
+                * graupel.n0
+                * snow.n0
+                * dv
+                * (inv_rho * snow.rho_p)
+                * slope_sum(ls.lambda, lg.lambda);
+            snow_to_graupel_collection = T::select(has_s & has_g, v, zero);
+            keep(
+                &mut r.snow_to_graupel_collection,
+                snow_to_graupel_collection,
+            );
+        }
+        let mut by_graupel = by_graupel;
+        if has_g.any() {
+            // Supercooled rain collected by graupel (LFO83 PGACR), then the
+            // heat balance of wet growth on everything liquid graupel collects.
+            let mut rain_collected = zero;
+            if p.rain_ice_collection && (has_r & has_g).any() {
+                let dv = (vg - rain.mass_weighted_speed_at(&lr, cr)).abs();
+                let v = dv
+                    * (std::f64::consts::PI.powi(2) * graupel.n0 * rain.n0)
+                    * (inv_rho * RHO_WATER)
+                    * slope_sum(lr.lambda, lg.lambda);
+                rain_collected = T::select(has_r & has_g, v, zero);
+            }
+            let liquid = by_graupel + rain_collected;
+            let wetting = has_g & liquid.gt(zero);
+            if wetting.any() {
+                let capacity = wet_growth_capacity(
+                    t,
+                    qv,
+                    rho,
+                    graupel.ventilation_at(&lg, air),
+                    ice_to_graupel + snow_to_graupel_collection,
+                );
+                // Wet growth: what cannot freeze is shed (collected cloud
+                // water) or not kept (rain).
+                let wet = wetting & liquid.gt(capacity);
+                if wet.any() {
+                    let f = capacity / liquid;
+                    keep(
+                        &mut r.cloud_to_rain_shedding,
+                        T::select(wet, by_graupel * (T::splat(1.0) - f), zero),
+                    );
+                    by_graupel = T::select(wet, by_graupel * f, by_graupel);
+                    rain_collected = T::select(wet, rain_collected * f, rain_collected);
+                }
+            }
+            keep(&mut r.rain_to_graupel_collection, rain_collected);
+        }
+        let rimed = by_snow + by_graupel;
+        if p.rime_splintering {
+            let f = splinter_efficiency(t);
+            let number = f * p.splinters_per_kg_rime * rimed;
+            keep(&mut r.splinter_number, number);
+            keep(
+                &mut r.cloud_to_ice_splinters,
+                (number * p.splinter_mass).min(rimed),
+            );
+        }
+        let share = T::select(rimed.gt(zero), r.cloud_to_ice_splinters / rimed, zero);
+        keep(&mut r.cloud_to_snow, by_snow * (T::splat(1.0) - share));
+        keep(
+            &mut r.cloud_to_graupel,
+            by_graupel * (T::splat(1.0) - share),
+        );
+        let riming_snow = cold & by_snow.gt(zero);
+        if riming_snow.any() {
+            let v = e_graupel * 1e-3 * (qs - p.snow_to_graupel_threshold).max(zero);
+            r.snow_to_graupel = T::select(riming_snow, v, r.snow_to_graupel);
+        }
+        let crystals = s.n_ice.gt(zero) & qi.gt(zero);
+        let contact = cold & crystals & has_r;
+        if p.rain_ice_contact_freezing && contact.any() {
+            // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
+            // within the heat the drops can give off (Musil 1970).
+            let by_rain = rain.sweep_at(&lr, cr) * qi;
+            let frozen = s.n_ice * rain.mass_sweep_at(&lr, cr);
+            let capacity = wet_growth_capacity(t, qv, rho, rain.ventilation_at(&lr, air), by_rain);
+            r.ice_to_graupel_by_rain = T::select(contact, by_rain, r.ice_to_graupel_by_rain);
+            r.rain_to_graupel_ice_contact =
+                T::select(contact, frozen.min(capacity), r.rain_to_graupel_ice_contact);
+        }
+        // The supercooling factor exp(A' (T0 - T)) - 1 of Bigg's (1953)
+        // freezing probability B' [exp(A' (T0 - T)) - 1] per unit volume and
+        // time, shared by rain and droplets and evaluated only when one of
+        // them freezes by it.
+        let freezing_droplets = if p.droplet_freezing {
+            cold & qc.gt(zero)
+        } else {
+            cold & !cold
         };
-        cold_rates(&mut r, s, env, p, inputs);
+        let rain_freezing = cold & has_r;
+        if (freezing_droplets | rain_freezing).any() {
+            let bigg = ((T::splat(T_MELT) - t) * p.bigg_a).exp() - 1.0;
+            if freezing_droplets.any() {
+                // A droplet of volume v freezes with probability B' bigg v per second.
+                let v = qc * p.bigg_b * bigg * p.droplet_volume();
+                r.cloud_to_ice_freezing = T::select(freezing_droplets, v, r.cloud_to_ice_freezing);
+                r.frozen_droplet_number = T::select(
+                    freezing_droplets,
+                    v / p.droplet_mass(),
+                    r.frozen_droplet_number,
+                );
+            }
+            if rain_freezing.any() {
+                // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
+                let v = (inv_rho * RHO_WATER)
+                    * (20.0 * std::f64::consts::PI.powi(2) * p.bigg_b * rain.n0)
+                    * bigg
+                    / lr.lambda.powi(7);
+                r.rain_to_graupel = T::select(rain_freezing, v, r.rain_to_graupel);
+            }
+        }
     }
     let warm = !cold;
     if warm.any() {
@@ -411,187 +530,6 @@ pub fn rates_of<T: Lane>(s: &CellState<T>, env: &CellEnv<T>, p: &MicroParams) ->
         }
     }
     r
-}
-
-/// What the rates below 0 degC start from: the lanes below 0 degC; the
-/// non-negative mixing ratios of vapour, cloud water, ice and snow (kg
-/// kg-1); the cloud water snow and graupel sweep out (kg kg-1 s-1); the
-/// slope powers of rain, snow and graupel with whether each holds mass; the
-/// sweep-out integrals of snow and graupel (zero without mass).
-struct ColdInputs<T: Lane> {
-    cold: T::Mask,
-    mixing: (T, T, T, T),
-    swept: (T, T),
-    has_r: T::Mask,
-    lr: dsd::SlopePowers<T>,
-    has_s: T::Mask,
-    ls: dsd::SlopePowers<T>,
-    has_g: T::Mask,
-    lg: dsd::SlopePowers<T>,
-    snow_sweep: T,
-    graupel_sweep: T,
-}
-
-/// The rates below 0 degC (lanes where `cold` holds; the others keep what
-/// `r` holds): collection, riming with wet growth and shedding, rime
-/// splinters, conversions, contact and immersion freezing.
-#[inline(always)]
-fn cold_rates<T: Lane>(
-    r: &mut Rates<T>,
-    s: &CellState<T>,
-    env: &CellEnv<T>,
-    p: &MicroParams,
-    inputs: ColdInputs<T>,
-) {
-    let zero = T::splat(0.0);
-    let (rain, snow, graupel) = (&p.rain, &p.snow, &p.graupel);
-    let [cr, cs, cg] = env.corrections;
-    let (t, rho, inv_rho, air) = (s.t, env.rho, env.inv_rho, env.air);
-    let ColdInputs {
-        cold,
-        mixing: (qv, qc, qi, qs),
-        swept: (by_snow, by_graupel),
-        has_r,
-        lr,
-        has_s,
-        ls,
-        has_g,
-        lg,
-        snow_sweep,
-        graupel_sweep,
-    } = inputs;
-    let keep = |field: &mut T, value: T| *field = T::select(cold, value, *field);
-    let dtc = t - T_MELT;
-    let (e_snow, e_graupel) = collection_efficiencies(dtc);
-    keep(
-        &mut r.ice_to_snow,
-        e_snow * 1e-3 * (qi - p.ice_to_snow_threshold).max(zero),
-    );
-    keep(&mut r.ice_to_snow_collection, snow_sweep * e_snow * qi);
-    let ice_to_graupel = graupel_sweep * e_graupel * qi;
-    keep(&mut r.ice_to_graupel, ice_to_graupel);
-    // Graupel's mass-weighted speed, for both of its collections below.
-    let vg = T::select(has_g, graupel.mass_weighted_speed_at(&lg, cg), zero);
-    let mut snow_to_graupel_collection = zero;
-    if (has_s & has_g).any() {
-        // LFO83 Eq. 42: pi^2 E N0g N0s |Vg - Vs| (rho_s/rho)
-        //   [5/(ls^6 lg) + 2/(ls^5 lg^2) + 0.5/(ls^4 lg^3)].
-        let dv = (vg - snow.mass_weighted_speed_at(&ls, cs)).abs();
-        let v = e_graupel
-            * std::f64::consts::PI.powi(2)
-            * graupel.n0
-            * snow.n0
-            * dv
-            * (inv_rho * snow.rho_p)
-            * slope_sum(ls.lambda, lg.lambda);
-        snow_to_graupel_collection = T::select(has_s & has_g, v, zero);
-        keep(
-            &mut r.snow_to_graupel_collection,
-            snow_to_graupel_collection,
-        );
-    }
-    let mut by_graupel = by_graupel;
-    if has_g.any() {
-        // Supercooled rain collected by graupel (LFO83 PGACR), then the
-        // heat balance of wet growth on everything liquid graupel collects.
-        let mut rain_collected = zero;
-        if p.rain_ice_collection && (has_r & has_g).any() {
-            let dv = (vg - rain.mass_weighted_speed_at(&lr, cr)).abs();
-            let v = dv
-                * (std::f64::consts::PI.powi(2) * graupel.n0 * rain.n0)
-                * (inv_rho * RHO_WATER)
-                * slope_sum(lr.lambda, lg.lambda);
-            rain_collected = T::select(has_r & has_g, v, zero);
-        }
-        let liquid = by_graupel + rain_collected;
-        let wetting = has_g & liquid.gt(zero);
-        if wetting.any() {
-            let capacity = wet_growth_capacity(
-                t,
-                qv,
-                rho,
-                graupel.ventilation_at(&lg, air),
-                ice_to_graupel + snow_to_graupel_collection,
-            );
-            // Wet growth: what cannot freeze is shed (collected cloud
-            // water) or not kept (rain).
-            let wet = wetting & liquid.gt(capacity);
-            if wet.any() {
-                let f = capacity / liquid;
-                keep(
-                    &mut r.cloud_to_rain_shedding,
-                    T::select(wet, by_graupel * (T::splat(1.0) - f), zero),
-                );
-                by_graupel = T::select(wet, by_graupel * f, by_graupel);
-                rain_collected = T::select(wet, rain_collected * f, rain_collected);
-            }
-        }
-        keep(&mut r.rain_to_graupel_collection, rain_collected);
-    }
-    let rimed = by_snow + by_graupel;
-    if p.rime_splintering {
-        let f = splinter_efficiency(t);
-        let number = f * p.splinters_per_kg_rime * rimed;
-        keep(&mut r.splinter_number, number);
-        keep(
-            &mut r.cloud_to_ice_splinters,
-            (number * p.splinter_mass).min(rimed),
-        );
-    }
-    let share = T::select(rimed.gt(zero), r.cloud_to_ice_splinters / rimed, zero);
-    keep(&mut r.cloud_to_snow, by_snow * (T::splat(1.0) - share));
-    keep(
-        &mut r.cloud_to_graupel,
-        by_graupel * (T::splat(1.0) - share),
-    );
-    let riming_snow = cold & by_snow.gt(zero);
-    if riming_snow.any() {
-        let v = e_graupel * 1e-3 * (qs - p.snow_to_graupel_threshold).max(zero);
-        r.snow_to_graupel = T::select(riming_snow, v, r.snow_to_graupel);
-    }
-    let crystals = s.n_ice.gt(zero) & qi.gt(zero);
-    let contact = cold & crystals & has_r;
-    if p.rain_ice_contact_freezing && contact.any() {
-        // LFO83 P_raci and P_iacr: drops collect crystals and freeze,
-        // within the heat the drops can give off (Musil 1970).
-        let by_rain = rain.sweep_at(&lr, cr) * qi;
-        let frozen = s.n_ice * rain.mass_sweep_at(&lr, cr);
-        let capacity = wet_growth_capacity(t, qv, rho, rain.ventilation_at(&lr, air), by_rain);
-        r.ice_to_graupel_by_rain = T::select(contact, by_rain, r.ice_to_graupel_by_rain);
-        r.rain_to_graupel_ice_contact =
-            T::select(contact, frozen.min(capacity), r.rain_to_graupel_ice_contact);
-    }
-    // The supercooling factor exp(A' (T0 - T)) - 1 of Bigg's (1953)
-    // freezing probability B' [exp(A' (T0 - T)) - 1] per unit volume and
-    // time, shared by rain and droplets and evaluated only when one of
-    // them freezes by it.
-    let freezing_droplets = if p.droplet_freezing {
-        cold & qc.gt(zero)
-    } else {
-        cold & !cold
-    };
-    let rain_freezing = cold & has_r;
-    if (freezing_droplets | rain_freezing).any() {
-        let bigg = ((T::splat(T_MELT) - t) * p.bigg_a).exp() - 1.0;
-        if freezing_droplets.any() {
-            // A droplet of volume v freezes with probability B' bigg v per second.
-            let v = qc * p.bigg_b * bigg * p.droplet_volume();
-            r.cloud_to_ice_freezing = T::select(freezing_droplets, v, r.cloud_to_ice_freezing);
-            r.frozen_droplet_number = T::select(
-                freezing_droplets,
-                v / p.droplet_mass(),
-                r.frozen_droplet_number,
-            );
-        }
-        if rain_freezing.any() {
-            // LFO83 Eq. 45 (Bigg 1953): 20 pi^2 B' N0r (rho_w/rho) [exp(A'(T0-T)) - 1] / lambda_r^7.
-            let v = (inv_rho * RHO_WATER)
-                * (20.0 * std::f64::consts::PI.powi(2) * p.bigg_b * rain.n0)
-                * bigg
-                / lr.lambda.powi(7);
-            r.rain_to_graupel = T::select(rain_freezing, v, r.rain_to_graupel);
-        }
-    }
 }
 
 /// Condensation rate C (kg kg-1 s-1; negative: evaporation) that keeps
