@@ -67,3 +67,95 @@ fn lanes_give_the_scalar_bits() {
     }
     assert!(m.any() && !(m & !m).any());
 }
+
+/// The non-inductive separation rates of four cells side by side against
+/// each cell's own evaluation (`charging::separation_rates_of` over `f64`):
+/// the same formulas (Saunders & Peck 1998, Gardiner et al. 1985, the
+/// collision kernels and Langmuir 1948's efficiency), so the two differ
+/// only through the group's exp, ln and cbrt (within one unit in the last
+/// place each, test above), amplified by at most |a ln d + b ln V| < 60 in
+/// the size/speed factor: within 1e-12 relative, a rounding-level
+/// difference. The cap counts must agree exactly. Cells over the whole
+/// range the column meets: warm and cold, every mix of species (absent,
+/// traces below the smallest present mixing ratio, cloud amounts), crystal
+/// numbers from none to 1e8 per kg.
+#[test]
+fn grouped_charging_matches_each_cell() {
+    use stormcharge::physics::charging::{separation_rates_of, CellInputs, Separation};
+    let mut uniform = uniform_stream(2024);
+    for (scheme, graupel_snow) in [
+        ("saunders_peck_1998", true),
+        ("gardiner_1985", false),
+        ("gardiner_1985", true),
+    ] {
+        let exp = demo(&[
+            &format!("charging.scheme=\"{scheme}\""),
+            &format!("charging.graupel_snow={graupel_snow}"),
+        ]);
+        let (p, f) = (&exp.charging_params, exp.micro_params());
+        let mut cells = Vec::new();
+        for _ in 0..4003 {
+            let rho = 0.3 + 0.9 * uniform();
+            let mut q = [5e-3, 2e-3, 4e-3, 1e-3, 2e-3, 5e-3];
+            for (s, x) in q.iter_mut().enumerate().skip(1) {
+                // Cloud water over two decades (the rime accretion rate
+                // of Saunders & Peck needs some), the others over five.
+                let decades = if s == 1 { 2.0 } else { 5.0 };
+                let u = uniform();
+                *x = if u < 0.3 {
+                    0.0
+                } else if u < 0.4 {
+                    1e-16 * uniform()
+                } else {
+                    *x * 10f64.powf(-decades * uniform())
+                };
+            }
+            let n_ice = if uniform() < 0.1 {
+                0.0
+            } else {
+                10f64.powf(8.0 * uniform())
+            };
+            cells.push(CellInputs {
+                rho,
+                t: -45.0 + 50.0 * uniform(),
+                q,
+                n_ice,
+                e_z: 0.0,
+                corrections: [1.0, 1.0 + uniform(), 1.0 + uniform()],
+            });
+        }
+        let mut charging = 0;
+        for group in cells.chunks(WIDTH) {
+            let lanes = |g: &dyn Fn(&CellInputs) -> f64| {
+                Cells::from_lanes(|i| g(&group[i.min(group.len() - 1)]))
+            };
+            let together = CellInputs::<Cells> {
+                rho: lanes(&|c| c.rho),
+                t: lanes(&|c| c.t),
+                q: std::array::from_fn(|s| lanes(&|c| c.q[s])),
+                n_ice: lanes(&|c| c.n_ice),
+                e_z: lanes(&|c| c.e_z),
+                corrections: std::array::from_fn(|s| lanes(&|c| c.corrections[s])),
+            };
+            let rates = separation_rates_of(p, f, &together);
+            for (i, c) in group.iter().enumerate() {
+                let alone: Separation<f64> = separation_rates_of(p, f, c);
+                let got = rates.lane(i);
+                assert_eq!(got.capped, alone.capped, "{scheme}: {c:?}");
+                for (x, y) in [
+                    (got.graupel_ice, alone.graupel_ice),
+                    (got.graupel_snow, alone.graupel_snow),
+                    (got.snow_ice, alone.snow_ice),
+                ] {
+                    assert!(
+                        (x - y).abs() <= 1e-12 * y.abs(),
+                        "{scheme}: {c:?}: {x:e} in a group against {y:e} alone"
+                    );
+                    charging += usize::from(y != 0.0);
+                }
+            }
+        }
+        // The draw must exercise the charging, not only the zeros.
+        assert!(charging > 1000, "{scheme}: only {charging} nonzero rates");
+    }
+}

@@ -15,19 +15,26 @@
 //! 6.8 fC. Clamps (laboratory ranges, from memory): T from -30 to 0 degC,
 //! d 10 um to 1 mm, dV 1 to 10 m s-1, LWC up to 5 g m-3.
 
-/// f(tau) of the formula (dimensionless).
-pub fn f(tau: f64) -> f64 {
-    -1.7e-5 * tau.powi(3) - 0.003 * tau * tau - 0.05 * tau + 0.13
+use crate::physics::lanes::Lane;
+
+/// f(tau) of the formula (dimensionless), lane by lane
+/// ([`crate::physics::lanes`]).
+#[inline(always)]
+pub fn f<T: Lane>(tau: T) -> T {
+    tau.powi(3) * -1.7e-5 - tau * 0.003 * tau - tau * 0.05 + 0.13
 }
 
 /// Charge gained by the graupel per rebounding collision (C) at temperature
 /// `t` (degC) with reversal temperature `t_r` (degC, negative), liquid water
-/// content `lwc` (g m-3), crystal diameter `d` (m) and impact speed `v` (m s-1).
-pub fn charge_per_collision(t: f64, t_r: f64, lwc: f64, d: f64, v: f64) -> f64 {
-    let t = t.clamp(-30.0, 0.0);
-    let d = d.clamp(10e-6, 1e-3);
-    let v = v.clamp(1.0, 10.0);
-    let dl = lwc.min(5.0) - 0.1;
-    let tau = -21.0 / t_r * t;
-    7.3 * d.powi(4) * v.powi(3) * dl * f(tau)
+/// content `lwc` (g m-3), crystal diameter `d` (m) and impact speed `v`
+/// (m s-1), lane by lane.
+#[inline(always)]
+pub fn charge_per_collision<T: Lane>(t: T, t_r: f64, lwc: T, d: T, v: T) -> T {
+    let clamp = |x: T, lo: f64, hi: f64| x.max(T::splat(lo)).min(T::splat(hi));
+    let t = clamp(t, -30.0, 0.0);
+    let d = clamp(d, 10e-6, 1e-3);
+    let v = clamp(v, 1.0, 10.0);
+    let dl = lwc.min(T::splat(5.0)) - 0.1;
+    let tau = t * (-21.0 / t_r);
+    d.powi(4) * 7.3 * v.powi(3) * dl * f(tau)
 }

@@ -19,6 +19,7 @@ pub mod table;
 
 use crate::physics::carriers::Carrier;
 use crate::physics::constants::T_MELT;
+use crate::physics::lanes::{Lane, Mask};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::params::MicroParams;
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW};
@@ -83,28 +84,41 @@ pub struct ChargingParams {
     pub riming_efficiency: riming_efficiency::RimingEfficiency,
 }
 
-/// The conditions of one rebounding collision.
+/// The conditions of one rebounding collision, for one cell (`T` = `f64`)
+/// or several side by side ([`crate::physics::lanes`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Collision {
+pub struct Collision<T = f64> {
     /// Temperature (degC).
-    pub t: f64,
+    pub t: T,
     /// Cloud liquid water content (g m-3).
-    pub lwc: f64,
+    pub lwc: T,
     /// Crystal diameter (m).
-    pub crystal: f64,
+    pub crystal: T,
     /// Impact speed (m s-1).
-    pub impact_speed: f64,
+    pub impact_speed: T,
     /// Collector (rimer) speed (m s-1), the V of the rime accretion rate.
-    pub collector_speed: f64,
+    pub collector_speed: T,
     /// The droplets' collision efficiency on the collector (1): the
     /// effective water content is E LWC.
-    pub efficiency: f64,
+    pub efficiency: T,
 }
 
-impl Collision {
+impl<T: Lane> Collision<T> {
     /// The rime accretion rate E LWC V (g m-2 s-1).
-    pub fn rime_accretion_rate(&self) -> f64 {
+    pub fn rime_accretion_rate(&self) -> T {
         self.efficiency * self.lwc * self.collector_speed
+    }
+
+    /// The collision of lane `i`.
+    fn lane(&self, i: usize) -> Collision {
+        Collision {
+            t: self.t.lane(i),
+            lwc: self.lwc.lane(i),
+            crystal: self.crystal.lane(i),
+            impact_speed: self.impact_speed.lane(i),
+            collector_speed: self.collector_speed.lane(i),
+            efficiency: self.efficiency.lane(i),
+        }
     }
 }
 
@@ -116,12 +130,18 @@ impl ChargingParams {
 
     /// [`Self::per_collision`] and whether the safety cap bound it.
     pub fn per_collision_capped(&self, c: &Collision) -> (f64, bool) {
+        self.per_collision_capped_of(c)
+    }
+
+    /// [`Self::per_collision_capped`] lane by lane: the scheme's charge,
+    /// scaled, tapered between `taper_start` and `taper_end` and bound by
+    /// the cap; zero at 0 degC and warmer and at `taper_end` and colder.
+    #[inline(always)]
+    pub fn per_collision_capped_of<T: Lane>(&self, c: &Collision<T>) -> (T, T::Mask) {
+        let zero = T::splat(0.0);
         let t = c.t;
-        if t >= 0.0 || t <= self.taper_end {
-            return (0.0, false);
-        }
         let raw = match self.scheme {
-            Scheme::Off => 0.0,
+            Scheme::Off => zero,
             Scheme::Gardiner1985 {
                 reversal_temperature,
             } => gardiner_1985::charge_per_collision(
@@ -137,18 +157,17 @@ impl ChargingParams {
                 c.crystal,
                 c.impact_speed,
             ),
-            Scheme::Table { .. } => self
-                .table
-                .as_ref()
-                .map_or(0.0, |tab| tab.charge_per_collision(c)),
+            // A table is read lane by lane: its lookups do not vectorise.
+            Scheme::Table { .. } => self.table.as_ref().map_or(zero, |tab| {
+                T::from_lanes(|i| tab.charge_per_collision(&c.lane(i)))
+            }),
         };
-        let taper = if t < self.taper_start {
-            (t - self.taper_end) / (self.taper_start - self.taper_end)
-        } else {
-            1.0
-        };
-        let q = self.scale * raw * taper;
-        (q.clamp(-self.cap, self.cap), q.abs() > self.cap)
+        let ramp = (t - self.taper_end) / (self.taper_start - self.taper_end);
+        let taper = T::select(t.lt(T::splat(self.taper_start)), ramp, T::splat(1.0));
+        let charging = t.lt(zero) & t.gt(T::splat(self.taper_end));
+        let q = T::select(charging, raw * self.scale * taper, zero);
+        let capped = q.abs().gt(T::splat(self.cap));
+        (q.max(T::splat(-self.cap)).min(T::splat(self.cap)), capped)
     }
 }
 
@@ -166,21 +185,47 @@ pub struct CellRates {
     pub capped: u8,
 }
 
-/// What the charging of one cell needs (SI).
+/// What the charging of one cell (`T` = `f64`) or of several side by side
+/// needs (SI).
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct CellInputs {
+pub struct CellInputs<T = f64> {
     /// Air density (kg m-3).
-    pub rho: f64,
+    pub rho: T,
     /// Temperature (degC).
-    pub t: f64,
+    pub t: T,
     /// Mixing ratios, `Species` order (kg kg-1).
-    pub q: [f64; 6],
+    pub q: [T; 6],
     /// Cloud-ice number (kg-1).
-    pub n_ice: f64,
+    pub n_ice: T,
     /// Vertical field at the cell centre (V m-1), positive up.
-    pub e_z: f64,
+    pub e_z: T,
     /// Fall-speed density corrections of rain, snow and graupel (1).
-    pub corrections: [f64; 3],
+    pub corrections: [T; 3],
+}
+
+/// The non-inductive separation rates of one cell or of several side by
+/// side (C m-3 s-1, positive when the collector named first gains
+/// positive charge).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Separation<T> {
+    pub graupel_ice: T,
+    pub graupel_snow: T,
+    pub snow_ice: T,
+    /// How many of the three collision kinds had their charge per
+    /// collision bound by the safety cap (a count held as a number).
+    pub capped: T,
+}
+
+impl<T: Lane> Separation<T> {
+    /// The rates of lane `i`.
+    pub fn lane(&self, i: usize) -> Separation<f64> {
+        Separation {
+            graupel_ice: self.graupel_ice.lane(i),
+            graupel_snow: self.graupel_snow.lane(i),
+            snow_ice: self.snow_ice.lane(i),
+            capped: self.capped.lane(i),
+        }
+    }
 }
 
 fn separate(charge: &mut [f64; Carrier::COUNT], gainer: Carrier, loser: Carrier, amount: f64) {
@@ -188,10 +233,152 @@ fn separate(charge: &mut [f64; Carrier::COUNT], gainer: Carrier, loser: Carrier,
     charge[loser.index()] -= amount;
 }
 
+/// Whether a cell holds a collector (graupel, snow or rain). Every charging
+/// mechanism needs one. A collector below the microphysics' smallest
+/// present mixing ratio (the traces eddy mixing carries out of the cloud)
+/// makes collisions some fifteen orders of magnitude fewer than in the
+/// cloud and counts as absent.
+fn has_collector<T: Lane>(c: &CellInputs<T>) -> T::Mask {
+    let tiny = T::splat(TINY);
+    c.q[GRAUPEL].gt(tiny) | c.q[SNOW].gt(tiny) | c.q[RAIN].gt(tiny)
+}
+
+/// The non-inductive separation rates (C m-3 s-1) of the rebounding
+/// graupel-ice, graupel-snow and snow-ice collisions of one cell or of
+/// several side by side ([`crate::physics::lanes`]): the bulk collision
+/// rates ([`collisions`]) times the rebounding fraction 1 - E_coll times
+/// the scheme's charge per collision ([`ChargingParams::per_collision_capped`]).
+/// Zero warmer than 0 degC and without a collector. A block is skipped
+/// only when no lane needs it.
+#[inline(always)]
+pub fn separation_rates_of<T: Lane>(
+    p: &ChargingParams,
+    f: &MicroParams,
+    c: &CellInputs<T>,
+) -> Separation<T> {
+    let zero = T::splat(0.0);
+    let mut out = Separation::<T>::default();
+    let t = c.t;
+    let cold = t.lt(zero) & has_collector(c);
+    if matches!(p.scheme, Scheme::Off) || !cold.any() {
+        return out;
+    }
+    let rho = c.rho;
+    let [_, cs, cg] = c.corrections;
+    let q = |i: usize| c.q[i].max(zero);
+    let (qc, qi, qs, qg) = (q(CLOUD), q(ICE), q(SNOW), q(GRAUPEL));
+    let lwc = rho * qc * 1e3;
+    // Slopes and their powers once per species: they give the speeds,
+    // the collision kernels and the sweep-out rates below.
+    let (has_g, sg) = f.graupel.slope_powers_masked(rho, qg);
+    let (has_s, ss) = f.snow.slope_powers_masked(rho, qs);
+    let has_i = qi.gt(zero);
+    let vg = T::select(has_g, f.graupel.mass_weighted_speed_at(&sg, cg), zero);
+    let vs = T::select(has_s, f.snow.mass_weighted_speed_at(&ss, cs), zero);
+    let one = T::splat(1.0);
+    let qi_or_one = T::select(has_i, qi, one);
+    let vi = T::select(has_i, dsd::ice::speed_of(rho, qi_or_one), zero);
+    let (lg, ls) = (sg.lambda, ss.lambda);
+    let n_ice = rho * c.n_ice;
+    let crystals = has_i & c.n_ice.gt(zero);
+    let d_ice = T::select(
+        crystals,
+        dsd::ice::diameter_of(qi_or_one, T::select(crystals, c.n_ice, one)),
+        zero,
+    );
+    // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
+    let (e_snow, e_graupel) = crate::physics::microphysics::rates::collection_efficiencies(t);
+    let (sep_g, sep_s) = (one - e_graupel, one - e_snow);
+    // Droplets' collision efficiency on each collector (its mass-weighted
+    // mean diameter 4/lambda and speed), for the effective water content.
+    // Graupel's efficiency serves both of its collision kinds.
+    let riming_graupel = riming_efficiency_of(p, f, has_g, lg, vg, rho);
+    // Rebounding collisions (m-3 s-1) times the charge per collision
+    // (crystal size d, impact speed dv, collector speed v).
+    let collision = |d: T, dv: T, v: T, e: T| Collision {
+        t,
+        lwc,
+        crystal: d,
+        impact_speed: dv,
+        collector_speed: v,
+        efficiency: e,
+    };
+    let mut capped = zero;
+    let graupel_ice = cold & has_g & crystals;
+    if graupel_ice.any() {
+        let dv = (vg - vi).abs();
+        let n = collisions::crystals_on_exponential_of(n_ice, d_ice, dv, f.graupel.n0, lg);
+        let c = collision(d_ice, dv, vg, riming_graupel);
+        out.graupel_ice = rate_of(p, graupel_ice, n * sep_g, &c, &mut capped);
+    }
+    let graupel_snow = cold & has_g & has_s;
+    if p.graupel_snow && graupel_snow.any() {
+        let dv = (vg - vs).abs();
+        let n = collisions::exponential_pair_of(f.graupel.n0, lg, f.snow.n0, ls, dv);
+        let c = collision(one / ls, dv, vg, riming_graupel);
+        out.graupel_snow = rate_of(p, graupel_snow, n * sep_g, &c, &mut capped);
+    }
+    let snow_ice = cold & has_s & crystals;
+    if snow_ice.any() {
+        let dv = (vs - vi).abs();
+        let n = collisions::crystals_on_exponential_of(n_ice, d_ice, dv, f.snow.n0, ls);
+        let c = collision(
+            d_ice,
+            dv,
+            vs,
+            riming_efficiency_of(p, f, has_s, ls, vs, rho),
+        );
+        out.snow_ice = rate_of(p, snow_ice, n * sep_s, &c, &mut capped);
+    }
+    out.capped = capped;
+    out
+}
+
+/// The droplets' collision efficiency (1) on a collector of slope `lambda`
+/// (m-1: mass-weighted mean diameter 4/lambda) moving at `v` (m s-1), in
+/// the lanes `present` (zero elsewhere). A function, not a closure, so that
+/// it is compiled with the caller's instruction set.
+#[inline(always)]
+fn riming_efficiency_of<T: Lane>(
+    p: &ChargingParams,
+    f: &MicroParams,
+    present: T::Mask,
+    lambda: T,
+    v: T,
+    rho: T,
+) -> T {
+    let zero = T::splat(0.0);
+    if !present.any() {
+        return zero;
+    }
+    let e = p
+        .riming_efficiency
+        .of_lanes(f.droplet_diameter, T::splat(4.0) / lambda, v, rho);
+    T::select(present, e, zero)
+}
+
+/// The separation rate (C m-3 s-1) of `collisions` (m-3 s-1) rebounding
+/// collisions under conditions `c` in the lanes `m` (zero elsewhere); adds
+/// one to `capped` in the lanes where collisions happen and the cap bound.
+#[inline(always)]
+fn rate_of<T: Lane>(
+    p: &ChargingParams,
+    m: T::Mask,
+    collisions: T,
+    c: &Collision<T>,
+    capped: &mut T,
+) -> T {
+    let zero = T::splat(0.0);
+    let (q, cap) = p.per_collision_capped_of(c);
+    *capped += T::select(m & cap & collisions.gt(zero), T::splat(1.0), zero);
+    T::select(m, collisions * q, zero)
+}
+
 /// Separates charge in one cell over `dt` s: updates the cell's carrier
 /// charge densities `charge` (C m-3, `Carrier::ALL` order) and returns the
-/// rates. Non-inductive separation first, then inductive charging, which
-/// sees the collector charge the first left behind.
+/// rates. Non-inductive separation first ([`separation_rates_of`]), then
+/// inductive charging, which sees the collector charge the first left
+/// behind.
 pub fn charge_cell(
     p: &ChargingParams,
     f: &MicroParams,
@@ -199,84 +386,32 @@ pub fn charge_cell(
     charge: &mut [f64; Carrier::COUNT],
     dt: f64,
 ) -> CellRates {
-    let rho = c.rho;
-    let [cr, cs, cg] = c.corrections;
-    let t = c.t;
-    let q = |i: usize| c.q[i].max(0.0);
-    let (qc, qr, qi, qs, qg) = (q(CLOUD), q(RAIN), q(ICE), q(SNOW), q(GRAUPEL));
-    // Every mechanism below needs a collector (graupel, snow or rain);
-    // without one the cell's rates are zero and nothing else is computed.
-    // A collector below the microphysics' smallest present mixing ratio
-    // (the traces eddy mixing carries out of the cloud) makes collisions
-    // some fifteen orders of magnitude fewer than in the cloud and counts
-    // as absent.
-    if qg <= TINY && qs <= TINY && qr <= TINY {
+    let separation = separation_rates_of(p, f, c);
+    apply_separation(p, f, c, &separation, charge, dt)
+}
+
+/// Applies one cell's non-inductive rates `s` ([`separation_rates_of`])
+/// over `dt` s to its carrier charge densities `charge` (C m-3), then its
+/// inductive charging; returns all its rates.
+pub fn apply_separation(
+    p: &ChargingParams,
+    f: &MicroParams,
+    c: &CellInputs,
+    s: &Separation<f64>,
+    charge: &mut [f64; Carrier::COUNT],
+    dt: f64,
+) -> CellRates {
+    // Without a collector nothing charges (and nothing is touched).
+    if !has_collector(c) {
         return CellRates::default();
     }
-    let lwc = rho * qc * 1e3;
-    // Slopes and their powers once per species: they give the speeds,
-    // the collision kernels and the sweep-out rates below.
-    let (sg, ss, sr) = (
-        f.graupel.slope_powers(rho, qg),
-        f.snow.slope_powers(rho, qs),
-        f.rain.slope_powers(rho, qr),
-    );
-    let (vg, vs, vi) = (
-        sg.map_or(0.0, |s| f.graupel.mass_weighted_speed_at(&s, cg)),
-        ss.map_or(0.0, |s| f.snow.mass_weighted_speed_at(&s, cs)),
-        dsd::ice::speed(rho, qi),
-    );
-    let slope = |s: Option<dsd::SlopePowers>| s.map_or(f64::INFINITY, |s| s.lambda);
-    let (lg, ls) = (slope(sg), slope(ss));
-    let n_ice = rho * c.n_ice;
-    let d_ice = dsd::ice::diameter(qi, c.n_ice);
-    // Rebounding collisions (m-3 s-1) times the charge per collision
-    // (crystal size d, impact speed dv, collector speed v).
-    let capped = std::cell::Cell::new(0u8);
-    // Droplets' collision efficiency on each collector (its mass-weighted
-    // mean diameter 4/lambda and speed), for the effective water content.
-    let efficiency = |lambda: f64, v: f64| {
-        p.riming_efficiency
-            .of(f.droplet_diameter, 4.0 / lambda, v, rho)
+    let mut out = CellRates {
+        graupel_ice: s.graupel_ice,
+        graupel_snow: s.graupel_snow,
+        snow_ice: s.snow_ice,
+        capped: s.capped as u8,
+        ..CellRates::default()
     };
-    let rate = |collisions: f64, d: f64, dv: f64, v: f64, e: f64| {
-        let (q, cap) = p.per_collision_capped(&Collision {
-            t,
-            lwc,
-            crystal: d,
-            impact_speed: dv,
-            collector_speed: v,
-            efficiency: e,
-        });
-        if cap && collisions > 0.0 {
-            capped.set(capped.get() + 1);
-        }
-        collisions * q
-    };
-    let mut out = CellRates::default();
-    if t < 0.0 && !matches!(p.scheme, Scheme::Off) {
-        // 1 - E_coll with the microphysics' efficiencies, t = T - T0 (K).
-        let (e_snow, e_graupel) = crate::physics::microphysics::rates::collection_efficiencies(t);
-        let (sep_g, sep_s) = (1.0 - e_graupel, 1.0 - e_snow);
-        // Graupel's efficiency serves both of its collision kinds.
-        let riming_graupel = if qg > 0.0 { efficiency(lg, vg) } else { 0.0 };
-        if qg > 0.0 && qi > 0.0 {
-            let dv = (vg - vi).abs();
-            let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
-            out.graupel_ice = rate(n * sep_g, d_ice, dv, vg, riming_graupel);
-        }
-        if p.graupel_snow && qg > 0.0 && qs > 0.0 {
-            let dv = (vg - vs).abs();
-            let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
-            out.graupel_snow = rate(n * sep_g, 1.0 / ls, dv, vg, riming_graupel);
-        }
-        if qs > 0.0 && qi > 0.0 {
-            let dv = (vs - vi).abs();
-            let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls);
-            out.snow_ice = rate(n * sep_s, d_ice, dv, vs, efficiency(ls, vs));
-        }
-    }
-    out.capped = capped.get();
     for (r, gainer, loser) in [
         (out.graupel_ice, Carrier::Graupel, Carrier::Ice),
         (out.graupel_snow, Carrier::Graupel, Carrier::Snow),
@@ -284,17 +419,25 @@ pub fn charge_cell(
     ] {
         separate(charge, gainer, loser, r * dt);
     }
+    let rho = c.rho;
+    let qc = c.q[CLOUD].max(0.0);
     if p.inductive && qc > 0.0 {
+        let [cr, _, cg] = c.corrections;
         // The droplets of the microphysics (one droplet size in the model).
         let m_drop = f.droplet_mass();
         let drops = rho * qc / m_drop; // m-3
-        for (carrier, dist, powers, correction) in [
-            (Carrier::Graupel, &f.graupel, sg, cg),
-            (Carrier::Rain, &f.rain, sr, cr),
+        for (carrier, dist, q, correction) in [
+            (Carrier::Graupel, &f.graupel, c.q[GRAUPEL], cg),
+            (Carrier::Rain, &f.rain, c.q[RAIN], cr),
         ] {
             let mut r = 0.0;
             let on = carrier == Carrier::Graupel || p.inductive_rain;
-            if let Some(s) = powers.filter(|s| on && s.lambda.is_finite()) {
+            let powers = if on {
+                dist.slope_powers(rho, q.max(0.0))
+            } else {
+                None
+            };
+            if let Some(s) = powers.filter(|s| s.lambda.is_finite()) {
                 let lam = s.lambda;
                 let number = dist.n0 / lam; // collectors per m3
                 let q_mean = charge[carrier.index()] / number;

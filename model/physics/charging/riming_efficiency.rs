@@ -36,6 +36,8 @@
 //! 0.5 mm graupel at 2 m/s with 0.74; 10 um droplets on that graupel with
 //! 0.43 (tests/literature_charging.rs checks the limits of the forms).
 
+use crate::physics::lanes::{Lane, Mask};
+
 named_choice! {
     /// How the effective water content of the rime accretion rate is
     /// formed (`charging.riming_efficiency`).
@@ -54,9 +56,15 @@ impl RimingEfficiency {
     /// (m s-1) through air of density `rho_air` (kg m-3), with the
     /// microphysics' air viscosity.
     pub fn of(self, droplet: f64, collector: f64, speed: f64, rho_air: f64) -> f64 {
+        self.of_lanes(droplet, collector, speed, rho_air)
+    }
+
+    /// [`Self::of`] lane by lane ([`crate::physics::lanes`]).
+    #[inline(always)]
+    pub fn of_lanes<T: Lane>(self, droplet: f64, collector: T, speed: T, rho_air: T) -> T {
         match self {
-            RimingEfficiency::Unity => 1.0,
-            RimingEfficiency::Langmuir1948 => langmuir_1948(
+            RimingEfficiency::Unity => T::splat(1.0),
+            RimingEfficiency::Langmuir1948 => langmuir_1948_of(
                 droplet,
                 collector,
                 speed,
@@ -72,27 +80,41 @@ impl RimingEfficiency {
 /// `droplet` (m), in air of density `rho_air` (kg m-3) and dynamic
 /// viscosity `mu` (Pa s); Langmuir (1948) as in the module documentation.
 pub fn langmuir_1948(droplet: f64, collector: f64, speed: f64, rho_air: f64, mu: f64) -> f64 {
-    if !(collector > 0.0 && speed > 0.0 && droplet > 0.0) {
-        return 0.0;
+    langmuir_1948_of(droplet, collector, speed, rho_air, mu)
+}
+
+/// [`langmuir_1948`] lane by lane for a droplet diameter common to all
+/// lanes; zero in lanes without a moving collector.
+#[inline(always)]
+pub fn langmuir_1948_of<T: Lane>(droplet: f64, collector: T, speed: T, rho_air: T, mu: f64) -> T {
+    let zero = T::splat(0.0);
+    let moving = collector.gt(zero) & speed.gt(zero);
+    // Also false for a NaN diameter.
+    let droplets = droplet > 0.0;
+    if !droplets || !moving.any() {
+        return zero;
     }
-    let k =
-        crate::physics::constants::RHO_WATER * droplet * droplet * speed / (9.0 * mu * collector);
+    let k = speed * (crate::physics::constants::RHO_WATER * droplet * droplet)
+        / (collector * (9.0 * mu));
     let reynolds = rho_air * speed * collector / mu;
-    let e_pot = if k <= 1.0 / 12.0 {
-        0.0
+    let ratio = k / (k + 0.5);
+    let e = ratio * ratio;
+    // Langmuir's critical value cuts potential-flow impaction off at
+    // K = 1/12; between it and 0.2 the efficiency is ramped to zero.
+    let ramp = e * (k - 1.0 / 12.0) / (0.2 - 1.0 / 12.0);
+    let e_pot = T::select(
+        k.le(T::splat(1.0 / 12.0)),
+        zero,
+        T::select(k.lt(T::splat(0.2)), ramp, e),
+    );
+    let viscous = k.gt(T::splat(1.214));
+    let e_vis = if viscous.any() {
+        let x = (k * 2.0).ln() * 0.75 / (k - 1.214) + 1.0;
+        T::select(viscous, T::splat(1.0) / (x * x), zero)
     } else {
-        let e = (k / (k + 0.5)).powi(2);
-        if k < 0.2 {
-            e * (k - 1.0 / 12.0) / (0.2 - 1.0 / 12.0)
-        } else {
-            e
-        }
-    };
-    let e_vis = if k > 1.214 {
-        (1.0 + 0.75 * (2.0 * k).ln() / (k - 1.214)).powi(-2)
-    } else {
-        0.0
+        zero
     };
     let w = reynolds / 60.0;
-    ((e_vis + e_pot * w) / (1.0 + w)).clamp(0.0, 1.0)
+    let e = (e_vis + e_pot * w) / (w + 1.0);
+    T::select(moving, e.max(zero).min(T::splat(1.0)), zero)
 }

@@ -18,38 +18,41 @@
 //! clamp needed above: no charging is applied warmer than 0 degC), RAR up to
 //! 10 g m-2 s-1, crystal diameter 10 um to 1 mm, impact speed 1 to 10 m s-1.
 
-/// Critical rime accretion rate (g m-2 s-1) at temperature `t` (degC).
-pub fn critical_rar(t: f64) -> f64 {
-    if t < -23.7 {
-        return 3.4;
-    }
-    let t = t.min(0.0);
+use crate::physics::lanes::Lane;
+
+/// Critical rime accretion rate (g m-2 s-1) at temperature `t` (degC),
+/// lane by lane ([`crate::physics::lanes`]).
+#[inline(always)]
+pub fn critical_rar<T: Lane>(t: T) -> T {
+    let tc = t.min(T::splat(0.0));
     let c = [
         1.0, 7.9262e-2, 4.4847e-2, 7.4754e-3, 5.4686e-4, 1.6737e-5, 1.7613e-7,
     ];
-    c.iter().rev().fold(0.0, |acc, &ci| acc * t + ci)
+    let poly = c.iter().rev().fold(T::splat(0.0), |acc, &ci| acc * tc + ci);
+    T::select(t.lt(T::splat(-23.7)), T::splat(3.4), poly)
 }
 
 /// Charge (fC) before the size/speed factor, at temperature `t` (degC) and
-/// rime accretion rate `rar` (g m-2 s-1).
-pub fn charge_fc(t: f64, rar: f64) -> f64 {
+/// rime accretion rate `rar` (g m-2 s-1), lane by lane.
+#[inline(always)]
+pub fn charge_fc<T: Lane>(t: T, rar: T) -> T {
     let rc = critical_rar(t);
-    if rar > rc {
-        6.74 * (rar - rc)
-    } else if rar > 0.1 {
-        let x = (rar - 0.5 * (rc + 0.1)) / (rc - 0.1);
-        3.9 * (rc - 0.1) * (4.0 * x * x - 1.0)
-    } else {
-        0.0
-    }
+    let positive = (rar - rc) * 6.74;
+    let x = (rar - (rc + 0.1) * 0.5) / (rc - 0.1);
+    let negative = (rc - 0.1) * 3.9 * (x * x * 4.0 - 1.0);
+    T::select(
+        rar.gt(rc),
+        positive,
+        T::select(rar.gt(T::splat(0.1)), negative, T::splat(0.0)),
+    )
 }
 
-/// Charge gained by the graupel per rebounding collision (C).
-pub fn charge_per_collision(t: f64, rar: f64, d: f64, v: f64) -> f64 {
-    let t = t.clamp(-30.0, 0.0);
-    let rar = rar.clamp(0.0, 10.0);
-    let d = d.clamp(10e-6, 1e-3);
-    let v = v.clamp(1.0, 10.0);
+/// Charge gained by the graupel per rebounding collision (C), lane by lane.
+#[inline(always)]
+pub fn charge_per_collision<T: Lane>(t: T, rar: T, d: T, v: T) -> T {
+    let t = t.max(T::splat(-30.0)).min(T::splat(0.0));
+    let rar = rar.max(T::splat(0.0)).min(T::splat(10.0));
     let q = charge_fc(t, rar);
-    super::size_speed::factor(q > 0.0, d, v) * q * 1e-15
+    // The size/speed factor holds d and V inside their laboratory ranges.
+    super::size_speed::factor(q.gt(T::splat(0.0)), d, v) * q * 1e-15
 }

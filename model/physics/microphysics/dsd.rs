@@ -418,6 +418,12 @@ pub mod ice {
         if q <= 0.0 {
             return 0.0;
         }
-        3.29 * power(rho * q, 0.16) * (RHO_AIR_SEA_LEVEL / rho).sqrt()
+        speed_of(rho, q)
+    }
+
+    /// [`speed`] lane by lane for mixing ratios known to be positive.
+    #[inline(always)]
+    pub fn speed_of<T: Lane>(rho: T, q: T) -> T {
+        power(rho * q, 0.16) * 3.29 * (T::splat(RHO_AIR_SEA_LEVEL) / rho).sqrt()
     }
 }
