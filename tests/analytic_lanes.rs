@@ -159,3 +159,53 @@ fn grouped_charging_matches_each_cell() {
         assert!(charging > 1000, "{scheme}: only {charging} nonzero rates");
     }
 }
+
+/// The column's fall speeds, computed four cells side by side, against
+/// each cell's own mass-weighted speed (`Exponential::mass_weighted_speed_with`;
+/// Heymsfield & Donner 1990 for cloud ice): within 1e-13 relative, a
+/// rounding-level difference (the group's exp and ln are within one unit
+/// in the last place, amplified by the exponents below one of the fall
+/// laws). Zero exactly where a species is absent.
+#[test]
+fn grouped_fall_speeds_match_each_cell() {
+    use stormcharge::column::state::State;
+    use stormcharge::column::transport::update_fall_speeds;
+    use stormcharge::physics::microphysics::dsd;
+    use stormcharge::physics::microphysics::species::Species;
+    let exp = demo(&[]);
+    let mut state = State::initial(&exp);
+    let mut uniform = uniform_stream(99);
+    let n = exp.grid.len();
+    for sp in Species::FALLING {
+        for k in 0..n {
+            state.q[sp.index()][k] = if uniform() < 0.3 {
+                0.0
+            } else {
+                1e-2 * 10f64.powf(-8.0 * uniform())
+            };
+        }
+    }
+    update_fall_speeds(&exp, &mut state);
+    let f = exp.micro_params();
+    let rho = &exp.base.centre.density;
+    for (i, sp) in Species::FALLING.iter().enumerate() {
+        for k in 0..n {
+            let q = state.q[sp.index()][k];
+            let [cr, cs, cg] = exp.cell_env[k].corrections;
+            let alone = match sp {
+                Species::Rain => f.rain.mass_weighted_speed_with(rho[k], q, cr),
+                Species::Snow => f.snow.mass_weighted_speed_with(rho[k], q, cs),
+                Species::Graupel => f.graupel.mass_weighted_speed_with(rho[k], q, cg),
+                _ => dsd::ice::speed(rho[k], q),
+            };
+            let grouped = state.fall_speed[i][k];
+            if q == 0.0 {
+                assert_eq!(grouped, 0.0, "{sp:?} at cell {k}");
+            }
+            assert!(
+                (grouped - alone).abs() <= 1e-13 * alone.abs(),
+                "{sp:?} at cell {k} (q {q:e}): {grouped} in a group against {alone} alone"
+            );
+        }
+    }
+}
