@@ -187,16 +187,22 @@ fn grouped_fall_speeds_match_each_cell() {
     }
     update_fall_speeds(&exp, &mut state);
     let f = exp.micro_params();
-    let rho = &exp.base.centre.density;
     for (i, sp) in Species::FALLING.iter().enumerate() {
-        for k in 0..n {
+        for (k, (&rho, env)) in exp
+            .base
+            .centre
+            .density
+            .iter()
+            .zip(&exp.cell_env)
+            .enumerate()
+        {
             let q = state.q[sp.index()][k];
-            let [cr, cs, cg] = exp.cell_env[k].corrections;
+            let [cr, cs, cg] = env.corrections;
             let alone = match sp {
-                Species::Rain => f.rain.mass_weighted_speed_with(rho[k], q, cr),
-                Species::Snow => f.snow.mass_weighted_speed_with(rho[k], q, cs),
-                Species::Graupel => f.graupel.mass_weighted_speed_with(rho[k], q, cg),
-                _ => dsd::ice::speed(rho[k], q),
+                Species::Rain => f.rain.mass_weighted_speed_with(rho, q, cr),
+                Species::Snow => f.snow.mass_weighted_speed_with(rho, q, cs),
+                Species::Graupel => f.graupel.mass_weighted_speed_with(rho, q, cg),
+                _ => dsd::ice::speed(rho, q),
             };
             let grouped = state.fall_speed[i][k];
             if q == 0.0 {
