@@ -8,61 +8,81 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
-use crate::physics::charging::{rayleigh_limit, SharedCharge};
+use crate::physics::charging::{charge_at_diameter_of, rayleigh_limit, surface_density_of};
 use crate::physics::constants::T_MELT;
 use crate::physics::initiation::hydrometeor::{
-    corona_limited_density, holds_a_particle, surface_field_of_density, tail_diameter,
+    corona_limited_density, holds_a_particle_of, surface_field_of_density, tail_diameter_of,
 };
+use crate::physics::lanes::{Cells, CellsMask, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
-/// The charged particles of one species in one cell.
-struct Tail {
-    species: Species,
-    /// The shared charge: density (C m-3), slope and intercept. Its surface
-    /// charge density is the same for every particle
-    /// ([`SharedCharge::surface_density`]), so the corona test of the
-    /// largest particle needs no diameter; only the Rayleigh limit does.
-    shared: SharedCharge,
+/// The charged particles of one species in a group of [`WIDTH`] cells
+/// ([`crate::physics::lanes`]). With the charge shared by surface area
+/// ([`crate::physics::charging::SharedCharge`]) every particle of a species has the same surface
+/// charge density, so the corona test of the largest particle needs no
+/// diameter; only the Rayleigh limit does.
+struct Tails {
+    /// Lanes where the species has at least one particle per m3 (so that
+    /// its largest particle exists; q above 1e-12 kg kg-1).
+    present: CellsMask,
+    /// Surface charge density (C m-2), [`crate::physics::charging::SharedCharge::surface_density`].
+    sigma: Cells,
     /// Ambient onset field (V m-1) for its kind (drop or ice).
-    onset: f64,
-    /// Diameter (m) of the largest drop (one per m3), for rain only: the
-    /// Rayleigh limit needs it, the corona test does not.
-    largest_drop: Option<f64>,
+    onset: Cells,
+    /// For rain, the Rayleigh share: the largest drop's Rayleigh limit over
+    /// its charge (1; infinite for the ice species).
+    rayleigh_share: Cells,
 }
 
 /// Precipitating species whose largest particles are examined.
 const LARGE: [Species; 3] = [Species::Rain, Species::Snow, Species::Graupel];
 
-/// The particles of `sp` in cell `k`, when the species has at least one
-/// particle per m3 (so that its largest particle exists).
-fn tail(exp: &Experiment, state: &State, sp: Species, k: usize) -> Option<Tail> {
-    let q = state.q[sp.index()][k];
-    let rho = exp.base.centre.density[k];
+/// The particles of `sp` in the cells `cell(0..WIDTH)`: the formulas of
+/// [`crate::physics::charging::SharedCharge`] and of the hydrometeor criteria lane by lane.
+#[inline(always)]
+fn tails(exp: &Experiment, state: &State, sp: Species, cell: impl Fn(usize) -> usize) -> Tails {
     let f = exp.micro_params();
-    let dist = f.exponential(sp)?;
-    let shared = SharedCharge::of(dist, rho, q, state.charge[Carrier::of(sp).index()][k])?;
-    // The largest particle must exist; for rain its diameter is found once here.
-    let largest_drop = if sp == Species::Rain {
-        Some(tail_diameter(shared.n0, shared.lambda)?)
-    } else if holds_a_particle(shared.n0, shared.lambda) {
-        None
-    } else {
-        return None;
-    };
+    let dist = f.exponential(sp).expect("LARGE holds exponential species");
+    let each = |x: &[f64]| Cells::from_lanes(|i| x[cell(i)]);
+    let q = each(&state.q[sp.index()]);
+    let zero = Cells::splat(0.0);
+    let inf = Cells::splat(f64::INFINITY);
+    let massive = q.gt(Cells::splat(1e-12));
+    if !massive.any() {
+        return Tails {
+            present: massive,
+            sigma: zero,
+            onset: inf,
+            rayleigh_share: inf,
+        };
+    }
+    let rho = each(&exp.base.centre.density);
+    let density = each(&state.charge[Carrier::of(sp).index()]);
+    let lambda = dist.slope_of(rho, Cells::select(massive, q, Cells::splat(1.0)));
+    let n0 = dist.n0;
+    let present = massive & holds_a_particle_of(n0, lambda);
+    let sigma = surface_density_of(density, lambda, n0);
     let c = &exp.criteria_thresholds;
-    let p = exp.base.centre.pressure[k];
-    let onset = if sp == Species::Rain {
-        c.onset.drop(p)
+    let (onset, rayleigh_share) = if sp == Species::Rain {
+        let d = tail_diameter_of(n0, lambda);
+        let charge = charge_at_diameter_of(density, lambda, n0, d).abs();
+        let onset = Cells::from_lanes(|i| c.onset.drop(exp.base.centre.pressure[cell(i)]));
+        (onset, rayleigh_limit(d * 0.5) / charge)
     } else {
-        c.onset.ice(p, state.temperature(exp, k) - T_MELT)
+        let onset = Cells::from_lanes(|i| {
+            let k = cell(i);
+            let t = state.temperature(exp, k) - T_MELT;
+            c.onset.ice(exp.base.centre.pressure[k], t)
+        });
+        (onset, inf)
     };
-    Some(Tail {
-        species: sp,
-        shared,
+    Tails {
+        present,
+        sigma,
         onset,
-        largest_drop,
-    })
+        rayleigh_share,
+    }
 }
 
 /// Largest ambient field (V m-1) on the faces of cell `k`.
@@ -71,64 +91,115 @@ fn ambient(state: &State, k: usize) -> f64 {
 }
 
 /// Per cell, the largest surface field of the species' largest particles
-/// over their corona-onset surface field, into `out` (1; 0 without particles).
+/// over their corona-onset surface field, into `out` (1; 0 without
+/// particles), four cells side by side (an AVX2 build is chosen at run
+/// time).
 pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, the only requirement of the
+        // function's target feature.
+        return unsafe { corona_ratios_avx2(exp, state, out) };
+    }
+    corona_ratios_with(exp, state, out)
+}
+
+/// [`corona_ratios_with`] compiled for AVX2 (without fused multiply-add).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn corona_ratios_avx2(exp: &Experiment, state: &State, out: &mut [f64]) {
+    corona_ratios_with(exp, state, out)
+}
+
+#[inline(always)]
+fn corona_ratios_with(exp: &Experiment, state: &State, out: &mut [f64]) {
     let f = exp.criteria_thresholds.enhancement;
-    for (k, r) in out.iter_mut().enumerate() {
-        *r = 0.0;
-        let e = ambient(state, k);
+    let n = out.len();
+    for first in (0..n).step_by(WIDTH) {
+        // A short last group repeats its last cell; those lanes are dropped.
+        let cell = |i: usize| (first + i).min(n - 1);
+        let e = Cells::from_lanes(|i| ambient(state, cell(i)));
+        let mut r = Cells::splat(0.0);
         for sp in LARGE {
-            if let Some(t) = tail(exp, state, sp, k) {
-                let ratio =
-                    surface_field_of_density(e, t.shared.surface_density(), f) / (f * t.onset);
-                *r = r.max(ratio);
+            let t = tails(exp, state, sp, cell);
+            if t.present.any() {
+                let ratio = surface_field_of_density(e, t.sigma, f) / (t.onset * f);
+                r = Cells::select(t.present, r.max(ratio), r);
             }
+        }
+        for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+            *o = r.lane(i);
         }
     }
 }
 
 /// Applies the corona and Rayleigh limits to every cell; returns the charge
-/// moved off the particles (C m-2) by corona and by drop disruption.
+/// moved off the particles (C m-2) by corona and by drop disruption. The
+/// shares are found four cells side by side; charge moves cell by cell.
 pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, the only requirement of the
+        // function's target feature.
+        return unsafe { limit_avx2(exp, state) };
+    }
+    limit_with(exp, state)
+}
+
+/// [`limit_with`] compiled for AVX2 (without fused multiply-add).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn limit_avx2(exp: &Experiment, state: &mut State) -> (f64, f64) {
+    limit_with(exp, state)
+}
+
+#[inline(always)]
+fn limit_with(exp: &Experiment, state: &mut State) -> (f64, f64) {
     let f = exp.criteria_thresholds.enhancement;
     let dz = exp.grid.dz;
+    let n = exp.grid.len();
     let (mut corona, mut disrupted) = (0.0, 0.0);
-    for k in 0..exp.grid.len() {
-        let e = ambient(state, k);
+    for first in (0..n).step_by(WIDTH) {
+        let cell = |i: usize| (first + i).min(n - 1);
+        let e = Cells::from_lanes(|i| ambient(state, cell(i)));
         for sp in LARGE {
-            let Some(t) = tail(exp, state, sp, k) else {
-                continue;
-            };
-            let sigma = t.shared.surface_density().abs();
-            if sigma == 0.0 {
+            // Each species moves only its own carrier's charge (to the ions
+            // or the cloud), so its shares do not depend on the others'.
+            let t = tails(exp, state, sp, cell);
+            let sigma = t.sigma.abs();
+            let acting = t.present & sigma.ne(Cells::splat(0.0));
+            if !acting.any() {
                 continue;
             }
             // The share of its charge the largest particle may keep under
             // each limit; every particle's charge scales with the tail's
             // (sharing by surface area), so the species' density scales by
             // the smaller share. Corona limits the surface charge density,
-            // the same for every size; the Rayleigh limit (drops only)
-            // needs the largest drop's radius.
+            // the same for every size (corona_limited_density); the
+            // Rayleigh limit (drops only) needs the largest drop's radius.
             let corona_share = corona_limited_density(e, f, t.onset) / sigma;
-            let rayleigh_share = match t.largest_drop {
-                Some(d) => rayleigh_limit(0.5 * d) / t.shared.at_diameter(d).abs(),
-                None => f64::INFINITY,
-            };
-            let share = corona_share.min(rayleigh_share);
-            if share >= 1.0 {
+            let share = corona_share.min(t.rayleigh_share);
+            let cut = acting & share.lt(Cells::splat(1.0));
+            if !cut.any() {
                 continue;
             }
-            let from = Carrier::of(t.species).index();
-            let removed = state.charge[from][k] * (1.0 - share);
-            let to = if corona_share <= rayleigh_share {
-                corona += removed.abs() * dz;
-                Carrier::Ions
-            } else {
-                disrupted += removed.abs() * dz;
-                Carrier::Cloud
-            };
-            state.charge[from][k] -= removed;
-            state.charge[to.index()][k] += removed;
+            for i in 0..WIDTH.min(n - first) {
+                if !cut.get(i) {
+                    continue;
+                }
+                let k = first + i;
+                let from = Carrier::of(sp).index();
+                let removed = state.charge[from][k] * (1.0 - share.lane(i));
+                let to = if corona_share.lane(i) <= t.rayleigh_share.lane(i) {
+                    corona += removed.abs() * dz;
+                    Carrier::Ions
+                } else {
+                    disrupted += removed.abs() * dz;
+                    Carrier::Cloud
+                };
+                state.charge[from][k] -= removed;
+                state.charge[to.index()][k] += removed;
+            }
         }
     }
     (corona, disrupted)

@@ -474,9 +474,11 @@ pub const SURFACE_TENSION: f64 = 0.0728;
 
 /// Rayleigh charge limit of a drop of radius `r` (m): Q = 8 pi sqrt(eps0 gamma r^3)
 /// (Rayleigh 1882; 6.38e-10 C for r = 1 mm, docs/references.md).
-pub fn rayleigh_limit(r: f64) -> f64 {
-    8.0 * std::f64::consts::PI
-        * (crate::physics::constants::EPSILON_0 * SURFACE_TENSION * r.powi(3)).sqrt()
+/// Lane by lane ([`crate::physics::lanes`]) for groups of drops.
+#[inline(always)]
+pub fn rayleigh_limit<T: Lane>(r: T) -> T {
+    let tension = crate::physics::constants::EPSILON_0 * SURFACE_TENSION;
+    (r.powi(3) * tension).sqrt() * (8.0 * std::f64::consts::PI)
 }
 
 /// The charge density `charge` (C m-3) of an exponential species with
@@ -527,15 +529,29 @@ impl SharedCharge {
     /// diagnostics); it gives the large particles the charge balloon-borne
     /// instruments measure on millimetre precipitation.
     pub fn at_diameter(&self, d: f64) -> f64 {
-        self.density * d * d * self.lambda.powi(3) / (2.0 * self.n0)
+        charge_at_diameter_of(self.density, self.lambda, self.n0, d)
     }
 
     /// Surface charge density (C m-2) of every particle: the charge of
     /// [`Self::at_diameter`] over the area pi D^2, density lambda^3/(2 pi N0),
     /// the same for every size (derived).
     pub fn surface_density(&self) -> f64 {
-        self.density * self.lambda.powi(3) / (2.0 * std::f64::consts::PI * self.n0)
+        surface_density_of(self.density, self.lambda, self.n0)
     }
+}
+
+/// [`SharedCharge::at_diameter`] lane by lane ([`crate::physics::lanes`]):
+/// charge density `density` (C m-3), slope `lambda` (m-1), intercept `n0`
+/// (m-4), diameter `d` (m).
+#[inline(always)]
+pub fn charge_at_diameter_of<T: Lane>(density: T, lambda: T, n0: f64, d: T) -> T {
+    density * d * d * lambda.powi(3) / (2.0 * n0)
+}
+
+/// [`SharedCharge::surface_density`] lane by lane.
+#[inline(always)]
+pub fn surface_density_of<T: Lane>(density: T, lambda: T, n0: f64) -> T {
+    density * lambda.powi(3) / (2.0 * std::f64::consts::PI * n0)
 }
 
 /// Mean charge per particle (C) and mean radius (m) of an exponential

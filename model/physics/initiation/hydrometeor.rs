@@ -26,6 +26,7 @@
 //! "drastically reduced").
 
 use crate::physics::constants::EPSILON_0;
+use crate::physics::lanes::Lane;
 
 /// Corona-onset fields (ambient, V m-1) from the laboratory.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -74,7 +75,13 @@ impl CoronaOnset {
 /// one particle per m3 (N0/lambda > 1), so that its largest particle of
 /// [`tail_diameter`] exists.
 pub fn holds_a_particle(n0: f64, lambda: f64) -> bool {
-    lambda.is_finite() && n0 / lambda > 1.0
+    holds_a_particle_of(n0, lambda)
+}
+
+/// [`holds_a_particle`] lane by lane ([`crate::physics::lanes`]).
+#[inline(always)]
+pub fn holds_a_particle_of<T: Lane>(n0: f64, lambda: T) -> T::Mask {
+    lambda.lt(T::splat(f64::INFINITY)) & (T::splat(n0) / lambda).gt(T::splat(1.0))
 }
 
 /// Diameter (m) of the largest particle per cubic metre of an exponential
@@ -82,7 +89,13 @@ pub fn holds_a_particle(n0: f64, lambda: f64) -> bool {
 /// D = ln(N0/lambda)/lambda; `None` when the species has less than one
 /// particle per m3.
 pub fn tail_diameter(n0: f64, lambda: f64) -> Option<f64> {
-    holds_a_particle(n0, lambda).then(|| (n0 / lambda).ln() / lambda)
+    holds_a_particle(n0, lambda).then(|| tail_diameter_of(n0, lambda))
+}
+
+/// [`tail_diameter`] lane by lane, for lanes that hold a particle.
+#[inline(always)]
+pub fn tail_diameter_of<T: Lane>(n0: f64, lambda: T) -> T {
+    (T::splat(n0) / lambda).ln() / lambda
 }
 
 /// Largest surface field (V m-1) of a conducting sphere with surface charge
@@ -93,17 +106,18 @@ pub fn tail_diameter(n0: f64, lambda: f64) -> Option<f64> {
 /// of a species has the same sigma
 /// ([`crate::physics::charging::SharedCharge::surface_density`]), so the
 /// largest particle's own part needs no diameter.
-pub fn surface_field_of_density(e: f64, sigma: f64, enhancement: f64) -> f64 {
-    enhancement * e.abs() + sigma.abs() / EPSILON_0
+#[inline(always)]
+pub fn surface_field_of_density<T: Lane>(e: T, sigma: T, enhancement: f64) -> T {
+    e.abs() * enhancement + sigma.abs() / EPSILON_0
 }
 
 /// Largest surface charge density (C m-2) a particle can keep in the
 /// ambient field `e` before its surface field reaches `enhancement` times
 /// the ambient onset `onset`: eps0 f (onset - |E|), zero when the ambient
 /// field alone reaches onset, infinite without onset.
-pub fn corona_limited_density(e: f64, enhancement: f64, onset: f64) -> f64 {
-    if !onset.is_finite() {
-        return f64::INFINITY;
-    }
-    (EPSILON_0 * enhancement * (onset - e.abs())).max(0.0)
+#[inline(always)]
+pub fn corona_limited_density<T: Lane>(e: T, enhancement: f64, onset: T) -> T {
+    let inf = T::splat(f64::INFINITY);
+    let limited = ((onset - e.abs()) * (EPSILON_0 * enhancement)).max(T::splat(0.0));
+    T::select(onset.lt(inf), limited, inf)
 }
