@@ -9,7 +9,10 @@ use crate::error::RunError;
 use crate::physics::charging::follow_mass;
 use crate::physics::microphysics::rates::CellState;
 use crate::physics::microphysics::species::Species;
-use crate::physics::microphysics::{finish_cell, integrate_cells, prepare_cell, CellReport, Mode};
+use crate::physics::microphysics::{
+    adjust_cells, check_cell, clip_cell, integrate_cells, prepare_adjusted, Adjustment, CellReport,
+    Mode,
+};
 use crate::setup::experiment::Experiment;
 
 /// Imposes the prescribed hydrometeor layers at time `t` (s).
@@ -33,29 +36,38 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                 time,
                 message: format!("{message} (cell {k}, z = {} m)", exp.grid.z[k]),
             };
-            // Three passes: each cell's preparation; the integration of the
-            // cells whose rates act, in groups side by side; each cell's
-            // finish with the charge that follows its mass. The cells are
-            // independent, so the result is that of one cell after another.
+            // Passes over the column: each cell's state; the first
+            // saturation adjustment of all cells, in groups side by side;
+            // each cell's preparation; the integration of the cells whose
+            // rates act, in groups; each cell's clipping; the last
+            // adjustment, in groups; each cell's check and the charge that
+            // follows its mass. The cells are independent, so the result is
+            // that of one cell after another.
             let scratch = &mut state.micro_scratch;
             scratch.cells.clear();
             scratch.moving.clear();
             for (k, &env) in exp.cell_env.iter().enumerate() {
-                let mut cell = CellState {
+                let cell = CellState {
                     q: Species::ALL.map(|sp| state.q[sp.index()][k]),
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * env.exner,
                 };
-                let mut report = CellReport::default();
-                if prepare_cell(&mut cell, env, params, &mut report) {
+                scratch.cells.push((cell, env, CellReport::default()));
+            }
+            adjust_cells(&mut scratch.cells, Adjustment::First);
+            for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
+                if prepare_adjusted(cell, *env, params, report) {
                     scratch.moving.push(k);
                 }
-                scratch.cells.push((cell, env, report));
             }
             integrate_cells(&mut scratch.cells, &scratch.moving, params, dt)
                 .map_err(|(k, message)| fail(k, message))?;
+            for (cell, _, report) in scratch.cells.iter_mut() {
+                clip_cell(cell, report);
+            }
+            adjust_cells(&mut scratch.cells, Adjustment::Last);
             for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
-                finish_cell(cell, *env, report).map_err(|message| fail(k, message))?;
+                check_cell(cell, *env).map_err(|message| fail(k, message))?;
                 state.water.clip_created += report.created * env.rho * exp.grid.dz;
                 follow_mass::apply(report, &cell.q, &mut state.charge, k);
                 for sp in Species::ALL {

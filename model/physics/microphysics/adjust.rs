@@ -4,8 +4,8 @@
 
 use super::params::MicroParams;
 use super::rates::{saturation_ratios, CellState};
-use crate::physics::atmosphere::saturation::liquid_pressure_and_slope;
 use crate::physics::constants::{CP_DRY, EPSILON, L_FUSION, L_SUBLIMATION, L_VAPORISATION, T_MELT};
+use crate::physics::lanes::{Lane, Mask};
 use crate::physics::microphysics::species::{CLOUD, ICE, VAPOUR};
 
 /// Temperature of homogeneous freezing of cloud droplets (K): -40 degC
@@ -24,53 +24,80 @@ const L_OVER_CP: f64 = L_VAPORISATION / CP_DRY;
 /// cloud water present. Conserves q_v + q_c and the liquid-water static
 /// energy c_p T - L_v q_c exactly. Returns the condensate formed (kg kg-1).
 pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
-    let (qv0, qc0, t0) = (s.q[VAPOUR], s.q[CLOUD], s.t);
+    let (qv, qc, t, c) = saturation_adjustment_of(s.q[VAPOUR], s.q[CLOUD], s.t, p);
+    (s.q[VAPOUR], s.q[CLOUD], s.t) = (qv, qc, t);
+    c
+}
+
+/// [`saturation_adjustment`] lane by lane ([`crate::physics::lanes`]):
+/// from vapour `qv0`, cloud water `qc0` (kg kg-1) and temperature `t0` (K)
+/// at pressure `p` (Pa), the adjusted (q_v, q_c, T) and the condensate
+/// formed. Each lane takes the one-cell function's operations in its order
+/// (its Newton iterations stop where that cell's would; the saturation
+/// table gives the same bits lane by lane), so a lane's result is the
+/// one-cell result bit for bit.
+#[inline(always)]
+pub fn saturation_adjustment_of<T: Lane>(qv0: T, qc0: T, t0: T, p: T) -> (T, T, T, T) {
+    let zero = T::splat(0.0);
+    let half_p = p * 0.5;
     // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
     // (zero where e is capped at p/2, as in `saturation_ratios`).
-    let f = |c: f64| {
-        let t = t0 + L_OVER_CP * c;
-        let (e, de) = liquid_pressure_and_slope(t);
-        let (e, de) = if e < 0.5 * p { (e, de) } else { (0.5 * p, 0.0) };
-        let inv = 1.0 / (p - e);
-        let r = EPSILON * e * inv;
-        let dr = EPSILON * p * inv * inv * de;
-        (qv0 - c - r, -1.0 - dr * L_OVER_CP)
+    let f = |c: T| {
+        let t = t0 + c * L_OVER_CP;
+        let (e, _, de) =
+            crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope_of(t);
+        let below = e.lt(half_p);
+        let (e, de) = (T::select(below, e, half_p), T::select(below, de, zero));
+        let inv = T::splat(1.0) / (p - e);
+        let r = e * EPSILON * inv;
+        let dr = p * EPSILON * inv * inv * de;
+        (qv0 - c - r, T::splat(-1.0) - dr * L_OVER_CP)
     };
-    let mut fd = f(0.0);
-    if fd.0 <= 0.0 && qc0 <= 0.0 {
-        return 0.0; // subsaturated, no cloud to evaporate
+    let mut fd = f(zero);
+    let subsaturated = fd.0.le(zero);
+    // Subsaturated without cloud to evaporate: nothing changes.
+    let unchanged = subsaturated & qc0.le(zero);
+    if unchanged.all() {
+        return (qv0, qc0, t0, zero);
     }
     // Subsaturated air that stays subsaturated (or just saturated) with all
     // its cloud water evaporated: f decreases with c, so the root lies at or
     // below -qc0 and the clipped result below is -qc0 itself. The Newton
     // iterations would reach the same value; skipping them matters where
     // eddy mixing carries traces of cloud water into clear air.
-    if fd.0 <= 0.0 && f(-qc0).0 <= 0.0 {
-        s.q[VAPOUR] = qv0 + qc0;
-        s.q[CLOUD] = 0.0;
-        s.t = t0 - L_OVER_CP * qc0;
-        return -qc0;
-    }
+    let maybe_dry = subsaturated & !unchanged;
+    let dries = if maybe_dry.any() {
+        maybe_dry & f(-qc0).0.le(zero)
+    } else {
+        maybe_dry
+    };
     // Newton converges quadratically: the error after a step of size d is
     // about |f''/(2 f')| d^2, with f''/(2 f') of order 1e2 kg kg-1 (r_s'' (L_v/c_p)^2
     // over 2 |f'|, from Clausius-Clapeyron) for tropospheric states, so after
     // a step below 1e-11 kg kg-1 the remaining error (< 1e-19 kg kg-1) is
     // below the rounding of q_v and no further evaluation is needed.
-    let mut c = 0.0;
+    let mut c = zero;
+    let mut iterating = !(unchanged | dries);
     for _ in 0..30 {
-        let step = fd.0 / fd.1;
-        c -= step;
-        if step.abs() < 1e-11 {
+        if !iterating.any() {
             break;
         }
-        fd = f(c);
+        let step = fd.0 / fd.1;
+        c = T::select(iterating, c - step, c);
+        iterating = iterating & !step.abs().lt(T::splat(1e-11));
+        if iterating.any() {
+            fd = f(c);
+        }
     }
-    // Cannot evaporate more cloud than exists.
-    let c = c.max(-qc0);
-    s.q[VAPOUR] = qv0 - c;
-    s.q[CLOUD] = qc0 + c;
-    s.t = t0 + L_OVER_CP * c;
-    c
+    // Cannot evaporate more cloud than exists (all of it where it dries).
+    let c = T::select(dries, -qc0, c.max(-qc0));
+    let keep = |x: T, adjusted: T| T::select(unchanged, x, adjusted);
+    (
+        keep(qv0, qv0 - c),
+        keep(qc0, qc0 + c),
+        keep(t0, t0 + c * L_OVER_CP),
+        keep(zero, c),
+    )
 }
 
 /// Homogeneous freezing of cloud water below -40 degC and melting of cloud

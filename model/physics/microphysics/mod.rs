@@ -256,6 +256,18 @@ pub fn prepare_cell(
     // step (docs/numerics.md).
     report.cloud_before_first_adjust = s.q[CLOUD];
     report.condensed_first = adjust::saturation_adjustment(s, env.p);
+    prepare_adjusted(s, env, p, report)
+}
+
+/// The part of [`prepare_cell`] after its saturation adjustment (which
+/// [`adjust_cells`] makes for groups of cells): freezing and melting,
+/// nucleation, and whether the cell's rates can act.
+pub fn prepare_adjusted(
+    s: &mut CellState,
+    env: CellEnv,
+    p: &MicroParams,
+    report: &mut CellReport,
+) -> bool {
     let (qc0, qi0) = (s.q[CLOUD], s.q[ICE]);
     adjust::freeze_or_melt(s, p);
     if s.q[CLOUD] < qc0 {
@@ -280,6 +292,68 @@ pub fn prepare_cell(
     let only_light_cloud =
         s.q[RAIN..].iter().all(|&x| x <= 0.0) && s.q[CLOUD] <= p.autoconversion_threshold;
     has_condensate && !only_light_cloud
+}
+
+/// Which of a step's two saturation adjustments [`adjust_cells`] makes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Adjustment {
+    /// At the start of the step, before the ice processes
+    /// ([`prepare_cell`]); reported in `condensed_first`.
+    First,
+    /// At the end of the step ([`finish_cell`]); reported in `condensed`.
+    Last,
+}
+
+/// The saturation adjustment of every cell (`cells[k]` with its
+/// environment and report), [`WIDTH`] at a time
+/// ([`adjust::saturation_adjustment_of`]): each cell gets the bits the
+/// one-cell adjustment gives it. An AVX2 build is chosen at run time.
+pub fn adjust_cells(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, the only requirement of the
+        // function's target feature.
+        return unsafe { adjust_cells_avx2(cells, which) };
+    }
+    adjust_cells_with(cells, which)
+}
+
+/// [`adjust_cells_with`] compiled for AVX2 (without fused multiply-add).
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn adjust_cells_avx2(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
+    adjust_cells_with(cells, which)
+}
+
+#[inline(always)]
+fn adjust_cells_with(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
+    let n = cells.len();
+    for first in (0..n).step_by(WIDTH) {
+        // A short last group repeats its last cell; those lanes are dropped.
+        let lanes = |g: &dyn Fn(&(CellState, CellEnv, CellReport)) -> f64| {
+            Cells::from_lanes(|i| g(&cells[(first + i).min(n - 1)]))
+        };
+        let (qv, qc, t, condensed) = adjust::saturation_adjustment_of(
+            lanes(&|c| c.0.q[VAPOUR]),
+            lanes(&|c| c.0.q[CLOUD]),
+            lanes(&|c| c.0.t),
+            lanes(&|c| c.1.p),
+        );
+        for (i, (s, _, report)) in cells[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+            let before = s.q[CLOUD];
+            match which {
+                Adjustment::First => {
+                    report.cloud_before_first_adjust = before;
+                    report.condensed_first = condensed.lane(i);
+                }
+                Adjustment::Last => {
+                    report.cloud_before_adjust = before;
+                    report.condensed = condensed.lane(i);
+                }
+            }
+            (s.q[VAPOUR], s.q[CLOUD], s.t) = (qv.lane(i), qc.lane(i), t.lane(i));
+        }
+    }
 }
 
 /// Integrates the processes of the prepared cells `cells[k]` for k in
@@ -414,6 +488,16 @@ fn integrate_cells_with(
 /// the checks that the state is finite and inside the validity of the
 /// saturation formulas.
 pub fn finish_cell(s: &mut CellState, env: CellEnv, report: &mut CellReport) -> Result<(), String> {
+    clip_cell(s, report);
+    report.cloud_before_adjust = s.q[CLOUD];
+    report.condensed = adjust::saturation_adjustment(s, env.p);
+    check_cell(s, env)
+}
+
+/// The first part of [`finish_cell`]: negative mixing ratios clipped to
+/// zero against the vapour (mass created, if the vapour goes negative, in
+/// `report.created`), the crystal number with its ice.
+pub fn clip_cell(s: &mut CellState, report: &mut CellReport) {
     let mut created = 0.0;
     for i in 1..6 {
         if s.q[i] < 0.0 {
@@ -429,8 +513,11 @@ pub fn finish_cell(s: &mut CellState, env: CellEnv, report: &mut CellReport) -> 
         s.n_ice = 0.0;
     }
     report.created = created;
-    report.cloud_before_adjust = s.q[CLOUD];
-    report.condensed = adjust::saturation_adjustment(s, env.p);
+}
+
+/// The last part of [`finish_cell`], after its saturation adjustment: the
+/// cell's state must be finite and within the saturation formulas' range.
+pub fn check_cell(s: &CellState, env: CellEnv) -> Result<(), String> {
     // A state that is not finite, or a temperature outside the validity of
     // the saturation formulas, means the integration has gone wrong; stop
     // with a message that says which.
