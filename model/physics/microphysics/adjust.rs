@@ -39,21 +39,9 @@ pub fn saturation_adjustment(s: &mut CellState, p: f64) -> f64 {
 #[inline(always)]
 pub fn saturation_adjustment_of<T: Lane>(qv0: T, qc0: T, t0: T, p: T) -> (T, T, T, T) {
     let zero = T::splat(0.0);
-    let half_p = p * 0.5;
-    // f(c) and f'(c); r_s = eps e/(p - e), so dr_s/dT = eps p/(p - e)^2 de/dT
-    // (zero where e is capped at p/2, as in `saturation_ratios`).
-    let f = |c: T| {
-        let t = t0 + c * L_OVER_CP;
-        let (e, _, de) =
-            crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope_of(t);
-        let below = e.lt(half_p);
-        let (e, de) = (T::select(below, e, half_p), T::select(below, de, zero));
-        let inv = T::splat(1.0) / (p - e);
-        let r = e * EPSILON * inv;
-        let dr = p * EPSILON * inv * inv * de;
-        (qv0 - c - r, T::splat(-1.0) - dr * L_OVER_CP)
-    };
-    let mut fd = f(zero);
+    // f(c) and f'(c) come from a function, not a closure, so that they are
+    // compiled with the caller's instruction set.
+    let mut fd = adjustment_residual(zero, qv0, t0, p);
     let subsaturated = fd.0.le(zero);
     // Subsaturated without cloud to evaporate: nothing changes.
     let unchanged = subsaturated & qc0.le(zero);
@@ -67,7 +55,7 @@ pub fn saturation_adjustment_of<T: Lane>(qv0: T, qc0: T, t0: T, p: T) -> (T, T, 
     // eddy mixing carries traces of cloud water into clear air.
     let maybe_dry = subsaturated & !unchanged;
     let dries = if maybe_dry.any() {
-        maybe_dry & f(-qc0).0.le(zero)
+        maybe_dry & adjustment_residual(-qc0, qv0, t0, p).0.le(zero)
     } else {
         maybe_dry
     };
@@ -86,7 +74,7 @@ pub fn saturation_adjustment_of<T: Lane>(qv0: T, qc0: T, t0: T, p: T) -> (T, T, 
         c = T::select(iterating, c - step, c);
         iterating = iterating & !step.abs().lt(T::splat(1e-11));
         if iterating.any() {
-            fd = f(c);
+            fd = adjustment_residual(c, qv0, t0, p);
         }
     }
     // Cannot evaporate more cloud than exists (all of it where it dries).
@@ -98,6 +86,27 @@ pub fn saturation_adjustment_of<T: Lane>(qv0: T, qc0: T, t0: T, p: T) -> (T, T, 
         keep(t0, t0 + c * L_OVER_CP),
         keep(zero, c),
     )
+}
+
+/// f(c) = q_v0 - c - r_s(T0 + L_v c / c_p, p) of the saturation adjustment
+/// and its derivative f'(c), lane by lane; r_s = eps e/(p - e), so
+/// dr_s/dT = eps p/(p - e)^2 de/dT (zero where e is capped at p/2, as in
+/// `saturation_ratios`).
+#[inline(always)]
+fn adjustment_residual<T: Lane>(c: T, qv0: T, t0: T, p: T) -> (T, T) {
+    let t = t0 + c * L_OVER_CP;
+    let (e, _, de) =
+        crate::physics::atmosphere::saturation::saturation_pressures_and_liquid_slope_of(t);
+    let half_p = p * 0.5;
+    let below = e.lt(half_p);
+    let (e, de) = (
+        T::select(below, e, half_p),
+        T::select(below, de, T::splat(0.0)),
+    );
+    let inv = T::splat(1.0) / (p - e);
+    let r = e * EPSILON * inv;
+    let dr = p * EPSILON * inv * inv * de;
+    (qv0 - c - r, T::splat(-1.0) - dr * L_OVER_CP)
 }
 
 /// Homogeneous freezing of cloud water below -40 degC and melting of cloud
