@@ -209,6 +209,11 @@ fn accumulate<T: Lane, const S: usize, const M: usize>(
     }
 }
 
+/// The stage derivatives and quadrature rates of an `S`-stage pair, kept by
+/// the caller of [`whole_step`] across groups so they are not cleared for
+/// each (every stage is written before it is read).
+pub type Stages<T, const N: usize, const M: usize, const S: usize> = ([[T; N]; S], [[T; M]; S]);
+
 /// The first trial step of [`integrate`] (the whole `span` at once) for a
 /// group of cells side by side: the end state, the transfer integrals, and
 /// for each lane whether the step was accepted. A lane that was not
@@ -223,13 +228,13 @@ pub fn whole_step<T: Lane, const S: usize, const N: usize, const M: usize>(
     first: ([T; N], [T; M]),
     span: f64,
     tol: Tolerance,
+    stages: &mut Stages<T, N, M, S>,
 ) -> (T::Mask, [T; N], [T; M]) {
-    let mut k = [[T::splat(0.0); N]; S];
-    let mut w = [[T::splat(0.0); M]; S];
+    let (k, w) = stages;
     (k[0], w[0]) = first;
-    let (y, err) = attempt(pair, &mut f, &y0, &mut k, &mut w, span, tol);
+    let (y, err) = attempt(pair, &mut f, &y0, k, w, span, tol);
     let mut integrals = [T::splat(0.0); M];
-    accumulate(pair, &w, span, &mut integrals);
+    accumulate(pair, w, span, &mut integrals);
     (err.le(T::splat(1.0)), y, integrals)
 }
 

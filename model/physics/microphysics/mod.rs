@@ -435,6 +435,11 @@ fn integrate_cells_with(
         relative: p.rtol,
         absolute: p.atol,
     };
+    // Stage buffers for either pair, cleared once per call rather than per
+    // group.
+    let zero = Cells::default();
+    let mut bogacki_shampine = ([[zero; 8]; 4], [[zero; rates::N_TRANSFERS]; 4]);
+    let mut dormand_prince = ([[zero; 8]; 7], [[zero; rates::N_TRANSFERS]; 7]);
     for group in which.chunks(WIDTH) {
         let lane = |i: usize| group[i.min(group.len() - 1)];
         let vectors: [[f64; 8]; WIDTH] = std::array::from_fn(|i| state_vector(&cells[lane(i)].0));
@@ -456,10 +461,12 @@ fn integrate_cells_with(
         };
         let (accepted, y, integrals) = match p.integrator {
             Integrator::BogackiShampine1989 => {
-                integrator::whole_step(&integrator::BOGACKI_SHAMPINE_1989, rhs, y0, first, dt, tol)
+                let pair = &integrator::BOGACKI_SHAMPINE_1989;
+                integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut bogacki_shampine)
             }
             Integrator::DormandPrince1980 => {
-                integrator::whole_step(&integrator::DORMAND_PRINCE_1980, rhs, y0, first, dt, tol)
+                let pair = &integrator::DORMAND_PRINCE_1980;
+                integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut dormand_prince)
             }
             // The reference integrator takes every cell on its own.
             Integrator::OdeSolversDopri5 => (!moving, y0, first.1),
