@@ -8,7 +8,9 @@
 
 use crate::column::state::State;
 use crate::physics::carriers::Carrier;
-use crate::physics::charging::{charge_at_diameter_of, rayleigh_limit, surface_density_of};
+use crate::physics::charging::{
+    charge_at_diameter_of, rayleigh_limit, surface_density_of, SHARED_MIN,
+};
 use crate::physics::constants::T_MELT;
 use crate::physics::initiation::hydrometeor::{
     corona_limited_density, holds_a_particle_of, surface_field_of_density, tail_diameter_of,
@@ -24,7 +26,7 @@ use crate::setup::experiment::Experiment;
 /// diameter; only the Rayleigh limit does.
 struct Tails {
     /// Lanes where the species has at least one particle per m3 (so that
-    /// its largest particle exists; q above 1e-12 kg kg-1).
+    /// its largest particle exists; q above `SHARED_MIN`).
     present: CellsMask,
     /// Surface charge density (C m-2), [`crate::physics::charging::SharedCharge::surface_density`].
     sigma: Cells,
@@ -48,7 +50,7 @@ fn tails(exp: &Experiment, state: &State, sp: Species, cell: impl Fn(usize) -> u
     let q = each(&state.q[sp.index()]);
     let zero = Cells::splat(0.0);
     let inf = Cells::splat(f64::INFINITY);
-    let massive = q.gt(Cells::splat(1e-12));
+    let massive = q.gt(Cells::splat(SHARED_MIN));
     if !massive.any() {
         return Tails {
             present: massive,

@@ -481,6 +481,11 @@ pub fn rayleigh_limit<T: Lane>(r: T) -> T {
     (r.powi(3) * tension).sqrt() * (8.0 * std::f64::consts::PI)
 }
 
+/// Smallest mixing ratio (kg kg-1) whose charge is shared over particles
+/// ([`SharedCharge`]); at or below it a species counts as absent for the
+/// per-particle diagnostics and limits (a modelling choice).
+pub const SHARED_MIN: f64 = 1e-12;
+
 /// The charge density `charge` (C m-3) of an exponential species with
 /// mixing ratio `q` shared over its particles: the slope lambda (m-1) and
 /// intercept N0 (m-4) of N(D) = N0 exp(-lambda D) (Marshall & Palmer 1948,
@@ -497,9 +502,10 @@ pub struct SharedCharge {
 
 impl SharedCharge {
     /// The sharing for a species holding `q` (kg kg-1) in air of density
-    /// `rho` (kg m-3); `None` when the species is absent (q <= 1e-12).
+    /// `rho` (kg m-3); `None` when the species is absent (q at or below
+    /// [`SHARED_MIN`]).
     pub fn of(dist: &dsd::Exponential, rho: f64, q: f64, charge: f64) -> Option<Self> {
-        if q <= 1e-12 {
+        if q <= SHARED_MIN {
             return None;
         }
         Some(SharedCharge {
