@@ -215,11 +215,12 @@ fn accumulate<T: Lane, const S: usize, const M: usize>(
 pub type Stages<T, const N: usize, const M: usize, const S: usize> = ([[T; N]; S], [[T; M]; S]);
 
 /// The first trial step of [`integrate`] (the whole `span` at once) for a
-/// group of cells side by side: the end state, the transfer integrals, and
-/// for each lane whether the step was accepted. A lane that was not
-/// accepted must be integrated again on its own ([`integrate`] repeats the
-/// same trial, rejects it and goes on with smaller steps); an accepted
-/// lane's results are the bits [`integrate`] returns for that cell.
+/// group of cells side by side: each lane's error norm (the step is
+/// accepted where it is at most 1), the end state and the transfer
+/// integrals. A lane that was not accepted goes on on its own from that
+/// error ([`integrate_after_trial`]); an accepted lane's results are those
+/// [`integrate`] returns for that cell (to rounding: a group's exp, ln and
+/// cbrt are its own).
 #[inline(always)]
 pub fn whole_step<T: Lane, const S: usize, const N: usize, const M: usize>(
     pair: &EmbeddedPair<S>,
@@ -229,13 +230,13 @@ pub fn whole_step<T: Lane, const S: usize, const N: usize, const M: usize>(
     span: f64,
     tol: Tolerance,
     stages: &mut Stages<T, N, M, S>,
-) -> (T::Mask, [T; N], [T; M]) {
+) -> (T, [T; N], [T; M]) {
     let (k, w) = stages;
     (k[0], w[0]) = first;
     let (y, err) = attempt(pair, &mut f, &y0, k, w, span, tol);
     let mut integrals = [T::splat(0.0); M];
     accumulate(pair, w, span, &mut integrals);
-    (err.le(T::splat(1.0)), y, integrals)
+    (err, y, integrals)
 }
 
 /// Integrates the autonomous system `f` over `span` from `y0`.
@@ -246,11 +247,59 @@ pub fn whole_step<T: Lane, const S: usize, const N: usize, const M: usize>(
 #[inline]
 pub fn integrate<const S: usize, const N: usize, const M: usize>(
     pair: &EmbeddedPair<S>,
+    f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),
+    y0: [f64; N],
+    first: ([f64; N], [f64; M]),
+    span: f64,
+    tol: Tolerance,
+) -> Result<Outcome<N, M>, Failure> {
+    integrate_from(pair, f, y0, first, span, tol, None)
+}
+
+/// [`integrate`] for a cell whose first trial (the whole `span`, taken by
+/// [`whole_step`] in a group) was rejected with the error norm
+/// `trial_error`: goes on as [`integrate`] does after rejecting that trial,
+/// with the step it then chooses, instead of repeating the trial.
+#[inline]
+pub fn integrate_after_trial<const S: usize, const N: usize, const M: usize>(
+    pair: &EmbeddedPair<S>,
+    f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),
+    y0: [f64; N],
+    first: ([f64; N], [f64; M]),
+    span: f64,
+    tol: Tolerance,
+    trial_error: f64,
+) -> Result<Outcome<N, M>, Failure> {
+    integrate_from(pair, f, y0, first, span, tol, Some(trial_error))
+}
+
+/// The step factor after an attempt with error norm `err` (NaN, a stage
+/// that left the physical range, shrinks the step most), at most 1 after a
+/// rejection.
+fn step_factor(err: f64, exponent: f64, accepted: bool) -> f64 {
+    let factor = if err.is_nan() {
+        0.2
+    } else if err == 0.0 {
+        10.0
+    } else {
+        (0.9 * err.powf(-exponent)).clamp(0.2, 10.0)
+    };
+    if accepted {
+        factor
+    } else {
+        factor.min(1.0)
+    }
+}
+
+#[inline(always)]
+fn integrate_from<const S: usize, const N: usize, const M: usize>(
+    pair: &EmbeddedPair<S>,
     mut f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),
     y0: [f64; N],
     first: ([f64; N], [f64; M]),
     span: f64,
     tol: Tolerance,
+    rejected_trial: Option<f64>,
 ) -> Result<Outcome<N, M>, Failure> {
     let mut k = [[0.0; N]; S];
     let mut w = [[0.0; M]; S];
@@ -264,6 +313,11 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
     let mut x = 0.0;
     let mut h = span;
     let exponent = 1.0 / (pair.lower_order as f64 + 1.0);
+    if let Some(err) = rejected_trial {
+        // The whole-span trial was taken and rejected elsewhere.
+        out.rejected = 1;
+        h *= step_factor(err, exponent, false);
+    }
     loop {
         if out.accepted + out.rejected >= MAX_STEPS {
             return Err(Failure::TooManySteps { at: x });
@@ -291,14 +345,6 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
         } else {
             out.rejected += 1;
         }
-        // NaN (a stage that left the physical range) shrinks the step most.
-        let factor = if err.is_nan() {
-            0.2
-        } else if err == 0.0 {
-            10.0
-        } else {
-            (0.9 * err.powf(-exponent)).clamp(0.2, 10.0)
-        };
-        h *= if accept { factor } else { factor.min(1.0) };
+        h *= step_factor(err, exponent, accept);
     }
 }

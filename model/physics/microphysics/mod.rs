@@ -125,6 +125,7 @@ fn integrate_cell(
     p: &MicroParams,
     dt: f64,
     report: &mut CellReport,
+    rejected_trial: Option<f64>,
 ) -> Result<[f64; 8], String> {
     let tol = integrator::Tolerance {
         relative: p.rtol,
@@ -141,20 +142,28 @@ fn integrate_cell(
     };
     match p.integrator {
         Integrator::BogackiShampine1989 => {
-            integrator::integrate(&integrator::BOGACKI_SHAMPINE_1989, rhs, y0, first, dt, tol)
-                .map(|o| {
-                    report.transfers = o.integrals;
-                    o.y
-                })
-                .map_err(|e| fail(&e))
+            let pair = &integrator::BOGACKI_SHAMPINE_1989;
+            match rejected_trial {
+                None => integrator::integrate(pair, rhs, y0, first, dt, tol),
+                Some(e) => integrator::integrate_after_trial(pair, rhs, y0, first, dt, tol, e),
+            }
+            .map(|o| {
+                report.transfers = o.integrals;
+                o.y
+            })
+            .map_err(|e| fail(&e))
         }
         Integrator::DormandPrince1980 => {
-            integrator::integrate(&integrator::DORMAND_PRINCE_1980, rhs, y0, first, dt, tol)
-                .map(|o| {
-                    report.transfers = o.integrals;
-                    o.y
-                })
-                .map_err(|e| fail(&e))
+            let pair = &integrator::DORMAND_PRINCE_1980;
+            match rejected_trial {
+                None => integrator::integrate(pair, rhs, y0, first, dt, tol),
+                Some(e) => integrator::integrate_after_trial(pair, rhs, y0, first, dt, tol, e),
+            }
+            .map(|o| {
+                report.transfers = o.integrals;
+                o.y
+            })
+            .map_err(|e| fail(&e))
         }
         Integrator::OdeSolversDopri5 => {
             let mut init = [0.0; NV];
@@ -207,7 +216,7 @@ pub fn step_cell(
         let mut first = ([0.0; 8], [0.0; rates::N_TRANSFERS]);
         evaluate(&y0, &env, p, &mut first.0, &mut first.1);
         if first.1.iter().any(|&w| w != 0.0) {
-            let y = integrate_cell(y0, first, env, p, dt, report)?;
+            let y = integrate_cell(y0, first, env, p, dt, report, None)?;
             *s = cell_of(y);
         }
     }
@@ -361,9 +370,11 @@ fn adjust_cells_with(cells: &mut [(CellState, CellEnv, CellReport)], which: Adju
 /// [`WIDTH`] at a time: the rates of a
 /// group are evaluated side by side ([`crate::physics::lanes`]) and the group takes the
 /// integrator's first trial step, the whole `dt`, together. A cell whose
-/// trial is rejected (rare: about 3 % of the demo's integrations) is
-/// integrated again on its own, which repeats that trial and goes on with
-/// smaller steps. Every cell ends with what [`step_cell`] gives it, to
+/// trial is rejected (rare: about 3 % of the demo's integrations) goes on
+/// on its own with the smaller step the integrator chooses from the
+/// group's error estimate ([`integrator::integrate_after_trial`]), as the
+/// one-cell integration does after rejecting the same trial. Every cell
+/// ends with what [`step_cell`] gives it, to
 /// rounding (the group's exp, ln and cbrt are its own). A short last group
 /// is filled with copies of its last cell, whose results are dropped.
 pub fn integrate_cells(
@@ -459,7 +470,7 @@ fn integrate_cells_with(
         let rhs = |y: &[Cells; 8], dy: &mut [Cells; 8], w: &mut [Cells; rates::N_TRANSFERS]| {
             eval(y, &env, p, dy, w)
         };
-        let (accepted, y, integrals) = match p.integrator {
+        let (error, y, integrals) = match p.integrator {
             Integrator::BogackiShampine1989 => {
                 let pair = &integrator::BOGACKI_SHAMPINE_1989;
                 integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut bogacki_shampine)
@@ -469,8 +480,11 @@ fn integrate_cells_with(
                 integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut dormand_prince)
             }
             // The reference integrator takes every cell on its own.
-            Integrator::OdeSolversDopri5 => (!moving, y0, first.1),
+            Integrator::OdeSolversDopri5 => (Cells::splat(f64::INFINITY), y0, first.1),
         };
+        let accepted = error.le(Cells::splat(1.0));
+        // The reference integrator repeats the whole step itself.
+        let trial_taken = p.integrator != Integrator::OdeSolversDopri5;
         for (i, &k) in group.iter().enumerate() {
             if !moving.get(i) {
                 continue;
@@ -481,7 +495,8 @@ fn integrate_cells_with(
                 report.transfers = integrals.map(|v| v.0[i]);
             } else {
                 let one = (first.0.map(|v| v.0[i]), first.1.map(|v| v.0[i]));
-                let end = integrate_cell(state_vector(cell), one, *env, p, dt, report)
+                let trial = trial_taken.then(|| error.0[i]);
+                let end = integrate_cell(state_vector(cell), one, *env, p, dt, report, trial)
                     .map_err(|e| (k, e))?;
                 *cell = cell_of(end);
             }
