@@ -102,19 +102,11 @@ pub fn saturation_pressures(t: f64) -> (f64, f64) {
     (ew, ei)
 }
 
-/// The liquid vapour pressure of [`saturation_pressures`] and its exact
-/// temperature derivative (Pa, Pa K-1): the derivative of the same
-/// interpolating cubic, so Newton iterations on it converge quadratically.
-/// Outside the table: the formula and a central difference of it.
-#[inline]
-pub fn liquid_pressure_and_slope(t: f64) -> (f64, f64) {
-    let (ew, _, slope) = saturation_pressures_and_liquid_slope(t);
-    (ew, slope)
-}
-
 /// (e_w, e_i, de_w/dT) (Pa, Pa, Pa K-1) from one pass over the table: the
-/// values of [`saturation_pressures`] and the slope of
-/// [`liquid_pressure_and_slope`], bit for bit.
+/// values of [`saturation_pressures`] and the exact temperature derivative
+/// of the liquid pressure's interpolating cubic, so that Newton iterations
+/// on it (the saturation adjustment) converge quadratically. Outside the
+/// table: the formulas and a central difference of the liquid one.
 #[inline]
 pub fn saturation_pressures_and_liquid_slope(t: f64) -> (f64, f64, f64) {
     match table_position(t) {
