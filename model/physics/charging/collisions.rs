@@ -15,35 +15,21 @@
 use crate::physics::lanes::Lane;
 use std::f64::consts::PI;
 
-/// Crystal-collector collisions (m-3 s-1).
-pub fn crystals_on_exponential(n: f64, d: f64, dv: f64, n0: f64, lambda: f64) -> f64 {
-    if n <= 0.0 || !lambda.is_finite() {
-        return 0.0;
-    }
-    crystals_on_exponential_of(n, d, dv, n0, lambda)
-}
-
-/// [`crystals_on_exponential`] lane by lane ([`crate::physics::lanes`]) for
-/// lanes with crystals and a collector (the caller masks the others).
+/// Crystal-collector collisions (m-3 s-1), lane by lane
+/// ([`crate::physics::lanes`]), for lanes with crystals (n > 0) and a
+/// collector (finite lambda); the caller masks the others.
 #[inline(always)]
-pub fn crystals_on_exponential_of<T: Lane>(n: T, d: T, dv: T, n0: f64, lambda: T) -> T {
+pub fn crystals_on_exponential<T: Lane>(n: T, d: T, dv: T, n0: f64, lambda: T) -> T {
     n * (0.25 * PI)
         * dv.abs()
         * n0
         * (T::splat(2.0) / lambda.powi(3) + d * 2.0 / (lambda * lambda) + d * d / lambda)
 }
 
-/// Collisions between two exponential species (m-3 s-1).
-pub fn exponential_pair(n0x: f64, lx: f64, n0y: f64, ly: f64, dv: f64) -> f64 {
-    if !lx.is_finite() || !ly.is_finite() {
-        return 0.0;
-    }
-    exponential_pair_of(n0x, lx, n0y, ly, dv)
-}
-
-/// [`exponential_pair`] lane by lane for lanes holding both species.
+/// Collisions between two exponential species (m-3 s-1), lane by lane, for
+/// lanes holding both (finite slopes); the caller masks the others.
 #[inline(always)]
-pub fn exponential_pair_of<T: Lane>(n0x: f64, lx: T, n0y: f64, ly: T, dv: T) -> T {
+pub fn exponential_pair<T: Lane>(n0x: f64, lx: T, n0y: f64, ly: T, dv: T) -> T {
     dv.abs()
         * (0.5 * PI * n0x * n0y)
         * (T::splat(1.0) / (lx.powi(3) * ly)

@@ -307,21 +307,21 @@ pub fn separation_rates_of<T: Lane>(
     let graupel_ice = cold & has_g & crystals;
     if graupel_ice.any() {
         let dv = (vg - vi).abs();
-        let n = collisions::crystals_on_exponential_of(n_ice, d_ice, dv, f.graupel.n0, lg);
+        let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.graupel.n0, lg);
         let c = collision(d_ice, dv, vg, riming_graupel);
         out.graupel_ice = rate_of(p, graupel_ice, n * sep_g, &c, &mut capped);
     }
     let graupel_snow = cold & has_g & has_s;
     if p.graupel_snow && graupel_snow.any() {
         let dv = (vg - vs).abs();
-        let n = collisions::exponential_pair_of(f.graupel.n0, lg, f.snow.n0, ls, dv);
+        let n = collisions::exponential_pair(f.graupel.n0, lg, f.snow.n0, ls, dv);
         let c = collision(one / ls, dv, vg, riming_graupel);
         out.graupel_snow = rate_of(p, graupel_snow, n * sep_g, &c, &mut capped);
     }
     let snow_ice = cold & has_s & crystals;
     if snow_ice.any() {
         let dv = (vs - vi).abs();
-        let n = collisions::crystals_on_exponential_of(n_ice, d_ice, dv, f.snow.n0, ls);
+        let n = collisions::crystals_on_exponential(n_ice, d_ice, dv, f.snow.n0, ls);
         let c = collision(
             d_ice,
             dv,
@@ -374,25 +374,11 @@ fn rate_of<T: Lane>(
     T::select(m, collisions * q, zero)
 }
 
-/// Separates charge in one cell over `dt` s: updates the cell's carrier
-/// charge densities `charge` (C m-3, `Carrier::ALL` order) and returns the
-/// rates. Non-inductive separation first ([`separation_rates_of`]), then
-/// inductive charging, which sees the collector charge the first left
-/// behind.
-pub fn charge_cell(
-    p: &ChargingParams,
-    f: &MicroParams,
-    c: &CellInputs,
-    charge: &mut [f64; Carrier::COUNT],
-    dt: f64,
-) -> CellRates {
-    let separation = separation_rates_of(p, f, c);
-    apply_separation(p, f, c, &separation, charge, dt)
-}
-
-/// Applies one cell's non-inductive rates `s` ([`separation_rates_of`])
-/// over `dt` s to its carrier charge densities `charge` (C m-3), then its
-/// inductive charging; returns all its rates.
+/// Separates charge in one cell over `dt` s: applies its non-inductive
+/// rates `s` ([`separation_rates_of`], evaluated for its group) to its
+/// carrier charge densities `charge` (C m-3, `Carrier::ALL` order), then
+/// its inductive charging, which sees the collector charge the first left
+/// behind; returns all its rates.
 pub fn apply_separation(
     p: &ChargingParams,
     f: &MicroParams,
