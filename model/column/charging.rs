@@ -8,7 +8,7 @@ use crate::physics::carriers::Carrier;
 use crate::physics::charging::{
     apply_separation, celsius, separation_rates_of, CellInputs, CellRates, Scheme, Separation,
 };
-use crate::physics::lanes::{Cells, Lane, WIDTH};
+use crate::physics::lanes::{with_avx2, Cells, Lane, WIDTH};
 use crate::setup::experiment::Experiment;
 
 /// Charge sources over `dt` s (half a step in the symmetric splitting of
@@ -23,21 +23,12 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64, record: bool) {
     if matches!(p.scheme, Scheme::Off) && !p.inductive {
         return;
     }
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { separate_avx2(exp, state, dt, record) };
-    }
-    separate_with(exp, state, dt, record)
+    separate(exp, state, dt, record)
 }
 
-/// [`separate_with`] compiled for AVX2 (without fused multiply-add, so the
-/// bits are those of the portable build).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn separate_avx2(exp: &Experiment, state: &mut State, dt: f64, record: bool) {
-    separate_with(exp, state, dt, record)
+with_avx2! {
+    /// [`separate_with`] in the build the processor allows.
+    fn separate(exp: &Experiment, state: &mut State, dt: f64, record: bool) => separate_with
 }
 
 /// The charging of every cell: the rates of a group of [`WIDTH`] cells

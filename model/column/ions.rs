@@ -11,7 +11,7 @@ use crate::physics::constants::{ELEMENTARY_CHARGE, RHO_WATER};
 use crate::physics::ions::attachment::population_rates_of;
 use crate::physics::ions::balance_step;
 use crate::physics::ions::conduction::{drift, DriftColumn};
-use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
+use crate::physics::lanes::{with_avx2, Cells, Lane, Mask, WIDTH};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
@@ -49,27 +49,14 @@ pub fn set_carrier(charge: &mut [f64], n_ion: &[Vec<f64>; 2]) {
     }
 }
 
-/// The attachment rates (s-1) of positive and negative ions to every
-/// hydrometeor population of every cell (`out[k]`, `Species::HYDROMETEORS`
-/// order; zero where a species is absent), four cells side by side
-/// ([`crate::physics::lanes`]): each population's number, mean radius and
-/// mean charge, then [`population_rates_of`]. An AVX2 build is chosen at
-/// run time.
-fn attachment_rates(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { attachment_rates_avx2(exp, state, out) };
-    }
-    attachment_rates_with(exp, state, out)
-}
-
-/// [`attachment_rates`] compiled for AVX2 (without fused multiply-add).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn attachment_rates_avx2(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
-    attachment_rates_with(exp, state, out)
+with_avx2! {
+    /// The attachment rates (s-1) of positive and negative ions to every
+    /// hydrometeor population of every cell (`out[k]`, `Species::HYDROMETEORS`
+    /// order; zero where a species is absent), four cells side by side
+    /// ([`crate::physics::lanes`]): each population's number, mean radius and
+    /// mean charge, then [`population_rates_of`]. An AVX2 build is chosen at
+    /// run time.
+    fn attachment_rates(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) => attachment_rates_with
 }
 
 #[inline(always)]

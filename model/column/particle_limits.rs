@@ -15,7 +15,7 @@ use crate::physics::constants::T_MELT;
 use crate::physics::initiation::hydrometeor::{
     corona_limited_density, holds_a_particle_of, surface_field_of_density, tail_diameter_of,
 };
-use crate::physics::lanes::{Cells, CellsMask, Lane, Mask, WIDTH};
+use crate::physics::lanes::{with_avx2, Cells, CellsMask, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
@@ -92,25 +92,12 @@ fn ambient(state: &State, k: usize) -> f64 {
     state.field[k].abs().max(state.field[k + 1].abs())
 }
 
-/// Per cell, the largest surface field of the species' largest particles
-/// over their corona-onset surface field, into `out` (1; 0 without
-/// particles), four cells side by side (an AVX2 build is chosen at run
-/// time).
-pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { corona_ratios_avx2(exp, state, out) };
-    }
-    corona_ratios_with(exp, state, out)
-}
-
-/// [`corona_ratios_with`] compiled for AVX2 (without fused multiply-add).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn corona_ratios_avx2(exp: &Experiment, state: &State, out: &mut [f64]) {
-    corona_ratios_with(exp, state, out)
+with_avx2! {
+    /// Per cell, the largest surface field of the species' largest particles
+    /// over their corona-onset surface field, into `out` (1; 0 without
+    /// particles), four cells side by side (an AVX2 build is chosen at run
+    /// time).
+    pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) => corona_ratios_with
 }
 
 #[inline(always)]
@@ -135,24 +122,11 @@ fn corona_ratios_with(exp: &Experiment, state: &State, out: &mut [f64]) {
     }
 }
 
-/// Applies the corona and Rayleigh limits to every cell; returns the charge
-/// moved off the particles (C m-2) by corona and by drop disruption. The
-/// shares are found four cells side by side; charge moves cell by cell.
-pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { limit_avx2(exp, state) };
-    }
-    limit_with(exp, state)
-}
-
-/// [`limit_with`] compiled for AVX2 (without fused multiply-add).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn limit_avx2(exp: &Experiment, state: &mut State) -> (f64, f64) {
-    limit_with(exp, state)
+with_avx2! {
+    /// Applies the corona and Rayleigh limits to every cell; returns the charge
+    /// moved off the particles (C m-2) by corona and by drop disruption. The
+    /// shares are found four cells side by side; charge moves cell by cell.
+    pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) => limit_with
 }
 
 #[inline(always)]

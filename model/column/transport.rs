@@ -12,7 +12,7 @@ use crate::error::RunError;
 use crate::physics::carriers::Carrier;
 use crate::physics::kinematics::entrainment::{self, relax, Env};
 use crate::physics::kinematics::{advection, sedimentation};
-use crate::physics::lanes::{Cells, Lane, Mask, WIDTH};
+use crate::physics::lanes::{with_avx2, Cells, Lane, Mask, WIDTH};
 use crate::physics::microphysics::dsd;
 use crate::physics::microphysics::species::Species;
 use crate::physics::microphysics::Mode;
@@ -24,24 +24,11 @@ pub fn apply_forcing(exp: &Experiment, state: &mut State) {
         .w_on(&exp.updraft_shape, state.time, &mut state.w);
 }
 
-/// Mass-weighted fall speeds (m s-1) of the falling species at every cell,
-/// four cells side by side ([`crate::physics::lanes`]; an AVX2 build is
-/// chosen at run time).
-pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { fall_speeds_avx2(exp, state) };
-    }
-    fall_speeds_with(exp, state)
-}
-
-/// [`fall_speeds_with`] compiled for AVX2 (without fused multiply-add).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn fall_speeds_avx2(exp: &Experiment, state: &mut State) {
-    fall_speeds_with(exp, state)
+with_avx2! {
+    /// Mass-weighted fall speeds (m s-1) of the falling species at every cell,
+    /// four cells side by side ([`crate::physics::lanes`]; an AVX2 build is
+    /// chosen at run time).
+    pub fn update_fall_speeds(exp: &Experiment, state: &mut State) => fall_speeds_with
 }
 
 /// The fall speeds of groups of [`WIDTH`] cells; a short last group repeats

@@ -23,6 +23,34 @@
 
 use std::ops::{Add, AddAssign, BitAnd, BitOr, Div, Mul, MulAssign, Neg, Not, Sub, SubAssign};
 
+/// Defines `fn NAME(args) -> ret` that runs `WITH(args)`, an
+/// `#[inline(always)]` function over [`Cells`], compiled a second time for
+/// AVX2 and chosen at run time where the processor has it (one binary
+/// serves every x86-64 machine). Neither build uses fused multiply-add, so
+/// both give the same bits. Helpers that `WITH` calls must be functions,
+/// not closures: closures do not take on a function's target features.
+macro_rules! with_avx2 {
+    ($(#[$attr:meta])* $vis:vis fn $name:ident($($arg:ident: $ty:ty),* $(,)?) $(-> $ret:ty)? => $with:ident) => {
+        $(#[$attr])*
+        $vis fn $name($($arg: $ty),*) $(-> $ret)? {
+            #[cfg(target_arch = "x86_64")]
+            {
+                #[target_feature(enable = "avx2")]
+                unsafe fn avx2($($arg: $ty),*) $(-> $ret)? {
+                    $with($($arg),*)
+                }
+                if std::arch::is_x86_feature_detected!("avx2") {
+                    // SAFETY: the processor has AVX2, the only requirement
+                    // of the function's target feature.
+                    return unsafe { avx2($($arg),*) };
+                }
+            }
+            $with($($arg),*)
+        }
+    };
+}
+pub(crate) use with_avx2;
+
 /// Cells evaluated together.
 pub const WIDTH: usize = 4;
 

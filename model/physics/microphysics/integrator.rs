@@ -218,7 +218,7 @@ pub type Stages<T, const N: usize, const M: usize, const S: usize> = ([[T; N]; S
 /// group of cells side by side: each lane's error norm (the step is
 /// accepted where it is at most 1), the end state and the transfer
 /// integrals. A lane that was not accepted goes on on its own from that
-/// error ([`integrate_after_trial`]); an accepted lane's results are those
+/// error ([`integrate_from`]); an accepted lane's results are those
 /// [`integrate`] returns for that cell (to rounding: a group's exp, ln and
 /// cbrt are its own).
 #[inline(always)]
@@ -256,23 +256,6 @@ pub fn integrate<const S: usize, const N: usize, const M: usize>(
     integrate_from(pair, f, y0, first, span, tol, None)
 }
 
-/// [`integrate`] for a cell whose first trial (the whole `span`, taken by
-/// [`whole_step`] in a group) was rejected with the error norm
-/// `trial_error`: goes on as [`integrate`] does after rejecting that trial,
-/// with the step it then chooses, instead of repeating the trial.
-#[inline]
-pub fn integrate_after_trial<const S: usize, const N: usize, const M: usize>(
-    pair: &EmbeddedPair<S>,
-    f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),
-    y0: [f64; N],
-    first: ([f64; N], [f64; M]),
-    span: f64,
-    tol: Tolerance,
-    trial_error: f64,
-) -> Result<Outcome<N, M>, Failure> {
-    integrate_from(pair, f, y0, first, span, tol, Some(trial_error))
-}
-
 /// The step factor after an attempt with error norm `err` (NaN, a stage
 /// that left the physical range, shrinks the step most), at most 1 after a
 /// rejection.
@@ -291,8 +274,12 @@ fn step_factor(err: f64, exponent: f64, accepted: bool) -> f64 {
     }
 }
 
+/// [`integrate`], or, with `rejected_trial` = the error norm of a first
+/// trial (the whole `span`, taken by [`whole_step`] in a group) that was
+/// rejected, the same integration going on from that rejection with the
+/// step it chooses instead of repeating the trial.
 #[inline(always)]
-fn integrate_from<const S: usize, const N: usize, const M: usize>(
+pub fn integrate_from<const S: usize, const N: usize, const M: usize>(
     pair: &EmbeddedPair<S>,
     mut f: impl FnMut(&[f64; N], &mut [f64; N], &mut [f64; M]),
     y0: [f64; N],

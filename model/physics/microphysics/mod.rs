@@ -25,7 +25,7 @@ pub mod prescribed;
 pub mod rates;
 pub mod species;
 
-use crate::physics::lanes::{Cells, CellsMask, Lane, Mask, WIDTH};
+use crate::physics::lanes::{with_avx2, Cells, CellsMask, Lane, Mask, WIDTH};
 use crate::physics::microphysics::species::{CLOUD, GRAUPEL, ICE, RAIN, SNOW, VAPOUR};
 use ode_solvers::{Dopri5, OutputType, SVector, System};
 use params::{Integrator, MicroParams};
@@ -140,31 +140,25 @@ fn integrate_cell(
             env.p, y0[7]
         )
     };
-    match p.integrator {
-        Integrator::BogackiShampine1989 => {
-            let pair = &integrator::BOGACKI_SHAMPINE_1989;
-            match rejected_trial {
-                None => integrator::integrate(pair, rhs, y0, first, dt, tol),
-                Some(e) => integrator::integrate_after_trial(pair, rhs, y0, first, dt, tol, e),
-            }
-            .map(|o| {
-                report.transfers = o.integrals;
-                o.y
-            })
-            .map_err(|e| fail(&e))
-        }
-        Integrator::DormandPrince1980 => {
-            let pair = &integrator::DORMAND_PRINCE_1980;
-            match rejected_trial {
-                None => integrator::integrate(pair, rhs, y0, first, dt, tol),
-                Some(e) => integrator::integrate_after_trial(pair, rhs, y0, first, dt, tol, e),
-            }
-            .map(|o| {
-                report.transfers = o.integrals;
-                o.y
-            })
-            .map_err(|e| fail(&e))
-        }
+    let outcome = match p.integrator {
+        Integrator::BogackiShampine1989 => integrator::integrate_from(
+            &integrator::BOGACKI_SHAMPINE_1989,
+            rhs,
+            y0,
+            first,
+            dt,
+            tol,
+            rejected_trial,
+        ),
+        Integrator::DormandPrince1980 => integrator::integrate_from(
+            &integrator::DORMAND_PRINCE_1980,
+            rhs,
+            y0,
+            first,
+            dt,
+            tol,
+            rejected_trial,
+        ),
         Integrator::OdeSolversDopri5 => {
             let mut init = [0.0; NV];
             init[..8].copy_from_slice(&y0);
@@ -197,9 +191,12 @@ fn integrate_cell(
             let mut y = [0.0; 8];
             y.copy_from_slice(&end.as_slice()[..8]);
             report.transfers.copy_from_slice(&end.as_slice()[8..]);
-            Ok(y)
+            return Ok(y);
         }
-    }
+    };
+    let o = outcome.map_err(|e| fail(&e))?;
+    report.transfers = o.integrals;
+    Ok(o.y)
 }
 
 /// Integrates one cell's processes over `dt` s and reports the transfers in
@@ -313,25 +310,12 @@ pub enum Adjustment {
     Last,
 }
 
-/// The saturation adjustment of every cell (`cells[k]` with its
-/// environment and report), [`WIDTH`] at a time
-/// ([`adjust::saturation_adjustment_of`]): each cell gets the bits the
-/// one-cell adjustment gives it. An AVX2 build is chosen at run time.
-pub fn adjust_cells(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
-    #[cfg(target_arch = "x86_64")]
-    if std::arch::is_x86_feature_detected!("avx2") {
-        // SAFETY: the processor has AVX2, the only requirement of the
-        // function's target feature.
-        return unsafe { adjust_cells_avx2(cells, which) };
-    }
-    adjust_cells_with(cells, which)
-}
-
-/// [`adjust_cells_with`] compiled for AVX2 (without fused multiply-add).
-#[cfg(target_arch = "x86_64")]
-#[target_feature(enable = "avx2")]
-unsafe fn adjust_cells_avx2(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
-    adjust_cells_with(cells, which)
+with_avx2! {
+    /// The saturation adjustment of every cell (`cells[k]` with its
+    /// environment and report), [`WIDTH`] at a time
+    /// ([`adjust::saturation_adjustment_of`]): each cell gets the bits the
+    /// one-cell adjustment gives it. An AVX2 build is chosen at run time.
+    pub fn adjust_cells(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) => adjust_cells_with
 }
 
 #[inline(always)]
@@ -372,7 +356,7 @@ fn adjust_cells_with(cells: &mut [(CellState, CellEnv, CellReport)], which: Adju
 /// integrator's first trial step, the whole `dt`, together. A cell whose
 /// trial is rejected (rare: about 3 % of the demo's integrations) goes on
 /// on its own with the smaller step the integrator chooses from the
-/// group's error estimate ([`integrator::integrate_after_trial`]), as the
+/// group's error estimate ([`integrator::integrate_from`]), as the
 /// one-cell integration does after rejecting the same trial. Every cell
 /// ends with what [`step_cell`] gives it, to
 /// rounding (the group's exp, ln and cbrt are its own). A short last group

@@ -792,11 +792,7 @@ impl<T: Lane> Rates<T> {
         self.ice_to_snow_collection *= f;
         self.ice_to_graupel *= f;
         self.ice_to_graupel_by_rain *= f;
-        self.vapour_to_ice = T::select(
-            self.vapour_to_ice.lt(zero),
-            self.vapour_to_ice * f,
-            self.vapour_to_ice,
-        );
+        scale_sublimation(&mut self.vapour_to_ice, f);
         // Snow.
         let sinks = self.snow_to_graupel
             + self.snow_to_graupel_collection
@@ -806,21 +802,21 @@ impl<T: Lane> Rates<T> {
         self.snow_to_graupel *= f;
         self.snow_to_graupel_collection *= f;
         self.snow_to_rain *= f;
-        self.vapour_to_snow = T::select(
-            self.vapour_to_snow.lt(zero),
-            self.vapour_to_snow * f,
-            self.vapour_to_snow,
-        );
+        scale_sublimation(&mut self.vapour_to_snow, f);
         // Graupel.
         let f = scale(
             self.graupel_to_rain + (-self.vapour_to_graupel).max(zero),
             q[GRAUPEL],
         );
         self.graupel_to_rain *= f;
-        self.vapour_to_graupel = T::select(
-            self.vapour_to_graupel.lt(zero),
-            self.vapour_to_graupel * f,
-            self.vapour_to_graupel,
-        );
+        scale_sublimation(&mut self.vapour_to_graupel, f);
     }
+}
+
+/// Scales a deposition rate `r` by the sink factor `f` of its species
+/// where it is negative (sublimation, a sink of the species); deposition
+/// is scaled with the vapour's sinks instead.
+#[inline(always)]
+fn scale_sublimation<T: Lane>(r: &mut T, f: T) {
+    *r = T::select(r.lt(T::splat(0.0)), *r * f, *r);
 }
