@@ -56,3 +56,39 @@ fn failed_run_never_looks_complete() {
     // Records written before the failure were synced and are readable.
     assert_eq!(f.dimension_len("time"), Some(4));
 }
+
+#[test]
+fn written_files_leave_the_library_a_small_chunk_cache() {
+    // Records go to the file in whole chunks, so a chunk cache only holds
+    // what was written until the file closes (HDF5 keeps one cache per open
+    // dataset, H5Pset_chunk_cache in the HDF5 reference manual): the
+    // writer sets the library's default to a few KiB per variable before
+    // its first file (docs/performance.md, "Memory of the output").
+    let exp = Experiment::from_text(
+        DEMO_TOML,
+        "demo",
+        &["time.duration=120".into()],
+        Path::new("."),
+    )
+    .unwrap();
+    let out = scratch("chunk_cache.nc");
+    let _ = std::fs::remove_file(&out);
+    let mut writer = NetcdfWriter::new(&out, "test");
+    let mut observers: [&mut dyn Observer; 1] = [&mut writer];
+    timeloop::run(&exp, &mut observers, &mut |_| {}).unwrap();
+    drop(writer);
+    let (mut size, mut slots, mut preemption) = (0usize, 0usize, 0f32);
+    let status = {
+        // The library's lock, as the netcdf crate takes it: the other test
+        // of this file may be calling the library meanwhile.
+        let _lock = netcdf_sys::libnetcdf_lock.lock();
+        // SAFETY: plain out-pointers to locals.
+        unsafe { netcdf_sys::nc_get_chunk_cache(&mut size, &mut slots, &mut preemption) }
+    };
+    assert_eq!(status, 0);
+    assert_eq!(size, stormcharge::output::netcdf_writer::CHUNK_CACHE_BYTES);
+    assert_eq!(preemption, 1.0);
+    // The file is whole: every record is there (0, 60 and 120 s).
+    let f = netcdf::open(&out).unwrap();
+    assert_eq!(f.dimension_len("time"), Some(3));
+}

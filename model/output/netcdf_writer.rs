@@ -642,7 +642,7 @@ pub fn read_stored_configuration(path: &Path) -> Result<(String, String), RunErr
 /// Bytes of HDF5 chunk cache each variable of a file opened after
 /// [`limit_chunk_cache`] may hold: one time-series chunk (512 values of 8
 /// bytes) and a few records of a 160-level profile.
-const CHUNK_CACHE_BYTES: usize = 16 * 1024;
+pub const CHUNK_CACHE_BYTES: usize = 16 * 1024;
 
 /// Hash slots of that cache (a prime, as the HDF5 documentation advises).
 const CHUNK_CACHE_SLOTS: usize = 37;
@@ -665,8 +665,8 @@ fn limit_chunk_cache() {
         // the netcdf crate holds around its own calls.
         let status =
             unsafe { netcdf_sys::nc_set_chunk_cache(CHUNK_CACHE_BYTES, CHUNK_CACHE_SLOTS, 1.0) };
-        // A refusal leaves the library's default cache: more memory, the
-        // same file.
-        debug_assert_eq!(status, 0, "nc_set_chunk_cache refused: {status}");
+        // A refusal (status not 0) leaves the library's default cache: more
+        // memory, the same file; nothing to report to the user.
+        let _ = status;
     });
 }
