@@ -68,7 +68,7 @@ fn run_demo(
     let exp = Experiment::from_text(DEMO_TOML, "demo", overrides, Path::new("."))?;
     let mut s = State::initial(&exp);
     for _ in 0..exp.schedule.steps {
-        step_timed(&exp, &mut s, exp.schedule.dt, lap, &mut |_| {})?;
+        step_timed(&exp, &mut s, exp.schedule.dt, Some(&mut *lap), &mut |_| {})?;
     }
     Ok((exp.grid.len(), exp.schedule.steps))
 }
