@@ -34,14 +34,6 @@ pub struct BenchReport {
     pub sweep_one: f64,
     pub sweep_all: f64,
     pub efficiency: f64,
-    /// Peak resident memory of the process (bytes) during the one-thread
-    /// and the all-thread sweeps, medians over the pairs, where the
-    /// operating system lets the peak be reset and read (Linux); `None`
-    /// elsewhere. Measured after the runs before it, so the allocator and
-    /// the NetCDF library reuse memory those freed: the difference is what
-    /// one more concurrently running member adds to a running sweep, less
-    /// than a fresh process needs per member (docs/performance.md).
-    pub sweep_peak_memory: Option<(f64, f64)>,
     /// Scaling over column sizes, the demo's first `member_duration`
     /// seconds at spacings from 200 m to 12.5 m, each size run once per
     /// round over `repeats` interleaved rounds: (cells, median, slowest and
@@ -55,9 +47,6 @@ pub struct BenchReport {
     /// directory): median cell-steps per second with slowest and fastest.
     pub with_output: (f64, f64, f64),
 }
-
-/// Bytes in a MiB.
-const MIB: f64 = 1024.0 * 1024.0;
 
 /// Grid spacings of the scaling figures (m): 80 to 1280 cells in the
 /// demo's 16 km.
@@ -142,13 +131,12 @@ pub fn run(
         member_duration.min(60.0)
     ));
     let mut round = 0;
-    let mut sweep = |threads: usize| -> Result<(f64, Option<f64>), RunError> {
+    let mut sweep = |threads: usize| -> Result<f64, RunError> {
         let pool = crate::workers::thread_pool(threads)?;
         let dir = scratch.join(format!("sweep_{round}"));
         round += 1;
         std::fs::create_dir_all(&dir).map_err(|e| crate::output::io_error("creating", &dir, e))?;
         let demo = crate::setup::config::ConfigText::plain(DEMO_TOML);
-        let measured = reset_peak_memory();
         let t = Instant::now();
         let outcomes: Vec<crate::sweep::Outcome> = pool.install(|| {
             (0..members)
@@ -163,14 +151,13 @@ pub fn run(
                 .collect()
         });
         let rate = members as f64 / t.elapsed().as_secs_f64();
-        let peak = measured.then(peak_memory).flatten();
         let _ = std::fs::remove_dir_all(&dir);
         match outcomes.into_iter().find_map(|o| o.error) {
             Some(message) => Err(RunError::Output {
                 context: "bench sweep member".into(),
                 message,
             }),
-            None => Ok((rate, peak)),
+            None => Ok(rate),
         }
     };
     // One-thread and all-thread sweeps interleaved, `repeats` pairs; the
@@ -179,21 +166,18 @@ pub fn run(
     // the drift of a shared machine).
     let threads = rayon::current_num_threads();
     let (mut ones, mut alls, mut ratios) = (Vec::new(), Vec::new(), Vec::new());
-    let (mut peaks_one, mut peaks_all) = (Vec::new(), Vec::new());
     for _ in 0..repeats.max(1) {
-        let (one, peak_one) = sweep(1)?;
-        let (all, peak_all) = sweep(threads)?;
+        let one = sweep(1)?;
+        let all = sweep(threads)?;
         ones.push(one);
         alls.push(all);
         ratios.push(all / one / threads as f64);
-        if let (Some(a), Some(b)) = (peak_one, peak_all) {
-            peaks_one.push(a);
-            peaks_all.push(b);
-        }
     }
-    let sweep_peak_memory = (!peaks_one.is_empty() && peaks_one.len() == ratios.len())
-        .then(|| (median_of(peaks_one), median_of(peaks_all)));
-    let (one, all, efficiency) = (median_of(ones), median_of(alls), median_of(ratios));
+    let median = |v: &mut Vec<f64>| {
+        v.sort_by(f64::total_cmp);
+        v[v.len() / 2]
+    };
+    let (one, all, efficiency) = (median(&mut ones), median(&mut alls), median(&mut ratios));
     // Cost per cell-step over column sizes (the field solve's share shows
     // how it scales).
     let solve = PHASES.iter().position(|p| *p == "poisson").unwrap_or(0);
@@ -242,33 +226,9 @@ pub fn run(
         sweep_one: one,
         sweep_all: all,
         efficiency,
-        sweep_peak_memory,
         scaling,
         flatness,
     })
-}
-
-/// The median of a non-empty list.
-fn median_of(mut v: Vec<f64>) -> f64 {
-    v.sort_by(f64::total_cmp);
-    v[v.len() / 2]
-}
-
-/// Resets the process's peak resident memory to its current resident
-/// memory (Linux 4.0 and later: writing 5 to /proc/self/clear_refs, see
-/// the proc(5) manual page); false where that is not possible.
-fn reset_peak_memory() -> bool {
-    std::fs::write("/proc/self/clear_refs", b"5").is_ok()
-}
-
-/// The process's peak resident memory since the last reset (bytes), from
-/// the VmHWM line of /proc/self/status (proc(5)); `None` where there is no
-/// such file.
-fn peak_memory() -> Option<f64> {
-    let status = std::fs::read_to_string("/proc/self/status").ok()?;
-    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
-    let kib: f64 = line.split_whitespace().nth(1)?.parse().ok()?;
-    Some(kib * 1024.0)
 }
 
 impl BenchReport {
@@ -300,21 +260,6 @@ impl BenchReport {
             self.threads,
             100.0 * self.efficiency
         ));
-        match self.sweep_peak_memory {
-            Some((one, all)) if self.threads > 1 => s.push_str(&format!(
-                "peak resident memory during the sweeps (this process, medians): {:.1} MiB with 1 member running, \
-                 {:.1} MiB with {}: {:.1} MiB per further concurrently running member\n",
-                one / MIB,
-                all / MIB,
-                self.threads,
-                (all - one) / MIB / (self.threads - 1) as f64
-            )),
-            Some((one, _)) => s.push_str(&format!(
-                "peak resident memory during the sweeps (this process, median): {:.1} MiB with 1 member running\n",
-                one / MIB
-            )),
-            None => s.push_str("peak resident memory during the sweeps: not measured on this system\n"),
-        }
         s.push_str(&format!(
             "scaling over column sizes (the demo's first member-duration seconds, medians of {} interleaved rounds):\n",
             self.repeats

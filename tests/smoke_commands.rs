@@ -357,19 +357,6 @@ fn bench_prints_its_figures() {
         v.len() == 6 && v.iter().all(|x| x.is_finite() && *x > 0.0),
         "{sweep}"
     );
-    // Peak memory of the sweeps: measured on Linux (the /proc interface of
-    // proc(5)), a plain statement elsewhere.
-    let memory = text
-        .lines()
-        .find(|l| l.starts_with("peak resident memory during the sweeps"))
-        .unwrap();
-    if cfg!(target_os = "linux") {
-        let v = numbers(memory);
-        assert!(
-            !v.is_empty() && v.iter().all(|x| x.is_finite()) && v[0] > 0.0,
-            "{memory}"
-        );
-    }
     // The scaling over column sizes: 80 to 1280 cells, positive rates, the
     // median between the slowest and fastest round.
     let cells: Vec<f64> = text
