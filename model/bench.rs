@@ -9,7 +9,6 @@ use crate::output::netcdf_writer::NetcdfWriter;
 use crate::output::Observer;
 use crate::setup::config::DEMO_TOML;
 use crate::setup::experiment::Experiment;
-use rayon::prelude::*;
 use std::path::Path;
 use std::time::{Duration, Instant};
 
@@ -138,17 +137,13 @@ pub fn run(
         std::fs::create_dir_all(&dir).map_err(|e| crate::output::io_error("creating", &dir, e))?;
         let demo = crate::setup::config::ConfigText::plain(DEMO_TOML);
         let t = Instant::now();
-        let outcomes: Vec<crate::sweep::Outcome> = pool.install(|| {
-            (0..members)
-                .into_par_iter()
-                .map(|i| {
-                    let member = crate::sweep::Member {
-                        index: i + 1,
-                        overrides: member_overrides.clone(),
-                    };
-                    crate::sweep::run_member(&demo, Path::new("."), &member, &dir)
-                })
-                .collect()
+        let indices: Vec<usize> = (1..=members).collect();
+        let outcomes = crate::workers::each_in_order(&pool, &indices, |&index| {
+            let member = crate::sweep::Member {
+                index,
+                overrides: member_overrides.clone(),
+            };
+            crate::sweep::run_member(&demo, Path::new("."), &member, &dir)
         });
         let rate = members as f64 / t.elapsed().as_secs_f64();
         let _ = std::fs::remove_dir_all(&dir);

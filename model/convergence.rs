@@ -27,7 +27,6 @@ use crate::physics::carriers::Carrier;
 use crate::physics::microphysics::species::Species;
 use crate::setup::config::ConfigText;
 use crate::setup::experiment::Experiment;
-use rayon::prelude::*;
 use std::path::Path;
 
 /// Which resolution a series refines.
@@ -722,11 +721,20 @@ pub fn study(
     // The configured level is the first of both series: run it once.
     jobs.retain(|(r, l, _)| !(*r == Refinement::Space && *l == 0));
     let pool = crate::workers::thread_pool(threads)?;
-    let results: Vec<Result<LevelRun, RunError>> = pool.install(|| {
-        jobs.par_iter()
-            .map(|(_, _, o)| run_level(text, origin, base_dir, o))
-            .collect()
+    // Longest first: each halving of the step or the spacing about doubles
+    // a level's cost, so the finest levels start first and the short ones
+    // fill in around them (the longest-processing-time rule of list
+    // scheduling, Graham 1969, SIAM J. Appl. Math. 17).
+    let mut order: Vec<usize> = (0..jobs.len()).collect();
+    order.sort_by_key(|&i| std::cmp::Reverse(jobs[i].1));
+    let ran = crate::workers::each_in_order(&pool, &order, |&i| {
+        run_level(text, origin, base_dir, &jobs[i].2)
     });
+    let mut slots: Vec<Option<Result<LevelRun, RunError>>> = jobs.iter().map(|_| None).collect();
+    for (&i, r) in order.iter().zip(ran) {
+        slots[i] = Some(r);
+    }
+    let results: Vec<Result<LevelRun, RunError>> = slots.into_iter().flatten().collect();
     let mut time = Vec::new();
     let mut space = Vec::new();
     for ((r, _, _), run) in jobs.iter().zip(results) {

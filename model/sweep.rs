@@ -17,7 +17,6 @@ use crate::setup::config::{Config, ConfigText, SweepCombine};
 use crate::setup::experiment::Experiment;
 use crate::timeloop;
 use crate::workers::thread_pool;
-use rayon::prelude::*;
 use std::path::{Path, PathBuf};
 
 /// One member: its index (from 1) and `key=value` overrides.
@@ -508,18 +507,13 @@ pub fn run(
         .filter(|m| in_shard(m.index, shard))
         .collect();
     let pool = thread_pool(threads)?;
-    let mut outcomes: Vec<Outcome> = pool.install(|| {
-        chosen
-            .par_iter()
-            .map(|m| {
-                let o = resume
-                    .then(|| reusable(base_text, base_dir, m, dir))
-                    .flatten()
-                    .unwrap_or_else(|| run_member(base_text, base_dir, m, dir));
-                progress();
-                o
-            })
-            .collect()
+    let mut outcomes: Vec<Outcome> = crate::workers::each_in_order(&pool, &chosen, |m| {
+        let o = resume
+            .then(|| reusable(base_text, base_dir, m, dir))
+            .flatten()
+            .unwrap_or_else(|| run_member(base_text, base_dir, m, dir));
+        progress();
+        o
     });
     outcomes.sort_by_key(|o| o.member.index);
     Ok(outcomes)

@@ -25,3 +25,35 @@ pub fn thread_pool(threads: usize) -> Result<rayon::ThreadPool, RunError> {
             message: e.to_string(),
         })
 }
+
+/// Runs `work` on every item on the pool's threads and returns the results
+/// in the items' order. Each thread takes the next item nobody has started
+/// when it finishes one (greedy list scheduling), so the threads stay busy
+/// until the last item has started. Rayon's parallel iterators split the
+/// list in halves up front instead: on a sweep whose first half held the
+/// slower members (one charging scheme, then the other) one thread ran
+/// alone at the end for most of a member's time.
+pub fn each_in_order<T: Sync, R: Send>(
+    pool: &rayon::ThreadPool,
+    items: &[T],
+    work: impl Fn(&T) -> R + Sync,
+) -> Vec<R> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let next = AtomicUsize::new(0);
+    let results: Vec<Mutex<Option<R>>> = items.iter().map(|_| Mutex::new(None)).collect();
+    pool.broadcast(|_| loop {
+        let i = next.fetch_add(1, Ordering::Relaxed);
+        let Some(item) = items.get(i) else { break };
+        let r = work(item);
+        if let Ok(mut slot) = results[i].lock() {
+            *slot = Some(r);
+        }
+    });
+    // Every index below the length was taken by exactly one thread, which
+    // stored its result before the broadcast returned.
+    results
+        .into_iter()
+        .filter_map(|m| m.into_inner().ok().flatten())
+        .collect()
+}
