@@ -285,25 +285,35 @@ impl NetcdfWriter {
                 context: "NetCDF output record".into(),
                 message: format!("variable {name} missing"),
             };
-            f.variable_mut("time")
-                .ok_or_else(|| missing("time"))?
-                .put_values(&self.pending_times, t0..t0 + n)
-                .map_err(&e)?;
-            for ((var, values), &len) in self.vars.iter().zip(&mut self.pending).zip(&self.lens) {
-                if var.is_static() {
-                    continue;
+            let mut write = || -> Result<(), RunError> {
+                f.variable_mut("time")
+                    .ok_or_else(|| missing("time"))?
+                    .put_values(&self.pending_times, t0..t0 + n)
+                    .map_err(&e)?;
+                for ((var, values), &len) in self.vars.iter().zip(&self.pending).zip(&self.lens) {
+                    if var.is_static() {
+                        continue;
+                    }
+                    let mut v = f
+                        .variable_mut(&var.name)
+                        .ok_or_else(|| missing(&var.name))?;
+                    match var.placement {
+                        Placement::Series => v.put_values(&values[..n], t0..t0 + n),
+                        _ => v.put_values(&values[..n * len], (t0..t0 + n, ..)),
+                    }
+                    .map_err(&e)?;
                 }
-                let mut v = f
-                    .variable_mut(&var.name)
-                    .ok_or_else(|| missing(&var.name))?;
-                match var.placement {
-                    Placement::Series => v.put_values(&values[..n], t0..t0 + n),
-                    _ => v.put_values(&values[..n * len], (t0..t0 + n, ..)),
-                }
-                .map_err(&e)?;
+                Ok(())
+            };
+            let written = write();
+            // The batch is gone either way: written, or refused (a full
+            // disk); a later flush (the error path writes what it holds)
+            // must not see some variables' records without the others'.
+            for values in &mut self.pending {
                 values.clear();
             }
             self.pending_times.clear();
+            written?;
         }
         write_flashes(
             f,
