@@ -1077,7 +1077,7 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
 /// failed member) and words as text; `status` 0 ok / 1 failed.
 ///
 /// Every variable is defined before any value is written, and each text
-/// variable is written in one call ([`put_strings`]): a sweep writes the
+/// variable is written in one call (`put_strings`): a sweep writes the
 /// summary after its last member, on one thread, so its cost is not shared
 /// (measured on a six-member summary: 82 -> 37 million instructions).
 pub fn write_summary_netcdf(

@@ -650,7 +650,7 @@ pub fn read_stored_configuration(path: &Path) -> Result<(String, String), RunErr
 }
 
 /// Bytes of HDF5 chunk cache each variable of a file opened after
-/// [`limit_chunk_cache`] may hold: one time-series chunk (512 values of 8
+/// `limit_chunk_cache` may hold: one time-series chunk (512 values of 8
 /// bytes) and a few records of a 160-level profile.
 pub const CHUNK_CACHE_BYTES: usize = 16 * 1024;
 

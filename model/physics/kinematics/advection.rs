@@ -136,7 +136,7 @@ pub fn advect(
 crate::physics::lanes::with_avx2! {
     /// [`advect`] with the flow's factors computed beforehand (once per
     /// sub-step for all fields; no allocation). The interior faces are
-    /// computed four at a time ([`interior_faces_of`]) with the same
+    /// computed four at a time (`interior_faces_of`) with the same
     /// operations in the same order as one at a time, so the bits do not
     /// depend on the grouping; an AVX2 build is chosen at run time.
     pub fn advect_with(
