@@ -57,3 +57,34 @@ pub fn each_in_order<T: Sync, R: Send>(
         .filter_map(|m| m.into_inner().ok().flatten())
         .collect()
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::sync::atomic::{AtomicUsize, Ordering};
+
+    #[test]
+    fn each_in_order_runs_every_item_once_and_keeps_the_order() {
+        // Items of unequal work on pools of 1 to 3 threads, and no items:
+        // every item runs exactly once and the results come back in the
+        // items' order (common practice for a work queue).
+        for threads in 1..=3 {
+            let pool = thread_pool(threads).unwrap();
+            let calls = AtomicUsize::new(0);
+            let items: Vec<u64> = (0..37).map(|i| (i * 7919) % 101).collect();
+            let out = each_in_order(&pool, &items, |&x| {
+                calls.fetch_add(1, Ordering::Relaxed);
+                // Uneven work, so threads finish items at different times.
+                (0..x * 1000).fold(x, |a, b| a.wrapping_mul(31).wrapping_add(b))
+            });
+            let expected: Vec<u64> = items
+                .iter()
+                .map(|&x| (0..x * 1000).fold(x, |a, b| a.wrapping_mul(31).wrapping_add(b)))
+                .collect();
+            assert_eq!(out, expected, "{threads} threads");
+            assert_eq!(calls.load(Ordering::Relaxed), items.len());
+            let none: Vec<u64> = each_in_order(&pool, &[] as &[u64], |&x| x);
+            assert!(none.is_empty());
+        }
+    }
+}
