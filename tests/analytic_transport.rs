@@ -116,12 +116,12 @@ fn constant_speed_sedimentation() {
     let speeds = vec![v; n];
     assert_eq!(sedimentation::substeps(&speeds, dz, dt), 1);
     let mut d = top_hat(n, 200, 240, 2.0e-3);
-    let mut flux = vec![0.0; n];
+    let (mut flux, mut faces) = (vec![0.0; n], vec![0.0; n]);
     let mass0: f64 = d.iter().sum::<f64>() * dz;
     let c0 = centroid(&d, dz);
     let mut out = 0.0;
     for _ in 0..200 {
-        out += settle(&mut d, &speeds, dz, dt, &mut flux);
+        out += settle(&mut d, &speeds, dz, dt, &mut flux, &mut faces);
     }
     assert_eq!(out, 0.0);
     assert!(((centroid(&d, dz) - c0) + v * dt * 200.0).abs() < 1e-9 * v * dt * 200.0);
@@ -134,7 +134,7 @@ fn constant_speed_sedimentation() {
         .iter()
         .all(|&x| (0.0..=2.0e-3 * (1.0 + 1e-12)).contains(&x)));
     for _ in 0..400 {
-        out += settle(&mut d, &speeds, dz, dt, &mut flux);
+        out += settle(&mut d, &speeds, dz, dt, &mut flux, &mut faces);
     }
     let mass: f64 = d.iter().sum::<f64>() * dz;
     assert!(out > 0.0);
@@ -164,11 +164,11 @@ fn sheared_fall_speed_stays_positive_and_conserves() {
             }
         })
         .collect();
-    let mut flux = vec![0.0; n];
+    let (mut flux, mut faces) = (vec![0.0; n], vec![0.0; n]);
     let mass0: f64 = d.iter().sum::<f64>() * dz;
     let mut out = 0.0;
     for _ in 0..300 * nsub {
-        out += settle(&mut d, &speeds, dz, h, &mut flux);
+        out += settle(&mut d, &speeds, dz, h, &mut flux, &mut faces);
         assert!(d.iter().all(|&x| x >= 0.0), "negative value");
     }
     let mass: f64 = d.iter().sum::<f64>() * dz;

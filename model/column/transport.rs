@@ -327,8 +327,14 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
             for k in 0..n {
                 sc.field[k] = rho[k] * q[k];
             }
-            precip +=
-                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h, &mut sc.faces);
+            precip += sedimentation::settle(
+                &mut sc.field,
+                &state.fall_speed[i],
+                dz,
+                h,
+                &mut sc.faces,
+                &mut sc.fall_faces,
+            );
             for k in 0..n {
                 q[k] = sc.field[k] * exp.cell_env[k].inv_rho;
             }
@@ -336,7 +342,14 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
                 for k in 0..n {
                     sc.field[k] = rho[k] * state.n_ice[k];
                 }
-                sedimentation::settle(&mut sc.field, &state.fall_speed[i], dz, h, &mut sc.faces);
+                sedimentation::settle(
+                    &mut sc.field,
+                    &state.fall_speed[i],
+                    dz,
+                    h,
+                    &mut sc.faces,
+                    &mut sc.fall_faces,
+                );
                 for k in 0..n {
                     state.n_ice[k] = sc.field[k] * exp.cell_env[k].inv_rho;
                 }
@@ -348,6 +361,7 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
                 dz,
                 h,
                 &mut sc.faces,
+                &mut sc.fall_faces,
             );
             state.charge_transport.precipitated += out;
         }

@@ -11,6 +11,8 @@ use crate::physics::microphysics::CellReport;
 pub struct TransportScratch {
     pub(crate) mass_flux: Vec<f64>,
     pub(crate) faces: Vec<f64>,
+    /// The sedimentation's face fluxes.
+    pub(crate) fall_faces: Vec<f64>,
     pub(crate) field: Vec<f64>,
     pub(crate) flow: advection::FlowFactors,
     /// exp(-r dt) of the lateral entrainment per cell (1).
@@ -24,6 +26,7 @@ impl TransportScratch {
         TransportScratch {
             mass_flux: vec![0.0; n + 1],
             faces: vec![0.0; n + 1],
+            fall_faces: vec![0.0; n + 1],
             field: vec![0.0; n],
             flow: advection::FlowFactors::new(n),
             survival: vec![1.0; n],

@@ -234,7 +234,7 @@ fn face_value(q: &[f64], m: &[f64], flow: &FlowFactors, inflow: (f64, f64), j: u
 /// number `c`: up + (1 - c)/2 phi(r) (down - up), r = (up - far)/(down - up)
 /// (the upwind cell where down = up).
 #[inline(always)]
-fn limited<T: Lane>(up: T, down: T, far: T, c: T) -> T {
+pub(crate) fn limited<T: Lane>(up: T, down: T, far: T, c: T) -> T {
     let delta = down - up;
     let ratio = (up - far) / delta;
     let face = up + (T::splat(1.0) - c) * 0.5 * limiter_of(ratio) * delta;
