@@ -141,24 +141,14 @@ fn integrate_cell(
         )
     };
     let outcome = match p.integrator {
-        Integrator::BogackiShampine1989 => integrator::integrate_from(
-            &integrator::BOGACKI_SHAMPINE_1989,
-            rhs,
-            y0,
-            first,
-            dt,
-            tol,
-            rejected_trial,
-        ),
-        Integrator::DormandPrince1980 => integrator::integrate_from(
-            &integrator::DORMAND_PRINCE_1980,
-            rhs,
-            y0,
-            first,
-            dt,
-            tol,
-            rejected_trial,
-        ),
+        Integrator::BogackiShampine1989 => {
+            let pair = &integrator::BOGACKI_SHAMPINE_1989;
+            integrator::integrate_from(pair, rhs, y0, first, dt, tol, rejected_trial)
+        }
+        Integrator::DormandPrince1980 => {
+            let pair = &integrator::DORMAND_PRINCE_1980;
+            integrator::integrate_from(pair, rhs, y0, first, dt, tol, rejected_trial)
+        }
         Integrator::OdeSolversDopri5 => {
             let mut init = [0.0; NV];
             init[..8].copy_from_slice(&y0);
