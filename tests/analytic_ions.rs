@@ -72,7 +72,7 @@ fn coulomb_factor_limits() {
     assert!(rel(coulomb_factor(1.0), 1.0 / (std::f64::consts::E - 1.0)) < 1e-15);
 }
 
-/// The Coulomb factor the column evaluates for four cells at once (Bernoulli
+/// The Coulomb factor the column evaluates for a group of cells (Bernoulli
 /// series below 1/2, x/(e^x - 1) above; `coulomb_factor_nonnegative`)
 /// against the one-cell form with the platform's `expm1`
 /// (`coulomb_factor`), for one cell and for a group, from 0 to beyond the
@@ -82,7 +82,7 @@ fn coulomb_factor_limits() {
 #[test]
 fn coulomb_factor_of_groups_within_rounding() {
     use stormcharge::physics::ions::attachment::coulomb_factor_nonnegative;
-    use stormcharge::physics::lanes::Cells;
+    use stormcharge::physics::lanes::{Cells, Lane};
     let mut worst = 0.0f64;
     let mut xs: Vec<f64> = (0..4000).map(|i| 1e-12 * 1.01f64.powi(i)).collect();
     xs.extend((0..8000).map(|i| i as f64 * 0.1));
@@ -90,7 +90,15 @@ fn coulomb_factor_of_groups_within_rounding() {
     for x in xs {
         let want = coulomb_factor(x);
         let one = coulomb_factor_nonnegative(x);
-        let group = coulomb_factor_nonnegative(Cells([x, 0.3, 2.0, 750.0])).0[0];
+        let others = [0.3, 2.0, 750.0];
+        let group = coulomb_factor_nonnegative(Cells::from_lanes(|i| {
+            if i == 0 {
+                x
+            } else {
+                others[(i - 1) % others.len()]
+            }
+        }))
+        .0[0];
         for got in [one, group] {
             worst = worst.max(ulps(got, want));
         }

@@ -51,8 +51,10 @@ fn elementary_functions_within_rounding() {
 /// scalar evaluation (common practice; the premise of this module).
 #[test]
 fn lanes_give_the_scalar_bits() {
-    let xs = [0.3, -1.7e-12, 4.2e5, 7.0];
-    let ys = [1.1, 2.5e-3, -0.0, 3.0];
+    let (x4, y4) = ([0.3, -1.7e-12, 4.2e5, 7.0], [1.1, 2.5e-3, -0.0, 3.0]);
+    // Any group width: the four pairs repeated, the repeats scaled.
+    let xs: [f64; WIDTH] = std::array::from_fn(|i| x4[i % 4] * (1 + i / 4) as f64);
+    let ys: [f64; WIDTH] = std::array::from_fn(|i| y4[i % 4] * (1 + i / 4) as f64);
     let (a, b) = (Cells(xs), Cells(ys));
     let f = |x: f64, y: f64| ((x * y + 3.0) / (y - x)).max(x.abs().sqrt()) * 0.5;
     let g = |x: Cells, y: Cells| ((x * y + 3.0) / (y - x)).max(x.abs().sqrt()) * 0.5;
@@ -69,7 +71,7 @@ fn lanes_give_the_scalar_bits() {
     assert!(m.any() && !(m & !m).any());
 }
 
-/// The non-inductive separation rates of four cells side by side against
+/// The non-inductive separation rates of a group of cells side by side against
 /// each cell's own evaluation (`charging::separation_rates_of` over `f64`):
 /// the same formulas (Saunders & Peck 1998, Gardiner et al. 1985, the
 /// collision kernels and Langmuir 1948's efficiency), so the two differ
@@ -161,7 +163,7 @@ fn grouped_charging_matches_each_cell() {
     }
 }
 
-/// The column's fall speeds, computed four cells side by side, against
+/// The column's fall speeds, computed a group of cells side by side, against
 /// each cell's own mass-weighted speed (`Exponential::mass_weighted_speed_with`;
 /// Heymsfield & Donner 1990 for cloud ice): within 1e-13 relative, a
 /// rounding-level difference (the group's exp and ln are within one unit
@@ -313,7 +315,7 @@ fn test_profile(n: usize, case: usize, uniform: &mut impl FnMut() -> f64) -> Vec
 
 #[test]
 fn grouped_advection_gives_the_bits_of_one_face_at_a_time() {
-    // The model computes interior faces four at a time and skips the part
+    // The model computes interior faces a group at a time and skips the part
     // of the column where the field is zero; the scheme written face by
     // face over the whole column must give the same bits, for fluxes of
     // both signs (a sign change inside a group of four faces), with and

@@ -1,6 +1,6 @@
 //! Charge sources over the column: prescribed growth, then the charging
 //! core ([`crate::physics::charging`]): the non-inductive separation rates
-//! four cells side by side ([`crate::physics::lanes`]), then each cell's
+//! a group of cells side by side ([`crate::physics::lanes`]), then each cell's
 //! separation and inductive charging on its own.
 
 use crate::column::state::State;

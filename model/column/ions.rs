@@ -52,7 +52,7 @@ pub fn set_carrier(charge: &mut [f64], n_ion: &[Vec<f64>; 2]) {
 with_avx2! {
     /// The attachment rates (s-1) of positive and negative ions to every
     /// hydrometeor population of every cell (`out[k]`, `Species::HYDROMETEORS`
-    /// order; zero where a species is absent), four cells side by side
+    /// order; zero where a species is absent), a group of cells side by side
     /// ([`crate::physics::lanes`]): each population's number, mean radius and
     /// mean charge, then [`population_rates_of`]. An AVX2 build is chosen at
     /// run time.

@@ -95,7 +95,7 @@ fn ambient(state: &State, k: usize) -> f64 {
 with_avx2! {
     /// Per cell, the largest surface field of the species' largest particles
     /// over their corona-onset surface field, into `out` (1; 0 without
-    /// particles), four cells side by side (an AVX2 build is chosen at run
+    /// particles), a group of cells side by side (an AVX2 build is chosen at run
     /// time).
     pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) => corona_ratios_with
 }
@@ -125,7 +125,8 @@ fn corona_ratios_with(exp: &Experiment, state: &State, out: &mut [f64]) {
 with_avx2! {
     /// Applies the corona and Rayleigh limits to every cell; returns the charge
     /// moved off the particles (C m-2) by corona and by drop disruption. The
-    /// shares are found four cells side by side; charge moves cell by cell.
+    /// shares are found a group of cells side by side; charge moves cell by
+    /// cell.
     pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) => limit_with
 }
 

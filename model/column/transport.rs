@@ -26,7 +26,7 @@ pub fn apply_forcing(exp: &Experiment, state: &mut State) {
 
 with_avx2! {
     /// Mass-weighted fall speeds (m s-1) of the falling species at every cell,
-    /// four cells side by side ([`crate::physics::lanes`]; an AVX2 build is
+    /// a group of cells side by side ([`crate::physics::lanes`]; an AVX2 build is
     /// chosen at run time).
     pub fn update_fall_speeds(exp: &Experiment, state: &mut State) => fall_speeds_with
 }

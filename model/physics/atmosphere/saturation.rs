@@ -141,12 +141,14 @@ pub fn saturation_pressures_and_liquid_slope_of<T: Lane>(t: T) -> (T, T, T) {
     let index = |l: usize| x.lane(l) as usize;
     let u = x - T::from_lanes(|l| index(l) as f64);
     let table = table();
-    let nodes: [(T, T); 4] = std::array::from_fn(|j| {
+    // Written out: `array::from_fn` over eight-lane gathers was not inlined.
+    let node = |j: usize| {
         (
             T::from_lanes(|l| table[index(l) - 1 + j].0),
             T::from_lanes(|l| table[index(l) - 1 + j].1),
         )
-    });
+    };
+    let nodes: [(T, T); 4] = [node(0), node(1), node(2), node(3)];
     interpolate(nodes, u)
 }
 

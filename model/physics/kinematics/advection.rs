@@ -136,7 +136,7 @@ pub fn advect(
 crate::physics::lanes::with_avx2! {
     /// [`advect`] with the flow's factors computed beforehand (once per
     /// sub-step for all fields; no allocation). The interior faces are
-    /// computed four at a time (`interior_faces_of`) with the same
+    /// computed a group at a time (`interior_faces_of`) with the same
     /// operations in the same order as one at a time, so the bits do not
     /// depend on the grouping; an AVX2 build is chosen at run time.
     pub fn advect_with(
@@ -178,8 +178,9 @@ fn advect_grouped(
     let mut j = k0;
     while j <= k1 + 1 {
         // Faces 2..=n-2 have both neighbours the limited flux reads on
-        // either side; four of them at a time where they are all interior.
-        if j >= 2 && j + 3 <= (k1 + 1).min(n.saturating_sub(2)) {
+        // either side; a group of them at a time where they are all
+        // interior.
+        if j >= 2 && j + WIDTH - 1 <= (k1 + 1).min(n.saturating_sub(2)) {
             let f: Cells = interior_faces_of(q, m, &flow.courant, j);
             faces[j..j + WIDTH].copy_from_slice(&f.0);
             j += WIDTH;
@@ -250,9 +251,9 @@ fn limiter_of<T: Lane>(r: T) -> T {
     T::select(x.lt(zero), zero, T::select(x.gt(two), two, x))
 }
 
-/// The faces j..j+4, all interior (2 <= j, j + 3 <= n - 2), side by side:
-/// the upward and the downward limited values, each kept where the flux
-/// has that direction.
+/// The faces j..j+WIDTH, all interior (2 <= j, j + WIDTH - 1 <= n - 2),
+/// side by side: the upward and the downward limited values, each kept
+/// where the flux has that direction.
 #[inline(always)]
 fn interior_faces_of<T: Lane>(q: &[f64], m: &[f64], courant: &[f64], j: usize) -> T {
     let at = |offset: usize| T::from_lanes(|i| q[j + i + offset - 2]);

@@ -59,7 +59,7 @@ crate::physics::lanes::with_avx2! {
     /// s-1, cell centres, >= 0); `flux` (the field's length) and `faces`
     /// (at least the field's length) are work space. Returns what left
     /// through the ground per unit area (field unit times m). The interior
-    /// faces are computed four at a time with the operations of one at a
+    /// faces are computed a group at a time with the operations of one at a
     /// time, so the grouping changes no bit; an AVX2 build is chosen at run
     /// time.
     pub fn settle(
@@ -97,11 +97,11 @@ fn settle_grouped(
     }
     let f = &flux[..lim];
     // Bottom-face fluxes of cells 0..=top; the face above the support
-    // carries nothing. Four at a time where each has a cell below and two
+    // carries nothing. A group at a time where each has a cell below and two
     // above it.
     let mut k = 0;
     while k <= top {
-        if k >= 1 && k + 3 <= top && k + 4 < lim {
+        if k >= 1 && k + WIDTH - 1 <= top && k + WIDTH < lim {
             let at = |offset: usize| Cells::from_lanes(|i| f[k + i + offset - 1]);
             let courant = Cells::from_lanes(|i| v[k + i] * dt) / dz;
             let face = limited(at(1), at(0), at(2), courant);

@@ -382,7 +382,7 @@ unsafe fn evaluate_avx2(
     evaluate(y, env, params, dy, w)
 }
 
-/// [`integrate_cells`] compiled for AVX2 (four lanes in one register;
+/// [`integrate_cells`] compiled for AVX2 (a group in two registers;
 /// without fused multiply-add, so the bits are those of the portable build).
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
@@ -427,8 +427,15 @@ fn integrate_cells_with(
     let mut dormand_prince = ([[zero; 8]; 7], [[zero; rates::N_TRANSFERS]; 7]);
     for group in which.chunks(WIDTH) {
         let lane = |i: usize| group[i.min(group.len() - 1)];
-        let vectors: [[f64; 8]; WIDTH] = std::array::from_fn(|i| state_vector(&cells[lane(i)].0));
-        let y0 = std::array::from_fn::<_, 8, _>(|v| Cells(vectors.map(|y| y[v])));
+        // Transposed with plain loops (`array::map` over eight lanes was not
+        // inlined).
+        let mut y0 = [Cells::default(); 8];
+        for i in 0..WIDTH {
+            let y = state_vector(&cells[lane(i)].0);
+            for v in 0..8 {
+                y0[v].0[i] = y[v];
+            }
+        }
         let env = CellEnv::gather(std::array::from_fn(|i| &cells[lane(i)].1));
         let mut first = (
             [Cells::default(); 8],

@@ -50,7 +50,7 @@ pub struct CellEnv<T = f64> {
 impl CellEnv<Cells> {
     /// The environments of [`WIDTH`] cells side by side.
     pub fn gather(envs: [&CellEnv; WIDTH]) -> Self {
-        let each = |f: &dyn Fn(&CellEnv) -> f64| Cells(envs.map(f));
+        let each = |f: &dyn Fn(&CellEnv) -> f64| Cells::from_lanes(|i| f(envs[i]));
         CellEnv {
             p: each(&|e| e.p),
             rho: each(&|e| e.rho),
