@@ -270,8 +270,12 @@ fn advect_per_mass(
     inflow: (f64, f64),
     env: Option<Env<'_>>,
 ) -> f64 {
-    for (f, (d, cell)) in sc.field.iter_mut().zip(density.iter().zip(&exp.cell_env)) {
-        *f = d * cell.inv_rho;
+    for (f, (d, inv_rho)) in sc
+        .field
+        .iter_mut()
+        .zip(density.iter().zip(&exp.inv_density))
+    {
+        *f = d * inv_rho;
     }
     let b = advection::advect_with(
         &mut sc.field,
@@ -336,7 +340,7 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
                 &mut sc.fall_faces,
             );
             for k in 0..n {
-                q[k] = sc.field[k] * exp.cell_env[k].inv_rho;
+                q[k] = sc.field[k] * exp.inv_density[k];
             }
             if *sp == Species::Ice {
                 for k in 0..n {
@@ -351,7 +355,7 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
                     &mut sc.fall_faces,
                 );
                 for k in 0..n {
-                    state.n_ice[k] = sc.field[k] * exp.cell_env[k].inv_rho;
+                    state.n_ice[k] = sc.field[k] * exp.inv_density[k];
                 }
             }
             let c = Carrier::of(*sp).index();
@@ -414,8 +418,8 @@ fn diffuse_all(exp: &Experiment, state: &mut State, dt: f64) {
     // its kilometres.
     let ions_on = exp.ions.enabled;
     for x in per_volume(&mut state.charge, &mut state.n_ion, ions_on) {
-        for (v, cell) in x.iter_mut().zip(&exp.cell_env) {
-            *v *= cell.inv_rho;
+        for (v, inv_rho) in x.iter_mut().zip(&exp.inv_density) {
+            *v *= inv_rho;
         }
     }
     d.apply_all(per_volume(&mut state.charge, &mut state.n_ion, ions_on).map(|x| (x, None)));

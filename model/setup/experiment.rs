@@ -74,6 +74,10 @@ pub struct Experiment {
     pub entrainment_rate: f64,
     /// Air mass per area of each cell, rho dz (kg m-2).
     pub cell_mass: Vec<f64>,
+    /// 1/rho of each cell (m3 kg-1): `cell_env[k].inv_rho` in one
+    /// contiguous array, for the passes over the column that turn amounts
+    /// per volume into amounts per mass (the same values, so the same bits).
+    pub inv_density: Vec<f64>,
     /// Files the configuration made the run read (a sounding CSV): an
     /// output may not overwrite them.
     pub input_files: Vec<std::path::PathBuf>,
@@ -230,9 +234,10 @@ impl Experiment {
         let micro = resolve::micro_params(&config.microphysics);
         let charging_params =
             resolve::charging(&mut config.charging, base_dir, &mut input_files).map_err(err)?;
-        let cell_env = (0..grid.len())
+        let cell_env: Vec<CellEnv> = (0..grid.len())
             .map(|k| CellEnv::new(base.centre.pressure[k], base.centre.density[k], &micro))
             .collect();
+        let inv_density = cell_env.iter().map(|c| c.inv_rho).collect();
         let updraft_shape = updraft.shape_factors(&grid.z_face);
         let entrainment_rate = resolve::entrainment_rate(&config.column);
         let cell_mass = base.centre.density.iter().map(|r| r * grid.dz).collect();
@@ -254,6 +259,7 @@ impl Experiment {
             cell_env,
             entrainment_rate,
             cell_mass,
+            inv_density,
             input_files,
             updraft_shape,
             ions,
