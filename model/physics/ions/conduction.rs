@@ -108,7 +108,7 @@ crate::physics::lanes::with_avx2! {
     /// air like the top cell's (zero gradient) and leave through it freely;
     /// the ground absorbs arriving ions and emits only by point discharge.
     /// The interior faces' fluxes are computed a group at a time
-    /// ([`face_fluxes`] over [`Cells`]); an AVX2 build is chosen at run time.
+    /// (`face_fluxes` over [`Cells`]); an AVX2 build is chosen at run time.
     pub fn drift(col: &mut DriftColumn, dz: f64, dt: f64, corona: Option<Corona>) -> DriftTotals => drift_grouped
 }
 
