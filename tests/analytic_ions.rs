@@ -82,7 +82,6 @@ fn coulomb_factor_limits() {
 #[test]
 fn coulomb_factor_of_groups_within_rounding() {
     use stormcharge::physics::ions::attachment::coulomb_factor_nonnegative;
-    use stormcharge::physics::lanes::{Cells, Lane};
     let mut worst = 0.0f64;
     let mut xs: Vec<f64> = (0..4000).map(|i| 1e-12 * 1.01f64.powi(i)).collect();
     xs.extend((0..8000).map(|i| i as f64 * 0.1));
@@ -90,15 +89,7 @@ fn coulomb_factor_of_groups_within_rounding() {
     for x in xs {
         let want = coulomb_factor(x);
         let one = coulomb_factor_nonnegative(x);
-        let others = [0.3, 2.0, 750.0];
-        let group = coulomb_factor_nonnegative(Cells::from_lanes(|i| {
-            if i == 0 {
-                x
-            } else {
-                others[(i - 1) % others.len()]
-            }
-        }))
-        .0[0];
+        let group = coulomb_factor_nonnegative(lane_zero_among(x, &[0.3, 2.0, 750.0])).0[0];
         for got in [one, group] {
             worst = worst.max(ulps(got, want));
         }
@@ -331,22 +322,13 @@ fn coulomb_pair_equals_both_factors() {
 /// last place (the group's exponential is the lanes' own).
 #[test]
 fn relaxed_fraction_matches_the_platform_expm1() {
-    use stormcharge::physics::lanes::{Cells, Lane};
     let mut worst = 0.0f64;
     let mut xs: Vec<f64> = (0..1900).map(|i| 1e-15 * 1.02f64.powi(i)).collect();
     xs.extend([0.5, 0.5f64.next_down(), 1e-12, 1.0000001e-12, 700.0, 1e4]);
     for &x in xs.iter().filter(|&&x| x <= 1e4) {
         let want = if x > 1e-12 { -(-x).exp_m1() / x } else { 1.0 };
         let one = relaxed_fraction(x);
-        let others = [3e-7, 0.9, 40.0];
-        let group = relaxed_fraction(Cells::from_lanes(|i| {
-            if i == 0 {
-                x
-            } else {
-                others[(i - 1) % others.len()]
-            }
-        }))
-        .0[0];
+        let group = relaxed_fraction(lane_zero_among(x, &[3e-7, 0.9, 40.0])).0[0];
         for got in [one, group] {
             worst = worst.max(ulps(got, want));
         }
@@ -432,4 +414,17 @@ fn grouped_drift_matches_the_scheme_face_by_face() {
             );
         }
     }
+}
+
+/// A group of cells with `x` in its first lane and `others` repeated in the
+/// rest, so that lane 0 is evaluated beside neighbours of other sizes.
+fn lane_zero_among(x: f64, others: &[f64]) -> stormcharge::physics::lanes::Cells {
+    use stormcharge::physics::lanes::Lane;
+    stormcharge::physics::lanes::Cells::from_lanes(|i| {
+        if i == 0 {
+            x
+        } else {
+            others[(i - 1) % others.len()]
+        }
+    })
 }

@@ -318,12 +318,14 @@ fn grouped_advection_gives_the_bits_of_one_face_at_a_time() {
     // The model computes interior faces a group at a time and skips the part
     // of the column where the field is zero; the scheme written face by
     // face over the whole column must give the same bits, for fluxes of
-    // both signs (a sign change inside a group of four faces), with and
-    // without inflow, over column sizes around the group width.
+    // both signs (a sign change inside a group of faces), with and
+    // without inflow, over column sizes around one and two group widths.
     use stormcharge::physics::kinematics::advection::advect;
     let mut uniform = uniform_stream(12345);
     let (dz, dt) = (50.0, 2.0);
-    for n in [1, 2, 3, 4, 5, 6, 7, 8, 9, 13, 40, 161] {
+    for n in [
+        1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 16, 17, 18, 19, 20, 40, 161,
+    ] {
         for case in 0..6 {
             let rho: Vec<f64> = (0..n).map(|k| 1.2 * (-(k as f64) / 80.0).exp()).collect();
             let m: Vec<f64> = (0..=n)
@@ -358,7 +360,9 @@ fn grouped_sedimentation_gives_the_bits_of_one_face_at_a_time() {
     use stormcharge::physics::kinematics::sedimentation::settle;
     let mut uniform = uniform_stream(987654321);
     let (dz, dt) = (25.0, 1.0);
-    for n in [1, 2, 3, 4, 5, 6, 7, 8, 9, 13, 40, 161] {
+    for n in [
+        1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 16, 17, 18, 19, 20, 40, 161,
+    ] {
         for case in 0..6 {
             let v: Vec<f64> = (0..n).map(|_| 10.0 * uniform()).collect();
             let d0 = test_profile(n, case, &mut uniform);

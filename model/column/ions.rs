@@ -56,62 +56,59 @@ with_avx2! {
     /// ([`crate::physics::lanes`]): each population's number, mean radius and
     /// mean charge, then [`population_rates_of`]. An AVX2 build is chosen at
     /// run time.
-    fn attachment_rates(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) => attachment_rates_with
-}
-
-#[inline(always)]
-fn attachment_rates_with(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
-    let ions = &exp.ions;
-    let f = exp.micro_params();
-    let n = out.len();
-    let zero = Cells::splat(0.0);
-    for first in (0..n).step_by(WIDTH) {
-        // A short last group repeats its last cell; those lanes are dropped.
-        let cell = |i: usize| (first + i).min(n - 1);
-        let each = |x: &[f64]| Cells::from_lanes(|i| x[cell(i)]);
-        let t = Cells::from_lanes(|i| state.temperature(exp, cell(i)));
-        let rho = each(&exp.base.centre.density);
-        let mu = (each(&ions.mu_pos), each(&ions.mu_neg));
-        for (s, sp) in Species::HYDROMETEORS.iter().enumerate() {
-            let q = each(&state.q[sp.index()]);
-            let mut some = q.gt(Cells::splat(PRESENT));
-            let (number, radius) = match sp {
-                Species::Cloud => {
-                    let nc = ions.cloud_droplet_number;
-                    let volume = rho * 3.0 * q / (4.0 * PI * RHO_WATER * nc);
-                    (Cells::splat(nc), volume.cbrt())
+    fn attachment_rates(exp: &Experiment, state: &State, out: &mut [[(f64, f64); 5]]) {
+        let ions = &exp.ions;
+        let f = exp.micro_params();
+        let n = out.len();
+        let zero = Cells::splat(0.0);
+        for first in (0..n).step_by(WIDTH) {
+            // A short last group repeats its last cell; those lanes are dropped.
+            let cell = |i: usize| (first + i).min(n - 1);
+            let each = |x: &[f64]| Cells::from_lanes(|i| x[cell(i)]);
+            let t = Cells::from_lanes(|i| state.temperature(exp, cell(i)));
+            let rho = each(&exp.base.centre.density);
+            let mu = (each(&ions.mu_pos), each(&ions.mu_neg));
+            for (s, sp) in Species::HYDROMETEORS.iter().enumerate() {
+                let q = each(&state.q[sp.index()]);
+                let mut some = q.gt(Cells::splat(PRESENT));
+                let (number, radius) = match sp {
+                    Species::Cloud => {
+                        let nc = ions.cloud_droplet_number;
+                        let volume = rho * 3.0 * q / (4.0 * PI * RHO_WATER * nc);
+                        (Cells::splat(nc), volume.cbrt())
+                    }
+                    Species::Ice => {
+                        let n_ice = each(&state.n_ice);
+                        some = some & n_ice.gt(zero);
+                        (rho * n_ice, dsd::ice::diameter_of(q, n_ice) * 0.5)
+                    }
+                    Species::Rain | Species::Snow | Species::Graupel => {
+                        let dist = match sp {
+                            Species::Rain => &f.rain,
+                            Species::Snow => &f.snow,
+                            _ => &f.graupel,
+                        };
+                        // Exponential N0 e^(-lambda D): N = N0/lambda, mean
+                        // radius 1/(2 lambda), so N <r> is the exact first
+                        // moment the diffusion rate integrates.
+                        let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
+                        (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
+                    }
+                    Species::Vapour => unreachable!("the hydrometeors hold no vapour"),
+                };
+                let (pos, neg) = if some.any() {
+                    let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
+                    let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
+                    (
+                        Cells::select(some, pos, zero),
+                        Cells::select(some, neg, zero),
+                    )
+                } else {
+                    (zero, zero)
+                };
+                for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+                    o[s] = (pos.0[i], neg.0[i]);
                 }
-                Species::Ice => {
-                    let n_ice = each(&state.n_ice);
-                    some = some & n_ice.gt(zero);
-                    (rho * n_ice, dsd::ice::diameter_of(q, n_ice) * 0.5)
-                }
-                Species::Rain | Species::Snow | Species::Graupel => {
-                    let dist = match sp {
-                        Species::Rain => &f.rain,
-                        Species::Snow => &f.snow,
-                        _ => &f.graupel,
-                    };
-                    // Exponential N0 e^(-lambda D): N = N0/lambda, mean
-                    // radius 1/(2 lambda), so N <r> is the exact first
-                    // moment the diffusion rate integrates.
-                    let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
-                    (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
-                }
-                Species::Vapour => unreachable!("the hydrometeors hold no vapour"),
-            };
-            let (pos, neg) = if some.any() {
-                let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
-                let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
-                (
-                    Cells::select(some, pos, zero),
-                    Cells::select(some, neg, zero),
-                )
-            } else {
-                (zero, zero)
-            };
-            for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
-                o[s] = (pos.0[i], neg.0[i]);
             }
         }
     }

@@ -97,27 +97,24 @@ with_avx2! {
     /// over their corona-onset surface field, into `out` (1; 0 without
     /// particles), a group of cells side by side (an AVX2 build is chosen at run
     /// time).
-    pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) => corona_ratios_with
-}
-
-#[inline(always)]
-fn corona_ratios_with(exp: &Experiment, state: &State, out: &mut [f64]) {
-    let f = exp.criteria_thresholds.enhancement;
-    let n = out.len();
-    for first in (0..n).step_by(WIDTH) {
-        // A short last group repeats its last cell; those lanes are dropped.
-        let cell = |i: usize| (first + i).min(n - 1);
-        let e = Cells::from_lanes(|i| ambient(state, cell(i)));
-        let mut r = Cells::splat(0.0);
-        for sp in LARGE {
-            let t = tails(exp, state, sp, cell);
-            if t.present.any() {
-                let ratio = surface_field_of_density(e, t.sigma, f) / (t.onset * f);
-                r = Cells::select(t.present, r.max(ratio), r);
+    pub fn corona_ratios(exp: &Experiment, state: &State, out: &mut [f64]) {
+        let f = exp.criteria_thresholds.enhancement;
+        let n = out.len();
+        for first in (0..n).step_by(WIDTH) {
+            // A short last group repeats its last cell; those lanes are dropped.
+            let cell = |i: usize| (first + i).min(n - 1);
+            let e = Cells::from_lanes(|i| ambient(state, cell(i)));
+            let mut r = Cells::splat(0.0);
+            for sp in LARGE {
+                let t = tails(exp, state, sp, cell);
+                if t.present.any() {
+                    let ratio = surface_field_of_density(e, t.sigma, f) / (t.onset * f);
+                    r = Cells::select(t.present, r.max(ratio), r);
+                }
             }
-        }
-        for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
-            *o = r.lane(i);
+            for (i, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+                *o = r.lane(i);
+            }
         }
     }
 }
@@ -127,57 +124,54 @@ with_avx2! {
     /// moved off the particles (C m-2) by corona and by drop disruption. The
     /// shares are found a group of cells side by side; charge moves cell by
     /// cell.
-    pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) => limit_with
-}
-
-#[inline(always)]
-fn limit_with(exp: &Experiment, state: &mut State) -> (f64, f64) {
-    let f = exp.criteria_thresholds.enhancement;
-    let dz = exp.grid.dz;
-    let n = exp.grid.len();
-    let (mut corona, mut disrupted) = (0.0, 0.0);
-    for first in (0..n).step_by(WIDTH) {
-        let cell = |i: usize| (first + i).min(n - 1);
-        let e = Cells::from_lanes(|i| ambient(state, cell(i)));
-        for sp in LARGE {
-            // Each species moves only its own carrier's charge (to the ions
-            // or the cloud), so its shares do not depend on the others'.
-            let t = tails(exp, state, sp, cell);
-            let sigma = t.sigma.abs();
-            let acting = t.present & sigma.ne(Cells::splat(0.0));
-            if !acting.any() {
-                continue;
-            }
-            // The share of its charge the largest particle may keep under
-            // each limit; every particle's charge scales with the tail's
-            // (sharing by surface area), so the species' density scales by
-            // the smaller share. Corona limits the surface charge density,
-            // the same for every size (corona_limited_density); the
-            // Rayleigh limit (drops only) needs the largest drop's radius.
-            let corona_share = corona_limited_density(e, f, t.onset) / sigma;
-            let share = corona_share.min(t.rayleigh_share);
-            let cut = acting & share.lt(Cells::splat(1.0));
-            if !cut.any() {
-                continue;
-            }
-            for i in 0..WIDTH.min(n - first) {
-                if !cut.get(i) {
+    pub fn limit(exp: &Experiment, state: &mut State) -> (f64, f64) {
+        let f = exp.criteria_thresholds.enhancement;
+        let dz = exp.grid.dz;
+        let n = exp.grid.len();
+        let (mut corona, mut disrupted) = (0.0, 0.0);
+        for first in (0..n).step_by(WIDTH) {
+            let cell = |i: usize| (first + i).min(n - 1);
+            let e = Cells::from_lanes(|i| ambient(state, cell(i)));
+            for sp in LARGE {
+                // Each species moves only its own carrier's charge (to the ions
+                // or the cloud), so its shares do not depend on the others'.
+                let t = tails(exp, state, sp, cell);
+                let sigma = t.sigma.abs();
+                let acting = t.present & sigma.ne(Cells::splat(0.0));
+                if !acting.any() {
                     continue;
                 }
-                let k = first + i;
-                let from = Carrier::of(sp).index();
-                let removed = state.charge[from][k] * (1.0 - share.lane(i));
-                let to = if corona_share.lane(i) <= t.rayleigh_share.lane(i) {
-                    corona += removed.abs() * dz;
-                    Carrier::Ions
-                } else {
-                    disrupted += removed.abs() * dz;
-                    Carrier::Cloud
-                };
-                state.charge[from][k] -= removed;
-                state.charge[to.index()][k] += removed;
+                // The share of its charge the largest particle may keep under
+                // each limit; every particle's charge scales with the tail's
+                // (sharing by surface area), so the species' density scales by
+                // the smaller share. Corona limits the surface charge density,
+                // the same for every size (corona_limited_density); the
+                // Rayleigh limit (drops only) needs the largest drop's radius.
+                let corona_share = corona_limited_density(e, f, t.onset) / sigma;
+                let share = corona_share.min(t.rayleigh_share);
+                let cut = acting & share.lt(Cells::splat(1.0));
+                if !cut.any() {
+                    continue;
+                }
+                for i in 0..WIDTH.min(n - first) {
+                    if !cut.get(i) {
+                        continue;
+                    }
+                    let k = first + i;
+                    let from = Carrier::of(sp).index();
+                    let removed = state.charge[from][k] * (1.0 - share.lane(i));
+                    let to = if corona_share.lane(i) <= t.rayleigh_share.lane(i) {
+                        corona += removed.abs() * dz;
+                        Carrier::Ions
+                    } else {
+                        disrupted += removed.abs() * dz;
+                        Carrier::Cloud
+                    };
+                    state.charge[from][k] -= removed;
+                    state.charge[to.index()][k] += removed;
+                }
             }
         }
+        (corona, disrupted)
     }
-    (corona, disrupted)
 }

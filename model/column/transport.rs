@@ -28,47 +28,44 @@ with_avx2! {
     /// Mass-weighted fall speeds (m s-1) of the falling species at every cell,
     /// a group of cells side by side ([`crate::physics::lanes`]; an AVX2 build is
     /// chosen at run time).
-    pub fn update_fall_speeds(exp: &Experiment, state: &mut State) => fall_speeds_with
-}
-
-/// The fall speeds of groups of [`WIDTH`] cells; a short last group repeats
-/// its last cell, whose lanes are dropped. Zero where a species is absent.
-#[inline(always)]
-fn fall_speeds_with(exp: &Experiment, state: &mut State) {
-    let rho = &exp.base.centre.density;
-    let p = exp.micro_params();
-    let n = rho.len();
-    let zero = Cells::splat(0.0);
-    for (i, sp) in Species::FALLING.iter().enumerate() {
-        let q = &state.q[sp.index()];
-        let out = &mut state.fall_speed[i];
-        for first in (0..n).step_by(WIDTH) {
-            let cell = |l: usize| (first + l).min(n - 1);
-            let r = Cells::from_lanes(|l| rho[cell(l)]);
-            let mass = Cells::from_lanes(|l| q[cell(l)]);
-            let present = mass.gt(zero);
-            let v = if !present.any() {
-                zero
-            } else if let Some((dist, c)) = match sp {
-                Species::Rain => Some((&p.rain, 0)),
-                Species::Snow => Some((&p.snow, 1)),
-                Species::Graupel => Some((&p.graupel, 2)),
-                _ => None,
-            } {
-                let correction = Cells::from_lanes(|l| exp.cell_env[cell(l)].corrections[c]);
-                let (_, s) = dist.slope_powers_masked(r, mass);
-                Cells::select(present, dist.mass_weighted_speed_at(&s, correction), zero)
-            } else {
-                let mass = Cells::select(present, mass, Cells::splat(1.0));
-                Cells::select(present, dsd::ice::speed_of(r, mass), zero)
-            };
-            for (l, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
-                *o = v.lane(l);
+    pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
+        let rho = &exp.base.centre.density;
+        let p = exp.micro_params();
+        let n = rho.len();
+        let zero = Cells::splat(0.0);
+        for (i, sp) in Species::FALLING.iter().enumerate() {
+            let q = &state.q[sp.index()];
+            let out = &mut state.fall_speed[i];
+            for first in (0..n).step_by(WIDTH) {
+                let cell = |l: usize| (first + l).min(n - 1);
+                let r = Cells::from_lanes(|l| rho[cell(l)]);
+                let mass = Cells::from_lanes(|l| q[cell(l)]);
+                let present = mass.gt(zero);
+                let v = if !present.any() {
+                    zero
+                } else if let Some((dist, c)) = match sp {
+                    Species::Rain => Some((&p.rain, 0)),
+                    Species::Snow => Some((&p.snow, 1)),
+                    Species::Graupel => Some((&p.graupel, 2)),
+                    _ => None,
+                } {
+                    let correction = Cells::from_lanes(|l| exp.cell_env[cell(l)].corrections[c]);
+                    let (_, s) = dist.slope_powers_masked(r, mass);
+                    Cells::select(present, dist.mass_weighted_speed_at(&s, correction), zero)
+                } else {
+                    let mass = Cells::select(present, mass, Cells::splat(1.0));
+                    Cells::select(present, dsd::ice::speed_of(r, mass), zero)
+                };
+                for (l, o) in out[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+                    *o = v.lane(l);
+                }
             }
         }
     }
 }
 
+/// The fall speeds of groups of [`WIDTH`] cells; a short last group repeats
+/// its last cell, whose lanes are dropped. Zero where a species is absent.
 /// Most sub-steps one transport step may take. More means a Courant number
 /// above 5000 (an updraft or fall speed far outside the physical range for
 /// the step and spacing): a mistake in the configuration, reported instead
@@ -306,9 +303,7 @@ struct IonTransport<'a> {
 }
 
 fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError> {
-    let rho = &exp.base.centre.density;
     let dz = exp.grid.dz;
-    let n = rho.len();
     update_fall_speeds(exp, state);
     let nsub = state
         .fall_speed
@@ -327,41 +322,15 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
         }
         for (i, sp) in Species::FALLING.iter().enumerate() {
             let sc = &mut state.transport_scratch;
-            let q = &mut state.q[sp.index()];
-            for k in 0..n {
-                sc.field[k] = rho[k] * q[k];
-            }
-            precip += sedimentation::settle(
-                &mut sc.field,
-                &state.fall_speed[i],
-                dz,
-                h,
-                &mut sc.faces,
-                &mut sc.fall_faces,
-            );
-            for k in 0..n {
-                q[k] = sc.field[k] * exp.inv_density[k];
-            }
+            let v = &state.fall_speed[i];
+            precip += settle_per_mass(exp, &mut state.q[sp.index()], v, h, sc);
             if *sp == Species::Ice {
-                for k in 0..n {
-                    sc.field[k] = rho[k] * state.n_ice[k];
-                }
-                sedimentation::settle(
-                    &mut sc.field,
-                    &state.fall_speed[i],
-                    dz,
-                    h,
-                    &mut sc.faces,
-                    &mut sc.fall_faces,
-                );
-                for k in 0..n {
-                    state.n_ice[k] = sc.field[k] * exp.inv_density[k];
-                }
+                settle_per_mass(exp, &mut state.n_ice, v, h, sc);
             }
             let c = Carrier::of(*sp).index();
             let out = sedimentation::settle(
                 &mut state.charge[c],
-                &state.fall_speed[i],
+                v,
                 dz,
                 h,
                 &mut sc.faces,
@@ -372,6 +341,34 @@ fn sediment_all(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunE
     }
     state.water.precipitation += precip;
     Ok(())
+}
+
+/// Lets a field held per kilogram of air (a mixing ratio or the crystal
+/// number) fall at `v` (m s-1) for `h` s as its amount per cubic metre;
+/// returns what reached the ground (its unit times kg m-2).
+fn settle_per_mass(
+    exp: &Experiment,
+    x: &mut [f64],
+    v: &[f64],
+    h: f64,
+    sc: &mut crate::column::work::TransportScratch,
+) -> f64 {
+    let rho = &exp.base.centre.density;
+    for k in 0..x.len() {
+        sc.field[k] = rho[k] * x[k];
+    }
+    let out = sedimentation::settle(
+        &mut sc.field,
+        v,
+        exp.grid.dz,
+        h,
+        &mut sc.faces,
+        &mut sc.fall_faces,
+    );
+    for k in 0..x.len() {
+        x[k] = sc.field[k] * exp.inv_density[k];
+    }
+    out
 }
 
 /// Vertical eddy diffusion of every transported quantity over one step

@@ -29,23 +29,38 @@ use std::ops::{Add, AddAssign, BitAnd, BitOr, Div, Mul, MulAssign, Neg, Not, Sub
 /// serves every x86-64 machine). Neither build uses fused multiply-add, so
 /// both give the same bits. Helpers that `WITH` calls must be functions,
 /// not closures: closures do not take on a function's target features.
+///
+/// Written with a body instead of `=> WITH`, the body becomes that inner
+/// function, so the signature is written once; the `=> WITH` form is for a
+/// portable build that tests call by name.
 macro_rules! with_avx2 {
+    (@run $with:ident($($arg:ident: $ty:ty),*) $(-> $ret:ty)?) => {{
+        #[cfg(target_arch = "x86_64")]
+        {
+            #[target_feature(enable = "avx2")]
+            unsafe fn avx2($($arg: $ty),*) $(-> $ret)? {
+                $with($($arg),*)
+            }
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: the processor has AVX2, the only requirement
+                // of the function's target feature.
+                return unsafe { avx2($($arg),*) };
+            }
+        }
+        $with($($arg),*)
+    }};
     ($(#[$attr:meta])* $vis:vis fn $name:ident($($arg:ident: $ty:ty),* $(,)?) $(-> $ret:ty)? => $with:ident) => {
         $(#[$attr])*
         $vis fn $name($($arg: $ty),*) $(-> $ret)? {
-            #[cfg(target_arch = "x86_64")]
-            {
-                #[target_feature(enable = "avx2")]
-                unsafe fn avx2($($arg: $ty),*) $(-> $ret)? {
-                    $with($($arg),*)
-                }
-                if std::arch::is_x86_feature_detected!("avx2") {
-                    // SAFETY: the processor has AVX2, the only requirement
-                    // of the function's target feature.
-                    return unsafe { avx2($($arg),*) };
-                }
-            }
-            $with($($arg),*)
+            $crate::physics::lanes::with_avx2!(@run $with($($arg: $ty),*) $(-> $ret)?)
+        }
+    };
+    ($(#[$attr:meta])* $vis:vis fn $name:ident($($arg:ident: $ty:ty),* $(,)?) $(-> $ret:ty)? $body:block) => {
+        $(#[$attr])*
+        $vis fn $name($($arg: $ty),*) $(-> $ret)? {
+            #[inline(always)]
+            fn portable($($arg: $ty),*) $(-> $ret)? $body
+            $crate::physics::lanes::with_avx2!(@run portable($($arg: $ty),*) $(-> $ret)?)
         }
     };
 }

@@ -109,7 +109,82 @@ crate::physics::lanes::with_avx2! {
     /// the ground absorbs arriving ions and emits only by point discharge.
     /// The interior faces' fluxes are computed a group at a time
     /// (`face_fluxes` over [`Cells`]); an AVX2 build is chosen at run time.
-    pub fn drift(col: &mut DriftColumn, dz: f64, dt: f64, corona: Option<Corona>) -> DriftTotals => drift_grouped
+    pub fn drift(col: &mut DriftColumn, dz: f64, dt: f64, corona: Option<Corona>) -> DriftTotals {
+        let n = col.n_pos.len();
+        let nsub = substeps(col, dz, dt);
+        let h = dt / nsub as f64;
+        let e_c = ELEMENTARY_CHARGE;
+        let mut totals = DriftTotals {
+            substeps: nsub,
+            ..DriftTotals::default()
+        };
+        col.current.fill(0.0);
+        for _ in 0..nsub {
+            // Face j lies between cells j - 1 and j; below the ground there are
+            // no ions, above the top air like the top cell's.
+            let mut j = 0;
+            while j <= n {
+                if j >= 1 && j + WIDTH <= n {
+                    let below = cells_from(col, j - 1);
+                    let above = cells_from(col, j);
+                    let e = Cells(
+                        col.field[j..j + WIDTH]
+                            .try_into()
+                            .expect("a group of faces"),
+                    );
+                    let (fp, fnn) = face_fluxes(e, below, above, h);
+                    col.flux_pos[j..j + WIDTH].copy_from_slice(&fp.0);
+                    col.flux_neg[j..j + WIDTH].copy_from_slice(&fnn.0);
+                    j += WIDTH;
+                } else {
+                    let below = if j == 0 {
+                        [0.0; 4]
+                    } else {
+                        cell_of(col, j - 1)
+                    };
+                    let above = cell_of(col, j.min(n - 1));
+                    let (fp, fnn) = face_fluxes(col.field[j], below, above, h);
+                    col.flux_pos[j] = fp;
+                    col.flux_neg[j] = fnn;
+                    j += 1;
+                }
+            }
+            for j in 0..=n {
+                let charge = e_c * (col.flux_pos[j] - col.flux_neg[j]);
+                col.field[j] -= charge / EPSILON_0;
+                col.current[j] += charge;
+            }
+            for k in 0..n {
+                col.n_pos[k] += (col.flux_pos[k] - col.flux_pos[k + 1]) / dz;
+                col.n_neg[k] += (col.flux_neg[k] - col.flux_neg[k + 1]) / dz;
+            }
+            totals.into_ground -= e_c * (col.flux_pos[0] - col.flux_neg[0]);
+            totals.out_top += e_c * (col.flux_pos[n] - col.flux_neg[n]);
+            if let Some(c) = corona {
+                let e = col.field[0];
+                let j = c.current(e);
+                if j != 0.0 {
+                    // Never below the threshold within the sub-step.
+                    let most = EPSILON_0 * (e.abs() - c.threshold);
+                    let q = (j.abs() * h).min(most) * e.signum();
+                    let ions = q.abs() / (e_c * dz);
+                    if q > 0.0 {
+                        col.n_pos[0] += ions;
+                    } else {
+                        col.n_neg[0] += ions;
+                    }
+                    col.field[0] -= q / EPSILON_0;
+                    totals.corona += q;
+                    col.current[0] += q;
+                }
+            }
+        }
+        for c in col.current.iter_mut() {
+            *c /= dt;
+        }
+        totals.corona_current = totals.corona / dt;
+        totals
+    }
 }
 
 /// The fraction of a sub-step `h` over which a face's field acts when its
@@ -175,82 +250,4 @@ fn cells_from(col: &DriftColumn, first: usize) -> [Cells; 4] {
         )
     };
     [at(col.n_pos), at(col.mu_pos), at(col.n_neg), at(col.mu_neg)]
-}
-
-#[inline(always)]
-fn drift_grouped(col: &mut DriftColumn, dz: f64, dt: f64, corona: Option<Corona>) -> DriftTotals {
-    let n = col.n_pos.len();
-    let nsub = substeps(col, dz, dt);
-    let h = dt / nsub as f64;
-    let e_c = ELEMENTARY_CHARGE;
-    let mut totals = DriftTotals {
-        substeps: nsub,
-        ..DriftTotals::default()
-    };
-    col.current.fill(0.0);
-    for _ in 0..nsub {
-        // Face j lies between cells j - 1 and j; below the ground there are
-        // no ions, above the top air like the top cell's.
-        let mut j = 0;
-        while j <= n {
-            if j >= 1 && j + WIDTH <= n {
-                let below = cells_from(col, j - 1);
-                let above = cells_from(col, j);
-                let e = Cells(
-                    col.field[j..j + WIDTH]
-                        .try_into()
-                        .expect("a group of faces"),
-                );
-                let (fp, fnn) = face_fluxes(e, below, above, h);
-                col.flux_pos[j..j + WIDTH].copy_from_slice(&fp.0);
-                col.flux_neg[j..j + WIDTH].copy_from_slice(&fnn.0);
-                j += WIDTH;
-            } else {
-                let below = if j == 0 {
-                    [0.0; 4]
-                } else {
-                    cell_of(col, j - 1)
-                };
-                let above = cell_of(col, j.min(n - 1));
-                let (fp, fnn) = face_fluxes(col.field[j], below, above, h);
-                col.flux_pos[j] = fp;
-                col.flux_neg[j] = fnn;
-                j += 1;
-            }
-        }
-        for j in 0..=n {
-            let charge = e_c * (col.flux_pos[j] - col.flux_neg[j]);
-            col.field[j] -= charge / EPSILON_0;
-            col.current[j] += charge;
-        }
-        for k in 0..n {
-            col.n_pos[k] += (col.flux_pos[k] - col.flux_pos[k + 1]) / dz;
-            col.n_neg[k] += (col.flux_neg[k] - col.flux_neg[k + 1]) / dz;
-        }
-        totals.into_ground -= e_c * (col.flux_pos[0] - col.flux_neg[0]);
-        totals.out_top += e_c * (col.flux_pos[n] - col.flux_neg[n]);
-        if let Some(c) = corona {
-            let e = col.field[0];
-            let j = c.current(e);
-            if j != 0.0 {
-                // Never below the threshold within the sub-step.
-                let most = EPSILON_0 * (e.abs() - c.threshold);
-                let q = (j.abs() * h).min(most) * e.signum();
-                let ions = q.abs() / (e_c * dz);
-                if q > 0.0 {
-                    col.n_pos[0] += ions;
-                } else {
-                    col.n_neg[0] += ions;
-                }
-                col.field[0] -= q / EPSILON_0;
-                totals.corona += q;
-                col.current[0] += q;
-            }
-        }
-    }
-    for c in col.current.iter_mut() {
-        *c /= dt;
-    }
-    totals.corona_current = totals.corona / dt;
-    totals
 }

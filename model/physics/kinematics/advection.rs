@@ -21,6 +21,8 @@
 //! value (first order). With the Courant number below 1/2 this is monotone
 //! and positive definite; [`substeps`] picks the number of sub-steps.
 
+use crate::physics::lanes::{Cells, Lane, WIDTH};
+
 /// Mass bookkeeping of one advected field (kg m-2 for mixing ratios; the
 /// field's unit times kg m-2 in general).
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
@@ -47,8 +49,6 @@ impl Budget {
 }
 
 /// Largest Courant number allowed per sub-step.
-use crate::physics::lanes::{Cells, Lane, WIDTH};
-
 pub const MAX_COURANT: f64 = 0.5;
 
 /// Number of sub-steps so that |M| dt_sub/(rho dz) <= MAX_COURANT everywhere.
@@ -62,13 +62,6 @@ pub fn substeps(mass_flux: &[f64], rho: &[f64], dz: f64, dt: f64) -> usize {
         c = c.max(m.abs() * dt / (lo.min(hi) * dz));
     }
     (c / MAX_COURANT).ceil().max(1.0) as usize
-}
-
-/// The monotonised-central flux limiter phi(r) = max(0, min(2r, (1+r)/2, 2))
-/// of van Leer (1977, J. Comput. Phys. 23, 276), dimensionless; shared by
-/// advection and sedimentation.
-pub(crate) fn limiter(r: f64) -> f64 {
-    (2.0 * r).min(0.5 * (1.0 + r)).clamp(0.0, 2.0)
 }
 
 /// The parts of [`advect`] that depend only on the flow, shared by every
@@ -146,63 +139,54 @@ crate::physics::lanes::with_avx2! {
         dt: f64,
         inflow: (f64, f64),
         faces: &mut [f64],
-    ) -> Budget => advect_grouped
-}
-
-#[inline(always)]
-fn advect_grouped(
-    q: &mut [f64],
-    m: &[f64],
-    flow: &FlowFactors,
-    dt: f64,
-    inflow: (f64, f64),
-    faces: &mut [f64],
-) -> Budget {
-    let n = q.len();
-    // Only the support of the field (and one cell around it) can change: a
-    // face between two zero cells carries zero, so a zero cell with zero
-    // faces stays exactly zero. Hydrometeors and their charges fill part of
-    // the column; skipping the rest changes no result.
-    let first = q.iter().position(|&x| x != 0.0);
-    let last = q.iter().rposition(|&x| x != 0.0);
-    let (lo, hi) = match (first, last) {
-        (Some(a), Some(b)) => (a, b),
-        _ => (n, 0),
-    };
-    let lo = if inflow.0 != 0.0 { 0 } else { lo };
-    let hi = if inflow.1 != 0.0 { n - 1 } else { hi };
-    if lo > hi {
-        return Budget::default();
-    }
-    let (k0, k1) = (lo.saturating_sub(1), (hi + 1).min(n - 1));
-    let mut j = k0;
-    while j <= k1 + 1 {
-        // Faces 2..=n-2 have both neighbours the limited flux reads on
-        // either side; a group of them at a time where they are all
-        // interior.
-        if j >= 2 && j + WIDTH - 1 <= (k1 + 1).min(n.saturating_sub(2)) {
-            let f: Cells = interior_faces_of(q, m, &flow.courant, j);
-            faces[j..j + WIDTH].copy_from_slice(&f.0);
-            j += WIDTH;
-        } else {
-            faces[j] = face_value(q, m, flow, inflow, j);
-            j += 1;
+    ) -> Budget {
+        let n = q.len();
+        // Only the support of the field (and one cell around it) can
+        // change: a face between two zero cells carries zero, so a zero cell
+        // with zero faces stays exactly zero. Hydrometeors and their charges
+        // fill part of the column; skipping the rest changes no result.
+        let first = q.iter().position(|&x| x != 0.0);
+        let last = q.iter().rposition(|&x| x != 0.0);
+        let (lo, hi) = match (first, last) {
+            (Some(a), Some(b)) => (a, b),
+            _ => (n, 0),
+        };
+        let lo = if inflow.0 != 0.0 { 0 } else { lo };
+        let hi = if inflow.1 != 0.0 { n - 1 } else { hi };
+        if lo > hi {
+            return Budget::default();
         }
+        let (k0, k1) = (lo.saturating_sub(1), (hi + 1).min(n - 1));
+        let mut j = k0;
+        while j <= k1 + 1 {
+            // Faces 2..=n-2 have both neighbours the limited flux reads on
+            // either side; a group of them at a time where they are all
+            // interior.
+            if j >= 2 && j + WIDTH - 1 <= (k1 + 1).min(n.saturating_sub(2)) {
+                let f: Cells = interior_faces_of(q, m, &flow.courant, j);
+                faces[j..j + WIDTH].copy_from_slice(&f.0);
+                j += WIDTH;
+            } else {
+                faces[j] = face_value(q, m, flow, inflow, j);
+                j += 1;
+            }
+        }
+        let mut b = Budget {
+            bottom: if k0 == 0 { dt * m[0] * faces[0] } else { 0.0 },
+            top: if k1 + 1 == n {
+                dt * m[n] * faces[n]
+            } else {
+                0.0
+            },
+            lateral: 0.0,
+        };
+        for k in k0..=k1 {
+            b.lateral += dt * q[k] * (m[k + 1] - m[k]);
+            q[k] -= flow.per_flux[k]
+                * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
+        }
+        b
     }
-    let mut b = Budget {
-        bottom: if k0 == 0 { dt * m[0] * faces[0] } else { 0.0 },
-        top: if k1 + 1 == n {
-            dt * m[n] * faces[n]
-        } else {
-            0.0
-        },
-        lateral: 0.0,
-    };
-    for k in k0..=k1 {
-        b.lateral += dt * q[k] * (m[k + 1] - m[k]);
-        q[k] -= flow.per_flux[k] * (m[k + 1] * (faces[k + 1] - q[k]) - m[k] * (faces[k] - q[k]));
-    }
-    b
 }
 
 /// The value carried through face `j` (0..=n) of field `q` by the mass
@@ -238,14 +222,16 @@ fn face_value(q: &[f64], m: &[f64], flow: &FlowFactors, inflow: (f64, f64), j: u
 pub(crate) fn limited<T: Lane>(up: T, down: T, far: T, c: T) -> T {
     let delta = down - up;
     let ratio = (up - far) / delta;
-    let face = up + (T::splat(1.0) - c) * 0.5 * limiter_of(ratio) * delta;
+    let face = up + (T::splat(1.0) - c) * 0.5 * limiter(ratio) * delta;
     T::select(delta.ne(T::splat(0.0)), face, up)
 }
 
-/// [`limiter`] lane by lane, with `clamp`'s comparisons (so a NaN passes
-/// through as it does there).
+/// The monotonised-central flux limiter phi(r) = max(0, min(2r, (1+r)/2, 2))
+/// of van Leer (1977, J. Comput. Phys. 23, 276), dimensionless, lane by
+/// lane; a NaN passes through (shared by advection and sedimentation
+/// through [`limited`]).
 #[inline(always)]
-fn limiter_of<T: Lane>(r: T) -> T {
+fn limiter<T: Lane>(r: T) -> T {
     let x = (r * 2.0).min((r + 1.0) * 0.5);
     let (zero, two) = (T::splat(0.0), T::splat(2.0));
     T::select(x.lt(zero), zero, T::select(x.gt(two), two, x))

@@ -25,7 +25,7 @@
 //! and sheared top hats). Mass is conserved exactly: what one face takes
 //! from a cell it gives to the next.
 
-use super::advection::{limited, limiter};
+use super::advection::limited;
 use crate::physics::lanes::{Cells, Lane, WIDTH};
 
 /// Largest sedimentation Courant number per sub-step.
@@ -47,11 +47,7 @@ fn bottom_flux(f: &[f64], k: usize, c: f64) -> f64 {
     }
     let down = f[k - 1];
     let far = if k + 1 < n { f[k + 1] } else { 0.0 };
-    let delta = down - up;
-    if delta == 0.0 {
-        return up;
-    }
-    up + 0.5 * (1.0 - c) * limiter((up - far) / delta) * delta
+    limited(up, down, far, c)
 }
 
 crate::physics::lanes::with_avx2! {
@@ -69,55 +65,45 @@ crate::physics::lanes::with_avx2! {
         dt: f64,
         flux: &mut [f64],
         faces: &mut [f64],
-    ) -> f64 => settle_grouped
-}
-
-#[inline(always)]
-fn settle_grouped(
-    d: &mut [f64],
-    v: &[f64],
-    dz: f64,
-    dt: f64,
-    flux: &mut [f64],
-    faces: &mut [f64],
-) -> f64 {
-    let n = d.len();
-    // Only the support of the field (and the cells below it, which it
-    // falls into) can change; above the highest non-zero cell all fluxes
-    // vanish.
-    let Some(top) = d.iter().rposition(|&x| x != 0.0) else {
-        return 0.0;
-    };
-    for k in 0..=top {
-        flux[k] = v[k] * d[k];
-    }
-    let lim = (top + 2).min(n);
-    for f in flux.iter_mut().take(lim).skip(top + 1) {
-        *f = 0.0;
-    }
-    let f = &flux[..lim];
-    // Bottom-face fluxes of cells 0..=top; the face above the support
-    // carries nothing. A group at a time where each has a cell below and two
-    // above it.
-    let mut k = 0;
-    while k <= top {
-        if k >= 1 && k + WIDTH - 1 <= top && k + WIDTH < lim {
-            let at = |offset: usize| Cells::from_lanes(|i| f[k + i + offset - 1]);
-            let courant = Cells::from_lanes(|i| v[k + i] * dt) / dz;
-            let face = limited(at(1), at(0), at(2), courant);
-            faces[k..k + WIDTH].copy_from_slice(&face.0);
-            k += WIDTH;
-        } else {
-            faces[k] = bottom_flux(f, k, v[k] * dt / dz);
-            k += 1;
+    ) -> f64 {
+        let n = d.len();
+        // Only the support of the field (and the cells below it, which it
+        // falls into) can change; above the highest non-zero cell all fluxes
+        // vanish.
+        let Some(top) = d.iter().rposition(|&x| x != 0.0) else {
+            return 0.0;
+        };
+        for k in 0..=top {
+            flux[k] = v[k] * d[k];
         }
+        let lim = (top + 2).min(n);
+        for f in flux.iter_mut().take(lim).skip(top + 1) {
+            *f = 0.0;
+        }
+        let f = &flux[..lim];
+        // Bottom-face fluxes of cells 0..=top; the face above the support
+        // carries nothing. A group at a time where each has a cell below and two
+        // above it.
+        let mut k = 0;
+        while k <= top {
+            if k >= 1 && k + WIDTH - 1 <= top && k + WIDTH < lim {
+                let at = |offset: usize| Cells::from_lanes(|i| f[k + i + offset - 1]);
+                let courant = Cells::from_lanes(|i| v[k + i] * dt) / dz;
+                let face = limited(at(1), at(0), at(2), courant);
+                faces[k..k + WIDTH].copy_from_slice(&face.0);
+                k += WIDTH;
+            } else {
+                faces[k] = bottom_flux(f, k, v[k] * dt / dz);
+                k += 1;
+            }
+        }
+        let mut below = faces[0];
+        let out = below * dt;
+        for k in 0..=top {
+            let above = if k < top { faces[k + 1] } else { 0.0 };
+            d[k] += dt / dz * (above - below);
+            below = above;
+        }
+        out
     }
-    let mut below = faces[0];
-    let out = below * dt;
-    for k in 0..=top {
-        let above = if k < top { faces[k + 1] } else { 0.0 };
-        d[k] += dt / dz * (above - below);
-        below = above;
-    }
-    out
 }

@@ -305,36 +305,33 @@ with_avx2! {
     /// environment and report), [`WIDTH`] at a time
     /// ([`adjust::saturation_adjustment_of`]): each cell gets the bits the
     /// one-cell adjustment gives it. An AVX2 build is chosen at run time.
-    pub fn adjust_cells(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) => adjust_cells_with
-}
-
-#[inline(always)]
-fn adjust_cells_with(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
-    let n = cells.len();
-    for first in (0..n).step_by(WIDTH) {
-        // A short last group repeats its last cell; those lanes are dropped.
-        let lanes = |g: &dyn Fn(&(CellState, CellEnv, CellReport)) -> f64| {
-            Cells::from_lanes(|i| g(&cells[(first + i).min(n - 1)]))
-        };
-        let (qv, qc, t, condensed) = adjust::saturation_adjustment_of(
-            lanes(&|c| c.0.q[VAPOUR]),
-            lanes(&|c| c.0.q[CLOUD]),
-            lanes(&|c| c.0.t),
-            lanes(&|c| c.1.p),
-        );
-        for (i, (s, _, report)) in cells[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
-            let before = s.q[CLOUD];
-            match which {
-                Adjustment::First => {
-                    report.cloud_before_first_adjust = before;
-                    report.condensed_first = condensed.lane(i);
+    pub fn adjust_cells(cells: &mut [(CellState, CellEnv, CellReport)], which: Adjustment) {
+        let n = cells.len();
+        for first in (0..n).step_by(WIDTH) {
+            // A short last group repeats its last cell; those lanes are dropped.
+            let lanes = |g: &dyn Fn(&(CellState, CellEnv, CellReport)) -> f64| {
+                Cells::from_lanes(|i| g(&cells[(first + i).min(n - 1)]))
+            };
+            let (qv, qc, t, condensed) = adjust::saturation_adjustment_of(
+                lanes(&|c| c.0.q[VAPOUR]),
+                lanes(&|c| c.0.q[CLOUD]),
+                lanes(&|c| c.0.t),
+                lanes(&|c| c.1.p),
+            );
+            for (i, (s, _, report)) in cells[first..(first + WIDTH).min(n)].iter_mut().enumerate() {
+                let before = s.q[CLOUD];
+                match which {
+                    Adjustment::First => {
+                        report.cloud_before_first_adjust = before;
+                        report.condensed_first = condensed.lane(i);
+                    }
+                    Adjustment::Last => {
+                        report.cloud_before_adjust = before;
+                        report.condensed = condensed.lane(i);
+                    }
                 }
-                Adjustment::Last => {
-                    report.cloud_before_adjust = before;
-                    report.condensed = condensed.lane(i);
-                }
+                (s.q[VAPOUR], s.q[CLOUD], s.t) = (qv.lane(i), qc.lane(i), t.lane(i));
             }
-            (s.q[VAPOUR], s.q[CLOUD], s.t) = (qv.lane(i), qc.lane(i), t.lane(i));
         }
     }
 }
