@@ -71,33 +71,46 @@ with_avx2! {
             for (s, sp) in Species::HYDROMETEORS.iter().enumerate() {
                 let q = each(&state.q[sp.index()]);
                 let mut some = q.gt(Cells::splat(PRESENT));
-                let (number, radius) = match sp {
-                    Species::Cloud => {
-                        let nc = ions.cloud_droplet_number;
-                        let volume = rho * 3.0 * q / (4.0 * PI * RHO_WATER * nc);
-                        (Cells::splat(nc), volume.cbrt())
-                    }
-                    Species::Ice => {
-                        let n_ice = each(&state.n_ice);
-                        some = some & n_ice.gt(zero);
-                        (rho * n_ice, dsd::ice::diameter_of(q, n_ice) * 0.5)
-                    }
-                    Species::Rain | Species::Snow | Species::Graupel => {
-                        let dist = match sp {
-                            Species::Rain => &f.rain,
-                            Species::Snow => &f.snow,
-                            _ => &f.graupel,
-                        };
-                        // Exponential N0 e^(-lambda D): N = N0/lambda, mean
-                        // radius 1/(2 lambda), so N <r> is the exact first
-                        // moment the diffusion rate integrates.
-                        let lambda = dist.slope_of(rho, Cells::select(some, q, Cells::splat(1.0)));
-                        (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
-                    }
-                    Species::Vapour => unreachable!("the hydrometeors hold no vapour"),
-                };
+                let n_ice = each(&state.n_ice);
+                if *sp == Species::Ice {
+                    some = some & n_ice.gt(zero);
+                }
                 let (pos, neg) = if some.any() {
-                    let charge = each(&state.charge[Carrier::of(*sp).index()]) / number;
+                    // Lanes without particles take a harmless stand-in
+                    // (their rates are dropped below), so that no lane
+                    // leaves the range of the vector forms of ln, exp and
+                    // the cube root and sends the group to the scalar ones.
+                    let one = Cells::splat(1.0);
+                    let q = Cells::select(some, q, one);
+                    let (number, radius) = match sp {
+                        Species::Cloud => {
+                            let nc = ions.cloud_droplet_number;
+                            let volume = rho * 3.0 * q / (4.0 * PI * RHO_WATER * nc);
+                            (Cells::splat(nc), volume.cbrt())
+                        }
+                        Species::Ice => {
+                            let n_ice = Cells::select(some, n_ice, one);
+                            (rho * n_ice, dsd::ice::diameter_of(q, n_ice) * 0.5)
+                        }
+                        Species::Rain | Species::Snow | Species::Graupel => {
+                            let dist = match sp {
+                                Species::Rain => &f.rain,
+                                Species::Snow => &f.snow,
+                                _ => &f.graupel,
+                            };
+                            // Exponential N0 e^(-lambda D): N = N0/lambda, mean
+                            // radius 1/(2 lambda), so N <r> is the exact first
+                            // moment the diffusion rate integrates.
+                            let lambda = dist.slope_of(rho, q);
+                            (Cells::splat(dist.n0) / lambda, Cells::splat(0.5) / lambda)
+                        }
+                        Species::Vapour => unreachable!("the hydrometeors hold no vapour"),
+                    };
+                    let charge = Cells::select(
+                        some,
+                        each(&state.charge[Carrier::of(*sp).index()]),
+                        zero,
+                    ) / number;
                     let (pos, neg) = population_rates_of(mu, t, number, radius, charge);
                     (
                         Cells::select(some, pos, zero),
