@@ -68,10 +68,10 @@ with_avx2! {
             let t = Cells::from_lanes(|i| state.temperature(exp, cell(i)));
             let rho = each(&exp.base.centre.density);
             let mu = (each(&ions.mu_pos), each(&ions.mu_neg));
+            let n_ice = each(&state.n_ice);
             for (s, sp) in Species::HYDROMETEORS.iter().enumerate() {
                 let q = each(&state.q[sp.index()]);
                 let mut some = q.gt(Cells::splat(PRESENT));
-                let n_ice = each(&state.n_ice);
                 if *sp == Species::Ice {
                     some = some & n_ice.gt(zero);
                 }
