@@ -35,13 +35,16 @@ pub struct BenchReport {
     pub efficiency: f64,
     /// Scaling over column sizes, the demo's first `member_duration`
     /// seconds at spacings from 200 m to 12.5 m, each size run once per
-    /// round over `repeats` interleaved rounds: (cells, median, slowest and
-    /// fastest cell-steps per second of the step, median share of the step
-    /// in the field solve).
-    pub scaling: Vec<(usize, f64, f64, f64, f64)>,
+    /// round over `repeats` interleaved rounds: (cells, step in s, median,
+    /// slowest and fastest cell-steps per second of the step, median share
+    /// of the step in the field solve).
+    pub scaling: Vec<(usize, f64, f64, f64, f64, f64)>,
     /// Cell-steps per second at the largest column over those at the
     /// smallest, per round: median, lowest, highest (1 is flat).
     pub flatness: (f64, f64, f64),
+    /// Whether the scaling runs scaled the step with the spacing (a fixed
+    /// Courant number) instead of keeping the demo's step.
+    pub fixed_courant: bool,
     /// Whole demo runs with NetCDF output (the `run` path, into a scratch
     /// directory): median cell-steps per second with slowest and fastest.
     pub with_output: (f64, f64, f64),
@@ -60,33 +63,36 @@ impl Drop for RemoveOnDrop {
     }
 }
 
+/// Runs the demo with `overrides`; returns its cells, steps and step (s).
 fn run_demo(
     overrides: &[String],
     lap: &mut dyn FnMut(usize, Duration),
-) -> Result<(usize, u64), RunError> {
+) -> Result<(usize, u64, f64), RunError> {
     let exp = Experiment::from_text(DEMO_TOML, "demo", overrides, Path::new("."))?;
     let mut s = State::initial(&exp);
     for _ in 0..exp.schedule.steps {
         step_timed(&exp, &mut s, exp.schedule.dt, Some(&mut *lap), &mut |_| {})?;
     }
-    Ok((exp.grid.len(), exp.schedule.steps))
+    Ok((exp.grid.len(), exp.schedule.steps, exp.schedule.dt))
 }
 
 /// Runs the benchmarks on the demo with `overrides` (as `run --set`): the
 /// demo `repeats` times, then `members` demo copies (shortened to
-/// `member_duration` s) as a sweep.
+/// `member_duration` s) as a sweep, then the scaling over column sizes, with
+/// the step scaled with the spacing when `fixed_courant`.
 pub fn run(
     repeats: usize,
     members: usize,
     member_duration: f64,
     overrides: &[String],
+    fixed_courant: bool,
 ) -> Result<BenchReport, RunError> {
     let mut phase = [Duration::ZERO; PHASES.len()];
     let mut rates = Vec::with_capacity(repeats);
     let (mut cells, mut steps) = (0, 0);
     for _ in 0..repeats.max(1) {
         let start = Instant::now();
-        (cells, steps) = run_demo(overrides, &mut |p, d| phase[p] += d)?;
+        (cells, steps, _) = run_demo(overrides, &mut |p, d| phase[p] += d)?;
         rates.push(cells as f64 * steps as f64 / start.elapsed().as_secs_f64());
     }
     rates.sort_by(f64::total_cmp);
@@ -178,20 +184,26 @@ pub fn run(
     let solve = PHASES.iter().position(|p| *p == "poisson").unwrap_or(0);
     // Rounds interleave the sizes, so that a machine that slows down or
     // speeds up during the benchmark affects every size alike.
-    let mut rounds: Vec<Vec<(usize, f64, f64)>> = Vec::new();
+    let mut rounds: Vec<Vec<(usize, f64, f64, f64)>> = Vec::new();
     for _ in 0..repeats.max(1) {
         let mut round = Vec::new();
         for dz in SCALING_SPACINGS {
             let mut o = short.clone();
             o.push(format!("grid.spacing={dz}"));
+            if fixed_courant {
+                // The demo's Courant numbers at every spacing: its step
+                // times the spacing over its own.
+                o.push(format!("time.step={}", exp.schedule.dt * dz / exp.grid.dz));
+            }
             let mut ph = [Duration::ZERO; PHASES.len()];
             let t = Instant::now();
-            let (c, st) = run_demo(&o, &mut |p, d| ph[p] += d)?;
+            let (c, st, dt) = run_demo(&o, &mut |p, d| ph[p] += d)?;
             let total: f64 = ph.iter().map(|d| d.as_secs_f64()).sum();
             round.push((
                 c,
                 c as f64 * st as f64 / t.elapsed().as_secs_f64(),
                 ph[solve].as_secs_f64() / total,
+                dt,
             ));
         }
         rounds.push(round);
@@ -203,7 +215,7 @@ pub fn run(
         .map(|i| {
             let (rate, slow, fast) = spread(rounds.iter().map(|r| r[i].1).collect());
             let (share, _, _) = spread(rounds.iter().map(|r| r[i].2).collect());
-            (rounds[0][i].0, rate, slow, fast, share)
+            (rounds[0][i].0, rounds[0][i].3, rate, slow, fast, share)
         })
         .collect();
     let last = SCALING_SPACINGS.len() - 1;
@@ -223,6 +235,7 @@ pub fn run(
         efficiency,
         scaling,
         flatness,
+        fixed_courant,
     })
 }
 
@@ -255,14 +268,22 @@ impl BenchReport {
             self.threads,
             100.0 * self.efficiency
         ));
+        let step = if self.fixed_courant {
+            "the step scaled with the spacing (a fixed Courant number)"
+        } else {
+            "the demo's step"
+        };
         s.push_str(&format!(
-            "scaling over column sizes (the demo's first member-duration seconds, medians of {} interleaved rounds):\n",
+            "scaling over column sizes (the demo's first member-duration seconds at {step}, medians of {} interleaved rounds):\n",
             self.repeats
         ));
-        for (cells, rate, slow, fast, solve) in &self.scaling {
+        for (cells, dt, rate, slow, fast, solve) in &self.scaling {
+            // The field solve's own time per cell-step, from its share of
+            // the median rate: what an O(N log N) solve keeps nearly flat.
             s.push_str(&format!(
-                "  {cells:>5} cells: {rate:.3e} cell-steps per second ({slow:.3e} to {fast:.3e}), field solve {:.1} % of the step\n",
-                100.0 * solve
+                "  {cells:>5} cells: step {dt} s, {rate:.3e} cell-steps per second ({slow:.3e} to {fast:.3e}), field solve {:.1} % of the step ({:.0} ns per cell-step)\n",
+                100.0 * solve,
+                1e9 * solve / rate
             ));
         }
         let (ratio, low, high) = self.flatness;

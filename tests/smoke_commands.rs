@@ -357,19 +357,14 @@ fn bench_prints_its_figures() {
         v.len() == 6 && v.iter().all(|x| x.is_finite() && *x > 0.0),
         "{sweep}"
     );
-    // The scaling over column sizes: 80 to 1280 cells, positive rates, the
-    // median between the slowest and fastest round.
-    let cells: Vec<f64> = text
-        .lines()
-        .filter(|l| l.contains(" cells: "))
-        .map(|l| {
-            let v = numbers(l);
-            assert!(v.len() == 5 && v[2] > 0.0, "{l}");
-            assert!(v[2] <= v[1] && v[1] <= v[3], "{l}");
-            v[0]
-        })
-        .collect();
+    // The scaling over column sizes: 80 to 1280 cells at the demo's 2 s
+    // step, positive rates, the median between the slowest and fastest
+    // round, the field solve's share and its time per cell-step.
+    let rows = scaling_rows(&text);
+    let cells: Vec<f64> = rows.iter().map(|v| v[0]).collect();
     assert_eq!(cells, [80.0, 160.0, 320.0, 640.0, 1280.0]);
+    assert!(rows.iter().all(|v| v[1] == 2.0), "{text}");
+    assert!(text.contains("at the demo's step"), "{text}");
     let flat = text
         .lines()
         .find(|l| l.starts_with("largest over smallest column"))
@@ -379,6 +374,50 @@ fn bench_prints_its_figures() {
         v.len() == 3 && v[1] > 0.0 && v[1] <= v[0] && v[0] <= v[2],
         "{flat}"
     );
+}
+
+#[test]
+fn bench_scales_the_step_with_the_spacing_on_request() {
+    // With --fixed-courant the scaling runs say so, and each size runs at
+    // the demo's step scaled with its spacing (common practice: a fixed
+    // Courant number), as the rows print it.
+    let o = succeed(bin().args([
+        "bench",
+        "--repeats",
+        "1",
+        "--members",
+        "1",
+        "--member-duration",
+        "60",
+        "--fixed-courant",
+    ]));
+    let text = String::from_utf8(o.stdout).unwrap();
+    assert!(
+        text.contains("at the step scaled with the spacing (a fixed Courant number)"),
+        "{text}"
+    );
+    // The demo's 2 s at 100 m: 4 s at 200 m down to 0.25 s at 12.5 m.
+    let steps: Vec<f64> = scaling_rows(&text).iter().map(|v| v[1]).collect();
+    assert_eq!(steps, [4.0, 2.0, 1.0, 0.5, 0.25], "{text}");
+}
+
+/// The numbers of `bench`'s scaling rows: cells, step (s), median,
+/// slowest and fastest cell-steps per second, the field solve's share (%)
+/// and its time per cell-step (ns), each row checked for positive rates
+/// and the median between the slowest and fastest round.
+fn scaling_rows(text: &str) -> Vec<Vec<f64>> {
+    text.lines()
+        .filter(|l| l.contains(" cells: "))
+        .map(|l| {
+            let v: Vec<f64> = l
+                .split(|c: char| c.is_whitespace() || c == ',' || c == '(' || c == ')')
+                .filter_map(|w| w.parse::<f64>().ok())
+                .collect();
+            assert!(v.len() == 7 && v[3] > 0.0 && v[6] > 0.0, "{l}");
+            assert!(v[3] <= v[2] && v[2] <= v[4], "{l}");
+            v
+        })
+        .collect()
 }
 
 #[test]

@@ -155,6 +155,11 @@ pub enum Command {
         /// Override one key of the demo, as for `run` (repeatable).
         #[arg(long = "set", value_name = "SECTION.KEY=VALUE")]
         set: Vec<String>,
+        /// In the scaling over column sizes, scale the step with the grid
+        /// spacing (a fixed Courant number, so the explicit transport takes
+        /// the same sub-steps at every size) instead of keeping the demo's.
+        #[arg(long)]
+        fixed_courant: bool,
     },
     /// Join the shard summaries of a sharded sweep into summary.csv.
     SweepMerge { dir: PathBuf },
@@ -265,11 +270,13 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             members,
             member_duration,
             set,
+            fixed_courant,
         } => crate::bench::run(
             repeats.clamp(1, 100),
             members.clamp(1, 64),
             member_duration,
             &set,
+            fixed_courant,
         )
         .map(|r| print!("{}", r.text())),
         Command::SweepMerge { dir } => {
