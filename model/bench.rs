@@ -35,10 +35,8 @@ pub struct BenchReport {
     pub efficiency: f64,
     /// Scaling over column sizes, the demo's first `member_duration`
     /// seconds at spacings from 200 m to 12.5 m, each size run once per
-    /// round over `repeats` interleaved rounds: (cells, step in s, median,
-    /// slowest and fastest cell-steps per second of the step, median share
-    /// of the step in the field solve).
-    pub scaling: Vec<(usize, f64, f64, f64, f64, f64)>,
+    /// round over `repeats` interleaved rounds.
+    pub scaling: Vec<ScalingRow>,
     /// Cell-steps per second at the largest column over those at the
     /// smallest, per round: median, lowest, highest (1 is flat).
     pub flatness: (f64, f64, f64),
@@ -48,6 +46,20 @@ pub struct BenchReport {
     /// Whole demo runs with NetCDF output (the `run` path, into a scratch
     /// directory): median cell-steps per second with slowest and fastest.
     pub with_output: (f64, f64, f64),
+}
+
+/// One column size of [`BenchReport::scaling`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ScalingRow {
+    pub cells: usize,
+    /// The step it ran at (s).
+    pub step: f64,
+    /// Median, slowest and fastest cell-steps per second of the step.
+    pub rate: f64,
+    pub slowest: f64,
+    pub fastest: f64,
+    /// Median share of the step in the field solve.
+    pub solve_share: f64,
 }
 
 /// Grid spacings of the scaling figures (m): 80 to 1280 cells in the
@@ -215,7 +227,14 @@ pub fn run(
         .map(|i| {
             let (rate, slow, fast) = spread(rounds.iter().map(|r| r[i].1).collect());
             let (share, _, _) = spread(rounds.iter().map(|r| r[i].2).collect());
-            (rounds[0][i].0, rounds[0][i].3, rate, slow, fast, share)
+            ScalingRow {
+                cells: rounds[0][i].0,
+                step: rounds[0][i].3,
+                rate,
+                slowest: slow,
+                fastest: fast,
+                solve_share: share,
+            }
         })
         .collect();
     let last = SCALING_SPACINGS.len() - 1;
@@ -277,13 +296,18 @@ impl BenchReport {
             "scaling over column sizes (the demo's first member-duration seconds at {step}, medians of {} interleaved rounds):\n",
             self.repeats
         ));
-        for (cells, dt, rate, slow, fast, solve) in &self.scaling {
+        for r in &self.scaling {
             // The field solve's own time per cell-step, from its share of
             // the median rate: what an O(N log N) solve keeps nearly flat.
             s.push_str(&format!(
-                "  {cells:>5} cells: step {dt} s, {rate:.3e} cell-steps per second ({slow:.3e} to {fast:.3e}), field solve {:.1} % of the step ({:.0} ns per cell-step)\n",
-                100.0 * solve,
-                1e9 * solve / rate
+                "  {:>5} cells: step {} s, {:.3e} cell-steps per second ({:.3e} to {:.3e}), field solve {:.1} % of the step ({:.0} ns per cell-step)\n",
+                r.cells,
+                r.step,
+                r.rate,
+                r.slowest,
+                r.fastest,
+                100.0 * r.solve_share,
+                1e9 * r.solve_share / r.rate
             ));
         }
         let (ratio, low, high) = self.flatness;

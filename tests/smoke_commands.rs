@@ -319,11 +319,6 @@ fn bench_prints_its_figures() {
         "60",
     ]));
     let text = String::from_utf8(o.stdout).unwrap();
-    let numbers = |line: &str| -> Vec<f64> {
-        line.split(|c: char| c.is_whitespace() || c == ',' || c == '(' || c == ')' || c == ';')
-            .filter_map(|w| w.parse::<f64>().ok())
-            .collect()
-    };
     let first = text.lines().next().unwrap();
     assert!(
         first.starts_with("demo column, one thread: 160 cells x 1800 steps"),
@@ -409,10 +404,7 @@ fn scaling_rows(text: &str) -> Vec<Vec<f64>> {
     text.lines()
         .filter(|l| l.contains(" cells: "))
         .map(|l| {
-            let v: Vec<f64> = l
-                .split(|c: char| c.is_whitespace() || c == ',' || c == '(' || c == ')')
-                .filter_map(|w| w.parse::<f64>().ok())
-                .collect();
+            let v = numbers(l);
             assert!(v.len() == 7 && v[3] > 0.0 && v[6] > 0.0, "{l}");
             assert!(v[3] <= v[2] && v[2] <= v[4], "{l}");
             v
@@ -649,4 +641,11 @@ fn init_examples_are_complete_and_check_says_valid() {
     let last = out.lines().last().unwrap_or("");
     assert!(last.contains("is valid"), "{last}");
     assert!(out.contains("left out as unused by this run: [hydrometeors]"));
+}
+
+/// The numbers of one line of `bench`'s report, in order.
+fn numbers(line: &str) -> Vec<f64> {
+    line.split(|c: char| c.is_whitespace() || c == ',' || c == '(' || c == ')' || c == ';')
+        .filter_map(|w| w.parse::<f64>().ok())
+        .collect()
 }

@@ -26,8 +26,9 @@ pub fn apply_forcing(exp: &Experiment, state: &mut State) {
 
 with_avx2! {
     /// Mass-weighted fall speeds (m s-1) of the falling species at every cell,
-    /// a group of cells side by side ([`crate::physics::lanes`]; an AVX2 build is
-    /// chosen at run time).
+    /// zero where a species is absent, a group of [`WIDTH`] cells side by
+    /// side ([`crate::physics::lanes`]; a short last group repeats its last
+    /// cell, whose lanes are dropped; an AVX2 build is chosen at run time).
     pub fn update_fall_speeds(exp: &Experiment, state: &mut State) {
         let rho = &exp.base.centre.density;
         let p = exp.micro_params();
@@ -64,8 +65,6 @@ with_avx2! {
     }
 }
 
-/// The fall speeds of groups of [`WIDTH`] cells; a short last group repeats
-/// its last cell, whose lanes are dropped. Zero where a species is absent.
 /// Most sub-steps one transport step may take. More means a Courant number
 /// above 5000 (an updraft or fall speed far outside the physical range for
 /// the step and spacing): a mistake in the configuration, reported instead
