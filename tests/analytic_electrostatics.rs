@@ -251,6 +251,43 @@ fn direct_column_solve_gives_the_same_bits_on_every_instruction_set() {
 }
 
 #[test]
+fn field_alone_has_the_bits_of_the_full_solve() {
+    // The solve inside a step whose potential nothing reads computes the
+    // field alone; it must be the full solve's field bit for bit (the same
+    // sums in the same order), by the direct sums (the potential left
+    // untouched) and on the FFT route (which fills both), and in the planar
+    // geometry. A wiring check of the two paths (common practice).
+    use stormcharge::physics::electrostatics::column::FFT_FROM;
+    use stormcharge::physics::electrostatics::FieldSolver;
+    for n in [160, FFT_FROM + 64] {
+        let grid = Grid::uniform(n, 50.0);
+        let rho: Vec<f64> = (0..n)
+            .map(|k| 1e-9 * ((0.05 * k as f64).cos() + if k % 13 == 0 { 0.0 } else { 0.2 }))
+            .collect();
+        let solvers = [
+            FieldSolver::Column(ColumnSolver::new(&grid, 3000.0)),
+            FieldSolver::Planar(PlanarSolver::new(&grid, Top::FieldFree)),
+        ];
+        for (g, s) in solvers.iter().enumerate() {
+            let (mut p1, mut e1) = (vec![0.0; n], vec![0.0; n + 1]);
+            let (mut p2, mut e2) = (vec![-7.0; n], vec![0.0; n + 1]);
+            s.solve(&rho, &mut p1, &mut e1);
+            s.solve_field(&rho, &mut p2, &mut e2);
+            assert!(e1.iter().any(|x| *x != 0.0));
+            for (a, b) in e1.iter().zip(&e2) {
+                assert_eq!(a.to_bits(), b.to_bits(), "n = {n}, solver {g}");
+            }
+            let direct = g == 0 && n < FFT_FROM;
+            if direct {
+                assert!(p2.iter().all(|&x| x == -7.0), "potential left as it was");
+            } else {
+                assert_eq!(p1, p2, "n = {n}, solver {g}");
+            }
+        }
+    }
+}
+
+#[test]
 fn fft_lengths_have_only_small_prime_factors() {
     // The FFT length is the smallest number >= 2n with prime factors 2, 3
     // and 5 only (5-smooth numbers: 1, 2, 3, 4, 5, 6, 8, 9, 10, 12, 15, 16,

@@ -142,7 +142,13 @@ fn advance(
     charging::step(exp, state, 0.5 * dt, true);
     guards::check(exp, state, Process::Charging)?;
     mark(3);
-    electrostatics::solve(exp, state);
+    if exp.ions.enabled {
+        // The field alone: the solve after the ions replaces the potential
+        // and the diagnostics before anything reads them.
+        electrostatics::solve_field(exp, state);
+    } else {
+        electrostatics::solve(exp, state);
+    }
     mark(4);
     if exp.ions.enabled {
         // Second half of the small ions, in the field of the charge the

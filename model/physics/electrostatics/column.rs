@@ -294,16 +294,28 @@ impl ColumnSolver {
             s.solve(rho, phi, e);
             return;
         }
-        self.direct(rho, phi, e, false);
+        self.direct(rho, Some(phi), e, false);
+    }
+
+    /// The field of [`ColumnSolver::solve`] alone, with the same bits; `phi`
+    /// is left as it was where the direct sums are used (half their work),
+    /// and solved as well on the FFT route, whose one inverse transform
+    /// gives both.
+    pub fn solve_field(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        if let Some(s) = &self.spectral {
+            s.solve(rho, phi, e);
+            return;
+        }
+        self.direct(rho, None, e, false);
     }
 
     /// The direct sums in the portable build, without the run-time choice
     /// of instruction set (for the test that both give the same bits).
     pub fn solve_portable(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
-        self.direct(rho, phi, e, true);
+        self.direct(rho, Some(phi), e, true);
     }
 
-    fn direct(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64], portable: bool) {
+    fn direct(&self, rho: &[f64], phi: Option<&mut [f64]>, e: &mut [f64], portable: bool) {
         let n = self.n;
         let slices = (
             self.potential_direct.as_slice(),
@@ -339,15 +351,24 @@ struct Responses<'a> {
 }
 
 /// The direct sums phi_i = sum_j rho_j (pd - pi), E likewise, over the
-/// charged cells. Plain arithmetic (no fused multiply-add), so every
+/// charged cells (E alone when `phi` is `None`, each E with the same
+/// operations). Plain arithmetic (no fused multiply-add), so every
 /// instruction set gives the same bits. Sources are taken four at a time,
 /// each target summing them in the order of j as one at a time would (so
 /// the bits are those of the one-at-a-time sums), with a quarter of the
 /// loads and stores of the targets; a block without charge is skipped (an
 /// uncharged cell adds exactly zero).
 #[inline(always)]
-fn direct_sums(n: usize, rho: &[f64], r: &Responses<'_>, phi: &mut [f64], e: &mut [f64]) {
-    phi.fill(0.0);
+fn direct_sums(
+    n: usize,
+    rho: &[f64],
+    r: &Responses<'_>,
+    mut phi: Option<&mut [f64]>,
+    e: &mut [f64],
+) {
+    if let Some(phi) = phi.as_deref_mut() {
+        phi.fill(0.0);
+    }
     e.fill(0.0);
     let mut j = 0;
     while j < n {
@@ -361,19 +382,23 @@ fn direct_sums(n: usize, rho: &[f64], r: &Responses<'_>, phi: &mut [f64], e: &mu
             // Source j + m starts the direct response at n - 1 - j - m and
             // the image response at j + m.
             let start = n - 4 - j;
-            add_differences(
-                phi,
-                &r.pd[start..start + n + 3],
-                &r.pi[j..j + n + 3],
-                charge,
-            );
+            if let Some(phi) = phi.as_deref_mut() {
+                add_differences(
+                    phi,
+                    &r.pd[start..start + n + 3],
+                    &r.pi[j..j + n + 3],
+                    charge,
+                );
+            }
             add_differences(e, &r.fd[start..start + n + 4], &r.fi[j..j + n + 4], charge);
             j += 4;
         } else {
             for (m, &q) in block.iter().enumerate() {
                 if q != 0.0 {
                     let start = n - 1 - (j + m);
-                    add_difference(phi, &r.pd[start..start + n], &r.pi[j + m..j + m + n], q);
+                    if let Some(phi) = phi.as_deref_mut() {
+                        add_difference(phi, &r.pd[start..start + n], &r.pi[j + m..j + m + n], q);
+                    }
                     add_difference(
                         e,
                         &r.fd[start..start + n + 1],
@@ -421,7 +446,7 @@ unsafe fn direct_sums_avx2(
     n: usize,
     rho: &[f64],
     r: &Responses<'_>,
-    phi: &mut [f64],
+    phi: Option<&mut [f64]>,
     e: &mut [f64],
 ) {
     direct_sums(n, rho, r, phi, e)

@@ -40,6 +40,17 @@ impl FieldSolver {
         }
     }
 
+    /// The field of [`FieldSolver::solve`] with the same bits, for a solve
+    /// whose potential nothing reads: the finite column's direct sums then
+    /// skip the potential (`phi` keeps its old values, stale until the next
+    /// [`FieldSolver::solve`]); the planar and FFT solves fill both.
+    pub fn solve_field(&self, rho: &[f64], phi: &mut [f64], e: &mut [f64]) {
+        match self {
+            FieldSolver::Planar(s) => s.solve(rho, phi, e),
+            FieldSolver::Column(s) => s.solve_field(rho, phi, e),
+        }
+    }
+
     /// Horizontal area of the charged column (m2), when finite.
     pub fn column_area(&self) -> Option<f64> {
         match self {

@@ -417,11 +417,12 @@ fn integrate_cells_with(
         relative: p.rtol,
         absolute: p.atol,
     };
-    // Stage buffers for either pair, cleared once per call rather than per
-    // group.
+    // Stage buffers, cleared once per call rather than per group, and only
+    // for the pair in use (the unused pair's 17 KiB of clearing and copying
+    // was 0.8 % of the demo's instructions).
     let zero = Cells::default();
-    let mut bogacki_shampine = ([[zero; 8]; 4], [[zero; rates::N_TRANSFERS]; 4]);
-    let mut dormand_prince = ([[zero; 8]; 7], [[zero; rates::N_TRANSFERS]; 7]);
+    let mut bogacki_shampine = None;
+    let mut dormand_prince = None;
     for group in which.chunks(WIDTH) {
         let lane = |i: usize| group[i.min(group.len() - 1)];
         // Transposed with plain loops (`array::map` over eight lanes was not
@@ -451,11 +452,15 @@ fn integrate_cells_with(
         let (error, y, integrals) = match p.integrator {
             Integrator::BogackiShampine1989 => {
                 let pair = &integrator::BOGACKI_SHAMPINE_1989;
-                integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut bogacki_shampine)
+                let stages = bogacki_shampine
+                    .get_or_insert_with(|| ([[zero; 8]; 4], [[zero; rates::N_TRANSFERS]; 4]));
+                integrator::whole_step(pair, rhs, y0, first, dt, tol, stages)
             }
             Integrator::DormandPrince1980 => {
                 let pair = &integrator::DORMAND_PRINCE_1980;
-                integrator::whole_step(pair, rhs, y0, first, dt, tol, &mut dormand_prince)
+                let stages = dormand_prince
+                    .get_or_insert_with(|| ([[zero; 8]; 7], [[zero; rates::N_TRANSFERS]; 7]));
+                integrator::whole_step(pair, rhs, y0, first, dt, tol, stages)
             }
             // The reference integrator takes every cell on its own.
             Integrator::OdeSolversDopri5 => (Cells::splat(f64::INFINITY), y0, first.1),
