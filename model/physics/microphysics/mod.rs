@@ -423,6 +423,9 @@ fn integrate_cells_with(
     let zero = Cells::default();
     let mut bogacki_shampine = None;
     let mut dormand_prince = None;
+    // Built on first use: `get_or_insert` would build the buffers for every
+    // group, which is what this avoids.
+    #[allow(clippy::unnecessary_lazy_evaluations)]
     for group in which.chunks(WIDTH) {
         let lane = |i: usize| group[i.min(group.len() - 1)];
         // Transposed with plain loops (`array::map` over eight lanes was not
