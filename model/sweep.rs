@@ -701,14 +701,14 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
         col(
             "drop_2p5mm_charge_C",
             "drop_2p5mm_charge",
-            "largest charge magnitude on a 2.5 mm drop over the run (charge shared over the size distribution by surface area)",
+            "largest charge magnitude on a 2.5 mm drop over the run (charge shared over the size distribution by surface area; cells holding at least one drop of 2.5 mm or larger per m3)",
             "C",
             |o| N(o.charge_2p5mm[0]),
         ),
         col(
             "graupel_2p5mm_charge_C",
             "graupel_2p5mm_charge",
-            "largest charge magnitude on a 2.5 mm graupel particle over the run (charge shared over the size distribution by surface area)",
+            "largest charge magnitude on a 2.5 mm graupel particle over the run (charge shared over the size distribution by surface area; cells holding at least one particle of 2.5 mm or larger per m3)",
             "C",
             |o| N(o.charge_2p5mm[1]),
         ),

@@ -113,8 +113,9 @@ fn demo_graupel_carries_observed_charges() {
     // 2.5 mm graupel (the charge density shared over the size distribution
     // by surface area) carries the tens to a few hundred pC measured on 1-3
     // mm precipitation particles (Marshall & Winn 1982; docs/references.md):
-    // between 10 and 400 pC. Measured: 81 / 81 / 82 pC. (Its 2.5 mm drops
-    // carry about 7 pC, below that range: tests/smoke_storms.rs.)
+    // between 10 and 400 pC, where a cubic metre holds at least one such
+    // particle. Measured: 81 / 81 / 82 pC. (Its 2.5 mm drops carry 1-2 pC,
+    // below that range: tests/smoke_storms.rs.)
     for l in levels() {
         let q = l.summary.max_charge_2p5mm[1];
         assert!((10e-12..=400e-12).contains(&q), "{}: graupel {q} C", l.set);

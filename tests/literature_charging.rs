@@ -147,6 +147,28 @@ fn surface_shared_charge_adds_up_and_grows_with_size() {
 }
 
 #[test]
+fn tail_number_of_an_exponential_distribution() {
+    // The number of particles of diameter d or larger in N0 e^(-lambda D)
+    // is (N0/lambda) e^(-lambda d) (the exponential's tail, derived): all of
+    // them at d = 0, and the same as a midpoint sum of N(D) from d on. The
+    // summary takes the 2.5 mm charges only where this is at least 1 m-3.
+    use stormcharge::physics::charging::SharedCharge;
+    use stormcharge::physics::microphysics::dsd;
+    let g = dsd::graupel(1.26e5, 400.0);
+    let (rho, q) = (0.7, 3e-3);
+    let s = SharedCharge::of(&g, rho, q, 1e-9).unwrap();
+    let lambda = g.slope(rho, q);
+    assert!((s.number_larger_than(0.0) - g.n0 / lambda).abs() < 1e-12 * g.n0 / lambda);
+    let d0 = 2.5e-3;
+    let n = 200_000;
+    let h = (60.0 / lambda) / n as f64;
+    let sum: f64 = (0..n)
+        .map(|i| g.n0 * (-lambda * (d0 + (i as f64 + 0.5) * h)).exp() * h)
+        .sum();
+    assert!((s.number_larger_than(d0) - sum).abs() < 1e-8 * sum, "{sum}");
+}
+
+#[test]
 fn size_speed_factor_never_leaves_its_laboratory_values() {
     // Property over wide inputs (diameters 1 nm to 1 m, speeds 0 to
     // 1000 m/s, NaN-free): the factor B d^a V^b of Saunders, Keith & Mitzeva

@@ -527,7 +527,7 @@ fn cmd_run(
         }
         if summary.max_particle_charge > 0.0 {
             println!(
-                "  largest mean charge per precipitation particle: {:.1} pC; on a 2.5 mm drop {:.1} pC, on 2.5 mm graupel {:.1} pC (charge shared by surface area)",
+                "  largest mean charge per precipitation particle: {:.1} pC; on a 2.5 mm drop {:.1} pC, on 2.5 mm graupel {:.1} pC (charge shared by surface area, where at least one such particle per m3)",
                 summary.max_particle_charge * 1e12,
                 summary.max_charge_2p5mm[0] * 1e12,
                 summary.max_charge_2p5mm[1] * 1e12
