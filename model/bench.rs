@@ -161,7 +161,13 @@ pub fn run(
                 index,
                 overrides: member_overrides.clone(),
             };
-            crate::sweep::run_member(&demo, Path::new("."), &member, &dir)
+            crate::sweep::run_member(
+                &demo,
+                Path::new("."),
+                &member,
+                &dir,
+                crate::sweep::MemberFiles::NetCdf,
+            )
         });
         let rate = members as f64 / t.elapsed().as_secs_f64();
         let _ = std::fs::remove_dir_all(&dir);

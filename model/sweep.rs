@@ -85,6 +85,22 @@ pub struct Outcome {
     pub structure_while_flashing: String,
     #[serde(default = "no_time", deserialize_with = "nan::one")]
     pub structure_while_flashing_share: f64,
+    /// [`fingerprint`] of the member's resolved configuration (empty for a
+    /// member that did not resolve), so that `--resume` can check an
+    /// outcome without the member's file.
+    #[serde(default)]
+    pub configuration: String,
+}
+
+/// What a sweep writes for each member.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum MemberFiles {
+    /// The member's NetCDF file and its outcome side file.
+    NetCdf,
+    /// The outcome side file only (`sweep --outcomes-only`): the summary
+    /// and `analyze` need nothing else, and an ensemble of thousands of
+    /// members then writes kilobytes per member, not megabytes.
+    OutcomesOnly,
 }
 
 fn no_pair() -> [f64; 2] {
@@ -350,11 +366,18 @@ fn failed_outcome(member: Member) -> Outcome {
         charge_2p5mm: no_pair(),
         structure_while_flashing: String::new(),
         structure_while_flashing_share: f64::NAN,
+        configuration: String::new(),
     }
 }
 
 /// Runs one member into `dir`.
-pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir: &Path) -> Outcome {
+pub fn run_member(
+    base_text: &ConfigText,
+    base_dir: &Path,
+    member: &Member,
+    dir: &Path,
+    files: MemberFiles,
+) -> Outcome {
     let mut out = failed_outcome(member.clone());
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
@@ -366,14 +389,23 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
     )
     .map_err(RunError::from)
     .and_then(|exp| {
-        let target = dir.join(format!("member_{:04}.nc", member.index));
-        let mut writer = NetcdfWriter::new(
-            &target,
-            &format!("stormcharge sweep member {}", member.index),
-        );
         let mut watch = Watch::default();
-        let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
-        let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        let s = match files {
+            MemberFiles::NetCdf => {
+                let target = dir.join(format!("member_{:04}.nc", member.index));
+                let mut writer = NetcdfWriter::new(
+                    &target,
+                    &format!("stormcharge sweep member {}", member.index),
+                );
+                let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
+                timeloop::run(&exp, &mut obs, &mut |_| {})?
+            }
+            MemberFiles::OutcomesOnly => {
+                let mut obs: [&mut dyn Observer; 1] = [&mut watch];
+                timeloop::run(&exp, &mut obs, &mut |_| {})?
+            }
+        };
+        let configuration = fingerprint(&exp.config.to_toml());
         let peak_regions = watch.peak.regions(&exp);
         if exp.config.sweep.error_estimate {
             // The method of the convergence command: the same member at half
@@ -406,10 +438,11 @@ pub fn run_member(base_text: &ConfigText, base_dir: &Path, member: &Member, dir:
                 }
             }
         }
-        Ok((s, watch, peak_regions))
+        Ok((s, watch, peak_regions, configuration))
     });
     match result {
-        Ok((s, watch, peak_regions)) => {
+        Ok((s, watch, peak_regions, configuration)) => {
+            out.configuration = configuration;
             out.flash_counts = s.flash_counts;
             out.first_flash = s.first_flash.unwrap_or(f64::NAN);
             out.peak_field = s.peak_field.0;
@@ -451,29 +484,35 @@ pub fn outcome_path(dir: &Path, index: usize) -> PathBuf {
 }
 
 /// The outcome of a member that an earlier run of the same sweep completed:
-/// its file is marked complete, its stored configuration is exactly the one
-/// this member resolves to, and its outcome side file names the same
-/// member. `None` when any of that does not hold (the member is run again).
+/// its outcome side file names the same member and the fingerprint of the
+/// configuration this member resolves to, and (with NetCDF member files)
+/// its file is marked complete and stores exactly that configuration.
+/// `None` when any of that does not hold (the member is run again).
 pub fn reusable(
     base_text: &ConfigText,
     base_dir: &Path,
     member: &Member,
     dir: &Path,
+    files: MemberFiles,
 ) -> Option<Outcome> {
-    let file = dir.join(format!("member_{:04}.nc", member.index));
-    let (stored, status) = crate::output::netcdf_writer::read_stored_configuration(&file).ok()?;
-    if status != "complete" {
-        return None;
-    }
     let mut overrides = member.overrides.clone();
     overrides.push("sweep.parameters=[]".into());
     let exp = Experiment::from_config_text(base_text, "resume", &overrides, base_dir).ok()?;
-    if exp.config.to_toml() != stored {
-        return None;
+    let resolved = exp.config.to_toml();
+    if files == MemberFiles::NetCdf {
+        let file = dir.join(format!("member_{:04}.nc", member.index));
+        let (stored, status) =
+            crate::output::netcdf_writer::read_stored_configuration(&file).ok()?;
+        if status != "complete" || resolved != stored {
+            return None;
+        }
     }
     let text = std::fs::read_to_string(outcome_path(dir, member.index)).ok()?;
     let outcome: Outcome = serde_json::from_str(&text).ok()?;
-    (outcome.member == *member && outcome.error.is_none()).then_some(outcome)
+    (outcome.member == *member
+        && outcome.error.is_none()
+        && outcome.configuration == fingerprint(&resolved))
+    .then_some(outcome)
 }
 
 /// Whether member `index` (from 1) belongs to shard (K, N): every N-th
@@ -496,6 +535,7 @@ pub fn run(
     threads: usize,
     shard: Option<(usize, usize)>,
     resume: bool,
+    files: MemberFiles,
     progress: &(dyn Fn() + Sync),
 ) -> Result<Vec<Outcome>, RunError> {
     std::fs::create_dir_all(dir).map_err(|source| RunError::Io {
@@ -509,9 +549,9 @@ pub fn run(
     let pool = thread_pool(threads)?;
     let mut outcomes: Vec<Outcome> = crate::workers::each_in_order(&pool, &chosen, |m| {
         let o = resume
-            .then(|| reusable(base_text, base_dir, m, dir))
+            .then(|| reusable(base_text, base_dir, m, dir, files))
             .flatten()
-            .unwrap_or_else(|| run_member(base_text, base_dir, m, dir));
+            .unwrap_or_else(|| run_member(base_text, base_dir, m, dir, files));
         progress();
         o
     });

@@ -361,6 +361,48 @@ fn an_interrupted_sweep_resumes() {
 }
 
 #[test]
+fn an_outcomes_only_sweep_keeps_the_summary_without_member_files() {
+    // For large ensembles a sweep can keep each member's outcome and the
+    // summary only: the summary equals the full sweep's (the outcomes are
+    // measured during the member's run, never read back from its file), no
+    // member file is written, --resume reuses the members whose outcome
+    // names their configuration, and a resume that wants member files runs
+    // every member again (no file to check).
+    let cfg = config_with_sweep(SWEEP);
+    assert_eq!(sweep(&cfg, "outcomes_full", &[]).status.code(), Some(0));
+    let o = sweep(&cfg, "outcomes_only", &["--outcomes-only"]);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let full = read("outcomes_full", "summary.csv");
+    assert_eq!(read("outcomes_only", "summary.csv"), full);
+    let dir = scratch("outcomes_only");
+    let outcome = |i: usize| stormcharge::sweep::outcome_path(&dir, i);
+    for i in 1..=6 {
+        assert!(!dir.join(format!("member_{i:04}.nc")).exists(), "{i}");
+        assert!(outcome(i).exists(), "{i}");
+    }
+    let modified = |i: usize| std::fs::metadata(outcome(i)).unwrap().modified().unwrap();
+    let (m1, m3) = (modified(1), modified(3));
+    std::fs::remove_file(outcome(2)).unwrap();
+    std::fs::remove_file(dir.join("summary.csv")).unwrap();
+    std::thread::sleep(std::time::Duration::from_millis(20));
+    let o = sweep(&cfg, "outcomes_only", &["--outcomes-only", "--resume"]);
+    assert_eq!(o.status.code(), Some(0));
+    assert_eq!(read("outcomes_only", "summary.csv"), full);
+    assert_eq!((modified(1), modified(3)), (m1, m3));
+    assert!(outcome(2).exists());
+    let o = sweep(&cfg, "outcomes_only", &["--resume"]);
+    assert_eq!(o.status.code(), Some(0));
+    assert!(modified(1) > m1);
+    assert!(dir.join("member_0001.nc").exists());
+    assert_eq!(read("outcomes_only", "summary.csv"), full);
+}
+
+#[test]
 fn analyze_reports_the_structure_shares_of_a_sweep() {
     // `analyze DIR` counts the summary's structure classes: the shares add
     // up to 100 %, every member that ran is listed once under its class,

@@ -70,6 +70,11 @@ pub enum Command {
         /// (file complete, stored configuration identical) and run the rest.
         #[arg(long)]
         resume: bool,
+        /// Write each member's outcome and the summary, not the member's
+        /// NetCDF file (for large ensembles; --resume then checks the
+        /// outcome's configuration fingerprint).
+        #[arg(long)]
+        outcomes_only: bool,
         /// No progress bar, no summary.
         #[arg(short, long)]
         quiet: bool,
@@ -224,6 +229,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             quiet,
             overwrite,
             resume,
+            outcomes_only,
             set,
         } => cmd_sweep(
             &config,
@@ -234,6 +240,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
                 quiet,
                 overwrite,
                 resume,
+                outcomes_only,
             },
             &set,
         ),
@@ -868,6 +875,7 @@ struct SweepFlags {
     quiet: bool,
     overwrite: bool,
     resume: bool,
+    outcomes_only: bool,
 }
 
 fn cmd_sweep(
@@ -882,6 +890,7 @@ fn cmd_sweep(
         quiet,
         overwrite,
         resume,
+        outcomes_only,
     } = flags;
     let shard = shard.map(parse_shard).transpose()?;
     let origin = config.display().to_string();
@@ -916,8 +925,13 @@ fn cmd_sweep(
     };
     let name = crate::sweep::shard_summary_name(shard);
     crate::sweep::prepare_directory(dir, &members, shard, &name, overwrite, resume)?;
+    let files = if outcomes_only {
+        crate::sweep::MemberFiles::OutcomesOnly
+    } else {
+        crate::sweep::MemberFiles::NetCdf
+    };
     let outcomes = crate::sweep::run(
-        &text, base_dir, &members, dir, threads, shard, resume, &tick,
+        &text, base_dir, &members, dir, threads, shard, resume, files, &tick,
     )?;
     if let Some(b) = &bar {
         b.finish_and_clear();
