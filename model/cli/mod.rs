@@ -560,7 +560,10 @@ fn cmd_run(
                 summary.max_flashes_per_10_min as f64 / 10.0,
             );
             if let Some(t) = summary.first_flash {
-                println!("  first flash at t = {t} s");
+                // Two decimals: integrators already place the first flash
+                // tenths of a second apart (docs/numerics.md), so more
+                // digits would claim more than the model resolves.
+                println!("  first flash at t = {t:.2} s");
             }
             let area = exp.field_solver.column_area();
             match area {
@@ -585,7 +588,7 @@ fn cmd_run(
         let (e, z, t) = summary.peak_field;
         if e > 0.0 {
             println!(
-                "  peak |E_z| {:.1} kV/m at {:.0} m, t = {} s",
+                "  peak |E_z| {:.1} kV/m at {:.0} m, t = {:.2} s",
                 e / 1e3,
                 z,
                 t
