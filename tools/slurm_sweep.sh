@@ -3,6 +3,9 @@
 #
 #   sbatch --array=1-8 tools/slurm_sweep.sh configs/sweep_schemes.toml sweep_out
 #
+# Arguments after OUTDIR go to `stormcharge sweep` unchanged, e.g.
+# `--outcomes-only` for a large ensemble (no member files) or `--resume`.
+#
 # Each task runs `stormcharge sweep --shard K/N` with K the array task and N
 # the array size, on the cores Slurm gives it. When every task has finished:
 #
@@ -22,4 +25,5 @@ k=${SLURM_ARRAY_TASK_ID:?run this with sbatch --array}
 n=${SLURM_ARRAY_TASK_COUNT:?run this with sbatch --array}
 threads=${SLURM_CPUS_PER_TASK:-0}
 
-stormcharge sweep "$config" -o "$outdir" --shard "$k/$n" --threads "$threads" --quiet
+shift 2
+stormcharge sweep "$config" -o "$outdir" --shard "$k/$n" --threads "$threads" --quiet "$@"
