@@ -698,6 +698,30 @@ pub fn study(
     levels: usize,
     threads: usize,
 ) -> Result<Report, RunError> {
+    study_of(
+        text,
+        origin,
+        base_dir,
+        overrides,
+        levels,
+        threads,
+        &[Refinement::Time, Refinement::Space],
+    )
+}
+
+/// [`study`] of the refinements in `which` only (time, space or both, in
+/// that order): five or six levels of the step alone cost a fraction of
+/// as many levels of the spacing, whose finest column has 16 or 32 times
+/// the cells.
+pub fn study_of(
+    text: &ConfigText,
+    origin: &str,
+    base_dir: &Path,
+    overrides: &[String],
+    levels: usize,
+    threads: usize,
+    which: &[Refinement],
+) -> Result<Report, RunError> {
     if levels < 3 {
         return Err(RunError::Config(crate::error::ConfigError::single(
             origin,
@@ -709,7 +733,11 @@ pub fn study(
     let base = Experiment::from_config_text(text, origin, overrides, base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
-    for refinement in [Refinement::Time, Refinement::Space] {
+    let refinements: Vec<Refinement> = [Refinement::Time, Refinement::Space]
+        .into_iter()
+        .filter(|r| which.contains(r))
+        .collect();
+    for &refinement in &refinements {
         for level in 0..levels {
             jobs.push((
                 refinement,
@@ -718,8 +746,9 @@ pub fn study(
             ));
         }
     }
-    // The configured level is the first of both series: run it once.
-    jobs.retain(|(r, l, _)| !(*r == Refinement::Space && *l == 0));
+    // The configured level is the first of every series: run it once.
+    let first = refinements.first().copied();
+    jobs.retain(|(r, l, _)| *l > 0 || Some(*r) == first);
     let pool = crate::workers::thread_pool(threads)?;
     // Longest first: each halving of the step or the spacing about doubles
     // a level's cost, so the finest levels start first and the short ones
@@ -744,9 +773,12 @@ pub fn study(
             Refinement::Space => space.push(run),
         }
     }
-    space.insert(0, time[0].clone());
+    if refinements.len() == 2 {
+        space.insert(0, time[0].clone());
+    }
     let series = [(Refinement::Time, time), (Refinement::Space, space)]
         .into_iter()
+        .filter(|(r, _)| refinements.contains(r))
         .map(|(refinement, runs)| {
             let outcomes = runs[0]
                 .outcomes

@@ -559,6 +559,40 @@ fn converge_command_writes_its_tables() {
 }
 
 #[test]
+fn converge_refines_one_resolution_on_request() {
+    // `--refine time` (or `space`) runs one series only, with the values of
+    // that series in the full study (the same runs: the same bits), so
+    // more levels of the step alone cost no finer grids (common practice:
+    // refine one resolution at a time to separate the errors).
+    let run = |refine: &str| -> serde_json::Value {
+        let json = scratch(&format!("converge_refine_{refine}.json"));
+        succeed(
+            bin()
+                .arg("converge")
+                .arg(repo("configs/teaching_tripole.toml"))
+                .args(["--set", "time.duration=240", "--threads", "2"])
+                .args(["--refine", refine, "--json"])
+                .arg(&json),
+        );
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+    };
+    let (both, time, space) = (run("both"), run("time"), run("space"));
+    assert_eq!(both["series"].as_array().unwrap().len(), 2);
+    assert_eq!(time["series"].as_array().unwrap().len(), 1);
+    assert_eq!(space["series"].as_array().unwrap().len(), 1);
+    assert_eq!(time["series"][0]["refinement"], "time");
+    assert_eq!(space["series"][0]["refinement"], "space");
+    assert_eq!(time["series"][0], both["series"][0]);
+    assert_eq!(space["series"][0], both["series"][1]);
+    let o = bin()
+        .args(["converge", "--refine", "steps"])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--refine"));
+}
+
+#[test]
 fn converge_finds_the_largest_separation_whatever_the_output_interval() {
     // The largest charge separation is a maximum over time; in a flashing
     // storm it peaks just before a flash. Records (every

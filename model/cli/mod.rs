@@ -104,6 +104,9 @@ pub enum Command {
         /// Also write the report as CSV to this file.
         #[arg(long)]
         csv: Option<PathBuf>,
+        /// Which resolutions to refine: `time`, `space` or `both`.
+        #[arg(long, default_value = "both", value_parser = ["time", "space", "both"])]
+        refine: String,
     },
     /// Charge regions, structure class and flash statistics of an output
     /// file; for a sweep directory, the share of each structure class.
@@ -311,9 +314,11 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             threads,
             json,
             csv,
+            refine,
         } => cmd_converge(
             config.as_deref(),
             levels,
+            &refine,
             &set,
             threads,
             json.as_deref(),
@@ -635,6 +640,7 @@ fn cmd_run(
 fn cmd_converge(
     config: Option<&Path>,
     levels: usize,
+    refine: &str,
     set: &[String],
     threads: usize,
     json: Option<&Path>,
@@ -660,7 +666,13 @@ fn cmd_converge(
             PathBuf::from("."),
         ),
     };
-    let report = crate::convergence::study(&text, &origin, &dir, set, levels, threads)?;
+    use crate::convergence::Refinement;
+    let which: &[Refinement] = match refine {
+        "time" => &[Refinement::Time],
+        "space" => &[Refinement::Space],
+        _ => &[Refinement::Time, Refinement::Space],
+    };
+    let report = crate::convergence::study_of(&text, &origin, &dir, set, levels, threads, which)?;
     print!("{}", report.text());
     let write = |path: &Path, body: String| crate::output::write_atomically(path, body.as_bytes());
     if let Some(p) = json {
