@@ -47,8 +47,13 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
             scratch.cells.clear();
             scratch.moving.clear();
             for (k, &env) in exp.cell_env.iter().enumerate() {
+                // A plain loop: `array::map` is not always inlined.
+                let mut q = [0.0; 6];
+                for (v, sp) in q.iter_mut().zip(Species::ALL) {
+                    *v = state.q[sp.index()][k];
+                }
                 let cell = CellState {
-                    q: Species::ALL.map(|sp| state.q[sp.index()][k]),
+                    q,
                     n_ice: state.n_ice[k],
                     t: state.potential_temperature[k] * env.exner,
                 };

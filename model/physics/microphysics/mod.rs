@@ -476,11 +476,15 @@ fn integrate_cells_with(
                 continue;
             }
             let (cell, env, report) = &mut cells[k];
+            // Lane i out of the group with plain loops: `array::map` here
+            // was inlined in some builds and not in others (an unrelated
+            // change of the crate once cost 1.6 % of the demo's
+            // instructions in calls to it).
             if accepted.get(i) {
-                *cell = cell_of(y.map(|v| v.0[i]));
-                report.transfers = integrals.map(|v| v.0[i]);
+                *cell = cell_of(lane_of(&y, i));
+                report.transfers = lane_of(&integrals, i);
             } else {
-                let one = (first.0.map(|v| v.0[i]), first.1.map(|v| v.0[i]));
+                let one = (lane_of(&first.0, i), lane_of(&first.1, i));
                 let trial = trial_taken.then(|| error.0[i]);
                 let end = integrate_cell(state_vector(cell), one, *env, p, dt, report, trial)
                     .map_err(|e| (k, e))?;
@@ -489,6 +493,16 @@ fn integrate_cells_with(
         }
     }
     Ok(())
+}
+
+/// Lane `i` of a group's values, one value per array element.
+#[inline(always)]
+fn lane_of<const N: usize>(group: &[Cells; N], i: usize) -> [f64; N] {
+    let mut out = [0.0; N];
+    for (o, g) in out.iter_mut().zip(group) {
+        *o = g.0[i];
+    }
+    out
 }
 
 /// The part of a cell's step after the integration: removal of negative

@@ -730,7 +730,12 @@ impl<T: Lane> Rates<T> {
     #[inline(always)]
     pub fn limit_sinks(&mut self, q: &[T; 6]) {
         let zero = T::splat(0.0);
-        let q = q.map(|x| x.max(zero));
+        // A plain loop: `array::map` is not always inlined.
+        let mut clipped = *q;
+        for x in clipped.iter_mut() {
+            *x = x.max(zero);
+        }
+        let q = clipped;
         let scale = |sink: T, q: T| {
             let cap = q / SINK_TIMESCALE;
             T::select(sink.gt(cap), cap / sink, T::splat(1.0))
