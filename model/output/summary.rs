@@ -205,11 +205,16 @@ impl RunSummary {
                     else {
                         continue;
                     };
-                    let populated = shared.number_larger_than(SIZE_DIAGNOSTIC_DIAMETER)
-                        >= SIZE_DIAGNOSTIC_MIN_NUMBER;
-                    if let (Some(i), true) = (slot, populated) {
+                    if let Some(i) = slot {
                         let big = shared.at_diameter(SIZE_DIAGNOSTIC_DIAMETER).abs();
-                        self.max_charge_2p5mm[i] = self.max_charge_2p5mm[i].max(big);
+                        // The tail number (an exponential) only where the
+                        // value would raise the maximum.
+                        if big > self.max_charge_2p5mm[i]
+                            && shared.number_larger_than(SIZE_DIAGNOSTIC_DIAMETER)
+                                >= SIZE_DIAGNOSTIC_MIN_NUMBER
+                        {
+                            self.max_charge_2p5mm[i] = big;
+                        }
                     }
                     let q = shared.mean().abs();
                     self.max_particle_charge = self.max_particle_charge.max(q);
