@@ -39,6 +39,11 @@ pub enum Refinement {
     Space,
 }
 
+impl Refinement {
+    /// Both refinements, in the order the report gives them.
+    pub const BOTH: [Refinement; 2] = [Refinement::Time, Refinement::Space];
+}
+
 /// The bottom and top (m) of the layer whose mean warming over the base
 /// state is reported (the issue tracker's bound is on this layer).
 const WARMING_LAYER: (f64, f64) = (5000.0, 10000.0);
@@ -689,31 +694,12 @@ fn profile_row(
 }
 
 /// Runs the convergence study: `levels` (at least 3) levels of each
-/// refinement, on `threads` workers (0: all cores).
+/// refinement in `which` ([`Refinement::BOTH`], or one of them: five or six
+/// levels of the step alone cost a fraction of as many levels of the
+/// spacing, whose finest column has 16 or 32 times the cells), on
+/// `threads` workers (0: all cores). The series come in the order time,
+/// space whatever the order of `which`.
 pub fn study(
-    text: &ConfigText,
-    origin: &str,
-    base_dir: &Path,
-    overrides: &[String],
-    levels: usize,
-    threads: usize,
-) -> Result<Report, RunError> {
-    study_of(
-        text,
-        origin,
-        base_dir,
-        overrides,
-        levels,
-        threads,
-        &[Refinement::Time, Refinement::Space],
-    )
-}
-
-/// [`study`] of the refinements in `which` only (time, space or both, in
-/// that order): five or six levels of the step alone cost a fraction of
-/// as many levels of the spacing, whose finest column has 16 or 32 times
-/// the cells.
-pub fn study_of(
     text: &ConfigText,
     origin: &str,
     base_dir: &Path,
@@ -733,7 +719,7 @@ pub fn study_of(
     let base = Experiment::from_config_text(text, origin, overrides, base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
-    let refinements: Vec<Refinement> = [Refinement::Time, Refinement::Space]
+    let refinements: Vec<Refinement> = Refinement::BOTH
         .into_iter()
         .filter(|r| which.contains(r))
         .collect();

@@ -390,21 +390,18 @@ pub fn run_member(
     .map_err(RunError::from)
     .and_then(|exp| {
         let mut watch = Watch::default();
-        let s = match files {
-            MemberFiles::NetCdf => {
-                let target = dir.join(format!("member_{:04}.nc", member.index));
-                let mut writer = NetcdfWriter::new(
-                    &target,
-                    &format!("stormcharge sweep member {}", member.index),
-                );
-                let mut obs: [&mut dyn Observer; 2] = [&mut writer, &mut watch];
-                timeloop::run(&exp, &mut obs, &mut |_| {})?
-            }
-            MemberFiles::OutcomesOnly => {
-                let mut obs: [&mut dyn Observer; 1] = [&mut watch];
-                timeloop::run(&exp, &mut obs, &mut |_| {})?
-            }
-        };
+        let mut writer = (files == MemberFiles::NetCdf).then(|| {
+            NetcdfWriter::new(
+                &member_path(dir, member.index),
+                &format!("stormcharge sweep member {}", member.index),
+            )
+        });
+        let mut obs: Vec<&mut dyn Observer> = Vec::with_capacity(2);
+        if let Some(w) = writer.as_mut() {
+            obs.push(w);
+        }
+        obs.push(&mut watch);
+        let s = timeloop::run(&exp, &mut obs, &mut |_| {})?;
         let configuration = fingerprint(&exp.config.to_toml());
         let peak_regions = watch.peak.regions(&exp);
         if exp.config.sweep.error_estimate {
@@ -478,6 +475,11 @@ pub fn run_member(
     out
 }
 
+/// The NetCDF file of member `index`.
+pub fn member_path(dir: &Path, index: usize) -> PathBuf {
+    dir.join(format!("member_{index:04}.nc"))
+}
+
 /// The outcome side file of member `index`.
 pub fn outcome_path(dir: &Path, index: usize) -> PathBuf {
     dir.join(format!("member_{index:04}.outcome.json"))
@@ -500,9 +502,10 @@ pub fn reusable(
     let exp = Experiment::from_config_text(base_text, "resume", &overrides, base_dir).ok()?;
     let resolved = exp.config.to_toml();
     if files == MemberFiles::NetCdf {
-        let file = dir.join(format!("member_{:04}.nc", member.index));
-        let (stored, status) =
-            crate::output::netcdf_writer::read_stored_configuration(&file).ok()?;
+        let (stored, status) = crate::output::netcdf_writer::read_stored_configuration(
+            &member_path(dir, member.index),
+        )
+        .ok()?;
         if status != "complete" || resolved != stored {
             return None;
         }

@@ -12,7 +12,16 @@ use stormcharge::setup::config::ConfigText;
 /// The convergence study of a single-file configuration text with
 /// `overrides`: three levels of each refinement on two threads.
 fn study_levels(text: &str, origin: &str, dir: &std::path::Path, overrides: &[String]) -> Report {
-    study(&ConfigText::plain(text), origin, dir, overrides, 3, 2).unwrap()
+    study(
+        &ConfigText::plain(text),
+        origin,
+        dir,
+        overrides,
+        3,
+        2,
+        &Refinement::BOTH,
+    )
+    .unwrap()
 }
 
 #[test]

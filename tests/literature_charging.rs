@@ -147,25 +147,30 @@ fn surface_shared_charge_adds_up_and_grows_with_size() {
 }
 
 #[test]
-fn tail_number_of_an_exponential_distribution() {
-    // The number of particles of diameter d or larger in N0 e^(-lambda D)
-    // is (N0/lambda) e^(-lambda d) (the exponential's tail, derived): all of
-    // them at d = 0, and the same as a midpoint sum of N(D) from d on. The
-    // summary takes the 2.5 mm charges only where this is at least 1 m-3.
+fn one_particle_per_cubic_metre_lies_beyond_the_tail_diameter() {
+    // The summary takes the 2.5 mm charges where the largest particle per
+    // cubic metre (`tail_diameter`) is at least 2.5 mm. Counted by a
+    // midpoint sum of N0 e^(-lambda D) from that diameter on, a cubic metre
+    // of the demo's graupel holds one particle there (the exponential's
+    // tail, derived), and all N0/lambda of them from zero.
     use stormcharge::physics::charging::SharedCharge;
+    use stormcharge::physics::initiation::hydrometeor::tail_diameter;
     use stormcharge::physics::microphysics::dsd;
     let g = dsd::graupel(1.26e5, 400.0);
     let (rho, q) = (0.7, 3e-3);
     let s = SharedCharge::of(&g, rho, q, 1e-9).unwrap();
-    let lambda = g.slope(rho, q);
-    assert!((s.number_larger_than(0.0) - g.n0 / lambda).abs() < 1e-12 * g.n0 / lambda);
-    let d0 = 2.5e-3;
-    let n = 200_000;
-    let h = (60.0 / lambda) / n as f64;
-    let sum: f64 = (0..n)
-        .map(|i| g.n0 * (-lambda * (d0 + (i as f64 + 0.5) * h)).exp() * h)
-        .sum();
-    assert!((s.number_larger_than(d0) - sum).abs() < 1e-8 * sum, "{sum}");
+    let count_from = |d0: f64| {
+        let n = 200_000;
+        let h = (60.0 / s.lambda) / n as f64;
+        (0..n)
+            .map(|i| s.n0 * (-s.lambda * (d0 + (i as f64 + 0.5) * h)).exp() * h)
+            .sum::<f64>()
+    };
+    let d = tail_diameter(s.n0, s.lambda).unwrap();
+    assert!(d > 2.5e-3, "{d}");
+    assert!((count_from(d) - 1.0).abs() < 1e-8, "{}", count_from(d));
+    let all = s.n0 / s.lambda;
+    assert!((count_from(0.0) - all).abs() < 1e-8 * all);
 }
 
 #[test]

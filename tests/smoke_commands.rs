@@ -558,23 +558,33 @@ fn converge_command_writes_its_tables() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("--levels"));
 }
 
+/// `converge` of configs/teaching_tripole.toml on two threads with `args`,
+/// its JSON report (written to the scratch file `name`).
+fn converge_json(name: &str, args: &[&str]) -> serde_json::Value {
+    let json = scratch(name);
+    succeed(
+        bin()
+            .arg("converge")
+            .arg(repo("configs/teaching_tripole.toml"))
+            .args(["--threads", "2"])
+            .args(args)
+            .arg("--json")
+            .arg(&json),
+    );
+    serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+}
+
 #[test]
 fn converge_refines_one_resolution_on_request() {
     // `--refine time` (or `space`) runs one series only, with the values of
     // that series in the full study (the same runs: the same bits), so
     // more levels of the step alone cost no finer grids (common practice:
     // refine one resolution at a time to separate the errors).
-    let run = |refine: &str| -> serde_json::Value {
-        let json = scratch(&format!("converge_refine_{refine}.json"));
-        succeed(
-            bin()
-                .arg("converge")
-                .arg(repo("configs/teaching_tripole.toml"))
-                .args(["--set", "time.duration=240", "--threads", "2"])
-                .args(["--refine", refine, "--json"])
-                .arg(&json),
-        );
-        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+    let run = |refine: &str| {
+        converge_json(
+            &format!("converge_refine_{refine}.json"),
+            &["--set", "time.duration=240", "--refine", refine],
+        )
     };
     let (both, time, space) = (run("both"), run("time"), run("space"));
     assert_eq!(both["series"].as_array().unwrap().len(), 2);
@@ -602,17 +612,11 @@ fn converge_finds_the_largest_separation_whatever_the_output_interval() {
     // like the peak field),
     // it and the regions read there are the same for records every 60 s
     // and every 600 s, and its time lies between records.
-    let run = |interval: &str| -> serde_json::Value {
-        let json = scratch(&format!("converge_interval_{interval}.json"));
-        succeed(
-            bin()
-                .arg("converge")
-                .arg(repo("configs/teaching_tripole.toml"))
-                .args(["--set", &format!("time.output_interval={interval}")])
-                .args(["--threads", "2", "--json"])
-                .arg(&json),
-        );
-        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap()
+    let run = |interval: &str| {
+        converge_json(
+            &format!("converge_interval_{interval}.json"),
+            &["--set", &format!("time.output_interval={interval}")],
+        )
     };
     let (fine, coarse) = (run("60"), run("600"));
     let pick = |v: &serde_json::Value, name: &str| -> Vec<f64> {

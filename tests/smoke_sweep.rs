@@ -41,6 +41,17 @@ fn sweep(config: &std::path::Path, dir: &str, args: &[&str]) -> std::process::Ou
         .unwrap()
 }
 
+/// [`sweep`] that must succeed (its standard error shown when it does not).
+fn sweep_ok(config: &std::path::Path, dir: &str, args: &[&str]) {
+    let o = sweep(config, dir, args);
+    assert_eq!(
+        o.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+}
+
 fn read(dir: &str, name: &str) -> String {
     std::fs::read_to_string(scratch(dir).join(name)).unwrap()
 }
@@ -67,13 +78,7 @@ fn data(dir: &str, member: usize) -> Vec<(String, Vec<u64>)> {
 fn thread_count_does_not_change_results() {
     let cfg = config_with_sweep(SWEEP);
     for (dir, threads) in [("one_thread", "1"), ("two_threads", "2")] {
-        let o = sweep(&cfg, dir, &["--threads", threads]);
-        assert_eq!(
-            o.status.code(),
-            Some(0),
-            "{}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        sweep_ok(&cfg, dir, &["--threads", threads]);
     }
     let a = read("one_thread", "summary.csv");
     assert_eq!(a, read("two_threads", "summary.csv"));
@@ -119,13 +124,7 @@ fn shards_merge_into_the_unsharded_summary() {
     let o = sweep(&cfg, "whole", &[]);
     assert_eq!(o.status.code(), Some(0));
     for k in 1..=3 {
-        let o = sweep(&cfg, "sharded", &["--shard", &format!("{k}/3")]);
-        assert_eq!(
-            o.status.code(),
-            Some(0),
-            "{}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        sweep_ok(&cfg, "sharded", &["--shard", &format!("{k}/3")]);
     }
     succeed(bin().arg("sweep-merge").arg(scratch("sharded")));
     assert_eq!(read("sharded", "summary.csv"), read("whole", "summary.csv"));
@@ -330,7 +329,7 @@ fn an_interrupted_sweep_resumes() {
     let dir = scratch("resumed");
     let full = read("resumed", "summary.csv");
     let modified = |i: usize| {
-        std::fs::metadata(dir.join(format!("member_{i:04}.nc")))
+        std::fs::metadata(stormcharge::sweep::member_path(&dir, i))
             .unwrap()
             .modified()
             .unwrap()
@@ -339,13 +338,7 @@ fn an_interrupted_sweep_resumes() {
     std::fs::remove_file(dir.join("member_0002.nc")).unwrap();
     std::fs::remove_file(dir.join("summary.csv")).unwrap();
     std::thread::sleep(std::time::Duration::from_millis(20));
-    let o = sweep(&cfg, "resumed", &["--resume"]);
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    sweep_ok(&cfg, "resumed", &["--resume"]);
     assert_eq!(read("resumed", "summary.csv"), full);
     assert_eq!((modified(1), modified(3)), (m1, m3));
     assert!(dir.join("member_0002.nc").exists());
@@ -370,19 +363,13 @@ fn an_outcomes_only_sweep_keeps_the_summary_without_member_files() {
     // every member again (no file to check).
     let cfg = config_with_sweep(SWEEP);
     assert_eq!(sweep(&cfg, "outcomes_full", &[]).status.code(), Some(0));
-    let o = sweep(&cfg, "outcomes_only", &["--outcomes-only"]);
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    sweep_ok(&cfg, "outcomes_only", &["--outcomes-only"]);
     let full = read("outcomes_full", "summary.csv");
     assert_eq!(read("outcomes_only", "summary.csv"), full);
     let dir = scratch("outcomes_only");
     let outcome = |i: usize| stormcharge::sweep::outcome_path(&dir, i);
     for i in 1..=6 {
-        assert!(!dir.join(format!("member_{i:04}.nc")).exists(), "{i}");
+        assert!(!stormcharge::sweep::member_path(&dir, i).exists(), "{i}");
         assert!(outcome(i).exists(), "{i}");
     }
     let modified = |i: usize| std::fs::metadata(outcome(i)).unwrap().modified().unwrap();
@@ -680,6 +667,7 @@ values = [2000.0, 3000.0]
             &set,
             3,
             2,
+            &stormcharge::convergence::Refinement::BOTH,
         )
         .unwrap();
         for (name, outcome) in [

@@ -104,9 +104,9 @@ pub enum Command {
         /// Also write the report as CSV to this file.
         #[arg(long)]
         csv: Option<PathBuf>,
-        /// Which resolutions to refine: `time`, `space` or `both`.
-        #[arg(long, default_value = "both", value_parser = ["time", "space", "both"])]
-        refine: String,
+        /// Which resolutions to refine.
+        #[arg(long, value_enum, default_value_t = Refine::Both)]
+        refine: Refine,
     },
     /// Charge regions, structure class and flash statistics of an output
     /// file; for a sweep directory, the share of each structure class.
@@ -318,7 +318,7 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
         } => cmd_converge(
             config.as_deref(),
             levels,
-            &refine,
+            refine,
             &set,
             threads,
             json.as_deref(),
@@ -640,7 +640,7 @@ fn cmd_run(
 fn cmd_converge(
     config: Option<&Path>,
     levels: usize,
-    refine: &str,
+    refine: Refine,
     set: &[String],
     threads: usize,
     json: Option<&Path>,
@@ -668,11 +668,11 @@ fn cmd_converge(
     };
     use crate::convergence::Refinement;
     let which: &[Refinement] = match refine {
-        "time" => &[Refinement::Time],
-        "space" => &[Refinement::Space],
-        _ => &[Refinement::Time, Refinement::Space],
+        Refine::Time => &[Refinement::Time],
+        Refine::Space => &[Refinement::Space],
+        Refine::Both => &Refinement::BOTH,
     };
-    let report = crate::convergence::study_of(&text, &origin, &dir, set, levels, threads, which)?;
+    let report = crate::convergence::study(&text, &origin, &dir, set, levels, threads, which)?;
     print!("{}", report.text());
     let write = |path: &Path, body: String| crate::output::write_atomically(path, body.as_bytes());
     if let Some(p) = json {
@@ -886,6 +886,17 @@ fn parse_shard(text: &str) -> Result<(usize, usize), RunError> {
 }
 
 /// The switches of `sweep`.
+/// `converge --refine`: which resolutions the study halves.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum Refine {
+    /// The time step only.
+    Time,
+    /// The grid spacing only.
+    Space,
+    /// Both, each at the other's configured value.
+    Both,
+}
+
 struct SweepFlags {
     quiet: bool,
     overwrite: bool,

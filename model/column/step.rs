@@ -143,21 +143,17 @@ fn advance(
     guards::check(exp, state, Process::Charging)?;
     mark(3);
     if exp.ions.enabled {
-        // The field alone: the solve after the ions replaces the potential
-        // and the diagnostics before anything reads them.
-        electrostatics::solve_field(exp, state);
-    } else {
-        electrostatics::solve(exp, state);
-    }
-    mark(4);
-    if exp.ions.enabled {
         // Second half of the small ions, in the field of the charge the
-        // step has separated; then the field of the charge they leave.
+        // step has separated (the field alone: the solve after the ions
+        // replaces the potential and the diagnostics before anything reads
+        // them); then the field of the charge they leave.
+        electrostatics::solve_field(exp, state);
+        mark(4);
         ions::reconcile(exp, state);
         ions::step(exp, state, 0.5 * dt);
         mark(0);
-        electrostatics::solve(exp, state);
     }
+    electrostatics::solve(exp, state);
     guards::check(exp, state, Process::FieldSolve)?;
     mark(4);
     breakdown::evaluate(exp, state);

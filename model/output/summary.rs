@@ -4,6 +4,7 @@ use crate::column::state::State;
 use crate::physics::breakdown::Criterion;
 use crate::physics::carriers::Carrier;
 use crate::physics::charging::{rayleigh_limit, SharedCharge};
+use crate::physics::initiation::hydrometeor::tail_diameter;
 use crate::physics::microphysics::species::Species;
 use crate::setup::experiment::Experiment;
 
@@ -15,17 +16,16 @@ pub const CLOUD_TOP_CONDENSATE: f64 = 1e-5;
 /// Diameter (m) of the particle whose charge the summary reports: 2.5 mm,
 /// millimetre precipitation like that whose charges Marshall & Winn (1982,
 /// J. Geophys. Res.) measured from balloons (docs/references.md).
+///
+/// The charge is taken only in cells whose largest particle per cubic metre
+/// ([`tail_diameter`], the one the corona criteria use) is at least this
+/// large, a choice of this project: in thinner populations the
+/// exponential's tail holds no particle of that size to carry the charge
+/// the sharing gives it, and the maximum came from such cells (the demo's
+/// 2.5 mm drops carried 7.2 pC in thin rain at the end of the hour against
+/// 1.1 pC where a cubic metre held one; its 2.5 mm graupel 81 pC either
+/// way; 2026-12-04, docs/charging.md).
 pub const SIZE_DIAGNOSTIC_DIAMETER: f64 = 2.5e-3;
-
-/// Fewest particles of [`SIZE_DIAGNOSTIC_DIAMETER`] or larger per cubic
-/// metre (m-3) where the summary takes that particle's charge: one, a
-/// choice of this project. In thinner populations the exponential's tail
-/// holds no particle of that size to carry the charge the sharing gives it,
-/// and the maximum came from such cells: the demo's 2.5 mm drops carried
-/// 7.2 pC in thin rain at the end of the hour against 1.1 pC where a cubic
-/// metre held at least one of them, while its 2.5 mm graupel carried 81 pC
-/// either way (2026-12-04, docs/charging.md).
-pub const SIZE_DIAGNOSTIC_MIN_NUMBER: f64 = 1.0;
 
 /// The bookkeeping of the flashes-per-window peak.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -207,11 +207,11 @@ impl RunSummary {
                     };
                     if let Some(i) = slot {
                         let big = shared.at_diameter(SIZE_DIAGNOSTIC_DIAMETER).abs();
-                        // The tail number (an exponential) only where the
+                        // The largest particle (a logarithm) only where the
                         // value would raise the maximum.
                         if big > self.max_charge_2p5mm[i]
-                            && shared.number_larger_than(SIZE_DIAGNOSTIC_DIAMETER)
-                                >= SIZE_DIAGNOSTIC_MIN_NUMBER
+                            && tail_diameter(shared.n0, shared.lambda)
+                                .is_some_and(|d| d >= SIZE_DIAGNOSTIC_DIAMETER)
                         {
                             self.max_charge_2p5mm[i] = big;
                         }

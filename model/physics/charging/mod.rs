@@ -512,13 +512,6 @@ impl SharedCharge {
         0.5 / self.lambda
     }
 
-    /// Number concentration (m-3) of the particles of diameter `d` (m) or
-    /// larger: the exponential's tail, integral from d of N0 e^(-lambda D)
-    /// dD = (N0/lambda) e^(-lambda d) (derived).
-    pub fn number_larger_than(&self, d: f64) -> f64 {
-        self.n0 / self.lambda * (-self.lambda * d).exp()
-    }
-
     /// Charge (C) of a particle of diameter `d` (m) when the charge is
     /// shared in proportion to surface area:
     /// q(D) = charge D^2 / integral D^2 N(D) dD = charge D^2 lambda^3 / (2 N0)
