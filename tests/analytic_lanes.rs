@@ -381,3 +381,112 @@ fn grouped_sedimentation_gives_the_bits_of_one_face_at_a_time() {
         }
     }
 }
+
+/// The charge that follows the mass (`follow_mass`), moved for a column of
+/// cells a group at a time, against [`follow_mass::apply`] one cell at a
+/// time: the same bits, since the moves are additions, multiplications,
+/// divisions and minima done lane by lane in the same order (common
+/// practice: a vectorised form must not change the numbers). The draw
+/// covers growth and sublimation (both signs of every transfer), zero
+/// transfers, cells that evaporate in either adjustment, freeze or melt at
+/// once, and species that vanish; the column length is not a multiple of
+/// the group width, so the short last group is exercised too.
+#[test]
+fn grouped_charge_following_mass_gives_the_bits_of_each_cell() {
+    use stormcharge::physics::carriers::Carrier;
+    use stormcharge::physics::charging::follow_mass;
+    use stormcharge::physics::microphysics::rates::{CellEnv, CellState};
+    use stormcharge::physics::microphysics::CellReport;
+    let mut uniform = uniform_stream(1953);
+    let mut moved = 0;
+    for n in [1, 7, 8, 13, 161] {
+        let mut cells = Vec::new();
+        let mut charge: Vec<Vec<f64>> = vec![Vec::new(); Carrier::COUNT];
+        for _ in 0..n {
+            let mut report = CellReport {
+                q_start: std::array::from_fn(|_| draw(&mut uniform, 5e-3, 0.3)),
+                frozen: draw(&mut uniform, 1e-4, 0.8),
+                melted: draw(&mut uniform, 1e-4, 0.8),
+                ice_before_melt: draw(&mut uniform, 1e-3, 0.5),
+                cloud_before_first_adjust: draw(&mut uniform, 2e-3, 0.3),
+                cloud_before_adjust: draw(&mut uniform, 2e-3, 0.3),
+                ..CellReport::default()
+            };
+            report.condensed_first = signed(&mut uniform, 1e-3, 0.4, 0.5);
+            report.condensed = signed(&mut uniform, 1e-3, 0.4, 0.5);
+            let idle = uniform() < 0.2;
+            for m in report.transfers.iter_mut() {
+                *m = if idle {
+                    0.0
+                } else {
+                    signed(&mut uniform, 2e-3, 0.4, 0.3)
+                };
+            }
+            let q: [f64; 6] = std::array::from_fn(|_| {
+                if uniform() < 0.2 {
+                    1e-19
+                } else {
+                    draw(&mut uniform, 5e-3, 0.2)
+                }
+            });
+            cells.push((
+                CellState {
+                    q,
+                    n_ice: 0.0,
+                    t: 250.0,
+                },
+                CellEnv::default(),
+                report,
+            ));
+            for c in charge.iter_mut() {
+                c.push(signed(&mut uniform, 1e-9, 0.3, 0.5));
+            }
+        }
+        let mut each = charge.clone();
+        for (k, (cell, _, report)) in cells.iter().enumerate() {
+            follow_mass::apply(report, &cell.q, &mut each, k);
+        }
+        follow_mass::apply_column(&cells, &mut charge);
+        for (i, (grouped, alone)) in charge.iter().zip(&each).enumerate() {
+            for k in 0..n {
+                assert_eq!(
+                    grouped[k].to_bits(),
+                    alone[k].to_bits(),
+                    "carrier {i}, cell {k} of {n}: {:e} grouped against {:e} alone",
+                    grouped[k],
+                    alone[k]
+                );
+            }
+        }
+        moved += (0..n)
+            .filter(|&k| each[Carrier::Ions.index()][k] != 0.0)
+            .count();
+    }
+    // The draw must move charge, not only copy it.
+    assert!(moved > 100, "only {moved} cells moved charge to the ions");
+}
+
+/// Zero with probability `zero_share`, else `scale` times a factor spread
+/// evenly in its logarithm over four decades below one.
+fn draw(uniform: &mut impl FnMut() -> f64, scale: f64, zero_share: f64) -> f64 {
+    if uniform() < zero_share {
+        0.0
+    } else {
+        scale * 10f64.powf(-4.0 * uniform())
+    }
+}
+
+/// [`draw`], negative with probability `negative_share`.
+fn signed(
+    uniform: &mut impl FnMut() -> f64,
+    scale: f64,
+    zero_share: f64,
+    negative_share: f64,
+) -> f64 {
+    let x = draw(uniform, scale, zero_share);
+    if uniform() < negative_share {
+        -x
+    } else {
+        x
+    }
+}

@@ -40,8 +40,8 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
             // saturation adjustment of all cells, in groups side by side;
             // each cell's preparation; the integration of the cells whose
             // rates act, in groups; each cell's clipping; the last
-            // adjustment, in groups; each cell's check and the charge that
-            // follows its mass. The cells are independent, so the result is
+            // adjustment, in groups; each cell's check; the charge that
+            // follows the mass, in groups. The cells are independent, so the result is
             // that of one cell after another.
             let scratch = &mut state.micro_scratch;
             scratch.cells.clear();
@@ -71,16 +71,17 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
                 clip_cell(cell, report);
             }
             adjust_cells(&mut scratch.cells, Adjustment::Last);
-            for (k, (cell, env, report)) in scratch.cells.iter_mut().enumerate() {
+            for (k, (cell, env, report)) in scratch.cells.iter().enumerate() {
                 check_cell(cell, *env).map_err(|message| fail(k, message))?;
                 state.water.clip_created += report.created * env.rho * exp.grid.dz;
-                follow_mass::apply(report, &cell.q, &mut state.charge, k);
                 for sp in Species::ALL {
                     state.q[sp.index()][k] = cell.q[sp.index()];
                 }
                 state.n_ice[k] = cell.n_ice;
                 state.potential_temperature[k] = cell.t / env.exner;
             }
+            // The charge that follows the mass, in groups of cells.
+            follow_mass::apply_column(&scratch.cells, &mut state.charge);
             Ok(())
         }
     }
