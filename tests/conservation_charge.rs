@@ -228,3 +228,34 @@ fn ion_attachment_charges_hydrometeors_and_conserves_charge() {
         s.charge_budget_residual()
     );
 }
+
+/// Charge given to the ion carrier (by evaporation, say) and not yet folded
+/// into the ion numbers survives transport: the small ions move as numbers
+/// and the carrier is set from them, so transport folds the carrier's
+/// charge in first. The column charge changes only by what was advected in
+/// through the ends and sides and what precipitated (charge conservation,
+/// common practice).
+#[test]
+fn ion_carrier_charge_survives_transport() {
+    use stormcharge::column::transport;
+    let exp = demo(&[]);
+    assert!(exp.ions.enabled);
+    let mut s = State::initial(&exp);
+    s.time = 1500.0; // the updraft at its peak
+    let ions = Carrier::Ions.index();
+    for k in 40..61 {
+        s.charge[ions][k] += 1e-10;
+    }
+    let column = |s: &State| s.charge.iter().flatten().sum::<f64>() * exp.grid.dz;
+    let c0 = column(&s);
+    let added = 21.0 * 1e-10 * exp.grid.dz;
+    transport::apply_forcing(&exp, &mut s);
+    assert!(s.w.iter().any(|&w| w > 5.0));
+    transport::transport(&exp, &mut s, exp.schedule.dt).unwrap();
+    let moved = s.charge_transport;
+    let residual = column(&s) + moved.precipitated - moved.advected_in - c0;
+    assert!(
+        residual.abs() <= 1e-9 * added,
+        "column charge changed by {residual:e} C m-2 beyond the booked transport ({added:e} C m-2 given to the ion carrier)"
+    );
+}
