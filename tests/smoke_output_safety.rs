@@ -183,6 +183,80 @@ fn a_full_disk_is_reported_not_crashed() {
 }
 
 #[test]
+fn a_full_disk_stops_sweep_members_cleanly() {
+    // Item 4 for sweep members, two writing at a time: on a 300 kB tmpfs
+    // the members that cannot write fail with the operating system's
+    // reason, the sweep says so with its exit code (not a crash), and a
+    // member file under its final name is a complete one. Skipped, with
+    // the reason, where a tmpfs cannot be mounted.
+    let (dir, _) = workdir("full_disk_sweep");
+    let mnt = dir.join("small");
+    std::fs::create_dir_all(&mnt).unwrap();
+    let mounted = Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=300k", "tmpfs"])
+        .arg(&mnt)
+        .output()
+        .map(|o| o.status.success())
+        .unwrap_or(false);
+    if !mounted {
+        eprintln!("skipped: cannot mount a small tmpfs here (needs root)");
+        return;
+    }
+    let cfg = dir.join("sweep.toml");
+    let base = std::fs::read_to_string(repo("configs/demo.toml")).unwrap();
+    std::fs::write(
+        &cfg,
+        base + "\n[sweep]\n[[sweep.parameters]]\nkey = \"updraft.peak_speed\"\nvalues = [9.0, 10.0, 11.0, 12.0]\n",
+    )
+    .unwrap();
+    let o = bin()
+        .args(["sweep", "--quiet", "--threads", "2"])
+        .arg(&cfg)
+        .arg("-o")
+        .arg(mnt.join("out"))
+        .args(["--set", "time.duration=1200"])
+        .output()
+        .unwrap();
+    let left: Vec<PathBuf> = std::fs::read_dir(mnt.join("out"))
+        .map(|d| d.map(|e| e.unwrap().path()).collect())
+        .unwrap_or_default();
+    let committed: Vec<&PathBuf> = left
+        .iter()
+        .filter(|p| p.extension().is_some_and(|x| x == "nc"))
+        .filter(|p| {
+            p.file_name()
+                .unwrap()
+                .to_string_lossy()
+                .starts_with("member_")
+        })
+        .collect();
+    let locks: Vec<&PathBuf> = left
+        .iter()
+        .filter(|p| p.extension().is_some_and(|x| x == "lock"))
+        .collect();
+    let complete: Vec<bool> = committed
+        .iter()
+        .map(|p| {
+            netcdf::open(p)
+                .map(|f| text_attr(&f, "run_status") == "complete")
+                .unwrap_or(false)
+        })
+        .collect();
+    let _ = Command::new("umount").arg(&mnt).status();
+    let msg = stderr(&o);
+    assert!(
+        matches!(o.status.code(), Some(1) | Some(3)),
+        "exit {:?}: {msg}",
+        o.status.code()
+    );
+    assert!(msg.contains("No space left on device"), "{msg}");
+    assert!(complete.iter().all(|&c| c), "{committed:?}");
+    // No member leaves its lock behind, not even one whose lock could not
+    // be written.
+    assert!(locks.is_empty(), "{locks:?}");
+}
+
+#[test]
 fn records_are_forced_to_disk() {
     // Item 5: with output.durable_interval = 0 every record is forced to
     // the disk (fsync), counted with strace where it is installed; a

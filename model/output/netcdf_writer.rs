@@ -137,8 +137,13 @@ impl OutputLock {
             {
                 Ok(mut f) => {
                     use std::io::Write;
-                    writeln!(f, "{}", std::process::id())
-                        .map_err(|e| io_error("writing the lock", &path, e))?;
+                    if let Err(e) = writeln!(f, "{}", std::process::id()) {
+                        // A lock that names no process (a full disk) is
+                        // removed again, not left behind.
+                        drop(f);
+                        let _ = std::fs::remove_file(&path);
+                        return Err(io_error("writing the lock", &path, e));
+                    }
                     return Ok(OutputLock { path });
                 }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
