@@ -1215,6 +1215,7 @@ pub fn write_summary_netcdf(
         ),
     ));
 
+    crate::output::quiet_library_diagnostics();
     let mut f = netcdf::create(path).map_err(e)?;
     f.add_dimension("member", outcomes.len()).map_err(e)?;
     f.add_attribute("Conventions", "CF-1.10").map_err(e)?;

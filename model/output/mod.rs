@@ -912,3 +912,32 @@ pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), RunError> {
     }
     result
 }
+
+/// Stops the HDF5 library (under the NetCDF library) from printing its
+/// internal error stack on stderr when a call fails: dozens of lines per
+/// failed write on a full disk, before the run's own message, which names
+/// the file, the NetCDF error and the operating system's reason. The
+/// setting belongs to the calling thread where the library is built
+/// thread-safe (as Debian's is), so every thread that opens or creates a
+/// file calls this first; it acts once per thread.
+pub fn quiet_library_diagnostics() {
+    thread_local! {
+        static QUIET: std::cell::Cell<bool> = const { std::cell::Cell::new(false) };
+    }
+    if QUIET.with(|q| q.replace(true)) {
+        return;
+    }
+    let _lock = netcdf_sys::libnetcdf_lock.lock();
+    // SAFETY: H5Eset_auto2 with the default error stack and no handler only
+    // switches off the library's automatic printing; it takes plain values
+    // and runs under the lock the netcdf crate holds around its own calls.
+    let status = unsafe {
+        hdf5_metno_sys::h5e::H5Eset_auto2(
+            hdf5_metno_sys::h5e::H5E_DEFAULT,
+            None,
+            std::ptr::null_mut(),
+        )
+    };
+    // A refusal leaves the library's printing on: noisier, not wrong.
+    let _ = status;
+}

@@ -339,6 +339,7 @@ impl NetcdfWriter {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("definition", &partial);
         limit_chunk_cache();
+        crate::output::quiet_library_diagnostics();
         let mut f = netcdf::create(&self.partial).map_err(&e)?;
         let n = exp.grid.len();
         f.add_unlimited_dimension("time").map_err(&e)?;

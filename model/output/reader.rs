@@ -25,6 +25,7 @@ impl OutputFile {
         if let Err(e) = std::fs::metadata(path) {
             return Err(usage(format!("cannot read the output file: {e}")));
         }
+        crate::output::quiet_library_diagnostics();
         let file = netcdf::open(path)
             .map_err(|x| usage(format!("not a NetCDF file stormcharge can read ({x})")))?;
         Ok(OutputFile {
