@@ -41,8 +41,8 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), RunError
             // each cell's preparation; the integration of the cells whose
             // rates act, in groups; each cell's clipping; the last
             // adjustment, in groups; each cell's check; the charge that
-            // follows the mass, in groups. The cells are independent, so the result is
-            // that of one cell after another.
+            // follows the mass, in groups. The cells are independent, so
+            // the result is that of one cell after another.
             let scratch = &mut state.micro_scratch;
             scratch.cells.clear();
             scratch.moving.clear();
