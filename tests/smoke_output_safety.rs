@@ -153,6 +153,23 @@ fn outputs_never_overwrite_inputs_or_devices() {
         .is_char_device());
 }
 
+/// A 300 kB tmpfs mounted at `dir/small`, or `None`, with the reason
+/// printed for the test that then skips, where mounting is not allowed (it
+/// needs root and a kernel that allows it).
+fn small_disk(dir: &Path) -> Option<PathBuf> {
+    let mnt = dir.join("small");
+    std::fs::create_dir_all(&mnt).unwrap();
+    let mounted = Command::new("mount")
+        .args(["-t", "tmpfs", "-o", "size=300k", "tmpfs"])
+        .arg(&mnt)
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if !mounted {
+        eprintln!("skipped: cannot mount a small tmpfs here (needs root)");
+    }
+    mounted.then_some(mnt)
+}
+
 #[test]
 fn a_full_disk_is_reported_not_crashed() {
     // Item 4: on a 300 kB tmpfs the run stops with exit 1 (not a crash),
@@ -160,18 +177,9 @@ fn a_full_disk_is_reported_not_crashed() {
     // root and a kernel that allows it; otherwise the test says why it
     // skips.
     let (dir, cfg) = workdir("full_disk");
-    let mnt = dir.join("small");
-    std::fs::create_dir_all(&mnt).unwrap();
-    let mounted = Command::new("mount")
-        .args(["-t", "tmpfs", "-o", "size=300k", "tmpfs"])
-        .arg(&mnt)
-        .output()
-        .map(|o| o.status.success())
-        .unwrap_or(false);
-    if !mounted {
-        eprintln!("skipped: cannot mount a small tmpfs here (needs root)");
+    let Some(mnt) = small_disk(&dir) else {
         return;
-    }
+    };
     let o = run(&cfg, &mnt.join("x.nc"), &[]).output().unwrap();
     let _ = Command::new("umount").arg(&mnt).status();
     assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
@@ -192,18 +200,9 @@ fn a_full_disk_stops_sweep_members_cleanly() {
     // member file under its final name is a complete one. Skipped, with
     // the reason, where a tmpfs cannot be mounted.
     let (dir, _) = workdir("full_disk_sweep");
-    let mnt = dir.join("small");
-    std::fs::create_dir_all(&mnt).unwrap();
-    let mounted = Command::new("mount")
-        .args(["-t", "tmpfs", "-o", "size=300k", "tmpfs"])
-        .arg(&mnt)
-        .output()
-        .map(|o| o.status.success())
-        .unwrap_or(false);
-    if !mounted {
-        eprintln!("skipped: cannot mount a small tmpfs here (needs root)");
+    let Some(mnt) = small_disk(&dir) else {
         return;
-    }
+    };
     let cfg = dir.join("sweep.toml");
     let base = std::fs::read_to_string(repo("configs/demo.toml")).unwrap();
     std::fs::write(
