@@ -234,7 +234,8 @@ fn ion_attachment_charges_hydrometeors_and_conserves_charge() {
 /// and the carrier is set from them, so transport folds the carrier's
 /// charge in first. The column charge changes only by what was advected in
 /// through the ends and sides and what precipitated (charge conservation,
-/// common practice).
+/// common practice), to round-off: within 1e-12 of the charge given, the
+/// bound of the whole-run budgets (measured: 5e-16).
 #[test]
 fn ion_carrier_charge_survives_transport() {
     use stormcharge::column::transport;
@@ -255,7 +256,7 @@ fn ion_carrier_charge_survives_transport() {
     let moved = s.charge_transport;
     let residual = column(&s) + moved.precipitated - moved.advected_in - c0;
     assert!(
-        residual.abs() <= 1e-9 * added,
+        residual.abs() <= 1e-12 * added,
         "column charge changed by {residual:e} C m-2 beyond the booked transport ({added:e} C m-2 given to the ion carrier)"
     );
 }
