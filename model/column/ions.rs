@@ -133,9 +133,11 @@ pub fn step(exp: &Experiment, state: &mut State, dt: f64) {
     if !ions.enabled {
         return;
     }
-    // The ion carrier equals e (n+ - n-) at every step boundary (the
-    // initial state and the reconcile that ends each step), so the step
-    // starts from consistent ions.
+    // The step moves the ions as numbers and sets the carrier from them at
+    // its end, so the charge other processes handed the carrier (released
+    // by evaporation, corona of particles) is folded into the numbers
+    // first, as transport does (DEVELOPERS.md, "The step").
+    reconcile(exp, state);
     let e = ELEMENTARY_CHARGE;
     let mut attachment = std::mem::take(&mut state.ion_scratch.attachment);
     attachment_rates(exp, state, &mut attachment);

@@ -122,10 +122,11 @@ fn advance(
     // end of the last step, which matches the charge the step starts from.
     ions::step(exp, state, 0.5 * dt);
     if exp.config.breakdown.particle_charge_limits {
+        // What the limits take off the particles goes to the ion carrier;
+        // transport folds it into the ion numbers before it moves them.
         let (corona, disrupted) = particle_limits::limit(exp, state);
         state.particle_corona += corona;
         state.particle_disruption += disrupted;
-        ions::reconcile(exp, state);
     }
     mark(0);
     let precipitation = state.water.precipitation;
@@ -149,7 +150,6 @@ fn advance(
         // them); then the field of the charge they leave.
         electrostatics::solve_field(exp, state);
         mark(4);
-        ions::reconcile(exp, state);
         ions::step(exp, state, 0.5 * dt);
         mark(0);
     }
@@ -166,7 +166,8 @@ fn advance(
     discharge::step(exp, state, end_time);
     let flashed = state.ledger.total != flashes;
     guards::check(exp, state, Process::Discharge { flashed })?;
-    // Charge that evaporation and flashes gave the ion carrier becomes ions.
+    // Charge that evaporation and flashes gave the ion carrier becomes ions
+    // now, so the ion numbers the observers record hold it.
     ions::reconcile(exp, state);
     mark(6);
     if ends_step {

@@ -86,10 +86,9 @@ pub fn transport(exp: &Experiment, state: &mut State, dt: f64) -> Result<(), Run
     // The small ions move as numbers and the ion carrier is set from them
     // afterwards (`advect_ions`, `diffuse_all`), so charge a process gave
     // the carrier and nobody folded into the numbers yet would be lost:
-    // fold it in first. In the shipped step order the two already agree
-    // and this changes nothing; it keeps the charge budget closed under
-    // any other order (measured 2026-12-04: a symmetric transport placed
-    // after the microphysics lost the charge evaporation had released).
+    // fold it in first, as the ions' own step does (a symmetric transport
+    // placed after the microphysics, measured 2026-12-04, lost the charge
+    // evaporation had released).
     crate::column::ions::reconcile(exp, state);
     advect_all(exp, state, dt)?;
     if exp.config.column.eddy_diffusivity > 0.0 {
