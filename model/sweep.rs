@@ -318,7 +318,9 @@ pub fn validate(
         let mut overrides = m.overrides.clone();
         overrides.push("sweep.parameters=[]".into());
         let label = format!("member {} ({})", m.index, m.overrides.join(", "));
-        if let Err(e) = Experiment::from_config_text(base_text, &label, &overrides, base_dir) {
+        let checked = Experiment::from_config_text(base_text, &label, &overrides, base_dir)
+            .and_then(|exp| crate::output::check_selection(&exp, base_text, &overrides, &label));
+        if let Err(e) = checked {
             failed += 1;
             if issues.len() < 20 {
                 for mut issue in e.issues {

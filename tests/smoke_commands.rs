@@ -687,3 +687,96 @@ fn numbers(line: &str) -> Vec<f64> {
         .filter_map(|w| w.parse::<f64>().ok())
         .collect()
 }
+
+#[test]
+fn a_run_writes_only_the_variables_it_names_with_the_same_values() {
+    // `output.variables` leaves out what it does not name and changes
+    // nothing else: the named profiles, the coordinates and the flash
+    // records hold the full run's values bit for bit (the selection only
+    // filters what is written; common practice). `analyze` reads such a
+    // file; `plot` names the variable it lacks and the key that left it out.
+    let full = scratch("selection_full.nc");
+    let some = scratch("selection_some.nc");
+    let short = ["--set", "time.duration=1800"];
+    succeed(
+        bin()
+            .args(["run", "--quiet"])
+            .args(short)
+            .arg("-o")
+            .arg(&full),
+    );
+    let chosen = [
+        "charge_density",
+        "air_temperature",
+        "electric_field",
+        "q_graupel",
+    ];
+    let list = chosen.map(|c| format!("\"{c}\"")).join(", ");
+    succeed(
+        bin()
+            .args(["run", "--quiet"])
+            .args(short)
+            .args(["--set", &format!("output.variables=[{list}]"), "-o"])
+            .arg(&some),
+    );
+    let a = netcdf::open(&full).unwrap();
+    let b = netcdf::open(&some).unwrap();
+    let exp = Experiment::from_text(DEMO_TOML, "demo", &[], Path::new(".")).unwrap();
+    let flashes = stormcharge::output::flash_variables(&exp);
+    assert!(
+        a.dimension_len("flash").unwrap() > 0,
+        "the demo flashes by 30 min"
+    );
+    let mut kept = 0;
+    for v in a.variables() {
+        let name = v.name();
+        let profile = stormcharge::output::variables(&exp)
+            .iter()
+            .any(|p| p.name == name);
+        let expected = !profile || chosen.contains(&name.as_str());
+        assert_eq!(b.variable(&name).is_some(), expected, "{name}");
+        if expected && !flashes.iter().any(|f| f.name == name) {
+            let x: Vec<f64> = v.get_values(..).unwrap();
+            let y: Vec<f64> = b.variable(&name).unwrap().get_values(..).unwrap();
+            assert_eq!(x.len(), y.len(), "{name}");
+            assert!(
+                x.iter().zip(&y).all(|(p, q)| p.to_bits() == q.to_bits()),
+                "{name}"
+            );
+            kept += 1;
+        }
+    }
+    // The chosen profiles and the coordinates: time, z, z_face, z_bounds and
+    // flash_time.
+    assert_eq!(kept, chosen.len() + 5);
+    assert_eq!(a.dimension_len("flash"), b.dimension_len("flash"));
+    for f in &flashes {
+        if let (Some(x), Some(y)) = (a.variable(&f.name), b.variable(&f.name)) {
+            let (x, y): (Vec<f64>, Vec<f64>) =
+                (x.get_values(..).unwrap(), y.get_values(..).unwrap());
+            assert!(
+                x.iter().zip(&y).all(|(p, q)| p.to_bits() == q.to_bits()),
+                "{}",
+                f.name
+            );
+        } else {
+            panic!("flash variable {} missing", f.name);
+        }
+    }
+    assert!(std::fs::metadata(&some).unwrap().len() * 3 < std::fs::metadata(&full).unwrap().len());
+
+    succeed(bin().arg("analyze").arg(&some));
+    let o = bin()
+        .arg("plot")
+        .arg(&some)
+        .arg("-o")
+        .arg(scratch("selection.png"))
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("electric_potential missing") && err.contains("output.variables"),
+        "{err}"
+    );
+}

@@ -430,3 +430,84 @@ fn a_retired_key_names_its_replacement() {
         ],
     );
 }
+
+#[test]
+fn an_output_variable_the_run_does_not_write_is_named_with_its_line() {
+    // `output.variables` is checked against the variables this
+    // configuration writes before anything runs: the unknown name, the
+    // names allowed and the line (in the including file, in a base, and for
+    // every member of a sweep); nothing is written (common practice: errors
+    // name the place to edit).
+    let p = write(
+        "variables.toml",
+        "[time]\nduration = 600.0\n\n[output]\nvariables = [\"charge_density\", \"air_temperatur\"]\n",
+    );
+    let out = scratch("variables.nc");
+    let o = bin()
+        .args(["run", "--quiet"])
+        .arg(&p)
+        .arg("-o")
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "output.variables",
+            "\"air_temperatur\"",
+            "allowed: ",
+            "air_temperature, ",
+            "line 5",
+        ],
+    );
+    assert!(!out.exists());
+    let check = bin().arg("check").arg(&p).output().unwrap();
+    assert_config_error(&check, &["output.variables", "line 5"]);
+
+    let twice = write(
+        "variables_twice.toml",
+        "[output]\nvariables = [\"q_rain\", \"q_rain\"]\n",
+    );
+    let o = bin().arg("check").arg(&twice).output().unwrap();
+    assert_config_error(&o, &["output.variables", "twice", "\"q_rain\"", "line 2"]);
+
+    // From a base file, through a sweep: every member is checked first.
+    let base = write(
+        "variables_base.toml",
+        "[time]\nduration = 600.0\n\n[output]\nvariables = [\"nothing_of_the_kind\"]\n",
+    );
+    let name = base.file_name().unwrap().to_string_lossy();
+    let child = write(
+        "variables_child.toml",
+        &format!(
+            "include = \"{name}\"\n\n[sweep]\n[[sweep.parameters]]\nkey = \"column.radius\"\nvalues = [2000.0, 3000.0]\n"
+        ),
+    );
+    let dir = scratch("variables_sweep");
+    let o = bin()
+        .arg("sweep")
+        .arg(&child)
+        .arg("-o")
+        .arg(&dir)
+        .output()
+        .unwrap();
+    assert_config_error(
+        &o,
+        &[
+            "member 1",
+            "member 2",
+            "\"nothing_of_the_kind\"",
+            &format!("(line 5 of {})", base.display()),
+        ],
+    );
+    assert!(!dir.join("member_0001.nc").exists());
+
+    // A --set override has no line, and is still checked.
+    let o = bin()
+        .args(["check", "--set", "output.variables=[\"x\"]"])
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["output.variables", "\"x\""]);
+    assert!(!stderr(&o).contains("line 5"), "{}", stderr(&o));
+}

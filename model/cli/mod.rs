@@ -372,14 +372,22 @@ fn read_config(path: &Path) -> Result<ConfigText, RunError> {
 }
 
 fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
-    Ok(match config {
-        Some(path) => {
-            let text = read_config(path)?;
-            let dir = crate::output::directory_of(path);
-            Experiment::from_config_text(&text, &path.display().to_string(), set, dir)?
-        }
-        None => Experiment::from_text(DEMO_TOML, "<embedded demo>", set, Path::new("."))?,
-    })
+    let (text, origin, dir) = match config {
+        Some(path) => (
+            read_config(path)?,
+            path.display().to_string(),
+            crate::output::directory_of(path),
+        ),
+        None => (
+            crate::setup::config::ConfigText::plain(DEMO_TOML),
+            "<embedded demo>".to_string(),
+            Path::new("."),
+        ),
+    };
+    let exp = Experiment::from_config_text(&text, &origin, set, dir)?;
+    // The output's variable names are known to the output, not to setup.
+    crate::output::check_selection(&exp, &text, set, &origin)?;
+    Ok(exp)
 }
 
 fn cmd_run(

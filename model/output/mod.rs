@@ -133,6 +133,64 @@ pub fn record_len(exp: &Experiment, var: &OutputVar) -> usize {
     }
 }
 
+/// The profile and series variables this experiment writes: those
+/// `output.variables` names, in file order, or all of them without the key.
+/// The name of a flash variable is accepted (the flash records are always
+/// written, as are the coordinates); any other name the experiment does not
+/// write, or a name given twice, is an error naming the key, the name and
+/// the names allowed.
+pub fn selected_variables(exp: &Experiment) -> Result<Vec<OutputVar>, crate::error::ConfigIssue> {
+    let all = variables(exp);
+    let Some(chosen) = &exp.config.output.variables else {
+        return Ok(all);
+    };
+    let flashes = flash_variables(exp);
+    for (i, name) in chosen.iter().enumerate() {
+        if chosen[..i].contains(name) {
+            return Err(crate::error::ConfigIssue::new(
+                "output.variables",
+                "names a variable twice",
+            )
+            .value(format!("\"{name}\"")));
+        }
+        let known = all.iter().any(|v| &v.name == name) || flashes.iter().any(|v| &v.name == name);
+        if !known {
+            let names: Vec<&str> = all.iter().map(|v| v.name.as_str()).collect();
+            return Err(crate::error::ConfigIssue::new(
+                "output.variables",
+                "names no variable this configuration writes (the coordinates and the flash records are always written)",
+            )
+            .value(format!("\"{name}\""))
+            .allowed(names.join(", ")));
+        }
+    }
+    Ok(all
+        .into_iter()
+        .filter(|v| chosen.contains(&v.name))
+        .collect())
+}
+
+/// [`selected_variables`]'s check as a configuration error that names the
+/// file and line setting `output.variables` (`source`, `overrides` and
+/// `origin` as the configuration was read).
+pub fn check_selection(
+    exp: &Experiment,
+    source: &crate::setup::config::ConfigText,
+    overrides: &[String],
+    origin: &str,
+) -> Result<(), crate::error::ConfigError> {
+    match selected_variables(exp) {
+        Ok(_) => Ok(()),
+        Err(mut issue) => {
+            let (file, line) =
+                crate::setup::config::load::locate_key(source, "output.variables", overrides);
+            issue.file = file;
+            issue.line = line;
+            Err(crate::error::ConfigError::single(origin, issue))
+        }
+    }
+}
+
 /// Every output variable for this experiment, in file order.
 pub fn variables(exp: &Experiment) -> Vec<OutputVar> {
     use Placement::*;

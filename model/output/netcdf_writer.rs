@@ -19,11 +19,11 @@
 //!   that was not there before).
 
 use super::{
-    beside, commit_file, directory_of, flash_variables, io_error, record_len, variables,
+    beside, commit_file, directory_of, flash_variables, io_error, record_len, selected_variables,
     FlashValue, FlashVar, Observer, OutputVar, Placement,
 };
 use crate::column::state::State;
-use crate::error::RunError;
+use crate::error::{ConfigError, RunError};
 use crate::output::reader::STATUS_ATTRIBUTE;
 use crate::output::summary::RunSummary;
 use crate::physics::discharge::record::FlashRecord;
@@ -477,10 +477,12 @@ impl Observer for NetcdfWriter {
         // Nothing is created or truncated before the path is checked and
         // the lock is ours; an earlier file under the target name stays
         // until this run has succeeded.
+        // The selection is checked before anything is created.
+        self.vars = selected_variables(exp)
+            .map_err(|issue| RunError::Config(ConfigError::single("configuration", issue)))?;
         check_output_path(&self.target, &self.inputs)?;
         self.lock = Some(OutputLock::acquire(&self.target)?);
         self.durable = std::time::Duration::from_secs_f64(exp.config.output.durable_interval);
-        self.vars = variables(exp);
         self.flash_vars = flash_variables(exp);
         let per_record: usize = self.vars.iter().map(|v| record_len(exp, v)).sum::<usize>() * 8;
         self.batch = if exp.config.output.durable_interval == 0.0 {

@@ -50,9 +50,26 @@ impl OutputFile {
     pub fn values(&self, name: &str) -> Result<Vec<f64>, RunError> {
         self.file
             .variable(name)
-            .ok_or_else(|| self.fail(format!("variable {name} missing: not a stormcharge output")))?
+            .ok_or_else(|| self.fail(self.missing(name)))?
             .get_values::<f64, _>(..)
             .map_err(|x| self.fail(x.to_string()))
+    }
+
+    /// Why a variable is missing: a run that chose its variables
+    /// (`output.variables` in the stored configuration) left it out;
+    /// otherwise the file is not a stormcharge output.
+    fn missing(&self, name: &str) -> String {
+        let chosen = self
+            .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
+            .and_then(|t| crate::setup::config::parse(&t, "stored").ok())
+            .and_then(|c| c.output.variables);
+        match chosen {
+            Some(v) => format!(
+                "variable {name} missing: the run wrote only the variables its output.variables named ({}); run it again with {name} among them",
+                v.join(", ")
+            ),
+            None => format!("variable {name} missing: not a stormcharge output"),
+        }
     }
 
     /// All values of an optional variable (empty when it is absent).

@@ -583,6 +583,38 @@ fn line_of_offset(text: &str, offset: usize) -> usize {
         + 1
 }
 
+/// Where a configuration text sets `path`: the file (None for the
+/// including file itself, or for a text of one file) and the line, or
+/// `(None, None)` when no file sets it (a default, or a `--set` override
+/// listed in `overrides`). For checks made after the configuration has been
+/// read, so that their errors name a line as the reader's do.
+pub fn locate_key(
+    source: &ConfigText,
+    path: &str,
+    overrides: &[String],
+) -> (Option<String>, Option<usize>) {
+    let overridden = overrides
+        .iter()
+        .any(|o| o.split_once('=').map(|(k, _)| k.trim()) == Some(path));
+    if overridden {
+        return (None, None);
+    }
+    let find = |text: &str| {
+        toml_edit::ImDocument::parse(text)
+            .ok()
+            .and_then(|d| key_line(&d, text, path))
+    };
+    if source.sources.is_empty() {
+        return (None, find(&source.text));
+    }
+    for (i, (file, text)) in source.sources.iter().enumerate() {
+        if let Some(line) = find(text) {
+            return ((i > 0).then(|| file.clone()), Some(line));
+        }
+    }
+    (None, None)
+}
+
 /// Line of a key in the source, found through toml_edit's spans. Path parts
 /// may carry a 1-based element index, `layers[2]`, for lists of tables.
 fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option<usize> {

@@ -433,6 +433,9 @@ pub struct OutputConfig {
     /// s of wall clock.
     pub durable_interval: f64,
     pub deflate_level: i64,
+    /// Names of the profile and series variables to write (None: all).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub variables: Option<Vec<String>>,
 }
 
 impl Config {

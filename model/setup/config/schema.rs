@@ -1093,6 +1093,13 @@ pub const KEYS: &[KeySpec] = &[
         doc: "NetCDF-4 deflate compression of the time-dependent variables (with byte shuffling): 0 off, 1 fast, 9 smallest. Level 1 usually gives most of the gain.",
     },
     KeySpec {
+        path: "output.variables",
+        kind: Kind::Names,
+        unit: "",
+        default: None,
+        doc: "Profile and time-series variables to write, by their names in the output (docs/output.md); without this key all of them. The coordinates, the flash records and the global attributes are always written. A large ensemble that keeps a few fields writes smaller member files, and each member spends less time in the NetCDF library (docs/performance.md). `analyze` needs charge_density, air_temperature and electric_field; `plot` the fields it draws.",
+    },
+    KeySpec {
         path: "output.title",
         kind: Kind::Text,
         unit: "",

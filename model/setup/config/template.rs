@@ -38,6 +38,9 @@ fn example(k: &KeySpec) -> &'static str {
             "[[-30.0, 0.5, -10.0], [-30.0, 2.0, -5.0], [-5.0, 0.5, 10.0], [-5.0, 2.0, 15.0]]"
         }
         "ions.ionisation_points" => "[[0.0, 2.0e6], [20000.0, 4.0e7]]",
+        "output.variables" => {
+            "[\"air_temperature\", \"charge_density\", \"electric_field\", \"q_graupel\"]"
+        }
         _ => "",
     }
 }
