@@ -66,7 +66,7 @@ impl OutputFile {
         match chosen {
             Some(v) => format!(
                 "variable {name} missing: the run wrote only the variables its output.variables named ({}); run it again with {name} among them",
-                v.join(", ")
+                if v.is_empty() { "none".to_string() } else { v.join(", ") }
             ),
             None => format!("variable {name} missing: not a stormcharge output"),
         }
