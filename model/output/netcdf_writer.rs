@@ -11,7 +11,9 @@
 //!   memory and written in batches (one call per variable for several
 //!   records, at most about 4 MiB), handed to the operating system and
 //!   forced to the disk (fsync) at least every `output.durable_interval`
-//!   seconds of wall clock, and after every record when it is 0;
+//!   seconds of wall clock, and after every record when it is 0; the file
+//!   is created with the first write; a full batch waits (up to half a
+//!   batch more) while another writer of the process has the library;
 //! - only after the run has succeeded is the file marked
 //!   `run_status = "complete"`, forced to disk and renamed over `<name>` in
 //!   one atomic step, so an earlier good file stays until then. A failed or
@@ -48,17 +50,65 @@ pub struct NetcdfWriter {
     vars: Vec<OutputVar>,
     flash_vars: Vec<FlashVar>,
     record: usize,
-    buffer: Vec<f64>,
     /// Records not yet written: their times, each record variable's values
     /// (record after record), the flashes, and the first record's index.
     pending_times: Vec<f64>,
     pending: Vec<Vec<f64>>,
     pending_flashes: Vec<FlashRecord>,
     first_pending_flash: usize,
-    /// Most records held before a write.
+    /// Most records held before a write is attempted.
     batch: usize,
+    /// Most records held while another writer has the library: then this
+    /// one waits for its turn.
+    most_held: usize,
     /// Values per record of each variable.
     lens: Vec<usize>,
+    /// Whether the file has been created: it is created once, so that a
+    /// later write can never start it afresh over records already written.
+    created: bool,
+    /// What the file's definition needs, taken at `begin`; None before
+    /// `begin` and after `finish`.
+    layout: Option<Layout>,
+    /// The time-independent profiles, filled at the first record and
+    /// written with the definition.
+    statics: Vec<(usize, Vec<f64>)>,
+}
+
+/// What the definition of the file takes from the experiment, kept from
+/// `begin` so that the file can be created at the first write (or by the
+/// error path, which has no experiment).
+struct Layout {
+    z: Vec<f64>,
+    z_face: Vec<f64>,
+    /// `time.start` written as the CF `units` want it.
+    start: String,
+    title: String,
+    config: String,
+    trigger: &'static str,
+    deflate_level: i64,
+}
+
+/// The writers' turn at the NetCDF library, which serves one call at a time
+/// in a process. A writer that finds it taken while its batch is not yet
+/// due keeps its records and computes on (`NetcdfWriter::write_held`); in
+/// a sweep the members start together and reach their writes at about the
+/// same moments, so waiting there cost 2-3 points of parallel efficiency
+/// (docs/performance.md).
+static WRITERS_TURN: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+/// Takes the writers' turn at the NetCDF library and holds it until the
+/// guard is dropped: no writer of this process writes meanwhile, and each
+/// keeps its records (up to half a batch more than a batch) and computes
+/// on. For code that must not interleave with the writers, and for tests.
+pub fn hold_writers_turn() -> std::sync::MutexGuard<'static, ()> {
+    WRITERS_TURN.lock().unwrap_or_else(|p| p.into_inner())
+}
+
+/// Whether to wait for the writers' turn.
+#[derive(Clone, Copy, PartialEq)]
+enum Turn {
+    Wait,
+    IfFree,
 }
 
 /// Upper bound on the bytes of records held in memory before a write.
@@ -238,13 +288,16 @@ impl NetcdfWriter {
             vars: Vec::new(),
             flash_vars: Vec::new(),
             record: 0,
-            buffer: Vec::new(),
             pending_times: Vec::new(),
             pending: Vec::new(),
             pending_flashes: Vec::new(),
             first_pending_flash: 0,
             batch: 1,
+            most_held: 1,
             lens: Vec::new(),
+            created: false,
+            layout: None,
+            statics: Vec::new(),
         }
     }
 
@@ -275,8 +328,53 @@ impl NetcdfWriter {
 
     /// Writes the pending records (one call per variable) and flashes and
     /// hands them to the operating system; forces them to the disk when the
-    /// durable interval has passed.
-    fn flush(&mut self) -> Result<(), RunError> {
+    /// durable interval has passed. The first write creates and defines the
+    /// file. With `Turn::IfFree` nothing is written while another writer
+    /// has the library (returns false); the records stay held.
+    fn write_held(&mut self, turn: Turn) -> Result<bool, RunError> {
+        let _turn = match (turn, WRITERS_TURN.try_lock()) {
+            (_, Ok(g)) => g,
+            (Turn::IfFree, Err(std::sync::TryLockError::WouldBlock)) => return Ok(false),
+            // A writer that panicked left nothing half-done that this one
+            // relies on: each call finishes its own library calls.
+            (_, Err(std::sync::TryLockError::Poisoned(p))) => p.into_inner(),
+            (Turn::Wait, Err(std::sync::TryLockError::WouldBlock)) => {
+                WRITERS_TURN.lock().unwrap_or_else(|p| p.into_inner())
+            }
+        };
+        if !self.created {
+            self.created = true;
+            let f = self.define()?;
+            self.file = Some(f);
+            self.write_statics()?;
+        }
+        self.write_pending()?;
+        Ok(true)
+    }
+
+    /// The time-independent profiles held since the first record.
+    fn write_statics(&mut self) -> Result<(), RunError> {
+        let partial = self.partial.display().to_string();
+        let e = nc_err_at("record", &partial);
+        let Some(f) = self.file.as_mut() else {
+            return Ok(());
+        };
+        for (i, values) in std::mem::take(&mut self.statics) {
+            let name = &self.vars[i].name;
+            f.variable_mut(name)
+                .ok_or_else(|| RunError::Output {
+                    context: "NetCDF output record".into(),
+                    message: format!("variable {name} missing"),
+                })?
+                .put_values(&values, ..)
+                .map_err(&e)?;
+        }
+        Ok(())
+    }
+
+    /// The body of [`Self::write_held`], with the file defined and the
+    /// writers' turn held.
+    fn write_pending(&mut self) -> Result<(), RunError> {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("record", &partial);
         let f = self.file.as_mut().ok_or_else(|| RunError::Output {
@@ -335,23 +433,26 @@ impl NetcdfWriter {
         Ok(())
     }
 
-    fn define(&mut self, exp: &Experiment) -> Result<netcdf::FileMut, RunError> {
+    fn define(&mut self) -> Result<netcdf::FileMut, RunError> {
         let partial = self.partial.display().to_string();
         let e = nc_err_at("definition", &partial);
+        let layout = self.layout.as_ref().ok_or_else(|| RunError::Output {
+            context: format!("NetCDF output definition of {partial}"),
+            message: "the writer has not begun".into(),
+        })?;
         limit_chunk_cache();
         crate::output::quiet_library_diagnostics();
         let mut f = netcdf::create(&self.partial).map_err(&e)?;
-        let n = exp.grid.len();
+        let n = layout.z.len();
         f.add_unlimited_dimension("time").map_err(&e)?;
         f.add_dimension("z", n).map_err(&e)?;
         f.add_dimension("z_face", n + 1).map_err(&e)?;
         f.add_unlimited_dimension("flash").map_err(&e)?;
 
-        let cfg = &exp.config;
-        let start = cfg.time.start.replace('T', " ").replace('Z', "");
+        let start = &layout.start;
         let globals: [(&str, String); 8] = [
             ("Conventions", "CF-1.10".into()),
-            ("title", cfg.output.title.clone()),
+            ("title", layout.title.clone()),
             ("source", format!("stormcharge {}", env!("CARGO_PKG_VERSION"))),
             ("history", self.history.clone()),
             (
@@ -361,9 +462,9 @@ impl NetcdfWriter {
                  and licensed practice."
                     .into(),
             ),
-            (CONFIG_ATTRIBUTE, cfg.to_toml()),
+            (CONFIG_ATTRIBUTE, layout.config.clone()),
             (STATUS_ATTRIBUTE, "incomplete".into()),
-            ("flash_trigger_criterion", cfg.breakdown.trigger.name().into()),
+            ("flash_trigger_criterion", layout.trigger.into()),
         ];
         for (k, v) in globals {
             f.add_attribute(k, v).map_err(&e)?;
@@ -378,12 +479,8 @@ impl NetcdfWriter {
         time.put_attribute("axis", "T").map_err(&e)?;
 
         for (name, values, long) in [
-            ("z", &exp.grid.z, "height of cell centre above ground"),
-            (
-                "z_face",
-                &exp.grid.z_face,
-                "height of cell face above ground",
-            ),
+            ("z", &layout.z, "height of cell centre above ground"),
+            ("z_face", &layout.z_face, "height of cell face above ground"),
         ] {
             let mut v = f.add_variable::<f64>(name, &[name]).map_err(&e)?;
             v.put_attribute("standard_name", "height").map_err(&e)?;
@@ -398,8 +495,7 @@ impl NetcdfWriter {
         }
         // Cell bounds of the centres (CF section 7.1): the faces below and above.
         f.add_dimension("nv", 2).map_err(&e)?;
-        let bounds: Vec<f64> = exp
-            .grid
+        let bounds: Vec<f64> = layout
             .z_face
             .windows(2)
             .flat_map(|w| [w[0], w[1]])
@@ -430,7 +526,7 @@ impl NetcdfWriter {
             if var.may_be_missing {
                 v.put_attribute("_FillValue", f64::NAN).map_err(&e)?;
             }
-            let level = exp.config.output.deflate_level;
+            let level = layout.deflate_level;
             if level > 0 && var.placement != Placement::StaticFace {
                 v.set_compression(level as i32, true).map_err(&e)?;
             }
@@ -490,39 +586,47 @@ impl Observer for NetcdfWriter {
         } else {
             (BATCH_BYTES / per_record.max(1)).clamp(1, 1024)
         };
+        // While another writer has the library, up to half a batch more is
+        // held (the wait there is one definition or batch write of the
+        // other: a few records); the durable interval still bounds it.
+        self.most_held = if self.batch == 1 {
+            1
+        } else {
+            self.batch + self.batch / 2
+        };
         self.lens = self.vars.iter().map(|v| record_len(exp, v)).collect();
         self.pending = self
             .lens
             .iter()
-            .map(|len| Vec::with_capacity(self.batch * len))
+            .map(|len| Vec::with_capacity(self.most_held * len))
             .collect();
-        self.pending_times = Vec::with_capacity(self.batch);
-        self.file = Some(self.define(exp)?);
+        self.pending_times = Vec::with_capacity(self.most_held);
+        let cfg = &exp.config;
+        // The file itself is created at the first write (a full batch, the
+        // durable interval, the end of the run or the error path).
+        self.layout = Some(Layout {
+            z: exp.grid.z.clone(),
+            z_face: exp.grid.z_face.clone(),
+            start: cfg.time.start.replace('T', " ").replace('Z', ""),
+            title: cfg.output.title.clone(),
+            config: cfg.to_toml(),
+            trigger: cfg.breakdown.trigger.name(),
+            deflate_level: cfg.output.deflate_level,
+        });
         Ok(())
     }
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
-        let partial = self.partial.display().to_string();
-        let e = nc_err_at("record", &partial);
         let t = self.record;
-        for (var, values) in self.vars.iter().zip(&mut self.pending) {
+        for (i, (var, values)) in self.vars.iter().zip(&mut self.pending).enumerate() {
             let len = record_len(exp, var);
             if var.is_static() {
-                // Time-independent profiles: written once, at once.
+                // Time-independent profiles: taken once, written with the
+                // file's definition.
                 if t == 0 {
-                    self.buffer.resize(len, 0.0);
-                    (var.fill)(exp, state, &mut self.buffer[..len]);
-                    let f = self.file.as_mut().ok_or_else(|| RunError::Output {
-                        context: "NetCDF output record".into(),
-                        message: "file not open".into(),
-                    })?;
-                    f.variable_mut(&var.name)
-                        .ok_or_else(|| RunError::Output {
-                            context: "NetCDF output record".into(),
-                            message: format!("variable {} missing", var.name),
-                        })?
-                        .put_values(&self.buffer[..len], ..)
-                        .map_err(&e)?;
+                    let mut profile = vec![0.0; len];
+                    (var.fill)(exp, state, &mut profile);
+                    self.statics.push((i, profile));
                 }
                 continue;
             }
@@ -535,8 +639,11 @@ impl Observer for NetcdfWriter {
         self.pending_flashes
             .extend_from_slice(state.ledger.unseen(seen));
         self.record += 1;
-        if self.pending_times.len() >= self.batch || self.last_durable.elapsed() >= self.durable {
-            self.flush()?;
+        let held = self.pending_times.len();
+        if held >= self.most_held || self.last_durable.elapsed() >= self.durable {
+            self.write_held(Turn::Wait)?;
+        } else if held >= self.batch {
+            self.write_held(Turn::IfFree)?;
         }
         Ok(())
     }
@@ -553,13 +660,18 @@ impl Observer for NetcdfWriter {
         let seen = self.first_pending_flash + self.pending_flashes.len();
         self.pending_flashes
             .extend_from_slice(state.ledger.unseen(seen));
-        self.flush()?;
-        let mut f = self.file.take().ok_or_else(|| RunError::Output {
-            context: "NetCDF output closing".into(),
-            message: "file not open".into(),
-        })?;
-        f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
-        f.close().map_err(&e)?;
+        self.write_held(Turn::Wait)?;
+        {
+            // The closing calls are the library's too.
+            let _turn = WRITERS_TURN.lock().unwrap_or_else(|p| p.into_inner());
+            let mut f = self.file.take().ok_or_else(|| RunError::Output {
+                context: "NetCDF output closing".into(),
+                message: "file not open".into(),
+            })?;
+            f.add_attribute(STATUS_ATTRIBUTE, "complete").map_err(&e)?;
+            f.close().map_err(&e)?;
+        }
+        self.layout = None;
         // On the disk before it takes the target's name, so a crash after
         // the rename cannot leave a complete-looking but empty file.
         self.make_durable()?;
@@ -576,8 +688,10 @@ impl Drop for NetcdfWriter {
     /// into its `.incomplete` file (best effort: an error here has nowhere
     /// to go); a finished run holds none.
     fn drop(&mut self) {
-        if self.file.is_some() {
-            let _ = self.flush();
+        // Begun and not finished: the file may not exist yet; the write
+        // creates it.
+        if self.layout.is_some() {
+            let _ = self.write_held(Turn::Wait);
         }
     }
 }
