@@ -14,7 +14,9 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Arc;
 use stormcharge::column::state::State;
 use stormcharge::error::RunError;
-use stormcharge::output::netcdf_writer::{hold_writers_turn, partial_path, NetcdfWriter};
+use stormcharge::output::netcdf_writer::{
+    batch_records, hold_writers_turn, partial_path, NetcdfWriter,
+};
 use stormcharge::output::Observer;
 use stormcharge::setup::config::DEMO_TOML;
 use stormcharge::setup::experiment::Experiment;
@@ -45,16 +47,25 @@ fn values(path: &Path) -> Vec<(String, Vec<u64>)> {
 
 #[test]
 fn a_writer_keeps_its_records_while_another_has_the_library() {
-    // The demo's hour, one record a minute; with all 132 variables a batch
-    // is 24 records and a writer holds up to 36 while the library is taken
-    // (docs/output.md). The durable interval is set to its longest so that
-    // only the batch decides. While this test holds the writers' turn the
+    // The demo's hour with a record every 20 s (181 records; a batch is 61
+    // of them, about 4 MiB); a writer holds a batch, and up to half as
+    // many again while the library is taken (docs/output.md). The durable
+    // interval is set to its longest so that only the batch decides. While this test holds the writers' turn the
     // run goes past a full batch without creating its file; released, the
     // run finishes, and its file holds the same bits as a run alone
     // (common practice: buffering changes when data are written, never
     // what).
-    let set = ["output.durable_interval=3600".to_string()];
+    let set = [
+        "output.durable_interval=3600".to_string(),
+        "time.output_interval=20".to_string(),
+    ];
     let exp = Experiment::from_text(DEMO_TOML, "demo", &set, Path::new(".")).unwrap();
+    let batch = batch_records(&exp, &stormcharge::output::variables(&exp));
+    let past = batch + 3;
+    assert!(
+        past < batch + batch / 2 && past < 181,
+        "a batch of {batch} records leaves no room to go past it"
+    );
     let alone = scratch("sharing_alone.nc");
     let mut w = NetcdfWriter::new(&alone, "test");
     timeloop::run(&exp, &mut [&mut w as &mut dyn Observer], &mut |_| {}).unwrap();
@@ -72,9 +83,9 @@ fn a_writer_keeps_its_records_while_another_has_the_library() {
         let mut observers: [&mut dyn Observer; 2] = [&mut w, &mut c];
         timeloop::run(&exp, &mut observers, &mut |_| {}).map(|_| ())
     });
-    // Past a full batch (24 records) and still computing, nothing written.
+    // Past a full batch and still computing, nothing written.
     let deadline = std::time::Instant::now() + std::time::Duration::from_secs(60);
-    while records.load(Ordering::SeqCst) < 30 {
+    while records.load(Ordering::SeqCst) < past {
         assert!(std::time::Instant::now() < deadline, "the run stopped");
         std::thread::sleep(std::time::Duration::from_millis(2));
     }

@@ -96,6 +96,19 @@ struct Layout {
 /// (docs/performance.md).
 static WRITERS_TURN: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
+/// Records a writer holds before it writes them (at most about
+/// `BATCH_BYTES` of the variables `vars`; 1 with `output.durable_interval
+/// = 0`, which writes every record at once). While another writer has the
+/// library it holds up to half as many again.
+pub fn batch_records(exp: &Experiment, vars: &[OutputVar]) -> usize {
+    let per_record: usize = vars.iter().map(|v| record_len(exp, v)).sum::<usize>() * 8;
+    if exp.config.output.durable_interval == 0.0 {
+        1
+    } else {
+        (BATCH_BYTES / per_record.max(1)).clamp(1, 1024)
+    }
+}
+
 /// Takes the writers' turn at the NetCDF library and holds it until the
 /// guard is dropped: no writer of this process writes meanwhile, and each
 /// keeps its records (up to half a batch more than a batch) and computes
@@ -580,12 +593,7 @@ impl Observer for NetcdfWriter {
         self.lock = Some(OutputLock::acquire(&self.target)?);
         self.durable = std::time::Duration::from_secs_f64(exp.config.output.durable_interval);
         self.flash_vars = flash_variables(exp);
-        let per_record: usize = self.vars.iter().map(|v| record_len(exp, v)).sum::<usize>() * 8;
-        self.batch = if exp.config.output.durable_interval == 0.0 {
-            1
-        } else {
-            (BATCH_BYTES / per_record.max(1)).clamp(1, 1024)
-        };
+        self.batch = batch_records(exp, &self.vars);
         // While another writer has the library, up to half a batch more is
         // held (the wait there is one definition or batch write of the
         // other: a few records); the durable interval still bounds it.
