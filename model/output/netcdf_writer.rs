@@ -58,9 +58,6 @@ pub struct NetcdfWriter {
     first_pending_flash: usize,
     /// Most records held before a write is attempted.
     batch: usize,
-    /// Most records held while another writer has the library: then this
-    /// one waits for its turn.
-    most_held: usize,
     /// Values per record of each variable.
     lens: Vec<usize>,
     /// Whether the file has been created: it is created once, so that a
@@ -306,7 +303,6 @@ impl NetcdfWriter {
             pending_flashes: Vec::new(),
             first_pending_flash: 0,
             batch: 1,
-            most_held: 1,
             lens: Vec::new(),
             created: false,
             layout: None,
@@ -339,50 +335,52 @@ impl NetcdfWriter {
         Ok(())
     }
 
+    /// Most records held while another writer has the library, before this
+    /// one waits for its turn: half a batch more (the wait there is one
+    /// definition or batch write of the other, a few records); the durable
+    /// interval still bounds it. A batch of one is written at once.
+    fn most_held(&self) -> usize {
+        if self.batch == 1 {
+            1
+        } else {
+            self.batch + self.batch / 2
+        }
+    }
+
     /// Writes the pending records (one call per variable) and flashes and
     /// hands them to the operating system; forces them to the disk when the
     /// durable interval has passed. The first write creates and defines the
     /// file. With `Turn::IfFree` nothing is written while another writer
     /// has the library (returns false); the records stay held.
     fn write_held(&mut self, turn: Turn) -> Result<bool, RunError> {
-        let _turn = match (turn, WRITERS_TURN.try_lock()) {
-            (_, Ok(g)) => g,
-            (Turn::IfFree, Err(std::sync::TryLockError::WouldBlock)) => return Ok(false),
+        let _turn = match WRITERS_TURN.try_lock() {
+            Ok(g) => g,
             // A writer that panicked left nothing half-done that this one
             // relies on: each call finishes its own library calls.
-            (_, Err(std::sync::TryLockError::Poisoned(p))) => p.into_inner(),
-            (Turn::Wait, Err(std::sync::TryLockError::WouldBlock)) => {
-                WRITERS_TURN.lock().unwrap_or_else(|p| p.into_inner())
-            }
+            Err(std::sync::TryLockError::Poisoned(p)) => p.into_inner(),
+            Err(std::sync::TryLockError::WouldBlock) if turn == Turn::IfFree => return Ok(false),
+            Err(std::sync::TryLockError::WouldBlock) => hold_writers_turn(),
         };
         if !self.created {
             self.created = true;
-            let f = self.define()?;
-            self.file = Some(f);
-            self.write_statics()?;
+            let defined = self.define()?;
+            let f = self.file.insert(defined);
+            // The time-independent profiles held since the first record.
+            let partial = self.partial.display().to_string();
+            let e = nc_err_at("record", &partial);
+            for (i, values) in std::mem::take(&mut self.statics) {
+                let name = &self.vars[i].name;
+                f.variable_mut(name)
+                    .ok_or_else(|| RunError::Output {
+                        context: "NetCDF output record".into(),
+                        message: format!("variable {name} missing"),
+                    })?
+                    .put_values(&values, ..)
+                    .map_err(&e)?;
+            }
         }
         self.write_pending()?;
         Ok(true)
-    }
-
-    /// The time-independent profiles held since the first record.
-    fn write_statics(&mut self) -> Result<(), RunError> {
-        let partial = self.partial.display().to_string();
-        let e = nc_err_at("record", &partial);
-        let Some(f) = self.file.as_mut() else {
-            return Ok(());
-        };
-        for (i, values) in std::mem::take(&mut self.statics) {
-            let name = &self.vars[i].name;
-            f.variable_mut(name)
-                .ok_or_else(|| RunError::Output {
-                    context: "NetCDF output record".into(),
-                    message: format!("variable {name} missing"),
-                })?
-                .put_values(&values, ..)
-                .map_err(&e)?;
-        }
-        Ok(())
     }
 
     /// The body of [`Self::write_held`], with the file defined and the
@@ -594,21 +592,13 @@ impl Observer for NetcdfWriter {
         self.durable = std::time::Duration::from_secs_f64(exp.config.output.durable_interval);
         self.flash_vars = flash_variables(exp);
         self.batch = batch_records(exp, &self.vars);
-        // While another writer has the library, up to half a batch more is
-        // held (the wait there is one definition or batch write of the
-        // other: a few records); the durable interval still bounds it.
-        self.most_held = if self.batch == 1 {
-            1
-        } else {
-            self.batch + self.batch / 2
-        };
         self.lens = self.vars.iter().map(|v| record_len(exp, v)).collect();
         self.pending = self
             .lens
             .iter()
-            .map(|len| Vec::with_capacity(self.most_held * len))
+            .map(|len| Vec::with_capacity(self.most_held() * len))
             .collect();
-        self.pending_times = Vec::with_capacity(self.most_held);
+        self.pending_times = Vec::with_capacity(self.most_held());
         let cfg = &exp.config;
         // The file itself is created at the first write (a full batch, the
         // durable interval, the end of the run or the error path).
@@ -648,7 +638,7 @@ impl Observer for NetcdfWriter {
             .extend_from_slice(state.ledger.unseen(seen));
         self.record += 1;
         let held = self.pending_times.len();
-        if held >= self.most_held || self.last_durable.elapsed() >= self.durable {
+        if held >= self.most_held() || self.last_durable.elapsed() >= self.durable {
             self.write_held(Turn::Wait)?;
         } else if held >= self.batch {
             self.write_held(Turn::IfFree)?;
@@ -671,7 +661,7 @@ impl Observer for NetcdfWriter {
         self.write_held(Turn::Wait)?;
         {
             // The closing calls are the library's too.
-            let _turn = WRITERS_TURN.lock().unwrap_or_else(|p| p.into_inner());
+            let _turn = hold_writers_turn();
             let mut f = self.file.take().ok_or_else(|| RunError::Output {
                 context: "NetCDF output closing".into(),
                 message: "file not open".into(),

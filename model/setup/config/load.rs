@@ -85,35 +85,22 @@ pub fn parse_config_text(
     // A configuration merged from an `include` has lines of its own files,
     // not of the merged text: the including file's keys are located in its
     // own text, a base's keys in the base's (below).
-    let sources = &source.sources;
-    let own = sources.first().map(|(_, t)| t.as_str());
-    let own_doc = own.and_then(|t| toml_edit::ImDocument::parse(t).ok());
+    let lines = KeyLines::new(source, doc);
     let locate = |path: &str| -> Option<usize> {
         if overridden.iter().any(|o| o == path) {
             return None;
         }
-        match (&own_doc, own) {
-            (Some(d), Some(t)) => key_line(d, t, path),
-            _ => key_line(&doc, text, path),
-        }
+        lines.in_own(path)
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
-    // Keys not in the including file: each base, parsed once, nearest first.
-    let unplaced = |i: &ConfigIssue| i.line.is_none() && !overridden.contains(&i.key);
-    if issues.iter().any(unplaced) {
-        let bases: Vec<_> = sources
-            .iter()
-            .skip(1)
-            .filter_map(|(file, t)| Some((file, t, toml_edit::ImDocument::parse(t.as_str()).ok()?)))
-            .collect();
-        for issue in issues.iter_mut().filter(|i| unplaced(i)) {
-            if let Some((file, l)) = bases
-                .iter()
-                .find_map(|(file, t, d)| Some((*file, key_line(d, t, &issue.key)?)))
-            {
-                issue.line = Some(l);
-                issue.file = Some(file.clone());
-            }
+    // Keys not in the including file: each base, nearest first.
+    for issue in issues
+        .iter_mut()
+        .filter(|i| i.line.is_none() && !overridden.contains(&i.key))
+    {
+        if let Some((file, l)) = lines.in_bases(&issue.key) {
+            issue.line = Some(l);
+            issue.file = Some(file.to_string());
         }
     }
     if !issues.is_empty() {
@@ -583,11 +570,63 @@ fn line_of_offset(text: &str, offset: usize) -> usize {
         + 1
 }
 
-/// Where a configuration text sets `path`: the file (None for the
-/// including file itself, or for a text of one file) and the line, or
-/// `(None, None)` when no file sets it (a default, or a `--set` override
-/// listed in `overrides`). For checks made after the configuration has been
-/// read, so that their errors name a line as the reader's do.
+/// The texts a configuration was read from, each parsed once, for the
+/// line that sets a key: the including file's own text (or the text of a
+/// configuration from one file), then each base, nearest first.
+struct KeyLines<'a> {
+    own: (&'a str, toml_edit::ImDocument<&'a str>),
+    sources: &'a Sources,
+    /// The bases, parsed when a key is first looked for in them (most
+    /// configurations read without an error never need them).
+    bases: std::cell::OnceCell<Vec<(&'a str, &'a str, toml_edit::ImDocument<&'a str>)>>,
+}
+
+impl<'a> KeyLines<'a> {
+    /// `merged` is the parsed text of `source`, used as the own text when
+    /// the configuration comes from one file.
+    fn new(source: &'a ConfigText, merged: toml_edit::ImDocument<&'a str>) -> Self {
+        let own_file = source
+            .sources
+            .first()
+            .and_then(|(_, t)| Some((t.as_str(), toml_edit::ImDocument::parse(t.as_str()).ok()?)));
+        KeyLines {
+            own: own_file.unwrap_or((source.text.as_str(), merged)),
+            sources: &source.sources,
+            bases: std::cell::OnceCell::new(),
+        }
+    }
+
+    /// The line of `path` in the own text.
+    fn in_own(&self, path: &str) -> Option<usize> {
+        key_line(&self.own.1, self.own.0, path)
+    }
+
+    /// The nearest base that sets `path`, and the line.
+    fn in_bases(&self, path: &str) -> Option<(&'a str, usize)> {
+        let sources: &'a Sources = self.sources;
+        self.bases
+            .get_or_init(|| {
+                sources
+                    .iter()
+                    .skip(1)
+                    .filter_map(|(file, t)| {
+                        Some((
+                            file.as_str(),
+                            t.as_str(),
+                            toml_edit::ImDocument::parse(t.as_str()).ok()?,
+                        ))
+                    })
+                    .collect()
+            })
+            .iter()
+            .find_map(|(file, t, d)| Some((*file, key_line(d, t, path)?)))
+    }
+}
+
+/// Where a configuration text sets `path`, as the reader's own errors give
+/// it: the line, with the file when it is a base (not the including file),
+/// or `(None, None)` when no file sets it (a default, or a `--set` among
+/// `overrides`). For checks made after the configuration has been read.
 pub fn locate_key(
     source: &ConfigText,
     path: &str,
@@ -595,24 +634,21 @@ pub fn locate_key(
 ) -> (Option<String>, Option<usize>) {
     let overridden = overrides
         .iter()
-        .any(|o| o.split_once('=').map(|(k, _)| k.trim()) == Some(path));
-    if overridden {
+        .filter_map(|o| parse_override(o).ok())
+        .any(|(p, _)| p == path);
+    let Ok(merged) = toml_edit::ImDocument::parse(source.text.as_str()) else {
         return (None, None);
-    }
-    let find = |text: &str| {
-        toml_edit::ImDocument::parse(text)
-            .ok()
-            .and_then(|d| key_line(&d, text, path))
     };
-    if source.sources.is_empty() {
-        return (None, find(&source.text));
+    let lines = KeyLines::new(source, merged);
+    if overridden {
+        (None, None)
+    } else if let Some(l) = lines.in_own(path) {
+        (None, Some(l))
+    } else if let Some((file, l)) = lines.in_bases(path) {
+        (Some(file.to_string()), Some(l))
+    } else {
+        (None, None)
     }
-    for (i, (file, text)) in source.sources.iter().enumerate() {
-        if let Some(line) = find(text) {
-            return ((i > 0).then(|| file.clone()), Some(line));
-        }
-    }
-    (None, None)
 }
 
 /// Line of a key in the source, found through toml_edit's spans. Path parts
