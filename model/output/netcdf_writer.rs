@@ -574,7 +574,8 @@ impl NetcdfWriter {
                 }
             }
         }
-        f.sync().map_err(&e)?;
+        // No sync here: the definition is only made by `write_held`, whose
+        // records write ends in one.
         Ok(f)
     }
 }
@@ -616,8 +617,13 @@ impl Observer for NetcdfWriter {
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let t = self.record;
-        for (i, (var, values)) in self.vars.iter().zip(&mut self.pending).enumerate() {
-            let len = record_len(exp, var);
+        for (i, ((var, values), &len)) in self
+            .vars
+            .iter()
+            .zip(&mut self.pending)
+            .zip(&self.lens)
+            .enumerate()
+        {
             if var.is_static() {
                 // Time-independent profiles: taken once, written with the
                 // file's definition.
