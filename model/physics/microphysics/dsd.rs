@@ -55,7 +55,7 @@ pub fn gamma(x: f64) -> f64 {
     (2.0 * std::f64::consts::PI).sqrt() * t.powf(x + 0.5) * (-t).exp() * a
 }
 
-/// Integral of D^m exp(-k D) dD from `d0` to infinity for m = 0..=3: the
+/// Integral of D^m exp(-k D) dD from `d0` to infinity for integer m: the
 /// upper incomplete gamma function of integer order, Gamma(m+1, k d0)/k^(m+1)
 /// = m! exp(-k d0) sum_j (k d0)^j / j! / k^(m+1) (repeated integration by
 /// parts; Abramowitz & Stegun 1964, Eq. 6.5.13, equation number from memory).
