@@ -369,12 +369,7 @@ impl NetcdfWriter {
             let partial = self.partial.display().to_string();
             let e = nc_err_at("record", &partial);
             for (i, values) in std::mem::take(&mut self.statics) {
-                let name = &self.vars[i].name;
-                f.variable_mut(name)
-                    .ok_or_else(|| RunError::Output {
-                        context: "NetCDF output record".into(),
-                        message: format!("variable {name} missing"),
-                    })?
+                variable_in(f, &self.vars[i].name, "NetCDF output record")?
                     .put_values(&values, ..)
                     .map_err(&e)?;
             }
@@ -395,22 +390,15 @@ impl NetcdfWriter {
         let n = self.pending_times.len();
         if n > 0 {
             let t0 = self.record - n;
-            let missing = |name: &str| RunError::Output {
-                context: "NetCDF output record".into(),
-                message: format!("variable {name} missing"),
-            };
             let mut write = || -> Result<(), RunError> {
-                f.variable_mut("time")
-                    .ok_or_else(|| missing("time"))?
+                variable_in(f, "time", "NetCDF output record")?
                     .put_values(&self.pending_times, t0..t0 + n)
                     .map_err(&e)?;
                 for ((var, values), &len) in self.vars.iter().zip(&self.pending).zip(&self.lens) {
                     if var.is_static() {
                         continue;
                     }
-                    let mut v = f
-                        .variable_mut(&var.name)
-                        .ok_or_else(|| missing(&var.name))?;
+                    let mut v = variable_in(f, &var.name, "NetCDF output record")?;
                     match var.placement {
                         Placement::Series => v.put_values(&values[..n], t0..t0 + n),
                         _ => v.put_values(&values[..n * len], (t0..t0 + n, ..)),
@@ -701,6 +689,19 @@ impl Drop for NetcdfWriter {
 }
 
 /// Writes the pending `flashes` on the `flash` dimension from position `at`.
+/// The variable `name` of the file being written, or an error naming it
+/// (`context` says what was being written).
+fn variable_in<'f>(
+    f: &'f mut netcdf::FileMut,
+    name: &str,
+    context: &str,
+) -> Result<netcdf::VariableMut<'f>, RunError> {
+    f.variable_mut(name).ok_or_else(|| RunError::Output {
+        context: context.into(),
+        message: format!("variable {name} missing"),
+    })
+}
+
 fn write_flashes(
     f: &mut netcdf::FileMut,
     vars: &[FlashVar],
@@ -711,25 +712,17 @@ fn write_flashes(
         return Ok(());
     }
     let e = nc_err("flash records");
-    let missing = |name: &str| RunError::Output {
-        context: "flash records".into(),
-        message: format!("variable {name} missing"),
-    };
     // One call per variable for all the flashes held: a call per flash and
     // variable cost about 6e4 instructions in the NetCDF and HDF5 libraries
     // each, 2.5 % of a demo hour at 200 levels (docs/performance.md).
     let span = at..at + flashes.len();
-    let times: Vec<f64> = flashes.iter().map(|rec| rec.time).collect();
-    f.variable_mut("flash_time")
-        .ok_or_else(|| missing("flash_time"))?
-        .put_values(&times, span.clone())
+    let mut reals: Vec<f64> = flashes.iter().map(|rec| rec.time).collect();
+    variable_in(f, "flash_time", "flash records")?
+        .put_values(&reals, span.clone())
         .map_err(&e)?;
-    let mut reals = Vec::with_capacity(flashes.len());
     let mut flags = Vec::with_capacity(flashes.len());
     for var in vars {
-        let mut v = f
-            .variable_mut(&var.name)
-            .ok_or_else(|| missing(&var.name))?;
+        let mut v = variable_in(f, &var.name, "flash records")?;
         match var.value {
             FlashValue::Real => {
                 reals.clear();

@@ -632,17 +632,19 @@ pub fn locate_key(
     path: &str,
     overrides: &[String],
 ) -> (Option<String>, Option<usize>) {
+    // A `--set` wins over every file, and has no line.
     let overridden = overrides
         .iter()
         .filter_map(|o| parse_override(o).ok())
         .any(|(p, _)| p == path);
+    if overridden {
+        return (None, None);
+    }
     let Ok(merged) = toml_edit::ImDocument::parse(source.text.as_str()) else {
         return (None, None);
     };
     let lines = KeyLines::new(source, merged);
-    if overridden {
-        (None, None)
-    } else if let Some(l) = lines.in_own(path) {
+    if let Some(l) = lines.in_own(path) {
         (None, Some(l))
     } else if let Some((file, l)) = lines.in_bases(path) {
         (Some(file.to_string()), Some(l))
