@@ -61,6 +61,17 @@ impl ConfigIssue {
     }
 }
 
+/// A number as an error message shows it: plain between 1e-4 and 1e9 (and
+/// zero), in exponent form outside, so that `1e300` is not written out as
+/// three hundred digits nor `1e-300` as zeros.
+pub fn shown_number(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() || (1e-4..1e9).contains(&x.abs()) {
+        format!("{x}")
+    } else {
+        format!("{x:e}")
+    }
+}
+
 impl fmt::Display for ConfigIssue {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "`{}`", self.key)?;
@@ -73,7 +84,8 @@ impl fmt::Display for ConfigIssue {
         write!(f, ": {}", self.message)?;
         if let Some(a) = &self.allowed {
             write!(f, "; allowed: {a}")?;
-            if let Some(u) = &self.unit {
+            // A dimensionless key's unit "1" after a range reads as a number.
+            if let Some(u) = self.unit.as_ref().filter(|u| *u != "1") {
                 write!(f, " {u}")?;
             }
         }

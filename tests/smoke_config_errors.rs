@@ -511,3 +511,29 @@ fn an_output_variable_the_run_does_not_write_is_named_with_its_line() {
     assert_config_error(&o, &["output.variables", "\"x\""]);
     assert!(!stderr(&o).contains("line 5"), "{}", stderr(&o));
 }
+
+#[test]
+fn extreme_numbers_are_shown_in_exponent_form() {
+    // A value far outside a key's range is shown as the user could have
+    // written it (1e300), not as its three hundred decimal digits; a step
+    // that gives more steps than a 64-bit count holds reports the real
+    // count, duration / step = 3600 s / 1e-300 s = 3.6e303 (arithmetic; the
+    // count was once cast to 18446744073709551615).
+    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/demo.toml");
+    let o = bin()
+        .args(["check", demo, "--set", "grid.top=1e300"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["grid.top", "= 1e300 [m]", "[500, 80000]"]);
+    assert!(!stderr(&o).contains("0000000000"), "{}", stderr(&o));
+    let o = bin()
+        .args(["check", demo, "--set", "time.step=1e-300"])
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["time.step", "= 1e-300 [s]", "gives 3.6e303 steps"]);
+    assert!(
+        !stderr(&o).contains("18446744073709551615"),
+        "{}",
+        stderr(&o)
+    );
+}

@@ -503,7 +503,7 @@ fn cmd_run(
     }
     if let (hits @ 1.., Some(first)) = summary.flash_bound_hits {
         eprintln!(
-            "stormcharge: warning: the limit of {} flashes per step was reached with the trigger still met in {hits} steps (first at t = {first} s); shorten time.step or revisit the thresholds",
+            "stormcharge: warning: the limit of {} flashes per step was reached with the trigger still met in {hits} steps (first at t = {first:.2} s); shorten time.step or revisit the thresholds",
             exp.discharge_params.max_per_step
         );
     }

@@ -72,11 +72,17 @@ with_avx2! {
 pub const MAX_SUBSTEPS: usize = 10_000;
 
 fn too_many(state: &State, what: &str, n: usize) -> RunError {
+    // A speed that is not finite gives a count cast to usize::MAX.
+    let count = if n == usize::MAX {
+        "an unbounded number of".to_string()
+    } else {
+        n.to_string()
+    };
     RunError::Stopped {
         time: state.time,
         process: "transport",
         message: format!(
-            "{what} would need {n} sub-steps in one step; at most {MAX_SUBSTEPS} are allowed (shorten time.step or check the speeds)"
+            "{what} would need {count} sub-steps in one step; at most {MAX_SUBSTEPS} are allowed (shorten time.step or check the speeds)"
         ),
     }
 }

@@ -109,13 +109,8 @@ fn whole_ratio(a: f64, b: f64) -> Option<u64> {
 
 fn issue_for(path: &str, value: f64, message: String) -> ConfigIssue {
     let spec = schema::find(path);
-    let shown = if value == 0.0 || (1e-4..1e9).contains(&value.abs()) {
-        format!("{value}")
-    } else {
-        format!("{value:e}")
-    };
     ConfigIssue::new(path, message)
-        .value(shown)
+        .value(crate::error::shown_number(value))
         .unit(spec.map_or("", |s| s.unit))
 }
 
@@ -144,6 +139,20 @@ impl Experiment {
 
         // Time.
         let t = &config.time;
+        // Checked on the ratio itself: a count past u64 would be cast to
+        // u64::MAX and reported as that.
+        let ratio = t.duration / t.step;
+        if ratio > MAX_STEPS as f64 + 0.5 {
+            return Err(err(issue_for(
+                "time.step",
+                t.step,
+                format!(
+                    "gives {} steps for time.duration = {} s; at most {MAX_STEPS} are allowed (lengthen the step or shorten the run)",
+                    crate::error::shown_number(ratio.round()),
+                    t.duration
+                ),
+            )));
+        }
         let steps = whole_ratio(t.duration, t.step).ok_or_else(|| {
             err(issue_for(
                 "time.duration",
@@ -151,16 +160,6 @@ impl Experiment {
                 format!("must be a whole number of time.step ({} s)", t.step),
             ))
         })?;
-        if steps > MAX_STEPS {
-            return Err(err(issue_for(
-                "time.step",
-                t.step,
-                format!(
-                    "gives {steps} steps for time.duration = {} s; at most {MAX_STEPS} are allowed (lengthen the step or shorten the run)",
-                    t.duration
-                ),
-            )));
-        }
         if t.output_interval > t.duration {
             return Err(err(issue_for(
                 "time.output_interval",

@@ -134,9 +134,10 @@ fn integrate_cell(
     let rhs = |y: &[f64; 8], dy: &mut [f64; 8], w: &mut [f64; rates::N_TRANSFERS]| {
         evaluate(y, &env, p, dy, w)
     };
-    let fail = |e: &dyn std::fmt::Debug| {
+    let fail = |why: String| {
         format!(
-            "microphysics integration failed ({e:?}) at p = {:.0} Pa, T = {:.2} K",
+            "microphysics integration failed ({why}) at p = {:.0} Pa, T = {:.2} K; \
+             microphysics.relative_tolerance and absolute_tolerance set how small its steps get",
             env.p, y0[7]
         )
     };
@@ -176,7 +177,7 @@ fn integrate_cell(
                 1000,
                 OutputType::Sparse,
             );
-            solver.integrate().map_err(|e| fail(&e))?;
+            solver.integrate().map_err(|e| fail(format!("{e:?}")))?;
             let end = solver.y_out().last().copied().unwrap_or(start);
             let mut y = [0.0; 8];
             y.copy_from_slice(&end.as_slice()[..8]);
@@ -184,7 +185,17 @@ fn integrate_cell(
             return Ok(y);
         }
     };
-    let o = outcome.map_err(|e| fail(&e))?;
+    let o = outcome.map_err(|e| {
+        fail(match e {
+            integrator::Failure::StepUnderflow { at } => {
+                format!("its step fell below 1e-10 of the model step, {at:.3} s into it")
+            }
+            integrator::Failure::TooManySteps { at } => format!(
+                "it needed more than {} steps, {at:.3} s into the model step",
+                integrator::MAX_STEPS
+            ),
+        })
+    })?;
     report.transfers = o.integrals;
     Ok(o.y)
 }

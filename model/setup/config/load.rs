@@ -374,7 +374,14 @@ fn default_value(text: &str) -> Value {
 
 /// Type- and range-checks one value, turning integers into floats for float keys.
 fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
-    let shown = value.to_string();
+    // Floats in exponent form outside 1e-4..1e9 (TOML's own display writes
+    // 1e300 out in full).
+    let shown = match &*value {
+        Value::Float(x) if *x != 0.0 && x.is_finite() && !(1e-4..1e9).contains(&x.abs()) => {
+            format!("{x:e}")
+        }
+        other => other.to_string(),
+    };
     let err = |msg: String| {
         ConfigIssue::new(spec.path, msg)
             .value(shown.clone())
