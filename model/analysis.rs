@@ -561,7 +561,7 @@ impl Report {
             fl.rate_per_minute[2]
         ));
         if let Some(t) = fl.first_flash_time {
-            s.push_str(&format!("first flash at {t} s\n"));
+            s.push_str(&format!("first flash at {t:.2} s\n"));
         }
         if let Some((class, share, records)) = &self.structure_while_flashing {
             s.push_str(&format!(
@@ -608,7 +608,7 @@ impl Report {
             const SHOWN: usize = 20;
             for f in fl.initiation.iter().take(SHOWN) {
                 s.push_str(&format!(
-                    "  flash at {} s: {:.2} x runaway threshold; held: {}\n",
+                    "  flash at {:.2} s: {:.2} x runaway threshold; held: {}\n",
                     f.time,
                     f.over_runaway,
                     f.criteria_met.join(", ")
