@@ -918,7 +918,15 @@ impl Report {
                 ),
             };
             out.push_str(&format!("\n== refinement of the {what}\n"));
-            out.push_str(&format!("{:<42} {:<8}", "outcome", "unit"));
+            // The name column as wide as the longest name, so the numbers
+            // stay in their columns.
+            let w = s
+                .outcomes
+                .iter()
+                .map(|r| r.name.chars().count())
+                .chain(s.profiles.iter().map(|p| p.name.chars().count()))
+                .fold(42, usize::max);
+            out.push_str(&format!("{:<w$} {:<8}", "outcome", "unit"));
             for l in &levels {
                 out.push_str(&format!(" {l:>12}"));
             }
@@ -927,7 +935,7 @@ impl Report {
                 "order", "extrapolate", "error"
             ));
             for r in &s.outcomes {
-                out.push_str(&format!("{:<42} {:<8}", r.name, r.unit));
+                out.push_str(&format!("{:<w$} {:<8}", r.name, r.unit));
                 for v in &r.values {
                     out.push_str(&format!(" {:>12}", num(*v)));
                 }
@@ -945,7 +953,7 @@ impl Report {
             }
             out.push_str("profiles: relative L1 difference to the next finer level\n");
             for p in &s.profiles {
-                out.push_str(&format!("{:<42} {:<8}", p.name, "1"));
+                out.push_str(&format!("{:<w$} {:<8}", p.name, "1"));
                 for d in &p.differences {
                     out.push_str(&format!(" {:>12}", num(*d)));
                 }

@@ -547,6 +547,20 @@ fn converge_command_writes_its_tables() {
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("refinement of the time step"));
     assert!(text.contains("refinement of the grid spacing"));
+    // Every row's unit starts in the header's unit column, so the numbers
+    // stand under their levels (common practice for text tables; the
+    // longest names once pushed their rows right).
+    for table in text.split("== refinement").skip(1) {
+        let mut lines = table.lines().skip(1);
+        let unit_at = lines.next().unwrap().find(" unit ").unwrap() + 1;
+        for line in lines.filter(|l| !l.starts_with("profiles:") && !l.is_empty()) {
+            let b = line.as_bytes();
+            assert!(
+                b[unit_at - 1] == b' ' && b[unit_at] != b' ',
+                "misaligned: {line:?}"
+            );
+        }
+    }
     let v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
     assert_eq!(v["series"].as_array().unwrap().len(), 2);
