@@ -357,7 +357,7 @@ pub fn analyze_file(
     let n = z.len();
     let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
     let stored = out
-        .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
+        .text(crate::output::reader::CONFIG_ATTRIBUTE)
         .and_then(|s| match crate::setup::config::parse(&s, "stored") {
             Ok(c) => Some(c),
             Err(e) => {

@@ -504,10 +504,9 @@ pub fn reusable(
     let exp = Experiment::from_config_text(base_text, "resume", &overrides, base_dir).ok()?;
     let resolved = exp.config.to_toml();
     if files == MemberFiles::NetCdf {
-        let (stored, status) = crate::output::netcdf_writer::read_stored_configuration(
-            &member_path(dir, member.index),
-        )
-        .ok()?;
+        let (stored, status) =
+            crate::output::reader::read_stored_configuration(&member_path(dir, member.index))
+                .ok()?;
         if status != "complete" || resolved != stored {
             return None;
         }

@@ -171,7 +171,7 @@ fn analyze_warns_when_the_stored_configuration_cannot_be_read() {
     {
         let mut f = netcdf::append(&out).unwrap();
         f.add_attribute(
-            stormcharge::output::netcdf_writer::CONFIG_ATTRIBUTE,
+            stormcharge::output::reader::CONFIG_ATTRIBUTE,
             "[column]\nradius = -5.0\n",
         )
         .unwrap();

@@ -9,6 +9,8 @@
 //!    enum (`Enum::NAMES`), so `SCHEMES`/`CRITERIA`-style constants must not
 //!    come back.
 //! 3. No source or page points outside the repository.
+//! 4. No two files of model/ import each other (a circle of `crate::`
+//!    paths), a parent module and its declared children apart.
 
 use std::path::{Path, PathBuf};
 
@@ -151,4 +153,80 @@ fn collect_all(dir: &Path, out: &mut Vec<PathBuf>) {
             out.push(p);
         }
     }
+}
+
+/// The file that defines the module path `parts` (model/a/b.rs or
+/// model/a/b/mod.rs), trying the longest prefix first.
+fn file_of(parts: &[&str]) -> Option<PathBuf> {
+    for k in (1..=parts.len()).rev() {
+        let base = root().join("model").join(parts[..k].join("/"));
+        for candidate in [base.with_extension("rs"), base.join("mod.rs")] {
+            if candidate.is_file() {
+                return Some(candidate);
+            }
+        }
+    }
+    None
+}
+
+#[test]
+fn no_two_files_import_each_other() {
+    // 4. The files of model/ form no circle of `crate::` imports (a module
+    // that needs another's names and lends it its own belongs with it, or
+    // the shared names belong below both; DEVELOPERS.md). A parent module
+    // and the children it declares are not counted against each other.
+    let mut files = Vec::new();
+    rust_files(&root().join("model"), &mut files);
+    let mut edges: Vec<(PathBuf, PathBuf)> = Vec::new();
+    for f in &files {
+        for (_, line) in code_lines(f) {
+            let mut rest = line.as_str();
+            while let Some(i) = rest.find("crate::") {
+                rest = &rest[i + "crate::".len()..];
+                let path: Vec<&str> = rest
+                    .split(|c: char| !(c.is_alphanumeric() || c == '_' || c == ':'))
+                    .next()
+                    .unwrap_or("")
+                    .split("::")
+                    .filter(|p| !p.is_empty())
+                    .collect();
+                if let Some(target) = file_of(&path) {
+                    let parent_child = target.ends_with("mod.rs")
+                        && f.starts_with(target.parent().unwrap())
+                        || f.ends_with("mod.rs") && target.starts_with(f.parent().unwrap());
+                    if &target != f && !parent_child {
+                        edges.push((f.clone(), target));
+                    }
+                }
+            }
+        }
+    }
+    edges.sort();
+    edges.dedup();
+    // A circle exists if some file reaches itself; depth-first from each.
+    let mut circles = Vec::new();
+    for start in &files {
+        let mut stack = vec![(start.clone(), vec![start.clone()])];
+        let mut seen = std::collections::BTreeSet::new();
+        while let Some((node, trail)) = stack.pop() {
+            for (_, next) in edges.iter().filter(|(a, _)| *a == node) {
+                if next == start {
+                    let names: Vec<String> = trail
+                        .iter()
+                        .map(|p| p.strip_prefix(root()).unwrap().display().to_string())
+                        .collect();
+                    circles.push(names.join(" -> "));
+                } else if seen.insert(next.clone()) {
+                    let mut t = trail.clone();
+                    t.push(next.clone());
+                    stack.push((next.clone(), t));
+                }
+            }
+        }
+    }
+    assert!(
+        circles.is_empty(),
+        "files that import each other:\n{}",
+        circles.join("\n")
+    );
 }

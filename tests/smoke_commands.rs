@@ -8,8 +8,8 @@ use stormcharge::physics::breakdown::Criterion;
 use stormcharge::physics::charging::saunders_peck_1998 as sp98;
 
 use std::path::Path;
-use stormcharge::output::netcdf_writer::{partial_path, CONFIG_ATTRIBUTE};
-use stormcharge::output::reader::STATUS_ATTRIBUTE;
+use stormcharge::output::netcdf_writer::partial_path;
+use stormcharge::output::reader::{CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE};
 use stormcharge::setup::config::{self, template, DEMO_TOML};
 use stormcharge::setup::experiment::Experiment;
 

@@ -8,7 +8,8 @@ mod common;
 use common::*;
 
 use std::path::Path;
-use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter, CONFIG_ATTRIBUTE};
+use stormcharge::output::netcdf_writer::{partial_path, NetcdfWriter};
+use stormcharge::output::reader::CONFIG_ATTRIBUTE;
 use stormcharge::output::Observer;
 use stormcharge::setup::config::DEMO_TOML;
 use stormcharge::setup::experiment::Experiment;

@@ -611,7 +611,7 @@ fn a_sweep_takes_set_overrides_and_a_base_include() {
     );
     let member = netcdf::open(out.join("member_0001.nc")).unwrap();
     let stored = match member
-        .attribute(stormcharge::output::netcdf_writer::CONFIG_ATTRIBUTE)
+        .attribute(stormcharge::output::reader::CONFIG_ATTRIBUTE)
         .unwrap()
         .value()
         .unwrap()

@@ -2,7 +2,8 @@
 //! 0 success, 2 configuration or usage error, 1 runtime failure.
 
 use crate::error::{ConfigError, ConfigIssue, RunError};
-use crate::output::netcdf_writer::{read_stored_configuration, NetcdfWriter};
+use crate::output::netcdf_writer::NetcdfWriter;
+use crate::output::reader::read_stored_configuration;
 use crate::output::Observer;
 use crate::setup::config::{template, ConfigText, DEMO_TOML};
 use crate::setup::experiment::Experiment;

@@ -26,14 +26,11 @@ use super::{
 };
 use crate::column::state::State;
 use crate::error::{ConfigError, RunError};
-use crate::output::reader::STATUS_ATTRIBUTE;
+use crate::output::reader::{CONFIG_ATTRIBUTE, STATUS_ATTRIBUTE};
 use crate::output::summary::RunSummary;
 use crate::physics::discharge::record::FlashRecord;
 use crate::setup::experiment::Experiment;
 use std::path::{Path, PathBuf};
-
-/// Global attribute holding the resolved configuration (TOML text).
-pub const CONFIG_ATTRIBUTE: &str = "run_configuration";
 
 /// The NetCDF observer.
 pub struct NetcdfWriter {
@@ -762,24 +759,6 @@ fn utc_now() -> String {
         (rem % 3600) / 60,
         rem % 60
     )
-}
-
-/// Reads the resolved configuration and run status stored in an output file.
-pub fn read_stored_configuration(path: &Path) -> Result<(String, String), RunError> {
-    let e = |m: String| RunError::Output {
-        context: format!("reading {}", path.display()),
-        message: m,
-    };
-    let f = crate::output::reader::OutputFile::open(path)?.file;
-    let text = |name: &str| -> Result<String, RunError> {
-        match f.attribute(name).map(|a| a.value()) {
-            Some(Ok(netcdf::AttributeValue::Str(s))) => Ok(s),
-            Some(Ok(_)) => Err(e(format!("attribute {name} is not text"))),
-            Some(Err(x)) => Err(e(x.to_string())),
-            None => Err(e(format!("no attribute {name}: not a stormcharge output"))),
-        }
-    };
-    Ok((text(CONFIG_ATTRIBUTE)?, text(STATUS_ATTRIBUTE)?))
 }
 
 /// Bytes of HDF5 chunk cache each variable of a file opened after

@@ -6,6 +6,9 @@ use std::path::{Path, PathBuf};
 /// Global attribute marking whether the run finished.
 pub const STATUS_ATTRIBUTE: &str = "run_status";
 
+/// Global attribute holding the resolved configuration (TOML text).
+pub const CONFIG_ATTRIBUTE: &str = "run_configuration";
+
 /// An opened output file with errors that name it.
 pub struct OutputFile {
     path: PathBuf,
@@ -60,7 +63,7 @@ impl OutputFile {
     /// otherwise the file is not a stormcharge output.
     fn missing(&self, name: &str) -> String {
         let chosen = self
-            .text(crate::output::netcdf_writer::CONFIG_ATTRIBUTE)
+            .text(CONFIG_ATTRIBUTE)
             .and_then(|t| crate::setup::config::parse(&t, "stored").ok())
             .and_then(|c| c.output.variables);
         match chosen {
@@ -138,4 +141,22 @@ impl OutputFile {
             _ => None,
         }
     }
+}
+
+/// Reads the resolved configuration and run status stored in an output file.
+pub fn read_stored_configuration(path: &Path) -> Result<(String, String), RunError> {
+    let e = |m: String| RunError::Output {
+        context: format!("reading {}", path.display()),
+        message: m,
+    };
+    let f = OutputFile::open(path)?.file;
+    let text = |name: &str| -> Result<String, RunError> {
+        match f.attribute(name).map(|a| a.value()) {
+            Some(Ok(netcdf::AttributeValue::Str(s))) => Ok(s),
+            Some(Ok(_)) => Err(e(format!("attribute {name} is not text"))),
+            Some(Err(x)) => Err(e(x.to_string())),
+            None => Err(e(format!("no attribute {name}: not a stormcharge output"))),
+        }
+    };
+    Ok((text(CONFIG_ATTRIBUTE)?, text(STATUS_ATTRIBUTE)?))
 }
