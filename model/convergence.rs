@@ -716,6 +716,31 @@ pub fn study(
                 .allowed("3 or more"),
         )));
     }
+    let (time, space) = run_levels(text, origin, base_dir, overrides, levels, threads, which)?;
+    let series = [(Refinement::Time, time), (Refinement::Space, space)]
+        .into_iter()
+        .filter(|(r, _)| which.contains(r))
+        .map(|(refinement, runs)| series_of(refinement, &runs))
+        .collect();
+    Ok(Report {
+        origin: origin.into(),
+        levels,
+        series,
+    })
+}
+
+/// Runs every level of the refinements in `which` on `threads` workers,
+/// the longest first: the time series' runs and the space series' runs,
+/// each starting with the configured level (run once and shared).
+fn run_levels(
+    text: &ConfigText,
+    origin: &str,
+    base_dir: &Path,
+    overrides: &[String],
+    levels: usize,
+    threads: usize,
+    which: &[Refinement],
+) -> Result<(Vec<LevelRun>, Vec<LevelRun>), RunError> {
     let base = Experiment::from_config_text(text, origin, overrides, base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
@@ -762,127 +787,122 @@ pub fn study(
     if refinements.len() == 2 {
         space.insert(0, time[0].clone());
     }
-    let series = [(Refinement::Time, time), (Refinement::Space, space)]
-        .into_iter()
-        .filter(|(r, _)| refinements.contains(r))
-        .map(|(refinement, runs)| {
-            let outcomes = runs[0]
-                .outcomes
-                .iter()
-                .enumerate()
-                .map(|(i, (name, unit, _))| {
-                    let values: Vec<f64> = runs.iter().map(|r| r.outcomes[i].2).collect();
-                    let (order, extrapolated, error_of_configured) = richardson(&values);
-                    Row {
-                        name: name.clone(),
-                        unit: unit.to_string(),
-                        values,
-                        order,
-                        extrapolated,
-                        error_of_configured,
-                    }
-                })
-                .collect();
-            let all = usize::MAX;
-            let mut profiles = vec![
-                profile_row("charge density", &runs, refinement, Profile::Charge, all),
-                profile_row("vertical field", &runs, refinement, Profile::Field, all),
-            ];
-            // With flashes the records compare storms whose flashes fall a
-            // few seconds apart; up to the first flash they compare the
-            // same storm (docs/numerics.md).
-            if runs.iter().any(|r| r.outcome(PRE_FLASH_RECORD).is_finite()) {
-                let m = runs.iter().map(|r| r.pre_flash_records).min().unwrap_or(0);
-                if m > 0 {
-                    profiles.push(profile_row(
-                        "charge density, pre-flash",
-                        &runs,
-                        refinement,
-                        Profile::Charge,
-                        m,
-                    ));
-                    profiles.push(profile_row(
-                        "vertical field, pre-flash",
-                        &runs,
-                        refinement,
-                        Profile::Field,
-                        m,
-                    ));
-                }
-            }
-            // Flash by flash: the state just before the k-th flash at every
-            // level, over the flashes every level has. Records fall between
-            // two levels' flash times, where the profiles differ by a whole
-            // flash; the states before the same flash do not
-            // (docs/numerics.md).
-            let flashes = runs.iter().map(|r| r.before_flash.len()).min().unwrap_or(0);
-            if flashes > 0 {
-                for (name, field) in BEFORE_EACH_FLASH.iter().zip([false, true]) {
-                    profiles.push(profile_row(
-                        name,
-                        &runs,
-                        refinement,
-                        Profile::BeforeFlash(field),
-                        flashes,
-                    ));
-                }
-            }
-            // The hydrometeors behind the charge: which of them converges
-            // slowly tells where a time or space error comes from
-            // (docs/numerics.md).
-            if runs.iter().all(|r| !r.contents.is_empty()) {
-                for (i, (_, name)) in CONTENTS.iter().enumerate() {
-                    profiles.push(profile_row(
-                        name,
-                        &runs,
-                        refinement,
-                        Profile::Content(i),
-                        all,
-                    ));
-                }
-                profiles.push(profile_row(
-                    CRYSTALS,
-                    &runs,
-                    refinement,
-                    Profile::Content(CONTENTS.len()),
-                    all,
-                ));
-            }
-            // The charge of each carrier that holds any: the total is their
-            // sum, and their errors can partly cancel in it, so its order
-            // can differ from every one of theirs (docs/numerics.md).
-            // With a single carrier its row would repeat the total's.
-            let holding: Vec<usize> = (0..Carrier::COUNT)
-                .filter(|&i| {
-                    runs.iter()
-                        .all(|r| r.carriers.iter().any(|x| x[i].iter().any(|&v| v != 0.0)))
-                })
-                .collect();
-            if holding.len() > 1 {
-                for i in holding {
-                    profiles.push(profile_row(
-                        &format!("charge density, {}", Carrier::ALL[i].name()),
-                        &runs,
-                        refinement,
-                        Profile::Carrier(i),
-                        all,
-                    ));
-                }
-            }
-            Series {
-                refinement,
-                steps: runs.iter().map(|r| r.dt).collect(),
-                spacings: runs.iter().map(|r| r.dz).collect(),
-                outcomes,
-                profiles,
+    Ok((time, space))
+}
+
+/// The rows of one refinement's series: each outcome with its order,
+/// extrapolate and error, and the profiles' differences.
+fn series_of(refinement: Refinement, runs: &[LevelRun]) -> Series {
+    let outcomes = runs[0]
+        .outcomes
+        .iter()
+        .enumerate()
+        .map(|(i, (name, unit, _))| {
+            let values: Vec<f64> = runs.iter().map(|r| r.outcomes[i].2).collect();
+            let (order, extrapolated, error_of_configured) = richardson(&values);
+            Row {
+                name: name.clone(),
+                unit: unit.to_string(),
+                values,
+                order,
+                extrapolated,
+                error_of_configured,
             }
         })
         .collect();
-    Ok(Report {
-        origin: origin.into(),
-        levels,
-        series,
-    })
+    let all = usize::MAX;
+    let mut profiles = vec![
+        profile_row("charge density", runs, refinement, Profile::Charge, all),
+        profile_row("vertical field", runs, refinement, Profile::Field, all),
+    ];
+    // With flashes the records compare storms whose flashes fall a
+    // few seconds apart; up to the first flash they compare the
+    // same storm (docs/numerics.md).
+    if runs.iter().any(|r| r.outcome(PRE_FLASH_RECORD).is_finite()) {
+        let m = runs.iter().map(|r| r.pre_flash_records).min().unwrap_or(0);
+        if m > 0 {
+            profiles.push(profile_row(
+                "charge density, pre-flash",
+                runs,
+                refinement,
+                Profile::Charge,
+                m,
+            ));
+            profiles.push(profile_row(
+                "vertical field, pre-flash",
+                runs,
+                refinement,
+                Profile::Field,
+                m,
+            ));
+        }
+    }
+    // Flash by flash: the state just before the k-th flash at every
+    // level, over the flashes every level has. Records fall between
+    // two levels' flash times, where the profiles differ by a whole
+    // flash; the states before the same flash do not
+    // (docs/numerics.md).
+    let flashes = runs.iter().map(|r| r.before_flash.len()).min().unwrap_or(0);
+    if flashes > 0 {
+        for (name, field) in BEFORE_EACH_FLASH.iter().zip([false, true]) {
+            profiles.push(profile_row(
+                name,
+                runs,
+                refinement,
+                Profile::BeforeFlash(field),
+                flashes,
+            ));
+        }
+    }
+    // The hydrometeors behind the charge: which of them converges
+    // slowly tells where a time or space error comes from
+    // (docs/numerics.md).
+    if runs.iter().all(|r| !r.contents.is_empty()) {
+        for (i, (_, name)) in CONTENTS.iter().enumerate() {
+            profiles.push(profile_row(
+                name,
+                runs,
+                refinement,
+                Profile::Content(i),
+                all,
+            ));
+        }
+        profiles.push(profile_row(
+            CRYSTALS,
+            runs,
+            refinement,
+            Profile::Content(CONTENTS.len()),
+            all,
+        ));
+    }
+    // The charge of each carrier that holds any: the total is their
+    // sum, and their errors can partly cancel in it, so its order
+    // can differ from every one of theirs (docs/numerics.md).
+    // With a single carrier its row would repeat the total's.
+    let holding: Vec<usize> = (0..Carrier::COUNT)
+        .filter(|&i| {
+            runs.iter()
+                .all(|r| r.carriers.iter().any(|x| x[i].iter().any(|&v| v != 0.0)))
+        })
+        .collect();
+    if holding.len() > 1 {
+        for i in holding {
+            profiles.push(profile_row(
+                &format!("charge density, {}", Carrier::ALL[i].name()),
+                runs,
+                refinement,
+                Profile::Carrier(i),
+                all,
+            ));
+        }
+    }
+    Series {
+        refinement,
+        steps: runs.iter().map(|r| r.dt).collect(),
+        spacings: runs.iter().map(|r| r.dz).collect(),
+        outcomes,
+        profiles,
+    }
 }
 
 fn num(x: f64) -> String {
