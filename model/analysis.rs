@@ -356,24 +356,7 @@ pub fn analyze_file(
     let temp = get("air_temperature")?;
     let n = z.len();
     let dz = if n > 1 { z[1] - z[0] } else { 1.0 };
-    let stored = out
-        .text(crate::output::reader::CONFIG_ATTRIBUTE)
-        .and_then(|s| match crate::setup::config::parse(&s, "stored") {
-            Ok(c) => Some(c),
-            Err(e) => {
-                // A file written by another version may hold keys this one
-                // rejects: say so rather than drop the column charges silently.
-                eprintln!(
-                    "stormcharge: warning: the run configuration stored in {} could not be read ({e}); region charges are given per area only",
-                    path.display()
-                );
-                None
-            }
-        });
-    let area = stored.and_then(|c| {
-        (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
-            .then(|| std::f64::consts::PI * c.column.radius.powi(2))
-    });
+    let area = column_area(&out, path);
     let record = |r: usize| &rho[r * n..(r + 1) * n];
     let chosen: Vec<usize> = if times.is_empty() {
         let best = (0..time.len())
@@ -424,9 +407,63 @@ pub fn analyze_file(
             }
         })
         .collect();
+    let duration = time.last().copied().unwrap_or(0.0);
+    let flashes = flash_report(&out, duration, area)?;
+    // The structure while the storm flashes, as the sweep summary gives it
+    // (flashes are written in the order they happen).
+    let span = flashes
+        .first_flash_time
+        .zip(flashes.initiation.last().map(|f| f.time));
+    let classes: Vec<(f64, Structure)> = (0..time.len())
+        .map(|r| (time[r], classify(&all_regions[r])))
+        .collect();
+    let structure_while_flashing = majority_class(&classes, span)
+        .map(|(c, share, records)| (c.name().to_string(), share, records));
+    Ok(Report {
+        file: path.display().to_string(),
+        structure_while_flashing,
+        records,
+        flashes,
+    })
+}
+
+/// The column's cross-section (m2) from the configuration stored in the
+/// file, for charges in coulombs; None for planar runs or a stored
+/// configuration this version cannot read (said in a warning).
+fn column_area(out: &crate::output::reader::OutputFile, path: &std::path::Path) -> Option<f64> {
+    let stored = out
+        .text(crate::output::reader::CONFIG_ATTRIBUTE)
+        .and_then(|s| match crate::setup::config::parse(&s, "stored") {
+            Ok(c) => Some(c),
+            Err(e) => {
+                // A file written by another version may hold keys this one
+                // rejects: say so rather than drop the column charges silently.
+                eprintln!(
+                    "stormcharge: warning: the run configuration stored in {} could not be read ({e}); region charges are given per area only",
+                    path.display()
+                );
+                None
+            }
+        });
+    stored.and_then(|c| {
+        (c.electrostatics.geometry == crate::setup::config::Geometry::Column)
+            .then(|| std::f64::consts::PI * c.column.radius.powi(2))
+    })
+}
+
+/// The flash statistics of a file: counts and rates by kind over its
+/// `duration` (s), charge and energy per flash (in coulombs and joules
+/// where the column's `area` is known), each flash's initiation, its
+/// channel's ends and potential, and the temperatures of the charge it
+/// neutralised.
+fn flash_report(
+    out: &crate::output::reader::OutputFile,
+    duration: f64,
+    area: Option<f64>,
+) -> Result<FlashReport, crate::error::RunError> {
     let kinds: Vec<i32> = out.optional("flash_kind")?;
     let flash_f64 = |name: &str| out.optional::<f64>(name);
-    let duration_min = time.last().copied().unwrap_or(0.0) / 60.0;
+    let duration_min = duration / 60.0;
     let count = |k: i32| kinds.iter().filter(|&&x| x == k).count();
     let counts = [count(1), count(2), count(3)];
     let rate = counts.map(|c| {
@@ -440,14 +477,6 @@ pub fn analyze_file(
     let energy = flash_f64("flash_energy")?;
     let times = flash_f64("flash_time")?;
     let first_flash_time = times.first().copied();
-    // The structure while the storm flashes, as the sweep summary gives it
-    // (flashes are written in the order they happen).
-    let span = times.first().copied().zip(times.last().copied());
-    let classes: Vec<(f64, Structure)> = (0..time.len())
-        .map(|r| (time[r], classify(&all_regions[r])))
-        .collect();
-    let structure_while_flashing = majority_class(&classes, span)
-        .map(|(c, share, records)| (c.name().to_string(), share, records));
     let over_runaway = flash_f64("flash_ratio_runaway_avalanche")?;
     let mut met: Vec<(String, Vec<f64>)> = Vec::new();
     for c in crate::physics::breakdown::Criterion::ALL {
@@ -501,26 +530,21 @@ pub fn analyze_file(
                 .collect(),
         })
         .collect();
-    Ok(Report {
-        file: path.display().to_string(),
-        structure_while_flashing,
-        records,
-        flashes: FlashReport {
-            count_intracloud: counts[0],
-            count_negative_ground: counts[1],
-            count_positive_ground: counts[2],
-            rate_per_minute: rate,
-            first_flash_time,
-            mean_charge_per_area: mean(&charge),
-            mean_energy_per_area: mean(&energy),
-            mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),
-            mean_energy: mean(&energy).zip(area).map(|(m, a)| m * a),
-            initiation,
-            negative_end_down,
-            channel_potential,
-            negative_charge_temperature,
-            positive_charge_temperature,
-        },
+    Ok(FlashReport {
+        count_intracloud: counts[0],
+        count_negative_ground: counts[1],
+        count_positive_ground: counts[2],
+        rate_per_minute: rate,
+        first_flash_time,
+        mean_charge_per_area: mean(&charge),
+        mean_energy_per_area: mean(&energy),
+        mean_charge: mean(&charge).zip(area).map(|(m, a)| m * a),
+        mean_energy: mean(&energy).zip(area).map(|(m, a)| m * a),
+        initiation,
+        negative_end_down,
+        channel_potential,
+        negative_charge_temperature,
+        positive_charge_temperature,
     })
 }
 
