@@ -960,7 +960,28 @@ pub fn shard_summary_name(shard: Option<(usize, usize)>) -> String {
 /// Joins the shard summaries in `dir` into `summary.csv`: every shard of the
 /// same N must be present; rows are ordered by member.
 pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
+    let shards = shard_summaries(dir)?;
+    let (header, rows) = shard_rows(dir, &shards)?;
+    let (keys, outcomes) = outcomes_of_rows(dir, &header, &rows);
+    let target = dir.join("summary.csv");
+    crate::output::write_atomically(&target, summary_csv(&keys, &outcomes).as_bytes())?;
+    write_summary_netcdf(&dir.join("summary.nc"), &keys, &outcomes)?;
+    Ok(target)
+}
+
+/// A usage error about the sharded sweep directory `dir`.
+fn bad_shards(dir: &Path, msg: String) -> RunError {
+    RunError::Config(ConfigError::single(
+        dir.display().to_string(),
+        ConfigIssue::new("DIR", msg),
+    ))
+}
+
+/// The shard summaries `summary_shard_K_of_N.csv` in `dir` as (K, N, path),
+/// checked to be shards 1 to N of one sweep, each once.
+fn shard_summaries(dir: &Path) -> Result<Vec<(usize, usize, PathBuf)>, RunError> {
     let io = |context: String| move |source| RunError::Io { context, source };
+    let bad = |msg: String| bad_shards(dir, msg);
     let mut shards: Vec<(usize, usize, PathBuf)> = Vec::new();
     for entry in std::fs::read_dir(dir).map_err(io(format!("reading {}", dir.display())))? {
         let path = entry.map_err(io("listing".into()))?.path();
@@ -980,12 +1001,6 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
             }
         }
     }
-    let bad = |msg: String| {
-        RunError::Config(ConfigError::single(
-            dir.display().to_string(),
-            ConfigIssue::new("DIR", msg),
-        ))
-    };
     let Some(&(_, n, _)) = shards.first() else {
         return Err(bad("no summary_shard_K_of_N.csv files found".into()));
     };
@@ -1003,10 +1018,23 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
             shards.len()
         )));
     }
+    Ok(shards)
+}
+
+/// The header and the member rows (index, line) of the shard summaries,
+/// in member order, checked against each shard's side file (the same
+/// sweep, no truncated or edited summary) and to cover members 1 to the
+/// sweep's count exactly once.
+fn shard_rows(
+    dir: &Path,
+    shards: &[(usize, usize, PathBuf)],
+) -> Result<(String, Vec<(usize, String)>), RunError> {
+    let io = |context: String| move |source| RunError::Io { context, source };
+    let bad = |msg: String| bad_shards(dir, msg);
     let mut header = None;
     let mut rows: Vec<(usize, String)> = Vec::new();
     let mut print: Option<(String, usize)> = None;
-    for (_, _, path) in &shards {
+    for (_, _, path) in shards {
         let text =
             std::fs::read_to_string(path).map_err(io(format!("reading {}", path.display())))?;
         let meta_path = path.with_extension("meta");
@@ -1073,18 +1101,28 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
             "the shards do not hold members 1 to {total} exactly once"
         )));
     }
+    Ok((header.unwrap_or_default(), rows))
+}
+
+/// The members' outcomes for the merged summary: each member's outcome
+/// file, or for a failed member (which has none) its row of the shard
+/// summary; with the sweep's keys, read from the header.
+fn outcomes_of_rows(
+    dir: &Path,
+    header: &str,
+    rows: &[(usize, String)],
+) -> (Vec<String>, Vec<Outcome>) {
     // The same files an unsharded sweep writes, from the same outcomes:
     // each member's outcome file, or for a failed member (which has none)
     // its row of the shard summary.
-    let header = header.unwrap_or_default();
-    let head = csv_fields(&header);
+    let head = csv_fields(header);
     let n_keys = head
         .iter()
         .position(|h| h == "status")
         .map_or(0, |p| p.saturating_sub(1));
     let keys: Vec<String> = head[1..1 + n_keys].to_vec();
     let mut outcomes = Vec::with_capacity(rows.len());
-    for (idx, line) in &rows {
+    for (idx, line) in rows {
         let stored = std::fs::read_to_string(outcome_path(dir, *idx))
             .ok()
             .and_then(|t| serde_json::from_str::<Outcome>(&t).ok());
@@ -1107,10 +1145,7 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
         };
         outcomes.push(o);
     }
-    let target = dir.join("summary.csv");
-    crate::output::write_atomically(&target, summary_csv(&keys, &outcomes).as_bytes())?;
-    write_summary_netcdf(&dir.join("summary.nc"), &keys, &outcomes)?;
-    Ok(target)
+    (keys, outcomes)
 }
 
 /// Writes the summary as NetCDF: dimension `member` with the member numbers
