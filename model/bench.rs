@@ -114,14 +114,60 @@ pub fn run(
     std::fs::create_dir_all(&scratch)
         .map_err(|e| crate::output::io_error("creating", &scratch, e))?;
     let _cleanup = RemoveOnDrop(scratch.clone());
-    let mut output_rates = Vec::with_capacity(repeats);
     let exp = Experiment::from_text(DEMO_TOML, "demo", overrides, Path::new("."))?;
+    let with_output = whole_runs_with_output(&exp, &scratch, repeats)?;
+    let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
+    let shares = phase.map(|d| d.as_secs_f64() / sum);
+    let threads = rayon::current_num_threads();
+    let (one, all, efficiency) = sweep_efficiency(
+        overrides,
+        member_duration,
+        members,
+        threads,
+        &scratch,
+        repeats,
+    )?;
+    let mut short = overrides.to_vec();
+    short.push(format!("time.duration={member_duration}"));
+    short.push(format!("time.output_interval={member_duration}"));
+    let (scaling, flatness) = scaling_over_sizes(&exp, &short, repeats, fixed_courant)?;
+    Ok(BenchReport {
+        with_output,
+        cells,
+        steps,
+        cell_steps_per_second: rates[rates.len() / 2],
+        slowest: rates[0],
+        fastest: rates[rates.len() - 1],
+        repeats: rates.len(),
+        shares,
+        threads,
+        sweep_one: one,
+        sweep_all: all,
+        efficiency,
+        scaling,
+        flatness,
+        fixed_courant,
+    })
+}
+
+/// A figure over repeated measurements: (median, lowest, highest).
+type Spread = (f64, f64, f64);
+
+/// Whole runs of `exp` with output, as `run` does them (NetCDF writer,
+/// records at the demo's interval), into `scratch`: cell-steps per second,
+/// (median, lowest, highest) of `repeats` runs.
+fn whole_runs_with_output(
+    exp: &Experiment,
+    scratch: &Path,
+    repeats: usize,
+) -> Result<Spread, RunError> {
+    let mut output_rates = Vec::with_capacity(repeats);
     for i in 0..repeats.max(1) {
         let target = scratch.join(format!("run_{i}.nc"));
         let start = Instant::now();
         let mut writer = NetcdfWriter::new(&target, "stormcharge bench");
         let mut obs: [&mut dyn Observer; 1] = [&mut writer];
-        let s = crate::timeloop::run(&exp, &mut obs, &mut |_| {})?;
+        let s = crate::timeloop::run(exp, &mut obs, &mut |_| {})?;
         output_rates.push(exp.grid.len() as f64 * s.steps as f64 / start.elapsed().as_secs_f64());
         let _ = std::fs::remove_file(&target);
     }
@@ -131,11 +177,21 @@ pub fn run(
         output_rates[0],
         output_rates[output_rates.len() - 1],
     );
-    let sum: f64 = phase.iter().map(|d| d.as_secs_f64()).sum();
-    let shares = phase.map(|d| d.as_secs_f64() / sum);
-    let mut short = overrides.to_vec();
-    short.push(format!("time.duration={member_duration}"));
-    short.push(format!("time.output_interval={member_duration}"));
+    Ok(with_output)
+}
+
+/// The real sweep's parallel efficiency: `members` demo members of
+/// `member_duration` s on one thread and on `threads`, `repeats`
+/// interleaved pairs; the medians of the one- and all-thread member rates
+/// and of the pairs' efficiencies.
+fn sweep_efficiency(
+    overrides: &[String],
+    member_duration: f64,
+    members: usize,
+    threads: usize,
+    scratch: &Path,
+    repeats: usize,
+) -> Result<(f64, f64, f64), RunError> {
     // The sweep's own member path (`sweep::run_member`: configuration,
     // run, NetCDF file and outcome file per member), into the scratch
     // directory, so the figure includes what output costs a real sweep.
@@ -183,7 +239,6 @@ pub fn run(
     // medians are reported, and the efficiency is the median of the pairs'
     // ratios (each pair ran close together in time, which cancels most of
     // the drift of a shared machine).
-    let threads = rayon::current_num_threads();
     let (mut ones, mut alls, mut ratios) = (Vec::new(), Vec::new(), Vec::new());
     for _ in 0..repeats.max(1) {
         let one = sweep(1)?;
@@ -196,7 +251,19 @@ pub fn run(
         v.sort_by(f64::total_cmp);
         v[v.len() / 2]
     };
-    let (one, all, efficiency) = (median(&mut ones), median(&mut alls), median(&mut ratios));
+    Ok((median(&mut ones), median(&mut alls), median(&mut ratios)))
+}
+
+/// Cost per cell-step over the column sizes of [`SCALING_SPACINGS`] (the
+/// short runs `short`, at the demo's Courant numbers with
+/// `fixed_courant`), in interleaved rounds; the rows and the largest
+/// size's rate over the smallest's (median, lowest, highest).
+fn scaling_over_sizes(
+    exp: &Experiment,
+    short: &[String],
+    repeats: usize,
+    fixed_courant: bool,
+) -> Result<(Vec<ScalingRow>, Spread), RunError> {
     // Cost per cell-step over column sizes (the field solve's share shows
     // how it scales).
     let solve = PHASES.iter().position(|p| *p == "poisson").unwrap_or(0);
@@ -206,7 +273,7 @@ pub fn run(
     for _ in 0..repeats.max(1) {
         let mut round = Vec::new();
         for dz in SCALING_SPACINGS {
-            let mut o = short.clone();
+            let mut o = short.to_vec();
             o.push(format!("grid.spacing={dz}"));
             if fixed_courant {
                 // The demo's Courant numbers at every spacing: its step
@@ -245,23 +312,7 @@ pub fn run(
         .collect();
     let last = SCALING_SPACINGS.len() - 1;
     let flatness = spread(rounds.iter().map(|r| r[last].1 / r[0].1).collect());
-    Ok(BenchReport {
-        with_output,
-        cells,
-        steps,
-        cell_steps_per_second: rates[rates.len() / 2],
-        slowest: rates[0],
-        fastest: rates[rates.len() - 1],
-        repeats: rates.len(),
-        shares,
-        threads,
-        sweep_one: one,
-        sweep_all: all,
-        efficiency,
-        scaling,
-        flatness,
-        fixed_courant,
-    })
+    Ok((scaling, flatness))
 }
 
 impl BenchReport {
