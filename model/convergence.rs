@@ -716,7 +716,15 @@ pub fn study(
                 .allowed("3 or more"),
         )));
     }
-    let (time, space) = run_levels(text, origin, base_dir, overrides, levels, threads, which)?;
+    let (time, space) = run_levels(&LevelRuns {
+        text,
+        origin,
+        base_dir,
+        overrides,
+        levels,
+        threads,
+        which,
+    })?;
     let series = [(Refinement::Time, time), (Refinement::Space, space)]
         .into_iter()
         .filter(|(r, _)| which.contains(r))
@@ -729,38 +737,41 @@ pub fn study(
     })
 }
 
+/// What [`run_levels`] runs: [`study`]'s arguments.
+struct LevelRuns<'a> {
+    text: &'a ConfigText,
+    origin: &'a str,
+    base_dir: &'a Path,
+    overrides: &'a [String],
+    levels: usize,
+    threads: usize,
+    which: &'a [Refinement],
+}
+
 /// Runs every level of the refinements in `which` on `threads` workers,
 /// the longest first: the time series' runs and the space series' runs,
 /// each starting with the configured level (run once and shared).
-fn run_levels(
-    text: &ConfigText,
-    origin: &str,
-    base_dir: &Path,
-    overrides: &[String],
-    levels: usize,
-    threads: usize,
-    which: &[Refinement],
-) -> Result<(Vec<LevelRun>, Vec<LevelRun>), RunError> {
-    let base = Experiment::from_config_text(text, origin, overrides, base_dir)?;
+fn run_levels(spec: &LevelRuns) -> Result<(Vec<LevelRun>, Vec<LevelRun>), RunError> {
+    let base = Experiment::from_config_text(spec.text, spec.origin, spec.overrides, spec.base_dir)?;
     let (dt, dz) = (base.schedule.dt, base.grid.dz);
     let mut jobs: Vec<(Refinement, usize, Vec<String>)> = Vec::new();
     let refinements: Vec<Refinement> = Refinement::BOTH
         .into_iter()
-        .filter(|r| which.contains(r))
+        .filter(|r| spec.which.contains(r))
         .collect();
     for &refinement in &refinements {
-        for level in 0..levels {
+        for level in 0..spec.levels {
             jobs.push((
                 refinement,
                 level,
-                level_overrides(overrides, dt, dz, refinement, level),
+                level_overrides(spec.overrides, dt, dz, refinement, level),
             ));
         }
     }
     // The configured level is the first of every series: run it once.
     let first = refinements.first().copied();
     jobs.retain(|(r, l, _)| *l > 0 || Some(*r) == first);
-    let pool = crate::workers::thread_pool(threads)?;
+    let pool = crate::workers::thread_pool(spec.threads)?;
     // Longest first: each halving of the step or the spacing about doubles
     // a level's cost, so the finest levels start first and the short ones
     // fill in around them (the longest-processing-time rule of list
@@ -768,7 +779,7 @@ fn run_levels(
     let mut order: Vec<usize> = (0..jobs.len()).collect();
     order.sort_by_key(|&i| std::cmp::Reverse(jobs[i].1));
     let ran = crate::workers::each_in_order(&pool, &order, |&i| {
-        run_level(text, origin, base_dir, &jobs[i].2)
+        run_level(spec.text, spec.origin, spec.base_dir, &jobs[i].2)
     });
     let mut slots: Vec<Option<Result<LevelRun, RunError>>> = jobs.iter().map(|_| None).collect();
     for (&i, r) in order.iter().zip(ran) {
