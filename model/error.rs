@@ -65,11 +65,17 @@ impl ConfigIssue {
 /// zero), in exponent form outside, so that `1e300` is not written out as
 /// three hundred digits nor `1e-300` as zeros.
 pub fn shown_number(x: f64) -> String {
-    if x == 0.0 || !x.is_finite() || (1e-4..1e9).contains(&x.abs()) {
-        format!("{x}")
-    } else {
+    if wants_exponent(x) {
         format!("{x:e}")
+    } else {
+        format!("{x}")
     }
+}
+
+/// Whether [`shown_number`] writes `x` in exponent form: finite, nonzero
+/// and outside 1e-4..1e9 in magnitude.
+pub fn wants_exponent(x: f64) -> bool {
+    x != 0.0 && x.is_finite() && !(1e-4..1e9).contains(&x.abs())
 }
 
 impl fmt::Display for ConfigIssue {

@@ -377,9 +377,7 @@ fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
     // Floats in exponent form outside 1e-4..1e9 (TOML's own display writes
     // 1e300 out in full).
     let shown = match &*value {
-        Value::Float(x) if *x != 0.0 && x.is_finite() && !(1e-4..1e9).contains(&x.abs()) => {
-            format!("{x:e}")
-        }
+        Value::Float(x) if crate::error::wants_exponent(*x) => crate::error::shown_number(*x),
         other => other.to_string(),
     };
     let err = |msg: String| {
