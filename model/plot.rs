@@ -880,22 +880,38 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
         "sweep {}: structure at peak separation and flashes",
         dir.display()
     );
+    // Every member's row keeps the height its 11-point label needs: a
+    // large ensemble makes a taller picture instead of labels drawn over
+    // each other.
+    let size = (
+        o.size.0,
+        o.size
+            .1
+            .max(SWEEP_FRAME_PX + SWEEP_ROW_PX * rows.len() as u32),
+    );
     let png = prefix.with_extension("png");
     draw_sweep(
-        BitMapBackend::new(&png, o.size).into_drawing_area(),
+        BitMapBackend::new(&png, size).into_drawing_area(),
         &title,
         &rows,
     )?;
     if o.svg {
         let svg = prefix.with_extension("svg");
         draw_sweep(
-            SVGBackend::new(&svg, o.size).into_drawing_area(),
+            SVGBackend::new(&svg, size).into_drawing_area(),
             &title,
             &rows,
         )?;
     }
     Ok(())
 }
+
+/// Height (px) of one member's row in a sweep picture, enough for its
+/// 11-point label.
+pub const SWEEP_ROW_PX: u32 = 14;
+
+/// Height (px) of a sweep picture's caption, axis and margins.
+const SWEEP_FRAME_PX: u32 = 90;
 
 /// One sweep member in a sweep picture: label, structure class, flash
 /// counts by kind.

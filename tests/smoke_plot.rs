@@ -105,3 +105,52 @@ fn plot_writes_png_and_svg() {
         .unwrap();
     assert_eq!(o.status.code(), Some(2));
 }
+
+#[test]
+fn a_large_sweep_picture_grows_with_its_members() {
+    // 200 members in a summary of the sweep's layout: the picture is tall
+    // enough for every member's label (14 px a row) instead of drawing
+    // them over each other at the default 1000 px (a readability rule,
+    // common practice). A sweep of 6 keeps the requested size.
+    let dir = scratch("large_sweep");
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut csv = String::from(
+        "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,flashes_positive_ground,structure_at_peak_separation\n",
+    );
+    for m in 1..=200 {
+        csv.push_str(&format!(
+            "{m},{},ok,{},0,0,normal_tripole\n",
+            9 + m % 6,
+            m % 40
+        ));
+    }
+    std::fs::write(dir.join("summary.csv"), csv).unwrap();
+    let prefix = scratch("large_sweep_picture");
+    succeed(bin().arg("plot").arg(&dir).arg("-o").arg(&prefix));
+    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    assert!(
+        png.height() >= 200 * stormcharge::plot::SWEEP_ROW_PX,
+        "{} px for 200 members",
+        png.height()
+    );
+    let small = scratch("small_sweep");
+    std::fs::create_dir_all(&small).unwrap();
+    let few: String = std::fs::read_to_string(dir.join("summary.csv"))
+        .unwrap()
+        .lines()
+        .take(7)
+        .map(|l| format!("{l}\n"))
+        .collect();
+    std::fs::write(small.join("summary.csv"), few).unwrap();
+    let prefix = scratch("small_sweep_picture");
+    succeed(
+        bin()
+            .arg("plot")
+            .arg(&small)
+            .arg("-o")
+            .arg(&prefix)
+            .args(["--width", "1200", "--height", "900"]),
+    );
+    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    assert_eq!((png.width(), png.height()), (1200, 900));
+}
