@@ -473,6 +473,50 @@ fn charging_map_command() {
         .output()
         .unwrap();
     assert_eq!(o.status.code(), Some(2));
+    // The table scheme maps the user's table: a table of SP98's q over
+    // temperature x rime accretion rate whose grid holds the map's point
+    // (-5 degC; 0.1 g m-3 at 3 m/s, RAR = 0.3 E) gives SP98's value there,
+    // the same size and speed factor applied (docs/charging.md).
+    let e03 = e * 0.3;
+    let table = dir.join("sp98_table.csv");
+    let mut rows = String::from("temperature_degC,rime_accretion_rate_g_m2_s,charge_fC\n");
+    for t in [-30.0, -5.0, 0.0] {
+        for rar in [e03 * 0.5, e03, e03 * 2.0] {
+            rows.push_str(&format!("{t},{rar},{}\n", sp98::charge_fc(t, rar)));
+        }
+    }
+    std::fs::write(&table, rows).unwrap();
+    let mapped = dir.join("table_map.csv");
+    succeed(
+        bin()
+            .args(["charging-map", "--scheme", "table", "--table"])
+            .arg(&table)
+            .arg("--csv")
+            .arg(&mapped),
+    );
+    let text = std::fs::read_to_string(&mapped).unwrap();
+    let row = text.lines().find(|l| l.starts_with("-5,0.1,")).unwrap();
+    let from_table: f64 = row.rsplit(',').next().unwrap().parse().unwrap();
+    assert!(
+        (from_table - q).abs() < 1e-9 * q.abs().max(1.0),
+        "{from_table} against {q}"
+    );
+    // Without its table, or a table with another scheme: usage errors
+    // naming --table (a map of zeros was printed before).
+    for args in [
+        vec!["charging-map", "--scheme", "table"],
+        vec![
+            "charging-map",
+            "--scheme",
+            "gardiner_1985",
+            "--table",
+            "x.csv",
+        ],
+    ] {
+        let o = bin().args(&args).output().unwrap();
+        assert_eq!(o.status.code(), Some(2), "{args:?}");
+        assert!(String::from_utf8_lossy(&o.stderr).contains("--table"));
+    }
 }
 
 #[test]

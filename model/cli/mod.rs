@@ -193,6 +193,10 @@ pub enum Command {
         /// Write the grid as CSV to this file.
         #[arg(long)]
         csv: Option<PathBuf>,
+        /// The table of `--scheme table`: a CSV as `charging.table_file`
+        /// takes (checked the same way).
+        #[arg(long)]
+        table: Option<PathBuf>,
     },
     /// Write a complete, commented configuration listing every key.
     Init {
@@ -300,12 +304,12 @@ pub fn main_with(cli: Cli, command_line: &str) -> i32 {
             graupel_diameter,
             reversal_temperature,
             csv,
+            table,
         } => cmd_charging_map(
             &scheme,
-            crystal_diameter,
-            impact_speed,
-            graupel_diameter,
+            (crystal_diameter, impact_speed, graupel_diameter),
             reversal_temperature,
+            table.as_deref(),
             csv.as_deref(),
         ),
         Command::Converge {
@@ -738,10 +742,9 @@ fn cmd_init(path: &Path, force: bool, demo: bool) -> Result<(), RunError> {
 
 fn cmd_charging_map(
     scheme: &str,
-    d: f64,
-    v: f64,
-    graupel_d: f64,
+    (d, v, graupel_d): (f64, f64, f64),
     reversal: f64,
+    table: Option<&Path>,
     csv: Option<&Path>,
 ) -> Result<(), RunError> {
     use crate::physics::charging::Scheme;
@@ -759,7 +762,7 @@ fn cmd_charging_map(
         _ => {
             let names: Vec<String> = Scheme::NAMES
                 .iter()
-                .filter(|n| **n != Scheme::Off.name() && **n != "table")
+                .filter(|n| **n != Scheme::Off.name())
                 .map(|n| format!("\"{n}\""))
                 .collect();
             return Err(usage(
@@ -800,13 +803,38 @@ fn cmd_charging_map(
             ));
         }
     }
+    // The table scheme's charge is the user's table: it needs the file, and
+    // only it takes one (a map of zeros was printed without it).
+    let is_table = matches!(scheme, Scheme::Table { .. });
+    if is_table != table.is_some() {
+        return Err(usage(
+            "--table",
+            table.map_or("(none)".into(), |p| p.display().to_string()),
+            if is_table {
+                "--scheme table needs --table FILE"
+            } else {
+                "only --scheme table takes a table"
+            },
+            "a CSV as charging.table_file takes, with --scheme table only",
+        ));
+    }
     // What the model applies: the default scale, cap and low-temperature
-    // taper of the key table, as a run without a [charging] section uses.
+    // taper of the key table, as a run without a [charging] section uses;
+    // a table read and checked as a configuration's table_file is.
     let mut defaults = crate::setup::config::parse("", "defaults")?;
+    if let Some(path) = table {
+        defaults.charging.scheme = Scheme::Table {
+            table_file: Some(path.display().to_string()),
+            table_columns: None,
+            table_rows: None,
+        };
+    }
     let mut params =
         crate::setup::resolve::charging(&mut defaults.charging, Path::new("."), &mut Vec::new())
-            .map_err(|issue| RunError::Config(ConfigError::single("defaults", issue)))?;
-    params.scheme = scheme;
+            .map_err(|issue| RunError::Config(ConfigError::single("command line", issue)))?;
+    if !is_table {
+        params.scheme = scheme;
+    }
     let lwcs = [0.05, 0.1, 0.2, 0.5, 1.0, 2.0, 3.0, 5.0, 8.0];
     // The droplets' collision efficiency as the model forms it, for the
     // given graupel in air of 0.6 kg m-3 (near the -15 degC level of a
@@ -821,8 +849,17 @@ fn cmd_charging_map(
     let temps: Vec<f64> = (0..=16).map(|i| 0.0 - 2.5 * i as f64).collect();
     // The laboratory ranges of the formulas (docs/charging.md): outside,
     // the formula is held at its edge values; such cells carry a '*'.
-    let outside = |t: f64, l: f64| match params.scheme {
-        Scheme::Gardiner1985 { .. } => !(-30.0..=0.0).contains(&t) || l > 5.0,
+    let outside = |t: f64, l: f64| match (&params.scheme, &params.table) {
+        (Scheme::Gardiner1985 { .. }, _) => !(-30.0..=0.0).contains(&t) || l > 5.0,
+        // A table's range is its own grid, held at its edges outside.
+        (Scheme::Table { .. }, Some(tab)) => {
+            let x = match tab.axis {
+                crate::physics::charging::table::Axis::LiquidWater => l,
+                crate::physics::charging::table::Axis::RimeAccretionRate => efficiency * l * v,
+            };
+            let within = |g: &[f64], a: f64| g[0] <= a && a <= g[g.len() - 1];
+            !within(&tab.t, t) || !within(&tab.x, x)
+        }
         _ => !(-30.0..=0.0).contains(&t) || efficiency * l * v > 10.0,
     };
     println!(
@@ -834,7 +871,11 @@ fn cmd_charging_map(
         d * 1e6,
         v
     );
-    if matches!(params.scheme, Scheme::SaundersPeck1998) {
+    let on_rar = match &params.table {
+        Some(tab) => tab.axis == crate::physics::charging::table::Axis::RimeAccretionRate,
+        None => matches!(params.scheme, Scheme::SaundersPeck1998),
+    };
+    if on_rar {
         println!(
             "rime accretion rate E LWC V with droplet collision efficiency E = {efficiency:.3} ({} for a {} mm graupel at {} m/s in air of 0.6 kg m-3)",
             params.riming_efficiency.name(),
