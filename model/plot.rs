@@ -883,12 +883,10 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
     // Every member's row keeps the height its 11-point label needs: a
     // large ensemble makes a taller picture instead of labels drawn over
     // each other.
-    let size = (
-        o.size.0,
-        o.size
-            .1
-            .max(SWEEP_FRAME_PX + SWEEP_ROW_PX * rows.len() as u32),
-    );
+    // Up to the tallest picture the command allows; a larger ensemble
+    // labels every k-th member ([`draw_sweep`]) and draws every bar.
+    let wanted = SWEEP_FRAME_PX.saturating_add(SWEEP_ROW_PX.saturating_mul(rows.len() as u32));
+    let size = (o.size.0, o.size.1.max(wanted.min(MAX_PICTURE_PX)));
     let png = prefix.with_extension("png");
     draw_sweep(
         BitMapBackend::new(&png, size).into_drawing_area(),
@@ -912,6 +910,10 @@ pub const SWEEP_ROW_PX: u32 = 14;
 
 /// Height (px) of a sweep picture's caption, axis and margins.
 const SWEEP_FRAME_PX: u32 = 90;
+
+/// The largest picture side (px) the plot command draws (`--width`,
+/// `--height` and a sweep picture's height).
+pub const MAX_PICTURE_PX: u32 = 8000;
 
 /// One sweep member in a sweep picture: label, structure class, flash
 /// counts by kind.
@@ -952,6 +954,11 @@ fn draw_sweep<DB: DrawingBackend>(
         .axis_desc_style(FONT)
         .draw()
         .map_err(err)?;
+    // Every member's label where the rows are tall enough for one, else
+    // every k-th (the first and then each k-th member).
+    let (_, height) = root.dim_in_pixel();
+    let row_px = f64::from(height.saturating_sub(SWEEP_FRAME_PX)) / n;
+    let every = (f64::from(SWEEP_ROW_PX) / row_px).ceil().max(1.0) as usize;
     for (i, (label, s, counts)) in rows.iter().enumerate() {
         let y = n - i as f64 - 1.0;
         chart
@@ -960,13 +967,15 @@ fn draw_sweep<DB: DrawingBackend>(
                 structure_colour(s).filled(),
             )))
             .map_err(err)?;
-        chart
-            .draw_series(std::iter::once(Text::new(
-                format!("{label} [{s}]"),
-                (-0.44 * most, y + 0.7),
-                ("sans-serif", 11).into_font(),
-            )))
-            .map_err(err)?;
+        if i % every == 0 {
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    format!("{label} [{s}]"),
+                    (-0.44 * most, y + 0.7),
+                    ("sans-serif", 11).into_font(),
+                )))
+                .map_err(err)?;
+        }
         let mut x = 0.0;
         for (k, c) in counts.iter().enumerate() {
             if *c > 0.0 {

@@ -133,6 +133,49 @@ fn a_large_sweep_picture_grows_with_its_members() {
         "{} px for 200 members",
         png.height()
     );
+    // 2000 members would need 28,000 px: the picture stops at the largest
+    // side the command draws and labels every k-th member (here every
+    // fourth; every bar drawn), so a ten-thousand-member ensemble does not
+    // ask for gigabytes.
+    let huge = scratch("huge_sweep");
+    std::fs::create_dir_all(&huge).unwrap();
+    let mut csv = String::from(
+        "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,flashes_positive_ground,structure_at_peak_separation\n",
+    );
+    for m in 1..=2000 {
+        csv.push_str(&format!(
+            "{m},{},ok,{},0,0,normal_dipole\n",
+            9 + m % 6,
+            m % 40
+        ));
+    }
+    std::fs::write(huge.join("summary.csv"), csv).unwrap();
+    let prefix = scratch("huge_sweep_picture");
+    succeed(
+        bin()
+            .arg("plot")
+            .arg(&huge)
+            .arg("-o")
+            .arg(&prefix)
+            .arg("--svg"),
+    );
+    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    assert_eq!(png.height(), stormcharge::plot::MAX_PICTURE_PX);
+    let svg = std::fs::read_to_string(prefix.with_extension("svg")).unwrap();
+    let labelled: Vec<&str> = svg
+        .lines()
+        .filter(|l| {
+            l.split_once(": ")
+                .is_some_and(|(m, _)| m.parse::<u32>().is_ok())
+        })
+        .collect();
+    assert!(labelled.iter().any(|l| l.starts_with("1: ")));
+    assert!(!labelled.iter().any(|l| l.starts_with("2: ")));
+    assert!(
+        (400..1000).contains(&labelled.len()),
+        "{} labels for 2000 members",
+        labelled.len()
+    );
     let small = scratch("small_sweep");
     std::fs::create_dir_all(&small).unwrap();
     let few: String = std::fs::read_to_string(dir.join("summary.csv"))

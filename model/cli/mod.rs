@@ -1079,7 +1079,8 @@ fn cmd_plot(
             ConfigIssue::new(key, msg).value(value).allowed(allowed),
         ))
     };
-    if !(400..=8000).contains(&size.0) || !(300..=8000).contains(&size.1) {
+    let most = crate::plot::MAX_PICTURE_PX;
+    if !(400..=most).contains(&size.0) || !(300..=most).contains(&size.1) {
         return Err(usage(
             "--width/--height",
             format!("{}x{}", size.0, size.1),
