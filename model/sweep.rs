@@ -175,6 +175,17 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
                 format!("\"{key}\" is not a configuration key that can be swept"),
             ));
         }
+        // A key swept twice would override itself member by member and
+        // give the summary two columns of one name.
+        if let Some(j) = keys.iter().position(|k| *k == key) {
+            return Err(err(
+                format!("{at}.key"),
+                format!(
+                    "\"{key}\" is already swept by sweep.parameters[{}]; give all its values in one list",
+                    j + 1
+                ),
+            ));
+        }
         let values = p.values.clone().ok_or_else(|| {
             err(
                 format!("{at}.values"),

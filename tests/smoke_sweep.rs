@@ -208,6 +208,33 @@ values = [1.0e5, 2.0e5]
 }
 
 #[test]
+fn a_key_swept_twice_is_refused_before_anything_runs() {
+    // Two blocks of one key: a usage error naming both blocks, exit 2,
+    // nothing created (it ran every member and then failed writing the
+    // summary, whose two columns of one name NetCDF refuses).
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+[[sweep.parameters]]
+key = "updraft.peak_speed"
+values = [8.0]
+[[sweep.parameters]]
+key = "updraft.peak_speed"
+values = [9.0]
+"#,
+    );
+    let o = sweep(&cfg, "twice", &[]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("sweep.parameters[2].key"), "{err}");
+    assert!(
+        err.contains("already swept by sweep.parameters[1]"),
+        "{err}"
+    );
+    assert!(!scratch("twice").exists());
+}
+
+#[test]
 fn members_with_bad_values_stop_the_sweep_before_anything_runs() {
     // Every member is resolved first: out-of-range values are reported
     // together, member by member, with exit 2, and nothing is created.
