@@ -537,3 +537,33 @@ fn extreme_numbers_are_shown_in_exponent_form() {
         stderr(&o)
     );
 }
+
+#[test]
+fn a_time_that_is_not_finite_is_refused() {
+    // `analyze --time` and `plot --time` take the nearest record; NaN and
+    // infinity have none: a usage error naming the option (exit 2).
+    let out = scratch("finite_times.nc");
+    let o = bin()
+        .args(["run", "--quiet", "--set", "time.duration=120", "-o"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0));
+    for args in [
+        vec![
+            "analyze".to_string(),
+            out.display().to_string(),
+            "--time".into(),
+            "nan".into(),
+        ],
+        vec![
+            "plot".to_string(),
+            out.display().to_string(),
+            "--time".into(),
+            "inf".into(),
+        ],
+    ] {
+        let o = bin().args(&args).output().unwrap();
+        assert_config_error(&o, &["--time", "not a finite time"]);
+    }
+}

@@ -1054,7 +1054,22 @@ fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<(), RunErro
     crate::output::write_atomically(path, text.as_bytes())
 }
 
+/// A usage error unless every `--time` is a finite number of seconds (the
+/// nearest record is taken, so any finite time has one; NaN had none).
+fn finite_times(times: &[f64]) -> Result<(), RunError> {
+    match times.iter().find(|t| !t.is_finite()) {
+        Some(t) => Err(RunError::Config(ConfigError::single(
+            "command line",
+            ConfigIssue::new("--time", "not a finite time")
+                .value(t.to_string())
+                .allowed("a model time in s (the nearest record is taken)"),
+        ))),
+        None => Ok(()),
+    }
+}
+
 fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {
+    finite_times(times)?;
     if path.is_dir() {
         // A sweep directory: the share of each structure class.
         let report = crate::analysis::analyze_sweep(path)?;
@@ -1072,6 +1087,7 @@ fn cmd_plot(
     panels: &[String],
     mut options: crate::plot::PlotOptions,
 ) -> Result<(), RunError> {
+    finite_times(options.time.as_slice())?;
     let size = options.size;
     let usage = |key: &str, value: String, msg: &str, allowed: String| {
         RunError::Config(ConfigError::single(
