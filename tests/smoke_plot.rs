@@ -106,18 +106,15 @@ fn plot_writes_png_and_svg() {
     assert_eq!(o.status.code(), Some(2));
 }
 
-#[test]
-fn a_large_sweep_picture_grows_with_its_members() {
-    // 200 members in a summary of the sweep's layout: the picture is tall
-    // enough for every member's label (14 px a row) instead of drawing
-    // them over each other at the default 1000 px (a readability rule,
-    // common practice). A sweep of 6 keeps the requested size.
-    let dir = scratch("large_sweep");
+/// A sweep directory named `name` whose summary (the sweep's layout, the
+/// columns the picture reads) holds `members` members; its path.
+fn sweep_of(name: &str, members: u32) -> std::path::PathBuf {
+    let dir = scratch(name);
     std::fs::create_dir_all(&dir).unwrap();
     let mut csv = String::from(
         "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,flashes_positive_ground,structure_at_peak_separation\n",
     );
-    for m in 1..=200 {
+    for m in 1..=members {
         csv.push_str(&format!(
             "{m},{},ok,{},0,0,normal_tripole\n",
             9 + m % 6,
@@ -125,9 +122,30 @@ fn a_large_sweep_picture_grows_with_its_members() {
         ));
     }
     std::fs::write(dir.join("summary.csv"), csv).unwrap();
-    let prefix = scratch("large_sweep_picture");
-    succeed(bin().arg("plot").arg(&dir).arg("-o").arg(&prefix));
+    dir
+}
+
+/// The sweep picture of `dir` (PNG, and SVG with `svg`), with `args`: the
+/// decoded PNG and the SVG text.
+fn sweep_picture(dir: &std::path::Path, svg: bool, args: &[&str]) -> (image::DynamicImage, String) {
+    let prefix = dir.with_extension("picture");
+    let mut cmd = bin();
+    cmd.arg("plot").arg(dir).arg("-o").arg(&prefix).args(args);
+    if svg {
+        cmd.arg("--svg");
+    }
+    succeed(&mut cmd);
     let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    let text = std::fs::read_to_string(prefix.with_extension("svg")).unwrap_or_default();
+    (png, text)
+}
+
+#[test]
+fn a_large_sweep_picture_grows_with_its_members() {
+    // 200 members: the picture is tall enough for every member's label
+    // (14 px a row) instead of drawing them over each other at the default
+    // 1000 px (a readability rule, common practice).
+    let (png, _) = sweep_picture(&sweep_of("large_sweep", 200), false, &[]);
     assert!(
         png.height() >= 200 * stormcharge::plot::SWEEP_ROW_PX,
         "{} px for 200 members",
@@ -137,31 +155,8 @@ fn a_large_sweep_picture_grows_with_its_members() {
     // side the command draws and labels every k-th member (here every
     // fourth; every bar drawn), so a ten-thousand-member ensemble does not
     // ask for gigabytes.
-    let huge = scratch("huge_sweep");
-    std::fs::create_dir_all(&huge).unwrap();
-    let mut csv = String::from(
-        "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,flashes_positive_ground,structure_at_peak_separation\n",
-    );
-    for m in 1..=2000 {
-        csv.push_str(&format!(
-            "{m},{},ok,{},0,0,normal_dipole\n",
-            9 + m % 6,
-            m % 40
-        ));
-    }
-    std::fs::write(huge.join("summary.csv"), csv).unwrap();
-    let prefix = scratch("huge_sweep_picture");
-    succeed(
-        bin()
-            .arg("plot")
-            .arg(&huge)
-            .arg("-o")
-            .arg(&prefix)
-            .arg("--svg"),
-    );
-    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
+    let (png, svg) = sweep_picture(&sweep_of("huge_sweep", 2000), true, &[]);
     assert_eq!(png.height(), stormcharge::plot::MAX_PICTURE_PX);
-    let svg = std::fs::read_to_string(prefix.with_extension("svg")).unwrap();
     let labelled: Vec<&str> = svg
         .lines()
         .filter(|l| {
@@ -176,24 +171,11 @@ fn a_large_sweep_picture_grows_with_its_members() {
         "{} labels for 2000 members",
         labelled.len()
     );
-    let small = scratch("small_sweep");
-    std::fs::create_dir_all(&small).unwrap();
-    let few: String = std::fs::read_to_string(dir.join("summary.csv"))
-        .unwrap()
-        .lines()
-        .take(7)
-        .map(|l| format!("{l}\n"))
-        .collect();
-    std::fs::write(small.join("summary.csv"), few).unwrap();
-    let prefix = scratch("small_sweep_picture");
-    succeed(
-        bin()
-            .arg("plot")
-            .arg(&small)
-            .arg("-o")
-            .arg(&prefix)
-            .args(["--width", "1200", "--height", "900"]),
+    // A sweep of 6 keeps the requested size.
+    let (png, _) = sweep_picture(
+        &sweep_of("small_sweep", 6),
+        false,
+        &["--width", "1200", "--height", "900"],
     );
-    let png = image::open(prefix.with_extension("png")).expect("PNG decodes");
     assert_eq!((png.width(), png.height()), (1200, 900));
 }
