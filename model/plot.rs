@@ -880,11 +880,10 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
         "sweep {}: structure at peak separation and flashes",
         dir.display()
     );
-    // Every member's row keeps the height its 11-point label needs: a
+    // Every member's row keeps the height its 11-point label needs, so a
     // large ensemble makes a taller picture instead of labels drawn over
-    // each other.
-    // Up to the tallest picture the command allows; a larger ensemble
-    // labels every k-th member ([`draw_sweep`]) and draws every bar.
+    // each other, up to the tallest picture the command allows; beyond
+    // that [`draw_sweep`] labels every k-th member and draws every bar.
     let wanted = SWEEP_FRAME_PX.saturating_add(SWEEP_ROW_PX.saturating_mul(rows.len() as u32));
     let size = (o.size.0, o.size.1.max(wanted.min(MAX_PICTURE_PX)));
     let png = prefix.with_extension("png");

@@ -980,6 +980,11 @@ pub fn merge(dir: &Path) -> Result<PathBuf, RunError> {
     Ok(target)
 }
 
+/// An input or output error while `context` (what was being done).
+fn io(context: String) -> impl FnOnce(std::io::Error) -> RunError {
+    move |source| RunError::Io { context, source }
+}
+
 /// A usage error about the sharded sweep directory `dir`.
 fn bad_shards(dir: &Path, msg: String) -> RunError {
     RunError::Config(ConfigError::single(
@@ -991,7 +996,6 @@ fn bad_shards(dir: &Path, msg: String) -> RunError {
 /// The shard summaries `summary_shard_K_of_N.csv` in `dir` as (K, N, path),
 /// checked to be shards 1 to N of one sweep, each once.
 fn shard_summaries(dir: &Path) -> Result<Vec<(usize, usize, PathBuf)>, RunError> {
-    let io = |context: String| move |source| RunError::Io { context, source };
     let bad = |msg: String| bad_shards(dir, msg);
     let mut shards: Vec<(usize, usize, PathBuf)> = Vec::new();
     for entry in std::fs::read_dir(dir).map_err(io(format!("reading {}", dir.display())))? {
@@ -1040,7 +1044,6 @@ fn shard_rows(
     dir: &Path,
     shards: &[(usize, usize, PathBuf)],
 ) -> Result<(String, Vec<(usize, String)>), RunError> {
-    let io = |context: String| move |source| RunError::Io { context, source };
     let bad = |msg: String| bad_shards(dir, msg);
     let mut header = None;
     let mut rows: Vec<(usize, String)> = Vec::new();
@@ -1115,17 +1118,15 @@ fn shard_rows(
     Ok((header.unwrap_or_default(), rows))
 }
 
-/// The members' outcomes for the merged summary: each member's outcome
-/// file, or for a failed member (which has none) its row of the shard
-/// summary; with the sweep's keys, read from the header.
+/// The members' outcomes for the merged summary, the same an unsharded
+/// sweep writes: each member's outcome file, or for a failed member (which
+/// has none) its row of the shard summary; with the sweep's keys, read
+/// from the header.
 fn outcomes_of_rows(
     dir: &Path,
     header: &str,
     rows: &[(usize, String)],
 ) -> (Vec<String>, Vec<Outcome>) {
-    // The same files an unsharded sweep writes, from the same outcomes:
-    // each member's outcome file, or for a failed member (which has none)
-    // its row of the shard summary.
     let head = csv_fields(header);
     let n_keys = head
         .iter()

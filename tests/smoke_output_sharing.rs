@@ -50,11 +50,11 @@ fn a_writer_keeps_its_records_while_another_has_the_library() {
     // The demo's hour with a record every 20 s (181 records; a batch is 61
     // of them, about 4 MiB); a writer holds a batch, and up to half as
     // many again while the library is taken (docs/output.md). The durable
-    // interval is set to its longest so that only the batch decides. While this test holds the writers' turn the
-    // run goes past a full batch without creating its file; released, the
-    // run finishes, and its file holds the same bits as a run alone
-    // (common practice: buffering changes when data are written, never
-    // what).
+    // interval is set to its longest so that only the batch decides.
+    // While this test holds the writers' turn the run goes past a full
+    // batch without creating its file; released, the run finishes, and its
+    // file holds the same bits as a run alone (common practice: buffering
+    // changes when data are written, never what).
     let set = [
         "output.durable_interval=3600".to_string(),
         "time.output_interval=20".to_string(),

@@ -685,7 +685,6 @@ impl Drop for NetcdfWriter {
     }
 }
 
-/// Writes the pending `flashes` on the `flash` dimension from position `at`.
 /// The variable `name` of the file being written, or an error naming it
 /// (`context` says what was being written).
 fn variable_in<'f>(
@@ -699,6 +698,7 @@ fn variable_in<'f>(
     })
 }
 
+/// Writes the pending `flashes` on the `flash` dimension from position `at`.
 fn write_flashes(
     f: &mut netcdf::FileMut,
     vars: &[FlashVar],
