@@ -322,22 +322,33 @@ pub fn validate(
     members: &[Member],
     shard: Option<(usize, usize)>,
     origin: &str,
-) -> Result<(), ConfigError> {
-    let mut issues = Vec::new();
-    let mut failed = 0;
-    for m in members.iter().filter(|m| in_shard(m.index, shard)) {
+    threads: usize,
+) -> Result<(), RunError> {
+    let chosen: Vec<&Member> = members
+        .iter()
+        .filter(|m| in_shard(m.index, shard))
+        .collect();
+    // Each member is resolved on its own, on the sweep's threads (an
+    // ensemble of ten thousand members spent a fifth of its time here on
+    // one thread); the messages are gathered in member order.
+    let pool = thread_pool(threads)?;
+    let failures = crate::workers::each_in_order(&pool, &chosen, |m| {
         let mut overrides = m.overrides.clone();
         overrides.push("sweep.parameters=[]".into());
         let label = format!("member {} ({})", m.index, m.overrides.join(", "));
-        let checked = Experiment::from_config_text(base_text, &label, &overrides, base_dir)
-            .and_then(|exp| crate::output::check_selection(&exp, base_text, &overrides, &label));
-        if let Err(e) = checked {
-            failed += 1;
-            if issues.len() < 20 {
-                for mut issue in e.issues {
-                    issue.message = format!("{label}: {}", issue.message);
-                    issues.push(issue);
-                }
+        Experiment::from_config_text(base_text, &label, &overrides, base_dir)
+            .and_then(|exp| crate::output::check_selection(&exp, base_text, &overrides, &label))
+            .err()
+            .map(|e| (label, e))
+    });
+    let mut issues = Vec::new();
+    let mut failed = 0;
+    for (label, e) in failures.into_iter().flatten() {
+        failed += 1;
+        if issues.len() < 20 {
+            for mut issue in e.issues {
+                issue.message = format!("{label}: {}", issue.message);
+                issues.push(issue);
             }
         }
     }
@@ -353,7 +364,8 @@ pub fn validate(
         Err(ConfigError {
             origin: origin.to_string(),
             issues,
-        })
+        }
+        .into())
     }
 }
 

@@ -979,7 +979,10 @@ fn cmd_sweep(
     let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse_config_text(&text, &origin, &[])?;
     let (keys, members) = crate::sweep::members(&resolved, &origin)?;
-    crate::sweep::validate(&text, base_dir, &members, shard, &origin)?;
+    // The members' own base: the value lists, read once above, are not read
+    // again for every member (a member empties them anyway).
+    let text = text.without_sweep_values();
+    crate::sweep::validate(&text, base_dir, &members, shard, &origin, threads)?;
     let count = members
         .iter()
         .filter(|m| crate::sweep::in_shard(m.index, shard))

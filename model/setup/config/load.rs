@@ -41,6 +41,79 @@ impl ConfigText {
     }
 }
 
+impl ConfigText {
+    /// The same configuration with every `sweep.parameters` block's `values`
+    /// emptied, in the merged text and in every file behind it, line for
+    /// line: each list becomes `[]` around the line breaks it held, so every
+    /// other key keeps its line for the error messages. A sweep member
+    /// replaces `sweep.parameters` with an empty list anyway, so it resolves
+    /// to the same configuration; but parsing an ensemble's value lists
+    /// again for every member made the members' set-up grow with the
+    /// ensemble (quadratic in the number of members: at 10,000 members each
+    /// member re-read all 10,000 values three times).
+    pub fn without_sweep_values(&self) -> ConfigText {
+        ConfigText {
+            text: without_sweep_values(&self.text),
+            sources: self
+                .sources
+                .iter()
+                .map(|(file, t)| (file.clone(), without_sweep_values(t)))
+                .collect(),
+        }
+    }
+}
+
+/// `text` with the value of every `sweep.parameters[i].values` replaced by
+/// `[` + its line breaks + `]`; unchanged when it does not parse (the
+/// caller's own parse reports that).
+fn without_sweep_values(text: &str) -> String {
+    let Ok(doc) = toml_edit::ImDocument::parse(text) else {
+        return text.to_string();
+    };
+    let mut spans: Vec<std::ops::Range<usize>> = Vec::new();
+    let mut take = |values: Option<&toml_edit::Item>| {
+        if let Some(span) = values.and_then(|v| v.span()) {
+            spans.push(span);
+        }
+    };
+    match doc.get("sweep").and_then(|s| s.get("parameters")) {
+        Some(toml_edit::Item::ArrayOfTables(blocks)) => {
+            for block in blocks.iter() {
+                take(block.get("values"));
+            }
+        }
+        Some(toml_edit::Item::Value(toml_edit::Value::Array(blocks))) => {
+            for block in blocks.iter().filter_map(|b| b.as_inline_table()) {
+                if let Some(span) = block.get("values").and_then(|v| v.span()) {
+                    spans.push(span);
+                }
+            }
+        }
+        _ => {}
+    }
+    spans.sort_by_key(|s| s.start);
+    let mut out = String::with_capacity(text.len());
+    let mut at = 0;
+    for span in spans {
+        if span.start < at || span.end > text.len() {
+            return text.to_string();
+        }
+        out.push_str(&text[at..span.start]);
+        out.push('[');
+        // Carriage returns stay with their line feeds (a lone one is not
+        // valid TOML, so none is kept without one).
+        out.extend(
+            text[span.clone()]
+                .chars()
+                .filter(|c| *c == '\n' || *c == '\r'),
+        );
+        out.push(']');
+        at = span.end;
+    }
+    out.push_str(&text[at..]);
+    out
+}
+
 /// [`parse_with_overrides`] on a configuration text that may have been
 /// merged from several files.
 pub fn parse_config_text(
@@ -49,24 +122,32 @@ pub fn parse_config_text(
     overrides: &[String],
 ) -> Result<Config, ConfigError> {
     let text = source.text.as_str();
-    let doc = toml_edit::ImDocument::parse(text).map_err(|e| {
+    let syntax = |e: toml_edit::TomlError, prefix: &str| {
         let line = e.span().map(|s| line_of_offset(text, s.start));
         ConfigError::single(
             origin,
-            ConfigIssue::new(
-                "(syntax)",
-                format!("not valid TOML: {}", e.message().trim()),
-            )
-            .line(line),
+            ConfigIssue::new("(syntax)", format!("{prefix}{}", e.message().trim())).line(line),
         )
-    })?;
-    let mut table: Table = toml::from_str(text).map_err(|e| {
-        let line = e.span().map(|s| line_of_offset(text, s.start));
-        ConfigError::single(
-            origin,
-            ConfigIssue::new("(syntax)", e.message().trim().to_string()).line(line),
-        )
-    })?;
+    };
+    // The plain parse; the document parse, which keeps where every key is,
+    // only when a line is wanted (an error) or to word a syntax error (the
+    // document's wording is the one users saw first). Both use the same
+    // parser, so one fails exactly when the other does.
+    let mut table: Table = match toml::from_str(text) {
+        Ok(t) => t,
+        Err(e) => {
+            return Err(match toml_edit::ImDocument::parse(text) {
+                Err(d) => syntax(d, "not valid TOML: "),
+                Ok(_) => {
+                    let line = e.span().map(|s| line_of_offset(text, s.start));
+                    ConfigError::single(
+                        origin,
+                        ConfigIssue::new("(syntax)", e.message().trim().to_string()).line(line),
+                    )
+                }
+            })
+        }
+    };
 
     let mut issues = Vec::new();
     let mut overridden: Vec<String> = Vec::new();
@@ -84,13 +165,24 @@ pub fn parse_config_text(
 
     // A configuration merged from an `include` has lines of its own files,
     // not of the merged text: the including file's keys are located in its
-    // own text, a base's keys in the base's (below).
-    let lines = KeyLines::new(source, doc);
+    // own text, a base's keys in the base's (below). Parsed on the first
+    // error only: a configuration without one never needs a line (a sweep
+    // reads its base once per member).
+    let parsed = std::cell::OnceCell::new();
+    let lines = || {
+        parsed
+            .get_or_init(|| {
+                toml_edit::ImDocument::parse(text)
+                    .ok()
+                    .map(|doc| KeyLines::new(source, doc))
+            })
+            .as_ref()
+    };
     let locate = |path: &str| -> Option<usize> {
         if overridden.iter().any(|o| o == path) {
             return None;
         }
-        lines.in_own(path)
+        lines()?.in_own(path)
     };
     check_table(&mut table, "", &locate, &overridden, &mut issues);
     // Keys not in the including file: each base, nearest first.
@@ -98,7 +190,7 @@ pub fn parse_config_text(
         .iter_mut()
         .filter(|i| i.line.is_none() && !overridden.contains(&i.key))
     {
-        if let Some((file, l)) = lines.in_bases(&issue.key) {
+        if let Some((file, l)) = lines().and_then(|l| l.in_bases(&issue.key)) {
             issue.line = Some(l);
             issue.file = Some(file.to_string());
         }
@@ -374,15 +466,19 @@ fn default_value(text: &str) -> Value {
 
 /// Type- and range-checks one value, turning integers into floats for float keys.
 fn check_value(spec: &KeySpec, value: &mut Value) -> Result<(), ConfigIssue> {
-    // Floats in exponent form outside 1e-4..1e9 (TOML's own display writes
-    // 1e300 out in full).
-    let shown = match &*value {
-        Value::Float(x) if crate::error::wants_exponent(*x) => crate::error::shown_number(*x),
-        other => other.to_string(),
-    };
+    // The value as given, written out only for a message (most values are
+    // valid, and writing out a sounding's rows costs far more than copying
+    // them); some kinds convert the value in place before they find a fault.
+    let given = value.clone();
     let err = |msg: String| {
+        // Floats in exponent form outside 1e-4..1e9 (TOML's own display
+        // writes 1e300 out in full).
+        let shown = match &given {
+            Value::Float(x) if crate::error::wants_exponent(*x) => crate::error::shown_number(*x),
+            other => other.to_string(),
+        };
         ConfigIssue::new(spec.path, msg)
-            .value(shown.clone())
+            .value(shown)
             .unit(spec.unit)
             .allowed(spec.kind.allowed())
     };
@@ -546,14 +642,22 @@ pub fn parse_timestamp(s: &str) -> Result<(i32, u32, u32, u32, u32, u32), String
 }
 
 fn defaults() -> Table {
-    let mut t = Table::new();
-    for spec in schema::KEYS {
-        if let Some(text) = spec.default {
-            // Paths in the schema never collide with values, so this cannot fail.
-            let _ = insert(&mut t, spec.path, default_value(text));
-        }
-    }
-    t
+    // Built once: every configuration read (each member of a sweep) starts
+    // from a copy.
+    static DEFAULTS: std::sync::OnceLock<Table> = std::sync::OnceLock::new();
+    DEFAULTS
+        .get_or_init(|| {
+            let mut t = Table::new();
+            for spec in schema::KEYS {
+                if let Some(text) = spec.default {
+                    // Paths in the schema never collide with values, so this
+                    // cannot fail.
+                    let _ = insert(&mut t, spec.path, default_value(text));
+                }
+            }
+            t
+        })
+        .clone()
 }
 
 fn merge(base: &mut Table, over: Table) {
@@ -808,5 +912,40 @@ mod tests {
         let e = parse("[grid]\n\nspacing = -3\n", "t").unwrap_err();
         assert_eq!(e.issues[0].key, "grid.spacing");
         assert_eq!(e.issues[0].line, Some(3));
+    }
+
+    /// A sweep's members start from the text without the value lists
+    /// (common practice: the members read only what they use). Every other
+    /// key keeps its line, and a member resolves to the same configuration.
+    #[test]
+    fn emptied_value_lists_keep_lines_and_members() {
+        let text = "[sweep]\ncombine = \"product\"\n\n[[sweep.parameters]]\n\
+                    key = \"updraft.peak_speed\"\nvalues = [\n  9.0, # slow\n  10.0,\n  11.0,\n]\n\n\
+                    [[sweep.parameters]]\nkey = \"charging.scheme\"\n\
+                    values = [\"saunders_peck_1998\", \"gardiner_1985\"]\n\n\
+                    [grid]\nspacing = -3\n";
+        let source = ConfigText::plain(text);
+        let emptied = source.without_sweep_values();
+        assert_eq!(emptied.text.lines().count(), text.lines().count());
+        assert!(!emptied.text.contains("9.0") && !emptied.text.contains("gardiner"));
+        // The faulty key after the lists is found on its own line, 17 (the
+        // emptied lists are faults of their own until a member replaces
+        // them).
+        for s in [&source, &emptied] {
+            let e = parse_config_text(s, "t", &[]).unwrap_err();
+            let spacing = e.issues.iter().find(|i| i.key == "grid.spacing");
+            assert_eq!(spacing.and_then(|i| i.line), Some(17));
+        }
+        // A member (its values set, the parameters emptied) is the same
+        // configuration from either text.
+        let member = [
+            "updraft.peak_speed=10.0".to_string(),
+            "charging.scheme=\"gardiner_1985\"".to_string(),
+            "grid.spacing=50.0".to_string(),
+            "sweep.parameters=[]".to_string(),
+        ];
+        let a = parse_config_text(&source, "t", &member).expect("member resolves");
+        let b = parse_config_text(&emptied, "t", &member).expect("member resolves");
+        assert_eq!(a.to_toml(), b.to_toml());
     }
 }

@@ -1269,7 +1269,32 @@ pub const SWEEP_PARAMETER_KEYS: &[KeySpec] = &[
 
 /// Looks a key up by its dotted path.
 pub fn find(path: &str) -> Option<&'static KeySpec> {
-    KEYS.iter().find(|k| k.path == path)
+    index().keys.get(path).copied()
+}
+
+/// The keys by path and the sections (every dotted prefix of a key), built
+/// once: each configuration read looks up every key it holds, and a sweep
+/// reads one configuration per member.
+struct Index {
+    keys: std::collections::HashMap<&'static str, &'static KeySpec>,
+    sections: std::collections::HashSet<&'static str>,
+}
+
+fn index() -> &'static Index {
+    static INDEX: std::sync::OnceLock<Index> = std::sync::OnceLock::new();
+    INDEX.get_or_init(|| {
+        let mut keys = std::collections::HashMap::new();
+        let mut sections = std::collections::HashSet::new();
+        for k in KEYS {
+            // The first of two specs with one path wins, as a search in
+            // order would find it.
+            keys.entry(k.path).or_insert(k);
+            for (i, _) in k.path.match_indices('.') {
+                sections.insert(&k.path[..i]);
+            }
+        }
+        Index { keys, sections }
+    })
 }
 
 /// [`find`], or the key of one element of an array of tables
@@ -1285,11 +1310,7 @@ pub fn find_any(path: &str) -> Option<&'static KeySpec> {
 
 /// True when `path` is a section (some key lives under it).
 pub fn is_section(path: &str) -> bool {
-    KEYS.iter().any(|k| {
-        k.path.len() > path.len()
-            && k.path.starts_with(path)
-            && k.path.as_bytes()[path.len()] == b'.'
-    })
+    index().sections.contains(path)
 }
 
 /// The names directly under a section (keys and sub-sections), for "did you
