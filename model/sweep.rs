@@ -510,6 +510,17 @@ pub fn outcome_path(dir: &Path, index: usize) -> PathBuf {
     dir.join(format!("member_{index:04}.outcome.json"))
 }
 
+/// The member number in a member file's name (`member_0012.nc` -> 12,
+/// `member_10000.outcome.json` -> 10000): every digit after `member_`, as
+/// [`member_path`] writes at least four.
+fn member_index_of(name: &str) -> Option<usize> {
+    let digits = name.strip_prefix("member_")?;
+    let end = digits
+        .find(|c: char| !c.is_ascii_digit())
+        .unwrap_or(digits.len());
+    digits[..end].parse().ok()
+}
+
 /// The outcome of a member that an earlier run of the same sweep completed:
 /// its outcome side file names the same member and the fingerprint of the
 /// configuration this member resolves to, and (with NetCDF member files)
@@ -927,10 +938,7 @@ pub fn prepare_directory(
             .and_then(|n| n.to_str())
             .unwrap_or("")
             .to_string();
-        let member = name
-            .strip_prefix("member_")
-            .and_then(|r| r.get(..4))
-            .and_then(|d| d.parse::<usize>().ok());
+        let member = member_index_of(&name);
         let conflict = match member {
             // Resuming keeps this sweep's members (each is checked before
             // it is reused); members beyond its count are never its own.
@@ -1364,4 +1372,32 @@ enum SummaryValues {
     Integers(Vec<i32>),
     Numbers(Vec<f64>),
     Texts(Vec<String>),
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Member files past 9999 have five digits; all of them name the
+    /// member (the first four alone made member 10000 look like member 1000
+    /// when a directory was prepared). Common practice: the names the
+    /// writer gives are read back whole.
+    #[test]
+    fn member_numbers_are_read_whole() {
+        let dir = Path::new("d");
+        for index in [1, 12, 999, 9999, 10000, 12345, 100_000] {
+            for path in [member_path(dir, index), outcome_path(dir, index)] {
+                let name = path.file_name().and_then(|n| n.to_str()).unwrap();
+                assert_eq!(member_index_of(name), Some(index), "{name}");
+            }
+        }
+        for other in [
+            "summary.csv",
+            "member_.nc",
+            "member_x1.nc",
+            "members_0001.nc",
+        ] {
+            assert_eq!(member_index_of(other), None, "{other}");
+        }
+    }
 }
