@@ -670,6 +670,66 @@ pub struct EnsembleReport {
     pub classes_while_flashing: Vec<(String, f64, Vec<String>)>,
 }
 
+/// Lists longer than this are printed as runs of member numbers, not one
+/// member and its values per line (an ensemble of ten thousand members
+/// would print ten thousand lines per table; `--json` keeps every member).
+const LISTED_ONE_BY_ONE: usize = 40;
+
+/// Appends the members of `list` ("member N: values" each): one per line,
+/// or for a long list the runs of their numbers, wrapped.
+fn member_lines(out: &mut String, list: &[String]) {
+    if list.len() <= LISTED_ONE_BY_ONE {
+        for m in list {
+            out.push_str(&format!("      {m}\n"));
+        }
+        return;
+    }
+    let numbers: Vec<usize> = list
+        .iter()
+        .filter_map(|m| {
+            let rest = m.strip_prefix("member ")?;
+            rest[..rest.find(':').unwrap_or(rest.len())].parse().ok()
+        })
+        .collect();
+    let mut runs: Vec<String> = Vec::new();
+    let mut i = 0;
+    while i < numbers.len() {
+        let mut j = i;
+        while j + 1 < numbers.len() && numbers[j + 1] == numbers[j] + 1 {
+            j += 1;
+        }
+        runs.push(if j > i {
+            format!("{}-{}", numbers[i], numbers[j])
+        } else {
+            numbers[i].to_string()
+        });
+        i = j + 1;
+    }
+    let mut line = String::from("      members");
+    for (k, run) in runs.iter().enumerate() {
+        let piece = if k + 1 < runs.len() {
+            format!(" {run},")
+        } else {
+            format!(" {run}")
+        };
+        if line.len() + piece.len() > 100 && line.len() > 13 {
+            out.push_str(&line);
+            out.push('\n');
+            line = String::from("       ");
+        }
+        line.push_str(&piece);
+    }
+    let note = " (numbers only; --json lists each with its values)";
+    if line.len() + note.len() > 100 {
+        out.push_str(&line);
+        out.push('\n');
+        line = String::from("      ");
+    }
+    out.push_str(&line);
+    out.push_str(note);
+    out.push('\n');
+}
+
 /// Appends the lines of one class table (name, share, members).
 fn class_lines(out: &mut String, classes: &[(String, f64, Vec<String>)]) {
     for (name, share, list) in classes {
@@ -679,9 +739,7 @@ fn class_lines(out: &mut String, classes: &[(String, f64, Vec<String>)]) {
             list.len(),
             if list.len() == 1 { "" } else { "s" }
         ));
-        for m in list {
-            out.push_str(&format!("      {m}\n"));
-        }
+        member_lines(out, list);
     }
 }
 
@@ -736,9 +794,7 @@ impl EnsembleReport {
                 "s"
             }
         ));
-        for m in &self.members_with_ground_flashes {
-            out.push_str(&format!("      {m}\n"));
-        }
+        member_lines(&mut out, &self.members_with_ground_flashes);
         out
     }
 }
@@ -926,6 +982,39 @@ pub fn majority_class(
 mod tests {
     use super::*;
     use Structure::{NormalDipole as D, NormalTripole as T};
+
+    /// A long class list is printed as runs of member numbers, every member
+    /// in exactly one run and every line within 100 characters; a short one
+    /// member by member (common practice for listing large sets).
+    #[test]
+    fn long_member_lists_print_as_runs() {
+        let member = |n: usize| format!("member {n}: updraft.peak_speed={n}.5");
+        let numbers: Vec<usize> = (1..=30).chain([32]).chain(40..=53).collect();
+        let list: Vec<String> = numbers.iter().map(|&n| member(n)).collect();
+        let mut out = String::new();
+        member_lines(&mut out, &list);
+        assert_eq!(
+            out,
+            "      members 1-30, 32, 40-53 (numbers only; --json lists each with its values)\n"
+        );
+        let short: Vec<String> = (1..=3).map(member).collect();
+        let mut out = String::new();
+        member_lines(&mut out, &short);
+        assert_eq!(out.lines().count(), 3);
+        assert!(out.lines().all(|l| l.starts_with("      member ")));
+        // Every other member of 10,000: 5,000 runs of one, wrapped.
+        let sparse: Vec<String> = (1..=10_000).step_by(2).map(member).collect();
+        let mut out = String::new();
+        member_lines(&mut out, &sparse);
+        assert!(out.lines().all(|l| l.len() <= 100), "{out}");
+        let listed: Vec<usize> = out
+            .replace("members", "")
+            .split(|c: char| !c.is_ascii_digit())
+            .filter_map(|t| t.parse().ok())
+            .collect();
+        let expected: Vec<usize> = (1..=10_000).step_by(2).collect();
+        assert_eq!(listed, expected);
+    }
 
     #[test]
     fn majority_class_reads_the_flashing_stage_only() {
