@@ -83,6 +83,7 @@ pub fn run(
         neutralised: state.ion_neutralised,
     };
     summary.flash_bound_hits = (state.ledger.bound_hits, state.ledger.first_bound_hit);
+    summary.channels_at_model_top = state.ledger.at_model_top;
     summary.precipitation = state.water.precipitation;
     summary.substeps = state.substeps;
     summary.charging_cap_hits = state.charging_cap_hits;

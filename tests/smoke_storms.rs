@@ -347,3 +347,42 @@ fn lower_dipole_flashes_reach_ground_as_equipotential_channels() {
         }
     }
 }
+
+/// Channels grown as floating conductors with no margin run through the
+/// clear air above the demo's cloud to the model top, so their length and
+/// potential are set by `grid.top` (docs/discharge.md, "Channels that
+/// reach the model top"); the run counts them for its warning. The
+/// local-field channels stop inside the cloud. Common practice: a
+/// boundary the answer depends on is reported, not hidden.
+#[test]
+fn channels_that_reach_the_model_top_are_counted() {
+    let run = |overrides: &[&str]| {
+        let mut o = vec!["time.duration=1700"];
+        o.extend_from_slice(overrides);
+        let exp = demo(&o);
+        let top = exp.grid.top();
+        let (rec, summary) = run_recorded(&exp);
+        let at_top = rec.flashes.iter().filter(|f| f.z_top >= top).count() as u64;
+        assert!(!rec.flashes.is_empty(), "{overrides:?}: no flash");
+        assert_eq!(summary.channels_at_model_top, at_top, "{overrides:?}");
+        (
+            rec.flashes.len() as u64,
+            at_top,
+            rec.flashes[0].channel_potential,
+        )
+    };
+    let equipotential = "discharge.channel_rule=\"equipotential\"";
+    let (n16, top16, phi16) = run(&[equipotential]);
+    assert_eq!(top16, n16);
+    // The same storm under a higher lid (the sounding reaches 20 km): the
+    // channel again ends at the lid and, longer through the air above the
+    // cloud, which is near ground potential, floats nearer zero.
+    let (n20, top20, phi20) = run(&[equipotential, "grid.top=20000"]);
+    assert_eq!(top20, n20);
+    assert!(
+        phi16 < 0.0 && phi20 < 0.0 && phi20.abs() < 0.9 * phi16.abs(),
+        "{phi16} {phi20}"
+    );
+    let (_, top_local, _) = run(&[]);
+    assert_eq!(top_local, 0);
+}

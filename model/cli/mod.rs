@@ -512,6 +512,14 @@ fn cmd_run(
             exp.discharge_params.max_per_step
         );
     }
+    if summary.channels_at_model_top > 0 {
+        let total: u64 = summary.flash_counts.iter().sum();
+        eprintln!(
+            "stormcharge: warning: {} of {total} flash channels reached the model top (grid.top = {} m); their length, potential and the charge they neutralise depend on the domain's height: compare a run with a higher grid.top (docs/discharge.md, \"Channels that reach the model top\")",
+            summary.channels_at_model_top,
+            exp.grid.top()
+        );
+    }
     if !quiet {
         let g = &exp.grid;
         println!("stormcharge: wrote {}", target.display());

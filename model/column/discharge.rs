@@ -47,6 +47,9 @@ pub fn step(exp: &Experiment, state: &mut State, time: f64) {
         let Some(rec) = flash(exp, state, start, time) else {
             return;
         };
+        if rec.z_top >= exp.grid.top() {
+            state.ledger.at_model_top += 1;
+        }
         state.ledger.push(rec);
         crate::column::breakdown::evaluate(exp, state);
     }

@@ -75,6 +75,8 @@ pub struct RunSummary {
     /// Steps that ended with the trigger still met after the per-step flash
     /// bound, and the first such time (s).
     pub flash_bound_hits: (u64, Option<f64>),
+    /// Flashes whose channel reached the model top.
+    pub channels_at_model_top: u64,
     /// Surface precipitation accumulated (kg m-2).
     pub precipitation: f64,
     /// Largest surface precipitation rate of any step (kg m-2 s-1).
@@ -122,6 +124,7 @@ impl RunSummary {
             ground_charge: 0.0,
             conduction: Conduction::default(),
             flash_bound_hits: (0, None),
+            channels_at_model_top: 0,
             precipitation: 0.0,
             peak_precip_rate: 0.0,
             charging_cap_hits: 0,

@@ -89,6 +89,10 @@ pub struct FlashLedger {
     pub bound_hits: u64,
     /// Model time of the first such step (s).
     pub first_bound_hit: Option<f64>,
+    /// Flashes whose channel reached the model top: their length, their
+    /// potential as a floating conductor and the charge they neutralise
+    /// then depend on `grid.top`, not on the storm alone.
+    pub at_model_top: u64,
 }
 
 impl FlashLedger {
