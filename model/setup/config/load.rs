@@ -39,9 +39,7 @@ impl ConfigText {
             sources: Vec::new(),
         }
     }
-}
 
-impl ConfigText {
     /// The same configuration with every `sweep.parameters` block's `values`
     /// emptied, in the merged text and in every file behind it, line for
     /// line: each list becomes `[]` around the line breaks it held, so every
