@@ -664,6 +664,9 @@ pub struct EnsembleReport {
     pub flashes: [u64; 3],
     /// Members that made at least one ground flash.
     pub members_with_ground_flashes: Vec<String>,
+    /// Members with flash channels that reached the model top (empty for
+    /// summaries written before the column existed).
+    pub members_with_channels_at_top: Vec<String>,
     /// The same as `classes` for the structure most records of each
     /// member's flashing stage show ("no_flashes" for members without
     /// any); empty for summaries written before the column existed.
@@ -795,6 +798,14 @@ impl EnsembleReport {
             }
         ));
         member_lines(&mut out, &self.members_with_ground_flashes);
+        if !self.members_with_channels_at_top.is_empty() {
+            out.push_str(&format!(
+                "flash channels reached the model top in {} member{}: their flashes depend on grid.top (docs/discharge.md, \"Channels that reach the model top\")\n",
+                self.members_with_channels_at_top.len(),
+                if self.members_with_channels_at_top.len() == 1 { "" } else { "s" }
+            ));
+            member_lines(&mut out, &self.members_with_channels_at_top);
+        }
         out
     }
 }
@@ -864,9 +875,11 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         classes: Vec::new(),
         flashes: [0; 3],
         members_with_ground_flashes: Vec::new(),
+        members_with_channels_at_top: Vec::new(),
         classes_while_flashing: Vec::new(),
     };
     let while_flashing = table.column("structure_while_flashing").ok();
+    let at_top = table.column("flash_channels_at_model_top").ok();
     let fail = |m: String| summary_error(dir, m);
     let kinds = [
         table.column("flashes_intracloud").map_err(&fail)?,
@@ -904,6 +917,15 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
                 counts[2],
                 counts.iter().sum::<u64>()
             ));
+        }
+        let reached = at_top
+            .and_then(|col| f.get(col))
+            .and_then(|v| v.parse::<f64>().ok())
+            .filter(|&n| n > 0.0);
+        if let Some(n) = reached {
+            report
+                .members_with_channels_at_top
+                .push(format!("{member} ({n} of {})", counts.iter().sum::<u64>()));
         }
         if let Some(col) = while_flashing {
             let class = f.get(col).map_or("", String::as_str);

@@ -85,6 +85,11 @@ pub struct Outcome {
     pub structure_while_flashing: String,
     #[serde(default = "no_time", deserialize_with = "nan::one")]
     pub structure_while_flashing_share: f64,
+    /// Flashes whose channel reached the model top (their extent, potential
+    /// and neutralised charge depend on `grid.top`; docs/discharge.md);
+    /// NaN in outcomes written before it was counted.
+    #[serde(default = "no_time", deserialize_with = "nan::one")]
+    pub channels_at_model_top: f64,
     /// [`fingerprint`] of the member's resolved configuration (empty for a
     /// member that did not resolve), so that `--resume` can check an
     /// outcome without the member's file.
@@ -389,6 +394,7 @@ fn failed_outcome(member: Member) -> Outcome {
         column_area: f64::NAN,
         error_estimate: no_estimate(),
         charge_2p5mm: no_pair(),
+        channels_at_model_top: f64::NAN,
         structure_while_flashing: String::new(),
         structure_while_flashing_share: f64::NAN,
         configuration: String::new(),
@@ -481,6 +487,7 @@ pub fn run_member(
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
             out.charge_2p5mm = s.max_charge_2p5mm;
+            out.channels_at_model_top = s.channels_at_model_top as f64;
             if let Some((class, share, _)) = majority_class(&watch.classes, watch.flash_span) {
                 out.structure_while_flashing = class.name().into();
                 out.structure_while_flashing_share = share;
@@ -815,6 +822,13 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             move |o| N(o.initiation_ratio[i]),
         ));
     }
+    v.push(col(
+        "flash_channels_at_model_top",
+        "flash_channels_at_model_top",
+        "flashes whose channel reached the model top (their extent depends on grid.top)",
+        "1",
+        |o| N(o.channels_at_model_top),
+    ));
     v
 }
 

@@ -720,3 +720,49 @@ values = [2000.0, 3000.0]
         }
     }
 }
+
+#[test]
+fn channels_at_the_model_top_are_summarised() {
+    // The prescribed tripole's channels stop inside the charge with the
+    // local-field rule and, grown as floating conductors, run to the model
+    // top (docs/discharge.md, "Channels that reach the model top"): the
+    // summary counts them per member and `analyze` names the members.
+    // Common practice: a boundary an answer depends on is reported.
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+[[sweep.parameters]]
+key = "discharge.channel_rule"
+values = ["local_field", "equipotential"]
+"#,
+    );
+    sweep_ok(&cfg, "channels_top", &["--outcomes-only"]);
+    use stormcharge::output::csv::csv_fields;
+    let csv = read("channels_top", "summary.csv");
+    let mut lines = csv.lines();
+    let header = csv_fields(lines.next().unwrap());
+    let col = |name: &str| header.iter().position(|h| h == name).unwrap();
+    let (top, ic, neg, pos) = (
+        col("flash_channels_at_model_top"),
+        col("flashes_intracloud"),
+        col("flashes_negative_ground"),
+        col("flashes_positive_ground"),
+    );
+    let rows: Vec<Vec<String>> = lines.map(csv_fields).collect();
+    let number = |r: &[String], c: usize| r[c].parse::<f64>().unwrap();
+    assert_eq!(number(&rows[0], top), 0.0);
+    let flashes = number(&rows[1], ic) + number(&rows[1], neg) + number(&rows[1], pos);
+    assert!(flashes > 0.0);
+    assert_eq!(number(&rows[1], top), flashes);
+    let o = bin()
+        .arg("analyze")
+        .arg(scratch("channels_top"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("flash channels reached the model top in 1 member")
+            && text.contains("member 2: discharge.channel_rule=equipotential ("),
+        "{text}"
+    );
+}
