@@ -68,27 +68,19 @@ fn without_sweep_values(text: &str) -> String {
     let Ok(doc) = toml_edit::ImDocument::parse(text) else {
         return text.to_string();
     };
-    let mut spans: Vec<std::ops::Range<usize>> = Vec::new();
-    let mut take = |values: Option<&toml_edit::Item>| {
-        if let Some(span) = values.and_then(|v| v.span()) {
-            spans.push(span);
-        }
-    };
-    match doc.get("sweep").and_then(|s| s.get("parameters")) {
-        Some(toml_edit::Item::ArrayOfTables(blocks)) => {
-            for block in blocks.iter() {
-                take(block.get("values"));
-            }
-        }
-        Some(toml_edit::Item::Value(toml_edit::Value::Array(blocks))) => {
-            for block in blocks.iter().filter_map(|b| b.as_inline_table()) {
-                if let Some(span) = block.get("values").and_then(|v| v.span()) {
-                    spans.push(span);
-                }
-            }
-        }
-        _ => {}
-    }
+    // `[[sweep.parameters]]` blocks, or one inline list of tables.
+    let mut spans: Vec<std::ops::Range<usize>> =
+        match doc.get("sweep").and_then(|s| s.get("parameters")) {
+            Some(toml_edit::Item::ArrayOfTables(blocks)) => blocks
+                .iter()
+                .filter_map(|b| b.get("values")?.span())
+                .collect(),
+            Some(toml_edit::Item::Value(toml_edit::Value::Array(blocks))) => blocks
+                .iter()
+                .filter_map(|b| b.as_inline_table()?.get("values")?.span())
+                .collect(),
+            _ => Vec::new(),
+        };
     spans.sort_by_key(|s| s.start);
     let mut out = String::with_capacity(text.len());
     let mut at = 0;
