@@ -307,6 +307,9 @@ pub struct FlashReport {
     /// Channel potential as a floating conductor (V): median, lowest,
     /// highest; `None` without flashes or for files without it.
     pub channel_potential: Option<(f64, f64, f64)>,
+    /// Flashes whose channel reached the model top (the file's last
+    /// face), whose extent and potential then depend on `grid.top`.
+    pub at_model_top: usize,
     /// Temperature (degC) at the flashes' negative and positive charge
     /// centres (the centroids of the charge each flash neutralised):
     /// median, lowest, highest over the flashes that had one; `None`
@@ -504,6 +507,9 @@ fn flash_report(
         (down, negative_end.len() - down)
     });
     let channel_potential = median_range(flash_f64("flash_channel_potential")?);
+    let lid = flash_f64("z_face")?.last().copied();
+    let tops = flash_f64("flash_z_top")?;
+    let at_model_top = lid.map_or(0, |lid| tops.iter().filter(|&&z| z >= lid).count());
     // Missing centres (NaN) are the flashes that neutralised no charge of
     // that sign.
     let centre = |name: &str| -> Result<Option<(f64, f64, f64)>, crate::error::RunError> {
@@ -543,6 +549,7 @@ fn flash_report(
         initiation,
         negative_end_down,
         channel_potential,
+        at_model_top,
         negative_charge_temperature,
         positive_charge_temperature,
     })
@@ -609,6 +616,12 @@ impl Report {
                 mid / 1e6,
                 lo / 1e6,
                 hi / 1e6
+            ));
+        }
+        if fl.at_model_top > 0 {
+            s.push_str(&format!(
+                "{} of the channels reached the model top: their length and potential depend on grid.top (docs/discharge.md, \"Channels that reach the model top\")\n",
+                fl.at_model_top
             ));
         }
         let centre = |t: Option<(f64, f64, f64)>| {

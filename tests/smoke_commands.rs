@@ -303,6 +303,55 @@ fn flash_records_in_the_file() {
     );
 }
 
+/// The prescribed tripole's channels grown as floating conductors run to
+/// the model top (docs/discharge.md, "Channels that reach the model top"):
+/// `run` warns with the count and the lid, `analyze` of the file counts the
+/// flashes whose `flash_z_top` is the last face; the local-field channels
+/// never warn. Common practice: a boundary an answer depends on is reported.
+#[test]
+fn channels_at_the_model_top_are_reported_by_run_and_analyze() {
+    let config = repo("configs/tripole_flashes.toml");
+    let go = |name: &str, rule: &str| {
+        let out = scratch(name);
+        let run = bin()
+            .arg("run")
+            .arg(&config)
+            .args(["--quiet", "--set", "time.duration=3600"])
+            .args(["--set", &format!("discharge.channel_rule=\"{rule}\"")])
+            .arg("-o")
+            .arg(&out)
+            .output()
+            .unwrap();
+        assert_eq!(run.status.code(), Some(0));
+        let analyze = bin().arg("analyze").arg(&out).output().unwrap();
+        let f = netcdf::open(&out).unwrap();
+        let lid: Vec<f64> = f.variable("z_face").unwrap().get_values(..).unwrap();
+        let tops: Vec<f64> = f.variable("flash_z_top").unwrap().get_values(..).unwrap();
+        let at_top = tops.iter().filter(|&&z| z >= lid[lid.len() - 1]).count();
+        (
+            String::from_utf8_lossy(&run.stderr).into_owned(),
+            String::from_utf8_lossy(&analyze.stdout).into_owned(),
+            at_top,
+            tops.len(),
+        )
+    };
+    let (warned, report, at_top, flashes) = go("channels_top_eq.nc", "equipotential");
+    assert!(at_top > 0 && flashes > 0);
+    assert!(
+        warned.contains(&format!(
+            "{at_top} of {flashes} flash channels reached the model top (grid.top = 20000 m)"
+        )),
+        "{warned}"
+    );
+    assert!(
+        report.contains(&format!("{at_top} of the channels reached the model top")),
+        "{report}"
+    );
+    let (warned, report, at_top, _) = go("channels_top_local.nc", "local_field");
+    assert_eq!(at_top, 0);
+    assert!(!warned.contains("model top") && !report.contains("model top"));
+}
+
 #[test]
 fn bench_prints_its_figures() {
     // The benchmark is a measurement, not a test of speed: here only its
