@@ -804,13 +804,7 @@ fn draw<DB: DrawingBackend>(
 
 /// Draws `output` into `prefix`.png (and `prefix`.svg when asked).
 pub fn plot(output: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunError> {
-    let dir = crate::output::directory_of(prefix);
-    if !dir.is_dir() {
-        return Err(RunError::Output {
-            context: format!("writing {}", prefix.with_extension("png").display()),
-            message: format!("the directory {} does not exist", dir.display()),
-        });
-    }
+    crate::output::check_destination(&prefix.with_extension("png"))?;
     let d = read(output)?;
     let png = prefix.with_extension("png");
     draw(BitMapBackend::new(&png, o.size).into_drawing_area(), &d, o)?;
@@ -869,13 +863,7 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
     if rows.is_empty() {
         return Err(fail("the summary has no members".into()));
     }
-    let dir_of = crate::output::directory_of(prefix);
-    if !dir_of.is_dir() {
-        return Err(RunError::Output {
-            context: format!("writing {}", prefix.with_extension("png").display()),
-            message: format!("the directory {} does not exist", dir_of.display()),
-        });
-    }
+    crate::output::check_destination(&prefix.with_extension("png"))?;
     let title = format!(
         "sweep {}: structure at peak separation and flashes",
         dir.display()

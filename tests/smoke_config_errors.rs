@@ -567,3 +567,64 @@ fn a_time_that_is_not_finite_is_refused() {
         assert_config_error(&o, &["--time", "not a finite time"]);
     }
 }
+
+#[test]
+fn a_report_into_a_missing_directory_is_refused_before_any_work() {
+    // Common practice for batch tools: check the destination before the
+    // work, so a convergence study (minutes to hours) does not end in an
+    // error about a directory that was missing all along, and name the
+    // file asked for, not the temporary file written beside it.
+    let missing = scratch("no_such_directory").join("report.json");
+    let cases: [Vec<std::ffi::OsString>; 4] = [
+        vec![
+            "converge".into(),
+            repo("configs/teaching_tripole.toml").into(),
+            "--json".into(),
+            missing.clone().into(),
+        ],
+        vec![
+            "converge".into(),
+            repo("configs/teaching_tripole.toml").into(),
+            "--csv".into(),
+            missing.with_extension("csv").into(),
+        ],
+        vec![
+            "charging-map".into(),
+            "--scheme".into(),
+            "saunders_peck_1998".into(),
+            "--csv".into(),
+            missing.with_extension("csv").into(),
+        ],
+        vec!["init".into(), missing.with_extension("toml").into()],
+    ];
+    for args in cases {
+        let o = bin().args(&args).output().unwrap();
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(1), "{args:?}: {err}");
+        assert!(
+            err.contains("no_such_directory does not exist"),
+            "{args:?}: {err}"
+        );
+        assert!(
+            !err.contains(".tmp"),
+            "{args:?} names the temporary file: {err}"
+        );
+        // Nothing was computed: no table or report reached standard output.
+        assert!(
+            o.stdout.is_empty(),
+            "{args:?} worked first: {}",
+            String::from_utf8_lossy(&o.stdout)
+        );
+    }
+    // A directory where a file is asked for is named as such.
+    let dir = scratch("report_dir_not_file");
+    std::fs::create_dir_all(&dir).unwrap();
+    let o = bin()
+        .args(["charging-map", "--scheme", "gardiner_1985", "--csv"])
+        .arg(&dir)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(err.contains("a directory of that name exists"), "{err}");
+}

@@ -688,6 +688,10 @@ fn cmd_converge(
         ),
     };
     use crate::convergence::Refinement;
+    // The study can take hours: the report's files must be writable first.
+    for p in json.iter().chain(csv.iter()) {
+        crate::output::check_destination(p)?;
+    }
     let which: &[Refinement] = match refine {
         Refine::Time => &[Refinement::Time],
         Refine::Space => &[Refinement::Space],
@@ -781,6 +785,9 @@ fn cmd_charging_map(
             ));
         }
     };
+    if let Some(p) = csv {
+        crate::output::check_destination(p)?;
+    }
     // Each option within the range the map's formulas are meant for.
     for (key, value, lo, hi, unit, allowed) in [
         ("--crystal-diameter", d, 1e-6, 1e-2, "m", "[1e-6, 1e-2]"),
@@ -1081,6 +1088,9 @@ fn finite_times(times: &[f64]) -> Result<(), RunError> {
 
 fn cmd_analyze(path: &Path, times: &[f64], json: Option<&Path>) -> Result<(), RunError> {
     finite_times(times)?;
+    if let Some(j) = json {
+        crate::output::check_destination(j)?;
+    }
     if path.is_dir() {
         // A sweep directory: the share of each structure class.
         let report = crate::analysis::analyze_sweep(path)?;

@@ -950,6 +950,31 @@ pub fn commit_file(done: &Path, target: &Path) -> Result<(), RunError> {
     Ok(())
 }
 
+/// Checks that a file can be written at `target` before any work is done
+/// for it: its directory exists and `target` is not itself a directory.
+/// The commands call this first, so a long study does not end in an error
+/// about a directory that was missing all along, and the message names the
+/// file the user asked for, not the temporary one beside it.
+pub fn check_destination(target: &Path) -> Result<(), RunError> {
+    let fail = |message: String| RunError::Output {
+        context: format!("writing {}", target.display()),
+        message,
+    };
+    let dir = directory_of(target);
+    if !dir.is_dir() {
+        return Err(fail(format!(
+            "the directory {} does not exist",
+            dir.display()
+        )));
+    }
+    if target.is_dir() {
+        return Err(fail(
+            "a directory of that name exists (give a file name)".into(),
+        ));
+    }
+    Ok(())
+}
+
 /// Writes `contents` to `path` so that a reader never sees a half-written
 /// file and a failed write never destroys an earlier good one: the bytes go
 /// to `<path>.<pid>.tmp` beside it, are forced to disk, and the file is
@@ -957,6 +982,7 @@ pub fn commit_file(done: &Path, target: &Path) -> Result<(), RunError> {
 /// NetCDF output has its own protocol in [`netcdf_writer`]).
 pub fn write_atomically(path: &Path, contents: &[u8]) -> Result<(), RunError> {
     use std::io::Write;
+    check_destination(path)?;
     let tmp = beside(path, &format!(".{}.tmp", std::process::id()));
     let result = std::fs::File::create(&tmp)
         .and_then(|mut f| {
