@@ -837,10 +837,13 @@ impl SweepTable {
     pub fn read(dir: &std::path::Path) -> Result<Self, crate::error::RunError> {
         let path = dir.join("summary.csv");
         let fail = |m: String| summary_error(dir, m);
-        let text = std::fs::read_to_string(&path).map_err(|e| {
-            fail(format!(
-                "{e} (run the sweep, or sweep-merge its shards, first)"
-            ))
+        // No summary: the directory is not (yet) a sweep's, a usage error
+        // (exit 2) as a missing input file is.
+        let text = std::fs::read_to_string(&path).map_err(|e| crate::error::RunError::Usage {
+            context: format!("sweep directory {}", dir.display()),
+            message: format!(
+                "cannot read its summary.csv: {e} (run the sweep, or sweep-merge its shards, first)"
+            ),
         })?;
         let mut lines = text.lines();
         let header = crate::output::csv::csv_fields(lines.next().unwrap_or(""));

@@ -153,6 +153,11 @@ pub enum RunError {
     },
     #[error("{context}: {message}")]
     Output { context: String, message: String },
+    /// A file named on the command line that cannot be used as asked (a
+    /// usage error, exit code 2), such as an output file to analyse that
+    /// is missing or is not NetCDF.
+    #[error("{context}: {message}")]
+    Usage { context: String, message: String },
     #[error("numerical failure at t = {time} s: {message}")]
     Numerics { time: f64, message: String },
     /// Some members of a sweep failed (the others' results are written).
@@ -177,7 +182,7 @@ impl RunError {
     /// sweep in which some members failed, 1 otherwise.
     pub fn exit_code(&self) -> i32 {
         match self {
-            RunError::Config(_) => 2,
+            RunError::Config(_) | RunError::Usage { .. } => 2,
             RunError::MembersFailed { .. } => 3,
             _ => 1,
         }

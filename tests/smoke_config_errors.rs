@@ -344,12 +344,19 @@ fn a_missing_or_foreign_input_file_is_a_usage_error() {
         vec!["analyze".to_string(), foreign.display().to_string()],
     ] {
         let o = bin().args(&args).output().unwrap();
-        assert_config_error(&o, &["(file)"]);
+        assert_config_error(&o, &["output file"]);
         let err = stderr(&o);
         assert!(
             err.contains("no_such_output.nc") || err.contains("not a NetCDF file"),
             "{err}"
         );
+    }
+    // A directory that holds no sweep's summary is a missing input too.
+    let empty = scratch("not_a_sweep_directory");
+    std::fs::create_dir_all(&empty).unwrap();
+    for command in ["analyze", "plot"] {
+        let o = bin().arg(command).arg(&empty).output().unwrap();
+        assert_config_error(&o, &["sweep directory", "summary.csv"]);
     }
 }
 

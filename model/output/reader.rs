@@ -19,14 +19,12 @@ impl OutputFile {
     pub fn open(path: &Path) -> Result<Self, RunError> {
         // A missing or unreadable input file is a usage error (exit 2), with
         // the path and the operating system's reason.
-        let usage = |why: String| {
-            RunError::Config(crate::error::ConfigError::single(
-                path.display().to_string(),
-                crate::error::ConfigIssue::new("(file)", why),
-            ))
+        let usage = |message: String| RunError::Usage {
+            context: format!("output file {}", path.display()),
+            message,
         };
         if let Err(e) = std::fs::metadata(path) {
-            return Err(usage(format!("cannot read the output file: {e}")));
+            return Err(usage(format!("cannot read it: {e}")));
         }
         crate::output::quiet_library_diagnostics();
         let file = netcdf::open(path)
