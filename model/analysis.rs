@@ -684,6 +684,30 @@ pub struct EnsembleReport {
     /// member's flashing stage show ("no_flashes" for members without
     /// any); empty for summaries written before the column existed.
     pub classes_while_flashing: Vec<(String, f64, Vec<String>)>,
+    /// One row per member that ran, for comparing them side by side.
+    pub rows: Vec<MemberRow>,
+}
+
+/// One member's key outcomes, read from its summary row (`None` where the
+/// outcome does not exist, e.g. no flash, or the column is older than the
+/// summary).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct MemberRow {
+    pub member: usize,
+    /// The swept values, "key=value" joined by ", ".
+    pub values: String,
+    /// Intracloud, negative ground and positive ground flashes.
+    pub flashes: [u64; 3],
+    /// Time of the first flash (s).
+    pub first_flash_s: Option<f64>,
+    /// Largest |E_z| of the run (V m-1).
+    pub peak_field_v_m: Option<f64>,
+    /// Main negative region at the largest separation: charge (C) and
+    /// temperature (degC).
+    pub main_negative_c: Option<f64>,
+    pub main_negative_temperature_degc: Option<f64>,
+    /// Structure class at the largest separation.
+    pub structure: String,
 }
 
 /// Lists longer than this are printed as runs of member numbers, not one
@@ -778,6 +802,43 @@ fn shares(classes: &mut [(String, f64, Vec<String>)], n: usize) {
 }
 
 impl EnsembleReport {
+    /// The members side by side (up to [`LISTED_ONE_BY_ONE`] of them; a
+    /// larger ensemble is compared through summary.csv or `--json`): the
+    /// numbers a comparison of schemes or criteria starts from.
+    fn comparison_table(&self, out: &mut String) {
+        if self.rows.is_empty() || self.rows.len() > LISTED_ONE_BY_ONE {
+            return;
+        }
+        let opt = |v: Option<f64>, scale: f64, digits: usize| {
+            v.map_or("-".to_string(), |x| format!("{:.*}", digits, x * scale))
+        };
+        let width = self
+            .rows
+            .iter()
+            .map(|r| r.values.len())
+            .max()
+            .unwrap_or(0)
+            .max(6);
+        out.push_str(&format!(
+            "members side by side (main negative region at the largest separation):\n  {:>6}  {:<width$}  {:>10}  {:>11}  {:>10}  {:>10}  {:>10}  {:>8}  structure\n",
+            "member", "values", "intracloud", "ground -/+", "first (s)", "peak kV/m", "neg. (C)", "(degC)"
+        ));
+        for r in &self.rows {
+            out.push_str(&format!(
+                "  {:>6}  {:<width$}  {:>10}  {:>11}  {:>10}  {:>10}  {:>10}  {:>8}  {}\n",
+                r.member,
+                r.values,
+                r.flashes[0],
+                format!("{}/{}", r.flashes[1], r.flashes[2]),
+                opt(r.first_flash_s, 1.0, 1),
+                opt(r.peak_field_v_m, 1e-3, 1),
+                opt(r.main_negative_c, 1.0, 1),
+                opt(r.main_negative_temperature_degc, 1.0, 1),
+                r.structure
+            ));
+        }
+    }
+
     /// The report as text.
     pub fn text(&self) -> String {
         let mut out = format!(
@@ -811,6 +872,7 @@ impl EnsembleReport {
             }
         ));
         member_lines(&mut out, &self.members_with_ground_flashes);
+        self.comparison_table(&mut out);
         if !self.members_with_channels_at_top.is_empty() {
             out.push_str(&format!(
                 "flash channels reached the model top in {} member{}: their flashes depend on grid.top (docs/discharge.md, \"Channels that reach the model top\")\n",
@@ -893,8 +955,19 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         members_with_ground_flashes: Vec::new(),
         members_with_channels_at_top: Vec::new(),
         classes_while_flashing: Vec::new(),
+        rows: Vec::new(),
     };
     let while_flashing = table.column("structure_while_flashing").ok();
+    // Optional numbers of the comparison table: missing columns and empty
+    // or NaN cells read as "none".
+    let number = |f: &[String], name: &str| {
+        table
+            .column(name)
+            .ok()
+            .and_then(|col| f.get(col))
+            .and_then(|v| v.parse::<f64>().ok())
+            .filter(|v| v.is_finite())
+    };
     let at_top = table.column("flash_channels_at_model_top").ok();
     let fail = |m: String| summary_error(dir, m);
     let kinds = [
@@ -952,6 +1025,16 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
             };
             tally(&mut report.classes_while_flashing, class, member.clone());
         }
+        report.rows.push(MemberRow {
+            member: f[0].parse().unwrap_or(0),
+            values: values.join(", "),
+            flashes: counts,
+            first_flash_s: number(f, "first_flash_s"),
+            peak_field_v_m: number(f, "peak_field_V_m"),
+            main_negative_c: number(f, "main_negative_C"),
+            main_negative_temperature_degc: number(f, "main_negative_temperature_degC"),
+            structure: f[structure].clone(),
+        });
         tally(&mut report.classes, &f[structure], member);
     }
     shares(&mut report.classes, report.members);
@@ -1052,6 +1135,81 @@ mod tests {
             .collect();
         let expected: Vec<usize> = (1..=10_000).step_by(2).collect();
         assert_eq!(listed, expected);
+    }
+
+    /// `analyze` of a sweep puts the members side by side with the values
+    /// their summary rows hold (a member without flashes has no first-flash
+    /// time; a summary without a column prints "-"), and leaves the table
+    /// out for ensembles too large to read line by line.
+    #[test]
+    fn members_side_by_side_repeat_their_summary_rows() {
+        let dir = std::env::temp_dir().join(format!("stormcharge-side-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let header = "member,breakdown.trigger,status,flashes_intracloud,flashes_negative_ground,\
+                      flashes_positive_ground,first_flash_s,peak_field_V_m,\
+                      structure_at_peak_separation,main_negative_C";
+        let rows = [
+            "1,runaway_avalanche,ok,113,2,0,1410.14,124012.5,normal_tripole,-52.71",
+            "2,conventional_breakdown,ok,0,0,0,NaN,1059900,normal_dipole,-498.1",
+        ];
+        std::fs::write(
+            dir.join("summary.csv"),
+            format!("{header}\n{}\n", rows.join("\n")),
+        )
+        .unwrap();
+        let report = analyze_sweep(&dir).unwrap();
+        assert_eq!(report.rows.len(), 2);
+        assert_eq!(report.rows[0].flashes, [113, 2, 0]);
+        assert_eq!(report.rows[1].first_flash_s, None);
+        assert_eq!(report.rows[0].main_negative_temperature_degc, None);
+        let text = report.text();
+        let line = |n: &str| {
+            text.lines()
+                .find(|l| l.trim_start().starts_with(n))
+                .unwrap_or_else(|| panic!("no row {n} in:\n{text}"))
+                .split_whitespace()
+                .collect::<Vec<_>>()
+        };
+        assert_eq!(
+            line("1  breakdown"),
+            [
+                "1",
+                "breakdown.trigger=runaway_avalanche",
+                "113",
+                "2/0",
+                "1410.1",
+                "124.0",
+                "-52.7",
+                "-",
+                "normal_tripole"
+            ]
+        );
+        assert_eq!(
+            line("2  breakdown"),
+            [
+                "2",
+                "breakdown.trigger=conventional_breakdown",
+                "0",
+                "0/0",
+                "-",
+                "1059.9",
+                "-498.1",
+                "-",
+                "normal_dipole"
+            ]
+        );
+        // Beyond LISTED_ONE_BY_ONE members: no table (summary.csv has them).
+        let many: Vec<String> = (1..=LISTED_ONE_BY_ONE + 1)
+            .map(|n| format!("{n},runaway_avalanche,ok,1,0,0,10,1e5,normal_dipole,-1"))
+            .collect();
+        std::fs::write(
+            dir.join("summary.csv"),
+            format!("{header}\n{}\n", many.join("\n")),
+        )
+        .unwrap();
+        let text = analyze_sweep(&dir).unwrap().text();
+        assert!(!text.contains("side by side"), "{text}");
+        std::fs::remove_dir_all(&dir).unwrap();
     }
 
     #[test]
