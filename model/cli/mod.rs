@@ -626,11 +626,16 @@ fn cmd_run(
                 } else {
                     ""
                 };
-                println!(
-                    "    {:<26} {:>9.3}{trigger}",
-                    c.name(),
-                    summary.peak_ratio[c as usize]
-                );
+                // Ratios far above one (the streamer-to-leader charge of a
+                // zone hundreds of metres long) in exponent form, so the
+                // column keeps its width and its three significant places.
+                let r = summary.peak_ratio[c as usize];
+                let value = if r.abs() >= 1e5 {
+                    format!("{r:.3e}")
+                } else {
+                    format!("{r:.3}")
+                };
+                println!("    {:<26} {value:>9}{trigger}", c.name());
             }
             // What the numbers mean for this run's flashes.
             use crate::physics::breakdown::Criterion;
