@@ -578,13 +578,18 @@ fn profile_chart<'b, DB: DrawingBackend>(
     let mut c = ChartBuilder::on(area)
         .caption(caption, ("sans-serif", 14))
         .margin(6)
-        .x_label_area_size(40)
+        // Room under the axis title for the field panel's off-scale note.
+        .x_label_area_size(54)
         .y_label_area_size(45)
         .build_cartesian_2d(-half..half, 0.0..ztop)
         .map_err(err)?;
+    // One tick label per 45 pixels or so: a third of the picture's width
+    // holds about five, where the default ten ran into each other.
+    let (w, _) = area.dim_in_pixel();
     c.configure_mesh()
         .x_desc(x_desc)
         .y_desc("height (km)")
+        .x_labels((w as usize / 45).clamp(3, 10))
         .x_label_formatter(&|v| tick(*v, half))
         .label_style(("sans-serif", 11))
         .axis_desc_style(("sans-serif", 12))
@@ -688,7 +693,7 @@ fn profiles_panel<DB: DrawingBackend>(
         let (_, h) = mid.dim_in_pixel();
         mid.draw(&Text::new(
             format!("off scale (kV/m): {}", off_scale.join("; ")),
-            (50, h as i32 - 58),
+            (50, h as i32 - 30),
             ("sans-serif", 10).into_font(),
         ))
         .map_err(err)?;
