@@ -928,7 +928,8 @@ fn draw_sweep<DB: DrawingBackend>(
         .margin(10)
         .x_label_area_size(40)
         .y_label_area_size(20)
-        .build_cartesian_2d(-0.45 * most..most * 1.05, 0.0..n)
+        // The right quarter stays free for the key of colours.
+        .build_cartesian_2d(-0.45 * most..most * 1.4, 0.0..n)
         .map_err(err)?;
     chart
         .configure_mesh()
@@ -951,6 +952,23 @@ fn draw_sweep<DB: DrawingBackend>(
     let (_, height) = root.dim_in_pixel();
     let row_px = f64::from(height.saturating_sub(SWEEP_FRAME_PX)) / n;
     let every = (f64::from(SWEEP_ROW_PX) / row_px).ceil().max(1.0) as usize;
+    // Labels grow with their rows up to 15 px and sit in the middle of
+    // them (text is placed by its top edge; a data unit is one row).
+    // No wider than the longest label allows between the left edge and the
+    // class squares (at most about 0.45 em a character in a sans-serif
+    // face, measured on this picture's labels).
+    let room = f64::from(
+        chart.backend_coord(&(-0.07 * most, 0.0)).0 - chart.backend_coord(&(-0.44 * most, 0.0)).0,
+    );
+    let longest = rows
+        .iter()
+        .map(|(label, s, _)| label.chars().count() + s.chars().count() + 3)
+        .max()
+        .unwrap_or(1) as f64;
+    let font_px = (0.45 * row_px)
+        .min(room / (0.45 * longest))
+        .clamp(11.0, 15.0);
+    let text_top = 0.5 + 0.5 * font_px / row_px.max(1.0);
     for (i, (label, s, counts)) in rows.iter().enumerate() {
         let y = n - i as f64 - 1.0;
         chart
@@ -963,8 +981,8 @@ fn draw_sweep<DB: DrawingBackend>(
             chart
                 .draw_series(std::iter::once(Text::new(
                     format!("{label} [{s}]"),
-                    (-0.44 * most, y + 0.7),
-                    ("sans-serif", 11).into_font(),
+                    (-0.44 * most, y + text_top),
+                    ("sans-serif", font_px).into_font(),
                 )))
                 .map_err(err)?;
         }
@@ -981,6 +999,35 @@ fn draw_sweep<DB: DrawingBackend>(
             x += c;
         }
     }
+    // The key: the classes and the flash kinds that occur, in the order
+    // the rows show them.
+    let mut classes: Vec<&str> = Vec::new();
+    for (_, s, _) in rows {
+        if !classes.contains(&s.as_str()) {
+            classes.push(s);
+        }
+    }
+    let swatch = |colour: RGBColor| {
+        move |(x, y): (i32, i32)| Rectangle::new([(x, y - 5), (x + 14, y + 5)], colour.filled())
+    };
+    for class in classes {
+        chart
+            .draw_series(std::iter::empty::<Rectangle<(f64, f64)>>())
+            .map_err(err)?
+            .label(format!("structure: {class}"))
+            .legend(swatch(structure_colour(class)));
+    }
+    for k in 0..3 {
+        if rows.iter().any(|r| r.2[k] > 0.0) {
+            let (colour, name) = flash_style(k as i32 + 1);
+            chart
+                .draw_series(std::iter::empty::<Rectangle<(f64, f64)>>())
+                .map_err(err)?
+                .label(format!("{name} flashes"))
+                .legend(swatch(colour));
+        }
+    }
+    legend(&mut chart, SeriesLabelPosition::UpperRight, 13)?;
     root.present().map_err(err)?;
     Ok(())
 }

@@ -178,4 +178,10 @@ fn a_large_sweep_picture_grows_with_its_members() {
         &["--width", "1200", "--height", "900"],
     );
     assert_eq!((png.width(), png.height()), (1200, 900));
+    // Its key names the classes and the flash kinds that occur, and no
+    // other (a picture's colours need a key: common practice).
+    let (_, svg) = sweep_picture(&sweep_of("keyed_sweep", 6), true, &[]);
+    assert!(svg.contains("structure: normal_tripole"), "no class key");
+    assert!(svg.contains("intracloud flashes"), "no flash key");
+    assert!(!svg.contains("ground flashes"), "a kind that did not occur");
 }
