@@ -686,6 +686,24 @@ pub struct EnsembleReport {
     pub classes_while_flashing: Vec<(String, f64, Vec<String>)>,
     /// One row per member that ran, for comparing them side by side.
     pub rows: Vec<MemberRow>,
+    /// With `sweep.error_estimate`: which members keep their class and
+    /// flash count at half the step and at half the spacing.
+    pub numerics: Option<NumericsCheck>,
+}
+
+/// Whether each member's answer survives halving its step and its spacing
+/// (from the summary columns `sweep.error_estimate` fills). A class that
+/// changes, or a flash count that changes by more than one, is a property
+/// of the numerics, not of the storm (docs/numerics.md).
+#[derive(Debug, Clone, PartialEq, Default, serde::Serialize)]
+pub struct NumericsCheck {
+    /// Members with both refined runs.
+    pub checked: usize,
+    /// "member N: values (class -> class at half the step)" and the like.
+    pub class_changes: Vec<String>,
+    /// "member N: values (flashes -> flashes at half the spacing)" and the
+    /// like, for changes of more than one flash.
+    pub flash_changes: Vec<String>,
 }
 
 /// One member's key outcomes, read from its summary row (`None` where the
@@ -873,6 +891,18 @@ impl EnsembleReport {
         ));
         member_lines(&mut out, &self.members_with_ground_flashes);
         self.comparison_table(&mut out);
+        if let Some(check) = &self.numerics {
+            let plural = |n: usize| if n == 1 { "" } else { "s" };
+            out.push_str(&format!(
+                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {}, the flash count by more than one in {} (such answers belong to the numerics, not the storm)\n",
+                check.checked,
+                plural(check.checked),
+                check.class_changes.len(),
+                check.flash_changes.len()
+            ));
+            member_lines(&mut out, &check.class_changes);
+            member_lines(&mut out, &check.flash_changes);
+        }
         if !self.members_with_channels_at_top.is_empty() {
             out.push_str(&format!(
                 "flash channels reached the model top in {} member{}: their flashes depend on grid.top (docs/discharge.md, \"Channels that reach the model top\")\n",
@@ -956,7 +986,17 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         members_with_channels_at_top: Vec::new(),
         classes_while_flashing: Vec::new(),
         rows: Vec::new(),
+        numerics: None,
     };
+    // The refined runs' columns, where the summary has them.
+    let refined: Vec<(&str, usize, usize)> = [("step", "half_step"), ("spacing", "half_spacing")]
+        .into_iter()
+        .filter_map(|(what, suffix)| {
+            let class = table.column(&format!("structure_at_{suffix}")).ok()?;
+            let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
+            Some((what, class, flashes))
+        })
+        .collect();
     let while_flashing = table.column("structure_while_flashing").ok();
     // Optional numbers of the comparison table: missing columns and empty
     // or NaN cells read as "none".
@@ -1024,6 +1064,33 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
                 class
             };
             tally(&mut report.classes_while_flashing, class, member.clone());
+        }
+        // Both refined runs present: the member's answer is checked.
+        let refined_here: Vec<(&str, &str, f64)> = refined
+            .iter()
+            .filter_map(|&(what, class, flashes)| {
+                let c = f.get(class).map(String::as_str).filter(|c| !c.is_empty())?;
+                let n = number(f, &table.header[flashes])?;
+                Some((what, c, n))
+            })
+            .collect();
+        if refined.len() == 2 && refined_here.len() == 2 {
+            let check = report.numerics.get_or_insert_with(NumericsCheck::default);
+            check.checked += 1;
+            let total = counts.iter().sum::<u64>() as f64;
+            for (what, class, n) in refined_here {
+                if class != f[structure] {
+                    check.class_changes.push(format!(
+                        "{member} ({} -> {class} at half the {what})",
+                        f[structure]
+                    ));
+                }
+                if (n - total).abs() > 1.0 {
+                    check.flash_changes.push(format!(
+                        "{member} ({total} -> {n} flashes at half the {what})"
+                    ));
+                }
+            }
         }
         report.rows.push(MemberRow {
             member: f[0].parse().unwrap_or(0),
@@ -1209,6 +1276,60 @@ mod tests {
         .unwrap();
         let text = analyze_sweep(&dir).unwrap().text();
         assert!(!text.contains("side by side"), "{text}");
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    /// With `sweep.error_estimate` columns, `analyze` names the members
+    /// whose class changes at half the step or spacing and those whose
+    /// flash count changes by more than one (the convergence issue's
+    /// bound: within one between a step and half of it); a change of one
+    /// flash is not reported, and a summary without the columns (or with
+    /// them empty) has no such check.
+    #[test]
+    fn members_whose_answer_changes_with_the_numerics_are_named() {
+        let dir = std::env::temp_dir().join(format!("stormcharge-numerics-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let header = "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,\
+                      flashes_positive_ground,structure_at_peak_separation,structure_at_half_step,\
+                      flashes_at_half_step,structure_at_half_spacing,flashes_at_half_spacing";
+        let rows = [
+            "1,10,ok,10,1,0,normal_tripole,normal_tripole,12,normal_tripole,11",
+            "2,12,ok,20,0,0,normal_tripole,normal_dipole,20,normal_tripole,23",
+            "3,14,ok,5,0,0,normal_dipole,normal_dipole,5,normal_dipole,5",
+            "4,16,ok,5,0,0,normal_dipole,,NaN,,NaN",
+        ];
+        std::fs::write(
+            dir.join("summary.csv"),
+            format!("{header}\n{}\n", rows.join("\n")),
+        )
+        .unwrap();
+        let report = analyze_sweep(&dir).unwrap();
+        let check = report.numerics.clone().unwrap();
+        assert_eq!(check.checked, 3);
+        assert_eq!(
+            check.class_changes,
+            ["member 2: updraft.peak_speed=12 (normal_tripole -> normal_dipole at half the step)"]
+        );
+        assert_eq!(
+            check.flash_changes,
+            ["member 2: updraft.peak_speed=12 (20 -> 23 flashes at half the spacing)"]
+        );
+        assert!(report
+            .text()
+            .contains("the class changes in 1, the flash count by more than one in 1"));
+        let plain = header.split(",structure_at_half_step").next().unwrap();
+        let rows: Vec<String> = rows
+            .iter()
+            .map(|r| r.split(',').take(7).collect::<Vec<_>>().join(","))
+            .collect();
+        std::fs::write(
+            dir.join("summary.csv"),
+            format!("{plain}\n{}\n", rows.join("\n")),
+        )
+        .unwrap();
+        let report = analyze_sweep(&dir).unwrap();
+        assert_eq!(report.numerics, None);
+        assert!(!report.text().contains("numerics ("));
         std::fs::remove_dir_all(&dir).unwrap();
     }
 

@@ -68,6 +68,11 @@ pub(crate) struct LevelRun {
     pre_flash_records: usize,
     /// Charge density and field just before each flash.
     before_flash: Vec<(Vec<f64>, Vec<f64>)>,
+    /// Structure class at the largest charge separation (the sweep
+    /// summary's `structure_at_peak_separation`).
+    pub(crate) structure: crate::analysis::Structure,
+    /// Flashes by kind: intracloud, negative and positive ground.
+    pub(crate) flash_counts: [u64; 3],
 }
 
 /// The hydrometeors whose content profiles `converge` compares, with the
@@ -548,6 +553,8 @@ pub(crate) fn run_level(
         carriers: std::mem::take(&mut c.carriers),
         pre_flash_records: c.pre_flash_records,
         before_flash: std::mem::take(&mut c.before_flash),
+        structure: crate::analysis::classify(&c.peak.regions(&exp)),
+        flash_counts: c.summary.as_ref().map_or([0; 3], |s| s.flash_counts),
     })
 }
 

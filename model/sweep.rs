@@ -70,6 +70,16 @@ pub struct Outcome {
     /// (NaN unless `sweep.error_estimate`).
     #[serde(default = "no_estimate", deserialize_with = "nan::two_by_two")]
     pub error_estimate: [[f64; 2]; 2],
+    /// With `sweep.error_estimate`: the structure class at the largest
+    /// separation of the member at half its step and at half its spacing
+    /// (empty otherwise, and in outcomes written before it was kept), and
+    /// the number of flashes of all kinds there (NaN otherwise). A class
+    /// or a flash count that changes with the numerics is an artefact of
+    /// them, not a result.
+    #[serde(default)]
+    pub structure_refined: [String; 2],
+    #[serde(default = "no_pair", deserialize_with = "nan::two")]
+    pub flashes_refined: [f64; 2],
     /// Largest charge (C, magnitude) on a 2.5 mm drop and a 2.5 mm graupel
     /// particle over the run, the charge shared over the size distribution
     /// in proportion to surface area (the run summary's diagnostic).
@@ -269,6 +279,8 @@ struct Watch {
     ratios: Vec<f64>,
     area: f64,
     error_estimate: [[f64; 2]; 2],
+    /// Class and flash total at half the step and at half the spacing.
+    refined: [Option<(Structure, u64)>; 2],
     /// Model time and structure class of every output record, and the
     /// times of the first and last flash.
     classes: Vec<(f64, Structure)>,
@@ -393,6 +405,8 @@ fn failed_outcome(member: Member) -> Outcome {
         model_time: f64::NAN,
         column_area: f64::NAN,
         error_estimate: no_estimate(),
+        structure_refined: Default::default(),
+        flashes_refined: no_pair(),
         charge_2p5mm: no_pair(),
         channels_at_model_top: f64::NAN,
         structure_while_flashing: String::new(),
@@ -458,6 +472,10 @@ pub fn run_member(
                 for level in 1..3 {
                     let o = level_overrides(&overrides, dt, dz, refinement, level);
                     let fine = run_level(base_text, "error estimate", base_dir, &o)?;
+                    if level == 1 {
+                        watch.refined[i] =
+                            Some((fine.structure, fine.flash_counts.iter().sum::<u64>()));
+                    }
                     levels.push([fine.outcome(PEAK_FIELD), fine.outcome(MAIN_NEGATIVE_CHARGE)]);
                 }
                 for q in 0..2 {
@@ -486,6 +504,12 @@ pub fn run_member(
             out.model_time = s.model_time;
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
+            for (i, r) in watch.refined.iter().enumerate() {
+                if let Some((class, flashes)) = r {
+                    out.structure_refined[i] = class.name().into();
+                    out.flashes_refined[i] = *flashes as f64;
+                }
+            }
             out.charge_2p5mm = s.max_charge_2p5mm;
             out.channels_at_model_top = s.channels_at_model_top as f64;
             if let Some((class, share, _)) = majority_class(&watch.classes, watch.flash_span) {
@@ -812,6 +836,23 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
                 move |o| N(o.error_estimate[q][i]),
             ));
         }
+    }
+    for (i, refinement) in ["half_step", "half_spacing"].into_iter().enumerate() {
+        let what = refinement.replace('_', " ");
+        v.push(col(
+            &format!("structure_at_{refinement}"),
+            &format!("structure_at_{refinement}"),
+            &format!("structure class at the largest charge separation of the member at {what} (sweep.error_estimate)"),
+            "",
+            move |o| T(o.structure_refined[i].clone()),
+        ));
+        v.push(col(
+            &format!("flashes_at_{refinement}"),
+            &format!("flashes_at_{refinement}"),
+            &format!("flashes of all kinds of the member at {what} (sweep.error_estimate)"),
+            "1",
+            move |o| N(o.flashes_refined[i]),
+        ));
     }
     for (i, which) in ["min", "median", "max"].into_iter().enumerate() {
         v.push(col(

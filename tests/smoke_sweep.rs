@@ -719,6 +719,72 @@ values = [2000.0, 3000.0]
             }
         }
     }
+    // The class and flash count each member has at half its step and at
+    // half its spacing are those of the same members run as ordinary sweep
+    // members with the step or the spacing halved (an independent path:
+    // the member's own run, its own summary row).
+    let halved = config_with_sweep(
+        r#"
+[sweep]
+combine = "zip"
+[[sweep.parameters]]
+key = "column.radius"
+values = [2000.0, 3000.0, 2000.0, 3000.0]
+[[sweep.parameters]]
+key = "time.step"
+values = [1.0, 1.0, 2.0, 2.0]
+[[sweep.parameters]]
+key = "grid.spacing"
+values = [100.0, 100.0, 50.0, 50.0]
+"#,
+    );
+    sweep_ok(&halved, "estimate_halved", &["--outcomes-only"]);
+    use stormcharge::output::csv::csv_fields;
+    let table = |dir: &str| -> (Vec<String>, Vec<Vec<String>>) {
+        let csv = read(dir, "summary.csv");
+        let mut lines = csv.lines();
+        let header = csv_fields(lines.next().unwrap());
+        (header, lines.map(csv_fields).collect())
+    };
+    let (h_est, est) = table("estimate");
+    let (h_half, half) = table("estimate_halved");
+    let col = |h: &[String], name: &str| h.iter().position(|x| x == name).unwrap();
+    let total = |h: &[String], r: &[String]| -> f64 {
+        [
+            "flashes_intracloud",
+            "flashes_negative_ground",
+            "flashes_positive_ground",
+        ]
+        .iter()
+        .map(|k| r[col(h, k)].parse::<f64>().unwrap())
+        .sum()
+    };
+    for (i, row) in est.iter().enumerate() {
+        for (j, suffix) in ["half_step", "half_spacing"].into_iter().enumerate() {
+            let other = &half[2 * j + i];
+            assert_eq!(
+                row[col(&h_est, &format!("structure_at_{suffix}"))],
+                other[col(&h_half, "structure_at_peak_separation")],
+                "member {} at {suffix}",
+                i + 1
+            );
+            let n: f64 = row[col(&h_est, &format!("flashes_at_{suffix}"))]
+                .parse()
+                .unwrap();
+            assert_eq!(n, total(&h_half, other), "member {} at {suffix}", i + 1);
+        }
+    }
+    // `analyze` reports the check over both members.
+    let o = bin()
+        .arg("analyze")
+        .arg(scratch("estimate"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("numerics (sweep.error_estimate, 2 members rerun at half the step and half the spacing)"),
+        "{text}"
+    );
 }
 
 #[test]
