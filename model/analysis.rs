@@ -704,6 +704,9 @@ pub struct NumericsCheck {
     /// "member N: values (flashes -> flashes at half the spacing)" and the
     /// like, for changes of more than one flash.
     pub flash_changes: Vec<String>,
+    /// The same as `class_changes` for the class of the flashing stage
+    /// ("no_flashes" for a run without any).
+    pub flashing_class_changes: Vec<String>,
 }
 
 /// One member's key outcomes, read from its summary row (`None` where the
@@ -894,14 +897,16 @@ impl EnsembleReport {
         if let Some(check) = &self.numerics {
             let plural = |n: usize| if n == 1 { "" } else { "s" };
             out.push_str(&format!(
-                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {}, the flash count by more than one in {} (such answers belong to the numerics, not the storm)\n",
+                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {}, the flash count by more than one in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
                 check.checked,
                 plural(check.checked),
                 check.class_changes.len(),
-                check.flash_changes.len()
+                check.flash_changes.len(),
+                check.flashing_class_changes.len()
             ));
             member_lines(&mut out, &check.class_changes);
             member_lines(&mut out, &check.flash_changes);
+            member_lines(&mut out, &check.flashing_class_changes);
         }
         if !self.members_with_channels_at_top.is_empty() {
             out.push_str(&format!(
@@ -989,14 +994,25 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         numerics: None,
     };
     // The refined runs' columns, where the summary has them.
-    let refined: Vec<(&str, usize, usize)> = [("step", "half_step"), ("spacing", "half_spacing")]
-        .into_iter()
-        .filter_map(|(what, suffix)| {
-            let class = table.column(&format!("structure_at_{suffix}")).ok()?;
-            let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
-            Some((what, class, flashes))
-        })
-        .collect();
+    let refined: Vec<(&str, usize, usize, Option<usize>)> =
+        [("step", "half_step"), ("spacing", "half_spacing")]
+            .into_iter()
+            .filter_map(|(what, suffix)| {
+                let class = table.column(&format!("structure_at_{suffix}")).ok()?;
+                let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
+                let flashing = table
+                    .column(&format!("structure_while_flashing_at_{suffix}"))
+                    .ok();
+                Some((what, class, flashes, flashing))
+            })
+            .collect();
+    let flashing_name = |c: &str| {
+        if c.is_empty() {
+            "no_flashes".to_string()
+        } else {
+            c.to_string()
+        }
+    };
     let while_flashing = table.column("structure_while_flashing").ok();
     // Optional numbers of the comparison table: missing columns and empty
     // or NaN cells read as "none".
@@ -1066,19 +1082,32 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
             tally(&mut report.classes_while_flashing, class, member.clone());
         }
         // Both refined runs present: the member's answer is checked.
-        let refined_here: Vec<(&str, &str, f64)> = refined
+        let refined_here: Vec<(&str, &str, f64, Option<String>)> = refined
             .iter()
-            .filter_map(|&(what, class, flashes)| {
+            .filter_map(|&(what, class, flashes, flashing)| {
                 let c = f.get(class).map(String::as_str).filter(|c| !c.is_empty())?;
                 let n = number(f, &table.header[flashes])?;
-                Some((what, c, n))
+                let stage = flashing
+                    .and_then(|col| f.get(col))
+                    .map(|c| flashing_name(c));
+                Some((what, c, n, stage))
             })
             .collect();
         if refined.len() == 2 && refined_here.len() == 2 {
             let check = report.numerics.get_or_insert_with(NumericsCheck::default);
             check.checked += 1;
             let total = counts.iter().sum::<u64>() as f64;
-            for (what, class, n) in refined_here {
+            let own_stage = while_flashing
+                .and_then(|col| f.get(col))
+                .map(|c| flashing_name(c));
+            for (what, class, n, stage) in refined_here {
+                if let (Some(stage), Some(own)) = (stage, &own_stage) {
+                    if &stage != own {
+                        check
+                            .flashing_class_changes
+                            .push(format!("{member} ({own} -> {stage} at half the {what})"));
+                    }
+                }
                 if class != f[structure] {
                     check.class_changes.push(format!(
                         "{member} ({} -> {class} at half the {what})",

@@ -73,6 +73,9 @@ pub(crate) struct LevelRun {
     pub(crate) structure: crate::analysis::Structure,
     /// Flashes by kind: intracloud, negative and positive ground.
     pub(crate) flash_counts: [u64; 3],
+    /// The class most records of the flashing stage show (`None` without
+    /// flashes; the sweep summary's `structure_while_flashing`).
+    pub(crate) structure_while_flashing: Option<crate::analysis::Structure>,
 }
 
 /// The hydrometeors whose content profiles `converge` compares, with the
@@ -179,6 +182,11 @@ struct Collector {
     last_field: Vec<f64>,
     flashes_shown: usize,
     before_flash: Vec<(Vec<f64>, Vec<f64>)>,
+    /// Each record's time and structure class, and the times of the first
+    /// flash and of the last one seen at a record: the flashing stage's
+    /// majority class, taken as a sweep member takes it.
+    classes: Vec<(f64, crate::analysis::Structure)>,
+    flash_span: Option<(f64, f64)>,
 }
 
 impl Collector {
@@ -201,6 +209,12 @@ impl Observer for Collector {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let flashes_before = self.flashes;
         self.book_flashes(state);
+        if let Some(last) = state.ledger.flashes.last() {
+            let first = self
+                .flash_span
+                .map_or(state.ledger.flashes[0].time, |s| s.0);
+            self.flash_span = Some((first, last.time));
+        }
         self.charge.push(state.charge_total.clone());
         self.carriers.push(state.charge.clone());
         self.field.push(state.field.clone());
@@ -224,6 +238,8 @@ impl Observer for Collector {
         // stage); the largest separation is watched every step (`stepped`).
         let pre_flash = self.flashes == 0;
         let regs = regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &t, 0.1);
+        self.classes
+            .push((state.time, crate::analysis::classify(&regs)));
         if !pre_flash {
             // Each region's sums stay in its own slot; an absent region adds
             // nothing to its slot.
@@ -555,6 +571,8 @@ pub(crate) fn run_level(
         before_flash: std::mem::take(&mut c.before_flash),
         structure: crate::analysis::classify(&c.peak.regions(&exp)),
         flash_counts: c.summary.as_ref().map_or([0; 3], |s| s.flash_counts),
+        structure_while_flashing: crate::analysis::majority_class(&c.classes, c.flash_span)
+            .map(|m| m.0),
     })
 }
 

@@ -78,6 +78,10 @@ pub struct Outcome {
     /// them, not a result.
     #[serde(default)]
     pub structure_refined: [String; 2],
+    /// The same for the class of the flashing stage (empty without
+    /// flashes, as `structure_while_flashing`).
+    #[serde(default)]
+    pub structure_while_flashing_refined: [String; 2],
     #[serde(default = "no_pair", deserialize_with = "nan::two")]
     pub flashes_refined: [f64; 2],
     /// Largest charge (C, magnitude) on a 2.5 mm drop and a 2.5 mm graupel
@@ -280,7 +284,7 @@ struct Watch {
     area: f64,
     error_estimate: [[f64; 2]; 2],
     /// Class and flash total at half the step and at half the spacing.
-    refined: [Option<(Structure, u64)>; 2],
+    refined: [Option<(Structure, u64, Option<Structure>)>; 2],
     /// Model time and structure class of every output record, and the
     /// times of the first and last flash.
     classes: Vec<(f64, Structure)>,
@@ -406,6 +410,7 @@ fn failed_outcome(member: Member) -> Outcome {
         column_area: f64::NAN,
         error_estimate: no_estimate(),
         structure_refined: Default::default(),
+        structure_while_flashing_refined: Default::default(),
         flashes_refined: no_pair(),
         charge_2p5mm: no_pair(),
         channels_at_model_top: f64::NAN,
@@ -473,8 +478,11 @@ pub fn run_member(
                     let o = level_overrides(&overrides, dt, dz, refinement, level);
                     let fine = run_level(base_text, "error estimate", base_dir, &o)?;
                     if level == 1 {
-                        watch.refined[i] =
-                            Some((fine.structure, fine.flash_counts.iter().sum::<u64>()));
+                        watch.refined[i] = Some((
+                            fine.structure,
+                            fine.flash_counts.iter().sum::<u64>(),
+                            fine.structure_while_flashing,
+                        ));
                     }
                     levels.push([fine.outcome(PEAK_FIELD), fine.outcome(MAIN_NEGATIVE_CHARGE)]);
                 }
@@ -505,9 +513,11 @@ pub fn run_member(
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
             for (i, r) in watch.refined.iter().enumerate() {
-                if let Some((class, flashes)) = r {
+                if let Some((class, flashes, flashing)) = r {
                     out.structure_refined[i] = class.name().into();
                     out.flashes_refined[i] = *flashes as f64;
+                    out.structure_while_flashing_refined[i] =
+                        flashing.map_or(String::new(), |c| c.name().into());
                 }
             }
             out.charge_2p5mm = s.max_charge_2p5mm;
@@ -845,6 +855,13 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             &format!("structure class at the largest charge separation of the member at {what} (sweep.error_estimate)"),
             "",
             move |o| T(o.structure_refined[i].clone()),
+        ));
+        v.push(col(
+            &format!("structure_while_flashing_at_{refinement}"),
+            &format!("structure_while_flashing_at_{refinement}"),
+            &format!("structure class most records of the flashing stage show, of the member at {what} (sweep.error_estimate; empty without flashes)"),
+            "",
+            move |o| T(o.structure_while_flashing_refined[i].clone()),
         ));
         v.push(col(
             &format!("flashes_at_{refinement}"),

@@ -772,6 +772,12 @@ values = [100.0, 100.0, 50.0, 50.0]
                 .parse()
                 .unwrap();
             assert_eq!(n, total(&h_half, other), "member {} at {suffix}", i + 1);
+            assert_eq!(
+                row[col(&h_est, &format!("structure_while_flashing_at_{suffix}"))],
+                other[col(&h_half, "structure_while_flashing")],
+                "member {} at {suffix}",
+                i + 1
+            );
         }
     }
     // `analyze` reports the check over both members.
