@@ -119,6 +119,26 @@ pub struct Series {
     /// density and of the field, their observed order and the estimated
     /// relative error of the configured level.
     pub profiles: Vec<ProfileRow>,
+    /// The structure class at the largest separation and that of the
+    /// flashing stage at each level: a class that changes from one level
+    /// to the next is the numerics', not the storm's.
+    pub classes: Vec<ClassRow>,
+}
+
+/// A structure class at each level.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ClassRow {
+    pub name: String,
+    /// The class name at each level ("no_flashes" for a flashing stage
+    /// without flashes).
+    pub values: Vec<String>,
+}
+
+impl ClassRow {
+    /// Whether every level gives the same class.
+    pub fn converged(&self) -> bool {
+        self.values.windows(2).all(|w| w[0] == w[1])
+    }
 }
 
 /// Relative L1 differences of a profile between successive levels.
@@ -828,6 +848,28 @@ fn run_levels(spec: &LevelRuns) -> Result<(Vec<LevelRun>, Vec<LevelRun>), RunErr
 
 /// The rows of one refinement's series: each outcome with its order,
 /// extrapolate and error, and the profiles' differences.
+fn class_rows(runs: &[LevelRun]) -> Vec<ClassRow> {
+    vec![
+        ClassRow {
+            name: "structure at the largest separation".into(),
+            values: runs
+                .iter()
+                .map(|r| r.structure.name().to_string())
+                .collect(),
+        },
+        ClassRow {
+            name: "structure while flashing".into(),
+            values: runs
+                .iter()
+                .map(|r| {
+                    r.structure_while_flashing
+                        .map_or("no_flashes".to_string(), |c| c.name().to_string())
+                })
+                .collect(),
+        },
+    ]
+}
+
 fn series_of(refinement: Refinement, runs: &[LevelRun]) -> Series {
     let outcomes = runs[0]
         .outcomes
@@ -938,6 +980,7 @@ fn series_of(refinement: Refinement, runs: &[LevelRun]) -> Series {
         spacings: runs.iter().map(|r| r.dz).collect(),
         outcomes,
         profiles,
+        classes: class_rows(runs),
     }
 }
 
@@ -1021,6 +1064,21 @@ impl Report {
                 };
                 out.push_str(&format!(" {:>8} {:>12} {:>10}\n", num(p.order), "", err));
             }
+            out.push_str(
+                "structure classes: a class that changes between levels is the numerics', not the storm's\n",
+            );
+            for c in &s.classes {
+                out.push_str(&format!(
+                    "{:<w$} {}{}\n",
+                    c.name,
+                    c.values.join(" / "),
+                    if c.converged() {
+                        "  (the same at every level)"
+                    } else {
+                        "  (changes with the numerics)"
+                    }
+                ));
+            }
         }
         out
     }
@@ -1053,6 +1111,15 @@ impl Report {
                     out.push_str(&format!(
                         "{r},{} L1 difference,1,{i},{},{},{d},{},,{}\n",
                         p.name, s.steps[i], s.spacings[i], p.order, p.error_of_configured
+                    ));
+                }
+            }
+            // A class is a word: in the value column, the numbers empty.
+            for c in &s.classes {
+                for (i, v) in c.values.iter().enumerate() {
+                    out.push_str(&format!(
+                        "{r},{},,{i},{},{},{v},,,\n",
+                        c.name, s.steps[i], s.spacings[i]
                     ));
                 }
             }

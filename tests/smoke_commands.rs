@@ -646,7 +646,8 @@ fn converge_command_writes_its_tables() {
     for table in text.split("== refinement").skip(1) {
         let mut lines = table.lines().skip(1);
         let unit_at = lines.next().unwrap().find(" unit ").unwrap() + 1;
-        for line in lines.filter(|l| !l.starts_with("profiles:") && !l.is_empty()) {
+        let section = |l: &str| l.starts_with("profiles:") || l.starts_with("structure classes:");
+        for line in lines.filter(|l| !section(l) && !l.is_empty()) {
             let b = line.as_bytes();
             assert!(
                 b[unit_at - 1] == b' ' && b[unit_at] != b' ',
@@ -657,7 +658,24 @@ fn converge_command_writes_its_tables() {
     let v: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
     assert_eq!(v["series"].as_array().unwrap().len(), 2);
+    // The structure classes at each level, in the three forms: the
+    // prescribed tripole is a normal tripole at every level.
+    for series in v["series"].as_array().unwrap() {
+        let classes = series["classes"].as_array().unwrap();
+        assert_eq!(classes.len(), 2);
+        assert_eq!(classes[0]["name"], "structure at the largest separation");
+        let at_peak: Vec<&str> = classes[0]["values"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|c| c.as_str().unwrap())
+            .collect();
+        assert_eq!(at_peak, ["normal_tripole"; 3]);
+    }
+    assert!(text
+        .contains("normal_tripole / normal_tripole / normal_tripole  (the same at every level)"));
     let rows = std::fs::read_to_string(&csv).unwrap();
+    assert!(rows.contains("time,structure at the largest separation,,0,"));
     assert!(rows.lines().count() > 50);
     assert!(rows.starts_with("refinement,outcome,unit,level"));
     let o = bin().args(["converge", "--levels", "2"]).output().unwrap();
