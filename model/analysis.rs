@@ -977,6 +977,96 @@ fn summary_error(dir: &std::path::Path, message: String) -> crate::error::RunErr
     }
 }
 
+/// The summary columns `sweep.error_estimate` fills: for half the step and
+/// half the spacing, the class at the largest separation, the flash count
+/// and (in summaries that have it) the class of the flashing stage.
+struct RefinedColumns {
+    levels: Vec<(&'static str, usize, usize, Option<usize>)>,
+    own_flashing: Option<usize>,
+}
+
+impl RefinedColumns {
+    fn of(table: &SweepTable) -> Self {
+        let levels = [("step", "half_step"), ("spacing", "half_spacing")]
+            .into_iter()
+            .filter_map(|(what, suffix)| {
+                let class = table.column(&format!("structure_at_{suffix}")).ok()?;
+                let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
+                let flashing = table
+                    .column(&format!("structure_while_flashing_at_{suffix}"))
+                    .ok();
+                Some((what, class, flashes, flashing))
+            })
+            .collect();
+        RefinedColumns {
+            levels,
+            own_flashing: table.column("structure_while_flashing").ok(),
+        }
+    }
+
+    /// Books in `check` the member of row `f` (named `member`, with flash
+    /// `counts`) when both refined runs are in its row: a class that
+    /// changes, a flash count that changes by more than one.
+    fn check(
+        &self,
+        table: &SweepTable,
+        f: &[String],
+        member: &str,
+        counts: [u64; 3],
+        check: &mut Option<NumericsCheck>,
+    ) {
+        let stage_name = |col: Option<usize>| {
+            col.and_then(|c| f.get(c)).map(|c| {
+                if c.is_empty() {
+                    "no_flashes".to_string()
+                } else {
+                    c.clone()
+                }
+            })
+        };
+        let here: Vec<(&str, &str, f64, Option<String>)> = self
+            .levels
+            .iter()
+            .filter_map(|&(what, class, flashes, flashing)| {
+                let c = f.get(class).map(String::as_str).filter(|c| !c.is_empty())?;
+                let n = f
+                    .get(flashes)?
+                    .parse::<f64>()
+                    .ok()
+                    .filter(|n| n.is_finite())?;
+                Some((what, c, n, stage_name(flashing)))
+            })
+            .collect();
+        if self.levels.len() != 2 || here.len() != 2 {
+            return;
+        }
+        let check = check.get_or_insert_with(NumericsCheck::default);
+        check.checked += 1;
+        let own_class = &f[table.structure];
+        let own_stage = stage_name(self.own_flashing);
+        let total = counts.iter().sum::<u64>() as f64;
+        for (what, class, n, stage) in here {
+            if let (Some(stage), Some(own)) = (stage, &own_stage) {
+                if &stage != own {
+                    check
+                        .flashing_class_changes
+                        .push(format!("{member} ({own} -> {stage} at half the {what})"));
+                }
+            }
+            if class != own_class {
+                check.class_changes.push(format!(
+                    "{member} ({own_class} -> {class} at half the {what})"
+                ));
+            }
+            if (n - total).abs() > 1.0 {
+                check.flash_changes.push(format!(
+                    "{member} ({total} -> {n} flashes at half the {what})"
+                ));
+            }
+        }
+    }
+}
+
 /// Reads a sweep directory's `summary.csv` and counts the structure classes.
 pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::error::RunError> {
     let table = SweepTable::read(dir)?;
@@ -993,26 +1083,7 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
         rows: Vec::new(),
         numerics: None,
     };
-    // The refined runs' columns, where the summary has them.
-    let refined: Vec<(&str, usize, usize, Option<usize>)> =
-        [("step", "half_step"), ("spacing", "half_spacing")]
-            .into_iter()
-            .filter_map(|(what, suffix)| {
-                let class = table.column(&format!("structure_at_{suffix}")).ok()?;
-                let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
-                let flashing = table
-                    .column(&format!("structure_while_flashing_at_{suffix}"))
-                    .ok();
-                Some((what, class, flashes, flashing))
-            })
-            .collect();
-    let flashing_name = |c: &str| {
-        if c.is_empty() {
-            "no_flashes".to_string()
-        } else {
-            c.to_string()
-        }
-    };
+    let refined = RefinedColumns::of(&table);
     let while_flashing = table.column("structure_while_flashing").ok();
     // Optional numbers of the comparison table: missing columns and empty
     // or NaN cells read as "none".
@@ -1081,46 +1152,7 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
             };
             tally(&mut report.classes_while_flashing, class, member.clone());
         }
-        // Both refined runs present: the member's answer is checked.
-        let refined_here: Vec<(&str, &str, f64, Option<String>)> = refined
-            .iter()
-            .filter_map(|&(what, class, flashes, flashing)| {
-                let c = f.get(class).map(String::as_str).filter(|c| !c.is_empty())?;
-                let n = number(f, &table.header[flashes])?;
-                let stage = flashing
-                    .and_then(|col| f.get(col))
-                    .map(|c| flashing_name(c));
-                Some((what, c, n, stage))
-            })
-            .collect();
-        if refined.len() == 2 && refined_here.len() == 2 {
-            let check = report.numerics.get_or_insert_with(NumericsCheck::default);
-            check.checked += 1;
-            let total = counts.iter().sum::<u64>() as f64;
-            let own_stage = while_flashing
-                .and_then(|col| f.get(col))
-                .map(|c| flashing_name(c));
-            for (what, class, n, stage) in refined_here {
-                if let (Some(stage), Some(own)) = (stage, &own_stage) {
-                    if &stage != own {
-                        check
-                            .flashing_class_changes
-                            .push(format!("{member} ({own} -> {stage} at half the {what})"));
-                    }
-                }
-                if class != f[structure] {
-                    check.class_changes.push(format!(
-                        "{member} ({} -> {class} at half the {what})",
-                        f[structure]
-                    ));
-                }
-                if (n - total).abs() > 1.0 {
-                    check.flash_changes.push(format!(
-                        "{member} ({total} -> {n} flashes at half the {what})"
-                    ));
-                }
-            }
-        }
+        refined.check(&table, f, &member, counts, &mut report.numerics);
         report.rows.push(MemberRow {
             member: f[0].parse().unwrap_or(0),
             values: values.join(", "),
