@@ -896,13 +896,24 @@ impl EnsembleReport {
         self.comparison_table(&mut out);
         if let Some(check) = &self.numerics {
             let plural = |n: usize| if n == 1 { "" } else { "s" };
+            // A member can change at half the step and at half the
+            // spacing: members are counted once.
+            let members = |list: &[String]| {
+                let mut n: Vec<&str> = list
+                    .iter()
+                    .map(|m| m.split(':').next().unwrap_or(m))
+                    .collect();
+                n.dedup();
+                n.len()
+            };
             out.push_str(&format!(
-                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {}, the flash count by more than one in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
+                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {} member{}, the flash count by more than one in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
                 check.checked,
                 plural(check.checked),
-                check.class_changes.len(),
-                check.flash_changes.len(),
-                check.flashing_class_changes.len()
+                members(&check.class_changes),
+                plural(members(&check.class_changes)),
+                members(&check.flash_changes),
+                members(&check.flashing_class_changes)
             ));
             member_lines(&mut out, &check.class_changes);
             member_lines(&mut out, &check.flash_changes);
@@ -1351,13 +1362,15 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("stormcharge-numerics-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let header = "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,\
-                      flashes_positive_ground,structure_at_peak_separation,structure_at_half_step,\
-                      flashes_at_half_step,structure_at_half_spacing,flashes_at_half_spacing";
+                      flashes_positive_ground,structure_at_peak_separation,structure_while_flashing,\
+                      structure_at_half_step,structure_while_flashing_at_half_step,\
+                      flashes_at_half_step,structure_at_half_spacing,\
+                      structure_while_flashing_at_half_spacing,flashes_at_half_spacing";
         let rows = [
-            "1,10,ok,10,1,0,normal_tripole,normal_tripole,12,normal_tripole,11",
-            "2,12,ok,20,0,0,normal_tripole,normal_dipole,20,normal_tripole,23",
-            "3,14,ok,5,0,0,normal_dipole,normal_dipole,5,normal_dipole,5",
-            "4,16,ok,5,0,0,normal_dipole,,NaN,,NaN",
+            "1,10,ok,10,1,0,normal_tripole,normal_tripole,normal_tripole,normal_tripole,12,normal_tripole,normal_tripole,11",
+            "2,12,ok,20,0,0,normal_tripole,normal_dipole,normal_dipole,normal_dipole,20,normal_tripole,normal_dipole,23",
+            "3,14,ok,0,0,0,normal_dipole,,normal_dipole,,0,normal_dipole,normal_dipole,1",
+            "4,16,ok,5,0,0,normal_dipole,normal_dipole,,,NaN,,,NaN",
         ];
         std::fs::write(
             dir.join("summary.csv"),
@@ -1375,13 +1388,21 @@ mod tests {
             check.flash_changes,
             ["member 2: updraft.peak_speed=12 (20 -> 23 flashes at half the spacing)"]
         );
-        assert!(report
-            .text()
-            .contains("the class changes in 1, the flash count by more than one in 1"));
+        // A member without flashes at one level and with them at another
+        // changes its flashing-stage class ("no_flashes" against a class).
+        assert_eq!(
+            check.flashing_class_changes,
+            ["member 3: updraft.peak_speed=14 (no_flashes -> normal_dipole at half the spacing)"]
+        );
+        let text = report.text();
+        assert!(
+            text.contains("the class changes in 1 member, the flash count by more than one in 1, the class while flashing in 1 ("),
+            "{text}"
+        );
         let plain = header.split(",structure_at_half_step").next().unwrap();
         let rows: Vec<String> = rows
             .iter()
-            .map(|r| r.split(',').take(7).collect::<Vec<_>>().join(","))
+            .map(|r| r.split(',').take(8).collect::<Vec<_>>().join(","))
             .collect();
         std::fs::write(
             dir.join("summary.csv"),
