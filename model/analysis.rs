@@ -1205,6 +1205,19 @@ pub fn spread(v: &mut [f64]) -> [f64; 3] {
     [v[0], median, v[n - 1]]
 }
 
+/// Widens `span` (the times of the first flash and of the last one seen so
+/// far) by the flashes the ledger holds at an output record, so that
+/// [`majority_class`] sees the flashing stage as the records met it.
+pub fn extend_flash_span(
+    span: &mut Option<(f64, f64)>,
+    flashes: &[crate::physics::discharge::record::FlashRecord],
+) {
+    if let (Some(first), Some(last)) = (flashes.first(), flashes.last()) {
+        let start = span.map_or(first.time, |s| s.0);
+        *span = Some((start, last.time));
+    }
+}
+
 /// The class most of the records in `classes` (model time, class) show from
 /// the first at or after `span.0` to the first at or after `span.1`, and
 /// the share of those records in it, and their number; ties go to the

@@ -229,12 +229,7 @@ impl Observer for Collector {
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         let flashes_before = self.flashes;
         self.book_flashes(state);
-        if let Some(last) = state.ledger.flashes.last() {
-            let first = self
-                .flash_span
-                .map_or(state.ledger.flashes[0].time, |s| s.0);
-            self.flash_span = Some((first, last.time));
-        }
+        crate::analysis::extend_flash_span(&mut self.flash_span, &state.ledger.flashes);
         self.charge.push(state.charge_total.clone());
         self.carriers.push(state.charge.clone());
         self.field.push(state.field.clone());

@@ -300,12 +300,7 @@ impl Observer for Watch {
 
     fn record(&mut self, exp: &Experiment, state: &State) -> Result<(), RunError> {
         // Flashes come in the order they happen.
-        if let Some(last) = state.ledger.flashes.last() {
-            let first = self
-                .flash_span
-                .map_or(state.ledger.flashes[0].time, |s| s.0);
-            self.flash_span = Some((first, last.time));
-        }
+        crate::analysis::extend_flash_span(&mut self.flash_span, &state.ledger.flashes);
         let temps = state.temperatures(exp);
         let regions =
             crate::analysis::regions(&exp.grid.z, exp.grid.dz, &state.charge_total, &temps, 0.1);
