@@ -707,6 +707,9 @@ pub struct NumericsCheck {
     /// The same as `class_changes` for the class of the flashing stage
     /// ("no_flashes" for a run without any).
     pub flashing_class_changes: Vec<String>,
+    /// Members whose ground flashes appear, vanish or change by more than
+    /// one (in summaries that have the column).
+    pub ground_flash_changes: Vec<String>,
 }
 
 /// One member's key outcomes, read from its summary row (`None` where the
@@ -907,16 +910,18 @@ impl EnsembleReport {
                 n.len()
             };
             out.push_str(&format!(
-                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {} member{}, the flash count by more than one in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
+                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {} member{}, the flash count by more than one in {}, the ground flashes (appear, vanish or by more than one) in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
                 check.checked,
                 plural(check.checked),
                 members(&check.class_changes),
                 plural(members(&check.class_changes)),
                 members(&check.flash_changes),
+                members(&check.ground_flash_changes),
                 members(&check.flashing_class_changes)
             ));
             member_lines(&mut out, &check.class_changes);
             member_lines(&mut out, &check.flash_changes);
+            member_lines(&mut out, &check.ground_flash_changes);
             member_lines(&mut out, &check.flashing_class_changes);
         }
         if !self.members_with_channels_at_top.is_empty() {
@@ -992,8 +997,28 @@ fn summary_error(dir: &std::path::Path, message: String) -> crate::error::RunErr
 /// half the spacing, the class at the largest separation, the flash count
 /// and (in summaries that have it) the class of the flashing stage.
 struct RefinedColumns {
-    levels: Vec<(&'static str, usize, usize, Option<usize>)>,
+    levels: Vec<RefinedLevel>,
     own_flashing: Option<usize>,
+}
+
+/// One refinement's columns: its name ("step", "spacing"), the class,
+/// flash-count, flashing-class and ground-flash columns (the last two
+/// absent from older summaries).
+struct RefinedLevel {
+    what: &'static str,
+    class: usize,
+    flashes: usize,
+    flashing: Option<usize>,
+    ground: Option<usize>,
+}
+
+/// One member's values in those columns.
+struct RefinedValues<'a> {
+    what: &'static str,
+    class: &'a str,
+    flashes: f64,
+    stage: Option<String>,
+    ground: Option<f64>,
 }
 
 impl RefinedColumns {
@@ -1006,7 +1031,14 @@ impl RefinedColumns {
                 let flashing = table
                     .column(&format!("structure_while_flashing_at_{suffix}"))
                     .ok();
-                Some((what, class, flashes, flashing))
+                let ground = table.column(&format!("ground_flashes_at_{suffix}")).ok();
+                Some(RefinedLevel {
+                    what,
+                    class,
+                    flashes,
+                    flashing,
+                    ground,
+                })
             })
             .collect();
         RefinedColumns {
@@ -1035,17 +1067,21 @@ impl RefinedColumns {
                 }
             })
         };
-        let here: Vec<(&str, &str, f64, Option<String>)> = self
+        let parsed = |col: usize| f.get(col)?.parse::<f64>().ok().filter(|n| n.is_finite());
+        let here: Vec<RefinedValues> = self
             .levels
             .iter()
-            .filter_map(|&(what, class, flashes, flashing)| {
-                let c = f.get(class).map(String::as_str).filter(|c| !c.is_empty())?;
-                let n = f
-                    .get(flashes)?
-                    .parse::<f64>()
-                    .ok()
-                    .filter(|n| n.is_finite())?;
-                Some((what, c, n, stage_name(flashing)))
+            .filter_map(|l| {
+                Some(RefinedValues {
+                    what: l.what,
+                    class: f
+                        .get(l.class)
+                        .map(String::as_str)
+                        .filter(|c| !c.is_empty())?,
+                    flashes: parsed(l.flashes)?,
+                    stage: stage_name(l.flashing),
+                    ground: l.ground.and_then(parsed),
+                })
             })
             .collect();
         if self.levels.len() != 2 || here.len() != 2 {
@@ -1056,8 +1092,19 @@ impl RefinedColumns {
         let own_class = &f[table.structure];
         let own_stage = stage_name(self.own_flashing);
         let total = counts.iter().sum::<u64>() as f64;
-        for (what, class, n, stage) in here {
-            if let (Some(stage), Some(own)) = (stage, &own_stage) {
+        let own_ground = (counts[1] + counts[2]) as f64;
+        for v in here {
+            let (what, class, n) = (v.what, v.class, v.flashes);
+            if let Some(g) = v.ground {
+                // Whether a storm makes ground flashes at all is the
+                // answer, so any appearance or disappearance counts.
+                if (g - own_ground).abs() > 1.0 || (g > 0.0) != (own_ground > 0.0) {
+                    check.ground_flash_changes.push(format!(
+                        "{member} ({own_ground} -> {g} ground flashes at half the {what})"
+                    ));
+                }
+            }
+            if let (Some(stage), Some(own)) = (v.stage, &own_stage) {
                 if &stage != own {
                     check
                         .flashing_class_changes
@@ -1378,12 +1425,13 @@ mod tests {
                       flashes_positive_ground,structure_at_peak_separation,structure_while_flashing,\
                       structure_at_half_step,structure_while_flashing_at_half_step,\
                       flashes_at_half_step,structure_at_half_spacing,\
-                      structure_while_flashing_at_half_spacing,flashes_at_half_spacing";
+                      structure_while_flashing_at_half_spacing,flashes_at_half_spacing,\
+                      ground_flashes_at_half_step,ground_flashes_at_half_spacing";
         let rows = [
-            "1,10,ok,10,1,0,normal_tripole,normal_tripole,normal_tripole,normal_tripole,12,normal_tripole,normal_tripole,11",
-            "2,12,ok,20,0,0,normal_tripole,normal_dipole,normal_dipole,normal_dipole,20,normal_tripole,normal_dipole,23",
-            "3,14,ok,0,0,0,normal_dipole,,normal_dipole,,0,normal_dipole,normal_dipole,1",
-            "4,16,ok,5,0,0,normal_dipole,normal_dipole,,,NaN,,,NaN",
+            "1,10,ok,10,1,0,normal_tripole,normal_tripole,normal_tripole,normal_tripole,12,normal_tripole,normal_tripole,11,2,0",
+            "2,12,ok,20,0,0,normal_tripole,normal_dipole,normal_dipole,normal_dipole,20,normal_tripole,normal_dipole,23,0,0",
+            "3,14,ok,0,0,0,normal_dipole,,normal_dipole,,0,normal_dipole,normal_dipole,1,0,0",
+            "4,16,ok,5,0,0,normal_dipole,normal_dipole,,,NaN,,,NaN,NaN,NaN",
         ];
         std::fs::write(
             dir.join("summary.csv"),
@@ -1407,9 +1455,17 @@ mod tests {
             check.flashing_class_changes,
             ["member 3: updraft.peak_speed=14 (no_flashes -> normal_dipole at half the spacing)"]
         );
+        // Member 1's single negative ground flash is none at half the
+        // spacing: whether a storm makes ground flashes is the answer, so
+        // that counts though the number changes by one; two at half the
+        // step does not.
+        assert_eq!(
+            check.ground_flash_changes,
+            ["member 1: updraft.peak_speed=10 (1 -> 0 ground flashes at half the spacing)"]
+        );
         let text = report.text();
         assert!(
-            text.contains("the class changes in 1 member, the flash count by more than one in 1, the class while flashing in 1 ("),
+            text.contains("the class changes in 1 member, the flash count by more than one in 1, the ground flashes (appear, vanish or by more than one) in 1, the class while flashing in 1 ("),
             "{text}"
         );
         let plain = header.split(",structure_at_half_step").next().unwrap();

@@ -84,6 +84,9 @@ pub struct Outcome {
     pub structure_while_flashing_refined: [String; 2],
     #[serde(default = "no_pair", deserialize_with = "nan::two")]
     pub flashes_refined: [f64; 2],
+    /// The ground flashes (negative and positive) among them.
+    #[serde(default = "no_pair", deserialize_with = "nan::two")]
+    pub ground_flashes_refined: [f64; 2],
     /// Largest charge (C, magnitude) on a 2.5 mm drop and a 2.5 mm graupel
     /// particle over the run, the charge shared over the size distribution
     /// in proportion to surface area (the run summary's diagnostic).
@@ -275,6 +278,14 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
     Ok((keys, members))
 }
 
+/// A member's class at the largest separation, its flashes by kind and
+/// the class of its flashing stage at a refined step or spacing.
+struct Refined {
+    class: Structure,
+    flashes: [u64; 3],
+    flashing: Option<Structure>,
+}
+
 /// Tracks the step of largest charge separation while a member runs.
 #[derive(Default)]
 struct Watch {
@@ -284,7 +295,7 @@ struct Watch {
     area: f64,
     error_estimate: [[f64; 2]; 2],
     /// Class and flash total at half the step and at half the spacing.
-    refined: [Option<(Structure, u64, Option<Structure>)>; 2],
+    refined: [Option<Refined>; 2],
     /// Model time and structure class of every output record, and the
     /// times of the first and last flash.
     classes: Vec<(f64, Structure)>,
@@ -407,6 +418,7 @@ fn failed_outcome(member: Member) -> Outcome {
         structure_refined: Default::default(),
         structure_while_flashing_refined: Default::default(),
         flashes_refined: no_pair(),
+        ground_flashes_refined: no_pair(),
         charge_2p5mm: no_pair(),
         channels_at_model_top: f64::NAN,
         structure_while_flashing: String::new(),
@@ -473,11 +485,11 @@ pub fn run_member(
                     let o = level_overrides(&overrides, dt, dz, refinement, level);
                     let fine = run_level(base_text, "error estimate", base_dir, &o)?;
                     if level == 1 {
-                        watch.refined[i] = Some((
-                            fine.structure,
-                            fine.flash_counts.iter().sum::<u64>(),
-                            fine.structure_while_flashing,
-                        ));
+                        watch.refined[i] = Some(Refined {
+                            class: fine.structure,
+                            flashes: fine.flash_counts,
+                            flashing: fine.structure_while_flashing,
+                        });
                     }
                     levels.push([fine.outcome(PEAK_FIELD), fine.outcome(MAIN_NEGATIVE_CHARGE)]);
                 }
@@ -508,11 +520,12 @@ pub fn run_member(
             out.column_area = watch.area;
             out.error_estimate = watch.error_estimate;
             for (i, r) in watch.refined.iter().enumerate() {
-                if let Some((class, flashes, flashing)) = r {
-                    out.structure_refined[i] = class.name().into();
-                    out.flashes_refined[i] = *flashes as f64;
+                if let Some(r) = r {
+                    out.structure_refined[i] = r.class.name().into();
+                    out.flashes_refined[i] = r.flashes.iter().sum::<u64>() as f64;
+                    out.ground_flashes_refined[i] = (r.flashes[1] + r.flashes[2]) as f64;
                     out.structure_while_flashing_refined[i] =
-                        flashing.map_or(String::new(), |c| c.name().into());
+                        r.flashing.map_or(String::new(), |c| c.name().into());
                 }
             }
             out.charge_2p5mm = s.max_charge_2p5mm;
@@ -864,6 +877,13 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             &format!("flashes of all kinds of the member at {what} (sweep.error_estimate)"),
             "1",
             move |o| N(o.flashes_refined[i]),
+        ));
+        v.push(col(
+            &format!("ground_flashes_at_{refinement}"),
+            &format!("ground_flashes_at_{refinement}"),
+            &format!("negative and positive ground flashes of the member at {what} (sweep.error_estimate)"),
+            "1",
+            move |o| N(o.ground_flashes_refined[i]),
         ));
     }
     for (i, which) in ["min", "median", "max"].into_iter().enumerate() {

@@ -778,6 +778,14 @@ values = [100.0, 100.0, 50.0, 50.0]
                 "member {} at {suffix}",
                 i + 1
             );
+            let ground: f64 = row[col(&h_est, &format!("ground_flashes_at_{suffix}"))]
+                .parse()
+                .unwrap();
+            let own_ground: f64 = ["flashes_negative_ground", "flashes_positive_ground"]
+                .iter()
+                .map(|k| other[col(&h_half, k)].parse::<f64>().unwrap())
+                .sum();
+            assert_eq!(ground, own_ground, "member {} at {suffix}", i + 1);
         }
     }
     // `analyze` reports the check over both members.

@@ -1061,7 +1061,7 @@ pub const KEYS: &[KeySpec] = &[
         kind: Kind::Bool,
         unit: "",
         default: Some("false"),
-        doc: "Also run every member at half and a quarter of its time step and of its grid spacing (no output files; about thirteen times the work of the member) and report, for the peak field and the main negative charge, the relative error of the member's own settings the convergence command would report: observed order and Richardson extrapolate from the three levels (the finest value stands in when the levels are not in the asymptotic range); with the structure classes (at the largest separation and of the flashing stage) and the flash count at half the step and at half the spacing, which `analyze` of the sweep compares with the member's own.",
+        doc: "Also run every member at half and a quarter of its time step and of its grid spacing (no output files; about thirteen times the work of the member) and report, for the peak field and the main negative charge, the relative error of the member's own settings the convergence command would report: observed order and Richardson extrapolate from the three levels (the finest value stands in when the levels are not in the asymptotic range); with the structure classes (at the largest separation and of the flashing stage), the flash count and the ground flashes at half the step and at half the spacing, which `analyze` of the sweep compares with the member's own.",
     },
     KeySpec {
         path: "sweep.parameters",
