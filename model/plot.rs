@@ -851,18 +851,43 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
     ]) {
         *k = table.column(name).map_err(&fail)?;
     }
+    // With `sweep.error_estimate`, a member whose class changes at half
+    // the step or spacing says so in its label (the check `analyze`
+    // reports): its colour is the numerics' as much as the storm's.
+    let refined: Vec<(&str, usize)> = [("step", "half_step"), ("spacing", "half_spacing")]
+        .into_iter()
+        .filter_map(|(what, suffix)| {
+            Some((what, table.column(&format!("structure_at_{suffix}")).ok()?))
+        })
+        .collect();
     let rows: Vec<SweepRow> = table
         .rows
         .iter()
         .map(|f| {
             let label = format!("{}: {}", f[0], f[1..status].join(", "));
+            let changed: Vec<(&str, &str)> = refined
+                .iter()
+                .filter_map(|&(what, col)| {
+                    let c = f
+                        .get(col)
+                        .filter(|c| !c.is_empty() && **c != f[structure])?;
+                    Some((what, c.as_str()))
+                })
+                .collect();
+            let note = match changed.as_slice() {
+                [] => String::new(),
+                [(what, c)] => format!(" ({c} at half the {what})"),
+                [(_, a), (_, b)] if a == b => format!(" ({a} at half the step and spacing)"),
+                [(_, a), (_, b)] => format!(" ({a} at half the step, {b} at half the spacing)"),
+                _ => String::new(),
+            };
             let counts = kinds.map(|k| f.get(k).and_then(|x| x.parse().ok()).unwrap_or(0.0));
             let s = if f[status] == "ok" {
                 f[structure].clone()
             } else {
                 "failed".into()
             };
-            (label, s, counts)
+            (label, s, counts, note)
         })
         .collect();
     if rows.is_empty() {
@@ -909,7 +934,7 @@ pub const MAX_PICTURE_PX: u32 = 8000;
 
 /// One sweep member in a sweep picture: label, structure class, flash
 /// counts by kind.
-type SweepRow = (String, String, [f64; 3]);
+type SweepRow = (String, String, [f64; 3], String);
 
 fn draw_sweep<DB: DrawingBackend>(
     root: DrawingArea<DB, Shift>,
@@ -923,13 +948,27 @@ fn draw_sweep<DB: DrawingBackend>(
         .map(|r| r.2.iter().sum::<f64>())
         .fold(0.0_f64, f64::max)
         .max(1.0);
+    // The labels' share of the width: enough for the longest at 11 px
+    // (about 5 px a character), between 0.25 and 0.6 of the picture, the
+    // x range then reaching -left x most on the left.
+    let (width, _) = root.dim_in_pixel();
+    let longest_px = 5.0
+        * rows
+            .iter()
+            .map(|(label, s, _, note)| {
+                label.chars().count() + s.chars().count() + note.chars().count() + 3
+            })
+            .max()
+            .unwrap_or(1) as f64;
+    let share = (longest_px / f64::from(width.max(1))).clamp(0.25, 0.6);
+    let left = (1.4 * share + 0.07) / (1.0 - share);
     let mut chart = ChartBuilder::on(&root)
         .caption(title, ("sans-serif", 18))
         .margin(10)
         .x_label_area_size(40)
         .y_label_area_size(20)
         // The right quarter stays free for the key of colours.
-        .build_cartesian_2d(-0.45 * most..most * 1.4, 0.0..n)
+        .build_cartesian_2d(-left * most..most * 1.4, 0.0..n)
         .map_err(err)?;
     chart
         .configure_mesh()
@@ -958,18 +997,21 @@ fn draw_sweep<DB: DrawingBackend>(
     // class squares (at most about 0.45 em a character in a sans-serif
     // face, measured on this picture's labels).
     let room = f64::from(
-        chart.backend_coord(&(-0.07 * most, 0.0)).0 - chart.backend_coord(&(-0.44 * most, 0.0)).0,
+        chart.backend_coord(&(-0.07 * most, 0.0)).0
+            - chart.backend_coord(&(-(left - 0.01) * most, 0.0)).0,
     );
     let longest = rows
         .iter()
-        .map(|(label, s, _)| label.chars().count() + s.chars().count() + 3)
+        .map(|(label, s, _, note)| {
+            label.chars().count() + s.chars().count() + note.chars().count() + 3
+        })
         .max()
         .unwrap_or(1) as f64;
     let font_px = (0.45 * row_px)
         .min(room / (0.45 * longest))
         .clamp(11.0, 15.0);
     let text_top = 0.5 + 0.5 * font_px / row_px.max(1.0);
-    for (i, (label, s, counts)) in rows.iter().enumerate() {
+    for (i, (label, s, counts, note)) in rows.iter().enumerate() {
         let y = n - i as f64 - 1.0;
         chart
             .draw_series(std::iter::once(Rectangle::new(
@@ -980,8 +1022,8 @@ fn draw_sweep<DB: DrawingBackend>(
         if i % every == 0 {
             chart
                 .draw_series(std::iter::once(Text::new(
-                    format!("{label} [{s}]"),
-                    (-0.44 * most, y + text_top),
+                    format!("{label} [{s}]{note}"),
+                    (-(left - 0.01) * most, y + text_top),
                     ("sans-serif", font_px).into_font(),
                 )))
                 .map_err(err)?;
@@ -1002,7 +1044,7 @@ fn draw_sweep<DB: DrawingBackend>(
     // The key: the classes and the flash kinds that occur, in the order
     // the rows show them.
     let mut classes: Vec<&str> = Vec::new();
-    for (_, s, _) in rows {
+    for (_, s, _, _) in rows {
         if !classes.contains(&s.as_str()) {
             classes.push(s);
         }

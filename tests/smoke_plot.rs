@@ -184,4 +184,19 @@ fn a_large_sweep_picture_grows_with_its_members() {
     assert!(svg.contains("structure: normal_tripole"), "no class key");
     assert!(svg.contains("intracloud flashes"), "no flash key");
     assert!(!svg.contains("ground flashes"), "a kind that did not occur");
+    // A member whose class changes at half the step (the numerics check
+    // of `sweep.error_estimate`) says so in its label; one whose class
+    // holds does not.
+    let dir = scratch("numerics_sweep");
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(
+        dir.join("summary.csv"),
+        "member,updraft.peak_speed,status,flashes_intracloud,flashes_negative_ground,flashes_positive_ground,structure_at_peak_separation,structure_at_half_step,structure_at_half_spacing\n\
+         1,10,ok,5,0,0,normal_tripole,normal_dipole,normal_dipole\n\
+         2,12,ok,7,0,0,normal_tripole,normal_tripole,normal_tripole\n",
+    )
+    .unwrap();
+    let (_, svg) = sweep_picture(&dir, true, &[]);
+    assert!(svg.contains("1: 10 [normal_tripole] (normal_dipole at half the step and spacing)"));
+    assert!(svg.lines().any(|l| l.trim() == "2: 12 [normal_tripole]"));
 }
