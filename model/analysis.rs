@@ -699,16 +699,21 @@ pub struct EnsembleReport {
 pub struct NumericsCheck {
     /// Members with both refined runs.
     pub checked: usize,
-    /// "member N: values (class -> class at half the step)" and the like.
+    /// Whether the summary has the refined ground-flash columns (older
+    /// summaries do not; their ground flashes go unchecked).
+    pub ground_compared: bool,
+    /// One entry per member: "member N: values (class -> class at half
+    /// the step)" and the like ([`at_half`]).
     pub class_changes: Vec<String>,
-    /// "member N: values (flashes -> flashes at half the spacing)" and the
+    /// "member N: values (flashes: n -> m at half the spacing)" and the
     /// like, for changes of more than one flash.
     pub flash_changes: Vec<String>,
-    /// The same as `class_changes` for the class of the flashing stage
-    /// ("no_flashes" for a run without any).
+    /// "member N: values (while flashing: class -> class at ...)", the
+    /// class of the flashing stage ([`NO_FLASHES`] for a run without any).
     pub flashing_class_changes: Vec<String>,
-    /// Members whose ground flashes appear, vanish or change by more than
-    /// one (in summaries that have the column).
+    /// "member N: values (ground flashes: n -> m at ...)": ground flashes
+    /// that appear, vanish or change by more than one (in summaries that
+    /// have the column).
     pub ground_flash_changes: Vec<String>,
 }
 
@@ -899,25 +904,22 @@ impl EnsembleReport {
         self.comparison_table(&mut out);
         if let Some(check) = &self.numerics {
             let plural = |n: usize| if n == 1 { "" } else { "s" };
-            // A member can change at half the step and at half the
-            // spacing: members are counted once.
-            let members = |list: &[String]| {
-                let mut n: Vec<&str> = list
-                    .iter()
-                    .map(|m| m.split(':').next().unwrap_or(m))
-                    .collect();
-                n.dedup();
-                n.len()
+            let ground = if check.ground_compared {
+                format!(
+                    ", the ground flashes (appear, vanish or by more than one) in {}",
+                    check.ground_flash_changes.len()
+                )
+            } else {
+                String::new()
             };
             out.push_str(&format!(
-                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {} member{}, the flash count by more than one in {}, the ground flashes (appear, vanish or by more than one) in {}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
+                "numerics (sweep.error_estimate, {} member{} rerun at half the step and half the spacing): the class changes in {} member{}, the flash count by more than one in {}{ground}, the class while flashing in {} (such answers belong to the numerics, not the storm)\n",
                 check.checked,
                 plural(check.checked),
-                members(&check.class_changes),
-                plural(members(&check.class_changes)),
-                members(&check.flash_changes),
-                members(&check.ground_flash_changes),
-                members(&check.flashing_class_changes)
+                check.class_changes.len(),
+                plural(check.class_changes.len()),
+                check.flash_changes.len(),
+                check.flashing_class_changes.len()
             ));
             member_lines(&mut out, &check.class_changes);
             member_lines(&mut out, &check.flash_changes);
@@ -993,51 +995,70 @@ fn summary_error(dir: &std::path::Path, message: String) -> crate::error::RunErr
     }
 }
 
-/// The summary columns `sweep.error_estimate` fills: for half the step and
-/// half the spacing, the class at the largest separation, the flash count
-/// and (in summaries that have it) the class of the flashing stage.
-struct RefinedColumns {
+/// The name a flashing stage's class goes by in summaries and reports
+/// when the run made no flash (the summary leaves the cell empty).
+pub const NO_FLASHES: &str = "no_flashes";
+
+/// A summary cell of the flashing stage's class, named: [`NO_FLASHES`]
+/// for an empty cell.
+pub fn flashing_class_name(cell: &str) -> &str {
+    if cell.is_empty() {
+        NO_FLASHES
+    } else {
+        cell
+    }
+}
+
+/// A summary cell as a finite number (`None` for a missing column, an
+/// empty cell or NaN).
+fn finite_cell(f: &[String], col: Option<usize>) -> Option<f64> {
+    f.get(col?)?.parse::<f64>().ok().filter(|v| v.is_finite())
+}
+
+/// What changed at the refined levels, "X at half the step", "X at half
+/// the step and spacing" or "X at half the step, Y at half the spacing"
+/// (`changes`: the refinement's name, "step" or "spacing", and the value
+/// there). Shared by `analyze` and the sweep picture.
+pub fn at_half(changes: &[(&str, String)]) -> String {
+    match changes {
+        [(what, v)] => format!("{v} at half the {what}"),
+        [(_, a), (_, b)] if a == b => format!("{a} at half the step and spacing"),
+        [(w1, a), (w2, b)] => format!("{a} at half the {w1}, {b} at half the {w2}"),
+        _ => String::new(),
+    }
+}
+
+/// The summary columns `sweep.error_estimate` fills, per refinement (half
+/// the step, half the spacing): the class at the largest separation, the
+/// class of the flashing stage, the flash count and the ground flashes
+/// (the last three absent from older summaries), and the member's own
+/// flashing-stage class.
+pub struct RefinedColumns {
     levels: Vec<RefinedLevel>,
     own_flashing: Option<usize>,
 }
 
-/// One refinement's columns: its name ("step", "spacing"), the class,
-/// flash-count, flashing-class and ground-flash columns (the last two
-/// absent from older summaries).
+/// One refinement's columns: its name ("step", "spacing") and indices.
 struct RefinedLevel {
     what: &'static str,
     class: usize,
-    flashes: usize,
     flashing: Option<usize>,
+    flashes: Option<usize>,
     ground: Option<usize>,
 }
 
-/// One member's values in those columns.
-struct RefinedValues<'a> {
-    what: &'static str,
-    class: &'a str,
-    flashes: f64,
-    stage: Option<String>,
-    ground: Option<f64>,
-}
-
 impl RefinedColumns {
-    fn of(table: &SweepTable) -> Self {
+    pub fn of(table: &SweepTable) -> Self {
         let levels = [("step", "half_step"), ("spacing", "half_spacing")]
             .into_iter()
             .filter_map(|(what, suffix)| {
-                let class = table.column(&format!("structure_at_{suffix}")).ok()?;
-                let flashes = table.column(&format!("flashes_at_{suffix}")).ok()?;
-                let flashing = table
-                    .column(&format!("structure_while_flashing_at_{suffix}"))
-                    .ok();
-                let ground = table.column(&format!("ground_flashes_at_{suffix}")).ok();
+                let at = |name: &str| table.column(&format!("{name}_at_{suffix}")).ok();
                 Some(RefinedLevel {
                     what,
-                    class,
-                    flashes,
-                    flashing,
-                    ground,
+                    class: at("structure")?,
+                    flashing: at("structure_while_flashing"),
+                    flashes: at("flashes"),
+                    ground: at("ground_flashes"),
                 })
             })
             .collect();
@@ -1047,9 +1068,35 @@ impl RefinedColumns {
         }
     }
 
+    /// The refined runs of row `f`: each refinement's name and class at the
+    /// largest separation, or `None` unless both refinements are there
+    /// (a sweep without the estimate leaves the cells empty).
+    fn refined_classes<'a>(&self, f: &'a [String]) -> Option<Vec<(&'static str, &'a str)>> {
+        let v: Vec<(&'static str, &'a str)> = self
+            .levels
+            .iter()
+            .filter_map(|l| Some((l.what, f.get(l.class).filter(|c| !c.is_empty())?.as_str())))
+            .collect();
+        (v.len() == 2).then_some(v)
+    }
+
+    /// The refinements at which row `f`'s class at the largest separation
+    /// differs from `own`, with the class there.
+    pub fn class_changes(&self, f: &[String], own: &str) -> Vec<(&'static str, String)> {
+        self.refined_classes(f)
+            .unwrap_or_default()
+            .into_iter()
+            .filter(|(_, c)| *c != own)
+            .map(|(what, c)| (what, c.to_string()))
+            .collect()
+    }
+
     /// Books in `check` the member of row `f` (named `member`, with flash
-    /// `counts`) when both refined runs are in its row: a class that
-    /// changes, a flash count that changes by more than one.
+    /// `counts`) when both refined runs are in its row, one entry per
+    /// member in each list: a class that changes, a flash count that
+    /// changes by more than one, ground flashes that appear, vanish or
+    /// change by more than one (whether a storm makes them is the answer),
+    /// a flashing-stage class that changes.
     fn check(
         &self,
         table: &SweepTable,
@@ -1058,69 +1105,66 @@ impl RefinedColumns {
         counts: [u64; 3],
         check: &mut Option<NumericsCheck>,
     ) {
-        let stage_name = |col: Option<usize>| {
-            col.and_then(|c| f.get(c)).map(|c| {
-                if c.is_empty() {
-                    "no_flashes".to_string()
-                } else {
-                    c.clone()
-                }
-            })
-        };
-        let parsed = |col: usize| f.get(col)?.parse::<f64>().ok().filter(|n| n.is_finite());
-        let here: Vec<RefinedValues> = self
-            .levels
-            .iter()
-            .filter_map(|l| {
-                Some(RefinedValues {
-                    what: l.what,
-                    class: f
-                        .get(l.class)
-                        .map(String::as_str)
-                        .filter(|c| !c.is_empty())?,
-                    flashes: parsed(l.flashes)?,
-                    stage: stage_name(l.flashing),
-                    ground: l.ground.and_then(parsed),
-                })
-            })
-            .collect();
-        if self.levels.len() != 2 || here.len() != 2 {
+        if self.refined_classes(f).is_none() {
             return;
         }
-        let check = check.get_or_insert_with(NumericsCheck::default);
+        let check = check.get_or_insert_with(|| NumericsCheck {
+            ground_compared: self.levels.iter().all(|l| l.ground.is_some()),
+            ..NumericsCheck::default()
+        });
         check.checked += 1;
         let own_class = &f[table.structure];
-        let own_stage = stage_name(self.own_flashing);
+        let own_stage = self
+            .own_flashing
+            .and_then(|c| f.get(c))
+            .map(|c| flashing_class_name(c));
         let total = counts.iter().sum::<u64>() as f64;
         let own_ground = (counts[1] + counts[2]) as f64;
-        for v in here {
-            let (what, class, n) = (v.what, v.class, v.flashes);
-            if let Some(g) = v.ground {
-                // Whether a storm makes ground flashes at all is the
-                // answer, so any appearance or disappearance counts.
-                if (g - own_ground).abs() > 1.0 || (g > 0.0) != (own_ground > 0.0) {
-                    check.ground_flash_changes.push(format!(
-                        "{member} ({own_ground} -> {g} ground flashes at half the {what})"
-                    ));
+        let mut flashing = Vec::new();
+        let mut flashes = Vec::new();
+        let mut ground = Vec::new();
+        for l in &self.levels {
+            let stage = l
+                .flashing
+                .and_then(|c| f.get(c))
+                .map(|c| flashing_class_name(c));
+            if let (Some(stage), Some(own)) = (stage, own_stage) {
+                if stage != own {
+                    flashing.push((l.what, stage.to_string()));
                 }
             }
-            if let (Some(stage), Some(own)) = (v.stage, &own_stage) {
-                if &stage != own {
-                    check
-                        .flashing_class_changes
-                        .push(format!("{member} ({own} -> {stage} at half the {what})"));
-                }
+            if let Some(n) = finite_cell(f, l.flashes).filter(|n| (n - total).abs() > 1.0) {
+                flashes.push((l.what, n.to_string()));
             }
-            if class != own_class {
-                check.class_changes.push(format!(
-                    "{member} ({own_class} -> {class} at half the {what})"
-                ));
+            if let Some(g) = finite_cell(f, l.ground)
+                .filter(|&g| (g - own_ground).abs() > 1.0 || (g > 0.0) != (own_ground > 0.0))
+            {
+                ground.push((l.what, g.to_string()));
             }
-            if (n - total).abs() > 1.0 {
-                check.flash_changes.push(format!(
-                    "{member} ({total} -> {n} flashes at half the {what})"
-                ));
+        }
+        let classes = self.class_changes(f, own_class);
+        let book = |list: &mut Vec<String>, changes: &[(&str, String)], from: String| {
+            if !changes.is_empty() {
+                list.push(format!("{member} ({from} -> {})", at_half(changes)));
             }
+        };
+        book(&mut check.class_changes, &classes, own_class.clone());
+        book(
+            &mut check.flash_changes,
+            &flashes,
+            format!("flashes: {total}"),
+        );
+        book(
+            &mut check.ground_flash_changes,
+            &ground,
+            format!("ground flashes: {own_ground}"),
+        );
+        if let Some(own) = own_stage {
+            book(
+                &mut check.flashing_class_changes,
+                &flashing,
+                format!("while flashing: {own}"),
+            );
         }
     }
 }
@@ -1143,16 +1187,15 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
     };
     let refined = RefinedColumns::of(&table);
     let while_flashing = table.column("structure_while_flashing").ok();
-    // Optional numbers of the comparison table: missing columns and empty
-    // or NaN cells read as "none".
-    let number = |f: &[String], name: &str| {
-        table
-            .column(name)
-            .ok()
-            .and_then(|col| f.get(col))
-            .and_then(|v| v.parse::<f64>().ok())
-            .filter(|v| v.is_finite())
-    };
+    // Optional columns of the comparison table (a missing column, an
+    // empty or NaN cell read as "none"), found once.
+    let [first_flash, peak_field, main_negative, main_negative_temperature] = [
+        "first_flash_s",
+        "peak_field_V_m",
+        "main_negative_C",
+        "main_negative_temperature_degC",
+    ]
+    .map(|name| table.column(name).ok());
     let at_top = table.column("flash_channels_at_model_top").ok();
     let fail = |m: String| summary_error(dir, m);
     let kinds = [
@@ -1202,12 +1245,7 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
                 .push(format!("{member} ({n} of {})", counts.iter().sum::<u64>()));
         }
         if let Some(col) = while_flashing {
-            let class = f.get(col).map_or("", String::as_str);
-            let class = if class.is_empty() {
-                "no_flashes"
-            } else {
-                class
-            };
+            let class = flashing_class_name(f.get(col).map_or("", String::as_str));
             tally(&mut report.classes_while_flashing, class, member.clone());
         }
         refined.check(&table, f, &member, counts, &mut report.numerics);
@@ -1215,10 +1253,10 @@ pub fn analyze_sweep(dir: &std::path::Path) -> Result<EnsembleReport, crate::err
             member: f[0].parse().unwrap_or(0),
             values: values.join(", "),
             flashes: counts,
-            first_flash_s: number(f, "first_flash_s"),
-            peak_field_v_m: number(f, "peak_field_V_m"),
-            main_negative_c: number(f, "main_negative_C"),
-            main_negative_temperature_degc: number(f, "main_negative_temperature_degC"),
+            first_flash_s: finite_cell(f, first_flash),
+            peak_field_v_m: finite_cell(f, peak_field),
+            main_negative_c: finite_cell(f, main_negative),
+            main_negative_temperature_degc: finite_cell(f, main_negative_temperature),
             structure: f[structure].clone(),
         });
         tally(&mut report.classes, &f[structure], member);
@@ -1415,8 +1453,9 @@ mod tests {
     /// whose class changes at half the step or spacing and those whose
     /// flash count changes by more than one (the convergence issue's
     /// bound: within one between a step and half of it); a change of one
-    /// flash is not reported, and a summary without the columns (or with
-    /// them empty) has no such check.
+    /// flash is not reported, a member that changes at both refinements
+    /// is one entry, and a summary without the columns (or with them
+    /// empty) has no such check.
     #[test]
     fn members_whose_answer_changes_with_the_numerics_are_named() {
         let dir = std::env::temp_dir().join(format!("stormcharge-numerics-{}", std::process::id()));
@@ -1429,7 +1468,7 @@ mod tests {
                       ground_flashes_at_half_step,ground_flashes_at_half_spacing";
         let rows = [
             "1,10,ok,10,1,0,normal_tripole,normal_tripole,normal_tripole,normal_tripole,12,normal_tripole,normal_tripole,11,2,0",
-            "2,12,ok,20,0,0,normal_tripole,normal_dipole,normal_dipole,normal_dipole,20,normal_tripole,normal_dipole,23,0,0",
+            "2,12,ok,20,0,0,normal_tripole,normal_dipole,normal_dipole,normal_dipole,20,normal_dipole,normal_dipole,23,0,0",
             "3,14,ok,0,0,0,normal_dipole,,normal_dipole,,0,normal_dipole,normal_dipole,1,0,0",
             "4,16,ok,5,0,0,normal_dipole,normal_dipole,,,NaN,,,NaN,NaN,NaN",
         ];
@@ -1443,17 +1482,17 @@ mod tests {
         assert_eq!(check.checked, 3);
         assert_eq!(
             check.class_changes,
-            ["member 2: updraft.peak_speed=12 (normal_tripole -> normal_dipole at half the step)"]
+            ["member 2: updraft.peak_speed=12 (normal_tripole -> normal_dipole at half the step and spacing)"]
         );
         assert_eq!(
             check.flash_changes,
-            ["member 2: updraft.peak_speed=12 (20 -> 23 flashes at half the spacing)"]
+            ["member 2: updraft.peak_speed=12 (flashes: 20 -> 23 at half the spacing)"]
         );
         // A member without flashes at one level and with them at another
         // changes its flashing-stage class ("no_flashes" against a class).
         assert_eq!(
             check.flashing_class_changes,
-            ["member 3: updraft.peak_speed=14 (no_flashes -> normal_dipole at half the spacing)"]
+            ["member 3: updraft.peak_speed=14 (while flashing: no_flashes -> normal_dipole at half the spacing)"]
         );
         // Member 1's single negative ground flash is none at half the
         // spacing: whether a storm makes ground flashes is the answer, so
@@ -1461,12 +1500,16 @@ mod tests {
         // step does not.
         assert_eq!(
             check.ground_flash_changes,
-            ["member 1: updraft.peak_speed=10 (1 -> 0 ground flashes at half the spacing)"]
+            ["member 1: updraft.peak_speed=10 (ground flashes: 1 -> 0 at half the spacing)"]
         );
         let text = report.text();
         assert!(
             text.contains("the class changes in 1 member, the flash count by more than one in 1, the ground flashes (appear, vanish or by more than one) in 1, the class while flashing in 1 ("),
             "{text}"
+        );
+        assert_eq!(
+            at_half(&[("step", "3".into()), ("spacing", "5".into())]),
+            "3 at half the step, 5 at half the spacing"
         );
         let plain = header.split(",structure_at_half_step").next().unwrap();
         let rows: Vec<String> = rows

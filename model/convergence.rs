@@ -129,8 +129,8 @@ pub struct Series {
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct ClassRow {
     pub name: String,
-    /// The class name at each level ("no_flashes" for a flashing stage
-    /// without flashes).
+    /// The class name at each level ([`crate::analysis::NO_FLASHES`] for a
+    /// flashing stage without flashes).
     pub values: Vec<String>,
 }
 
@@ -841,8 +841,8 @@ fn run_levels(spec: &LevelRuns) -> Result<(Vec<LevelRun>, Vec<LevelRun>), RunErr
     Ok((time, space))
 }
 
-/// The rows of one refinement's series: each outcome with its order,
-/// extrapolate and error, and the profiles' differences.
+/// The structure classes of a series' levels: at the largest separation
+/// and of the flashing stage.
 fn class_rows(runs: &[LevelRun]) -> Vec<ClassRow> {
     vec![
         ClassRow {
@@ -858,13 +858,16 @@ fn class_rows(runs: &[LevelRun]) -> Vec<ClassRow> {
                 .iter()
                 .map(|r| {
                     r.structure_while_flashing
-                        .map_or("no_flashes".to_string(), |c| c.name().to_string())
+                        .map_or(crate::analysis::NO_FLASHES, |c| c.name())
+                        .to_string()
                 })
                 .collect(),
         },
     ]
 }
 
+/// The rows of one refinement's series: each outcome with its order,
+/// extrapolate and error, the profiles' differences and the classes.
 fn series_of(refinement: Refinement, runs: &[LevelRun]) -> Series {
     let outcomes = runs[0]
         .outcomes

@@ -854,40 +854,25 @@ pub fn plot_sweep(dir: &Path, prefix: &Path, o: &PlotOptions) -> Result<(), RunE
     // With `sweep.error_estimate`, a member whose class changes at half
     // the step or spacing says so in its label (the check `analyze`
     // reports): its colour is the numerics' as much as the storm's.
-    let refined: Vec<(&str, usize)> = [("step", "half_step"), ("spacing", "half_spacing")]
-        .into_iter()
-        .filter_map(|(what, suffix)| {
-            Some((what, table.column(&format!("structure_at_{suffix}")).ok()?))
-        })
-        .collect();
+    let refined = crate::analysis::RefinedColumns::of(&table);
     let rows: Vec<SweepRow> = table
         .rows
         .iter()
         .map(|f| {
-            let label = format!("{}: {}", f[0], f[1..status].join(", "));
-            let changed: Vec<(&str, &str)> = refined
-                .iter()
-                .filter_map(|&(what, col)| {
-                    let c = f
-                        .get(col)
-                        .filter(|c| !c.is_empty() && **c != f[structure])?;
-                    Some((what, c.as_str()))
-                })
-                .collect();
-            let note = match changed.as_slice() {
-                [] => String::new(),
-                [(what, c)] => format!(" ({c} at half the {what})"),
-                [(_, a), (_, b)] if a == b => format!(" ({a} at half the step and spacing)"),
-                [(_, a), (_, b)] => format!(" ({a} at half the step, {b} at half the spacing)"),
-                _ => String::new(),
-            };
             let counts = kinds.map(|k| f.get(k).and_then(|x| x.parse().ok()).unwrap_or(0.0));
             let s = if f[status] == "ok" {
                 f[structure].clone()
             } else {
                 "failed".into()
             };
-            (label, s, counts, note)
+            let changes = refined.class_changes(f, &f[structure]);
+            let note = if changes.is_empty() {
+                String::new()
+            } else {
+                format!(" ({})", crate::analysis::at_half(&changes))
+            };
+            let label = format!("{}: {} [{s}]{note}", f[0], f[1..status].join(", "));
+            (label, s, counts)
         })
         .collect();
     if rows.is_empty() {
@@ -932,9 +917,9 @@ const SWEEP_FRAME_PX: u32 = 90;
 /// `--height` and a sweep picture's height).
 pub const MAX_PICTURE_PX: u32 = 8000;
 
-/// One sweep member in a sweep picture: label, structure class, flash
-/// counts by kind.
-type SweepRow = (String, String, [f64; 3], String);
+/// One sweep member in a sweep picture: its label as drawn, structure
+/// class, flash counts by kind.
+type SweepRow = (String, String, [f64; 3]);
 
 fn draw_sweep<DB: DrawingBackend>(
     root: DrawingArea<DB, Shift>,
@@ -952,15 +937,12 @@ fn draw_sweep<DB: DrawingBackend>(
     // (about 5 px a character), between 0.25 and 0.6 of the picture, the
     // x range then reaching -left x most on the left.
     let (width, _) = root.dim_in_pixel();
-    let longest_px = 5.0
-        * rows
-            .iter()
-            .map(|(label, s, _, note)| {
-                label.chars().count() + s.chars().count() + note.chars().count() + 3
-            })
-            .max()
-            .unwrap_or(1) as f64;
-    let share = (longest_px / f64::from(width.max(1))).clamp(0.25, 0.6);
+    let longest = rows
+        .iter()
+        .map(|(label, _, _)| label.chars().count())
+        .max()
+        .unwrap_or(1) as f64;
+    let share = (5.0 * longest / f64::from(width.max(1))).clamp(0.25, 0.6);
     let left = (1.4 * share + 0.07) / (1.0 - share);
     let mut chart = ChartBuilder::on(&root)
         .caption(title, ("sans-serif", 18))
@@ -1000,18 +982,11 @@ fn draw_sweep<DB: DrawingBackend>(
         chart.backend_coord(&(-0.07 * most, 0.0)).0
             - chart.backend_coord(&(-(left - 0.01) * most, 0.0)).0,
     );
-    let longest = rows
-        .iter()
-        .map(|(label, s, _, note)| {
-            label.chars().count() + s.chars().count() + note.chars().count() + 3
-        })
-        .max()
-        .unwrap_or(1) as f64;
     let font_px = (0.45 * row_px)
         .min(room / (0.45 * longest))
         .clamp(11.0, 15.0);
     let text_top = 0.5 + 0.5 * font_px / row_px.max(1.0);
-    for (i, (label, s, counts, note)) in rows.iter().enumerate() {
+    for (i, (label, s, counts)) in rows.iter().enumerate() {
         let y = n - i as f64 - 1.0;
         chart
             .draw_series(std::iter::once(Rectangle::new(
@@ -1022,7 +997,7 @@ fn draw_sweep<DB: DrawingBackend>(
         if i % every == 0 {
             chart
                 .draw_series(std::iter::once(Text::new(
-                    format!("{label} [{s}]{note}"),
+                    label.clone(),
                     (-(left - 0.01) * most, y + text_top),
                     ("sans-serif", font_px).into_font(),
                 )))
@@ -1044,7 +1019,7 @@ fn draw_sweep<DB: DrawingBackend>(
     // The key: the classes and the flash kinds that occur, in the order
     // the rows show them.
     let mut classes: Vec<&str> = Vec::new();
-    for (_, s, _, _) in rows {
+    for (_, s, _) in rows {
         if !classes.contains(&s.as_str()) {
             classes.push(s);
         }

@@ -73,20 +73,17 @@ pub struct Outcome {
     /// With `sweep.error_estimate`: the structure class at the largest
     /// separation of the member at half its step and at half its spacing
     /// (empty otherwise, and in outcomes written before it was kept), and
-    /// the number of flashes of all kinds there (NaN otherwise). A class
-    /// or a flash count that changes with the numerics is an artefact of
-    /// them, not a result.
+    /// its flashes by kind there (NaN otherwise). A class or a flash count
+    /// that changes with the numerics is an artefact of them, not a
+    /// result.
     #[serde(default)]
     pub structure_refined: [String; 2],
     /// The same for the class of the flashing stage (empty without
     /// flashes, as `structure_while_flashing`).
     #[serde(default)]
     pub structure_while_flashing_refined: [String; 2],
-    #[serde(default = "no_pair", deserialize_with = "nan::two")]
-    pub flashes_refined: [f64; 2],
-    /// The ground flashes (negative and positive) among them.
-    #[serde(default = "no_pair", deserialize_with = "nan::two")]
-    pub ground_flashes_refined: [f64; 2],
+    #[serde(default = "no_counts", deserialize_with = "nan::two_by_three")]
+    pub flash_counts_refined: [[f64; 3]; 2],
     /// Largest charge (C, magnitude) on a 2.5 mm drop and a 2.5 mm graupel
     /// particle over the run, the charge shared over the size distribution
     /// in proportion to surface area (the run summary's diagnostic).
@@ -133,6 +130,10 @@ fn no_estimate() -> [[f64; 2]; 2] {
     [[f64::NAN; 2]; 2]
 }
 
+fn no_counts() -> [[f64; 3]; 2] {
+    [[f64::NAN; 3]; 2]
+}
+
 /// JSON has no NaN: serde_json writes it as null, and these read null back
 /// as NaN, so an outcome without flashes survives the round trip.
 mod nan {
@@ -152,6 +153,10 @@ mod nan {
 
     pub fn two_by_two<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 2]; 2], D::Error> {
         Ok(<[[Option<f64>; 2]; 2]>::deserialize(d)?.map(|r| r.map(|x| x.unwrap_or(f64::NAN))))
+    }
+
+    pub fn two_by_three<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 3]; 2], D::Error> {
+        Ok(<[[Option<f64>; 3]; 2]>::deserialize(d)?.map(|r| r.map(|x| x.unwrap_or(f64::NAN))))
     }
 
     pub fn three_by_three<'de, D: Deserializer<'de>>(d: D) -> Result<[[f64; 3]; 3], D::Error> {
@@ -417,8 +422,7 @@ fn failed_outcome(member: Member) -> Outcome {
         error_estimate: no_estimate(),
         structure_refined: Default::default(),
         structure_while_flashing_refined: Default::default(),
-        flashes_refined: no_pair(),
-        ground_flashes_refined: no_pair(),
+        flash_counts_refined: no_counts(),
         charge_2p5mm: no_pair(),
         channels_at_model_top: f64::NAN,
         structure_while_flashing: String::new(),
@@ -522,8 +526,7 @@ pub fn run_member(
             for (i, r) in watch.refined.iter().enumerate() {
                 if let Some(r) = r {
                     out.structure_refined[i] = r.class.name().into();
-                    out.flashes_refined[i] = r.flashes.iter().sum::<u64>() as f64;
-                    out.ground_flashes_refined[i] = (r.flashes[1] + r.flashes[2]) as f64;
+                    out.flash_counts_refined[i] = r.flashes.map(|n| n as f64);
                     out.structure_while_flashing_refined[i] =
                         r.flashing.map_or(String::new(), |c| c.name().into());
                 }
@@ -876,14 +879,14 @@ pub fn outcome_columns() -> Vec<OutcomeColumn> {
             &format!("flashes_at_{refinement}"),
             &format!("flashes of all kinds of the member at {what} (sweep.error_estimate)"),
             "1",
-            move |o| N(o.flashes_refined[i]),
+            move |o| N(o.flash_counts_refined[i].iter().sum()),
         ));
         v.push(col(
             &format!("ground_flashes_at_{refinement}"),
             &format!("ground_flashes_at_{refinement}"),
             &format!("negative and positive ground flashes of the member at {what} (sweep.error_estimate)"),
             "1",
-            move |o| N(o.ground_flashes_refined[i]),
+            move |o| N(o.flash_counts_refined[i][1] + o.flash_counts_refined[i][2]),
         ));
     }
     for (i, which) in ["min", "median", "max"].into_iter().enumerate() {
