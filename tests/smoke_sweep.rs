@@ -749,43 +749,32 @@ values = [100.0, 100.0, 50.0, 50.0]
     let (h_est, est) = table("estimate");
     let (h_half, half) = table("estimate_halved");
     let col = |h: &[String], name: &str| h.iter().position(|x| x == name).unwrap();
-    let total = |h: &[String], r: &[String]| -> f64 {
-        [
-            "flashes_intracloud",
-            "flashes_negative_ground",
-            "flashes_positive_ground",
-        ]
-        .iter()
-        .map(|k| r[col(h, k)].parse::<f64>().unwrap())
-        .sum()
+    let kinds = [
+        "flashes_intracloud",
+        "flashes_negative_ground",
+        "flashes_positive_ground",
+    ];
+    let sum = |h: &[String], r: &[String], names: &[&str]| -> f64 {
+        names
+            .iter()
+            .map(|k| r[col(h, k)].parse::<f64>().unwrap())
+            .sum()
     };
     for (i, row) in est.iter().enumerate() {
         for (j, suffix) in ["half_step", "half_spacing"].into_iter().enumerate() {
             let other = &half[2 * j + i];
-            assert_eq!(
-                row[col(&h_est, &format!("structure_at_{suffix}"))],
-                other[col(&h_half, "structure_at_peak_separation")],
-                "member {} at {suffix}",
-                i + 1
-            );
-            let n: f64 = row[col(&h_est, &format!("flashes_at_{suffix}"))]
-                .parse()
-                .unwrap();
-            assert_eq!(n, total(&h_half, other), "member {} at {suffix}", i + 1);
-            assert_eq!(
-                row[col(&h_est, &format!("structure_while_flashing_at_{suffix}"))],
-                other[col(&h_half, "structure_while_flashing")],
-                "member {} at {suffix}",
-                i + 1
-            );
-            let ground: f64 = row[col(&h_est, &format!("ground_flashes_at_{suffix}"))]
-                .parse()
-                .unwrap();
-            let own_ground: f64 = ["flashes_negative_ground", "flashes_positive_ground"]
-                .iter()
-                .map(|k| other[col(&h_half, k)].parse::<f64>().unwrap())
-                .sum();
-            assert_eq!(ground, own_ground, "member {} at {suffix}", i + 1);
+            let at = |name: &str| &row[col(&h_est, &format!("{name}_at_{suffix}"))];
+            let which = format!("member {} at {suffix}", i + 1);
+            for (name, own) in [
+                ("structure", "structure_at_peak_separation"),
+                ("structure_while_flashing", "structure_while_flashing"),
+            ] {
+                assert_eq!(at(name), &other[col(&h_half, own)], "{name}, {which}");
+            }
+            for (name, counted) in [("flashes", &kinds[..]), ("ground_flashes", &kinds[1..])] {
+                let n: f64 = at(name).parse().unwrap();
+                assert_eq!(n, sum(&h_half, other, counted), "{name}, {which}");
+            }
         }
     }
     // `analyze` reports the check over both members.
