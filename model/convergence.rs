@@ -150,6 +150,12 @@ pub struct ProfileRow {
     pub differences: Vec<f64>,
     /// log2 of the ratio of the last two differences.
     pub order: f64,
+    /// log2 of the ratio of each pair of successive differences, coarse to
+    /// fine (NaN where a difference is zero or they grow): with more than
+    /// three levels, how the order moves from halving to halving. A
+    /// first-order scheme scatters about 1 where the model's equations are
+    /// not smooth (docs/numerics.md, "Six levels instead of three").
+    pub orders: Vec<f64>,
     /// d_0 / (1 - 2^-p): the configured level's error when the differences
     /// are in the asymptotic range.
     pub error_of_configured: f64,
@@ -711,6 +717,16 @@ fn profile_row(
         differences.push(if den > 0.0 { num / den } else { 0.0 });
     }
     let n = differences.len();
+    let orders = differences
+        .windows(2)
+        .map(|d| {
+            if d[1] > 0.0 && d[0] > 0.0 {
+                (d[0] / d[1]).log2()
+            } else {
+                f64::NAN
+            }
+        })
+        .collect();
     let order = if differences.iter().all(|&d| d < 1e-12) {
         f64::INFINITY // identical to rounding at every level
     } else if n >= 2 && differences[n - 1] > 0.0 {
@@ -729,6 +745,7 @@ fn profile_row(
         name: name.into(),
         differences,
         order,
+        orders,
         error_of_configured,
     }
 }
@@ -1062,6 +1079,21 @@ impl Report {
                 };
                 out.push_str(&format!(" {:>8} {:>12} {:>10}\n", num(p.order), "", err));
             }
+            if self.levels > 3 {
+                // Each halving's own order, from differences k and k + 1,
+                // under level k + 1 (the level they share): how far the
+                // order scatters.
+                out.push_str(
+                    "profiles: order of each halving, log2 of successive differences' ratio\n",
+                );
+                for p in &s.profiles {
+                    out.push_str(&format!("{:<w$} {:<8} {:>12}", p.name, "1", ""));
+                    for o in &p.orders {
+                        out.push_str(&format!(" {:>12}", num(*o)));
+                    }
+                    out.push('\n');
+                }
+            }
             out.push_str(
                 "structure classes: a class that changes between levels is the numerics', not the storm's\n",
             );
@@ -1109,6 +1141,17 @@ impl Report {
                     out.push_str(&format!(
                         "{r},{} L1 difference,1,{i},{},{},{d},{},,{}\n",
                         p.name, s.steps[i], s.spacings[i], p.order, p.error_of_configured
+                    ));
+                }
+                // The order from differences k and k + 1 at level k + 1,
+                // the level they share.
+                for (k, o) in p.orders.iter().enumerate() {
+                    out.push_str(&format!(
+                        "{r},{} order of halving,1,{},{},{},{o},,,\n",
+                        p.name,
+                        k + 1,
+                        s.steps[k + 1],
+                        s.spacings[k + 1]
                     ));
                 }
             }

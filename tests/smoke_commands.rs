@@ -640,6 +640,8 @@ fn converge_command_writes_its_tables() {
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("refinement of the time step"));
     assert!(text.contains("refinement of the grid spacing"));
+    // Three levels give one order per row, printed in the row itself.
+    assert!(!text.contains("order of each halving"));
     // Every row's unit starts in the header's unit column, so the numbers
     // stand under their levels (common practice for text tables; the
     // longest names once pushed their rows right).
@@ -725,6 +727,71 @@ fn converge_refines_one_resolution_on_request() {
         .unwrap();
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--refine"));
+}
+
+#[test]
+fn converge_gives_the_order_of_each_halving_beyond_three_levels() {
+    // With more than three levels each halving has its own observed order,
+    // log2 of the ratio of successive differences (the observed order of a
+    // refinement study, Roache 1998, Verification and Validation in
+    // Computational Science and Engineering, ch. 5; from memory): the last
+    // one is the order the row reports, and the text shows them all.
+    let json = scratch("converge_halvings.json");
+    let csv = scratch("converge_halvings.csv");
+    let o = succeed(
+        bin()
+            .arg("converge")
+            .arg(repo("configs/teaching_tripole.toml"))
+            .args(["--set", "time.duration=240", "--refine", "time"])
+            .args(["--levels", "4", "--threads", "2", "--json"])
+            .arg(&json)
+            .arg("--csv")
+            .arg(&csv),
+    );
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("profiles: order of each halving"), "{text}");
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let profiles = v["series"][0]["profiles"].as_array().unwrap();
+    assert!(!profiles.is_empty());
+    for p in profiles {
+        let d: Vec<f64> = p["differences"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_f64().unwrap())
+            .collect();
+        let orders: Vec<f64> = p["orders"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_f64().unwrap_or(f64::NAN))
+            .collect();
+        assert_eq!(d.len(), 3, "{p}");
+        assert_eq!(orders.len(), 2, "{p}");
+        for k in 0..2 {
+            let expected = (d[k] / d[k + 1]).log2();
+            if d[k] > 0.0 && d[k + 1] > 0.0 {
+                assert!((orders[k] - expected).abs() <= 1e-12 * expected.abs().max(1.0));
+            } else {
+                assert!(orders[k].is_nan(), "{p}");
+            }
+        }
+        if let Some(order) = p["order"].as_f64() {
+            if d[2] > 0.0 && d.iter().any(|&x| x >= 1e-12) {
+                assert!(
+                    (orders[1] - order).abs() <= 1e-12 * order.abs().max(1.0),
+                    "{p}"
+                );
+            }
+        }
+    }
+    let rows = std::fs::read_to_string(&csv).unwrap();
+    let halvings = rows
+        .lines()
+        .filter(|l| l.starts_with("time,charge density order of halving,1,"))
+        .count();
+    assert_eq!(halvings, 2, "{rows}");
 }
 
 #[test]
