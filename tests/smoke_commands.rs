@@ -963,3 +963,86 @@ fn a_run_writes_only_the_variables_it_names_with_the_same_values() {
         "{err}"
     );
 }
+
+/// The commands a page shows: lines of its ```sh blocks and inline code
+/// spans that start with `stormcharge ` (or `cargo run --release -- `),
+/// as (subcommand, options), with the page and line for messages.
+fn commands_shown(page: &std::path::Path) -> Vec<(String, Vec<String>, String)> {
+    let text = std::fs::read_to_string(page).unwrap();
+    let mut shown = Vec::new();
+    let mut in_sh = false;
+    for (n, line) in text.lines().enumerate() {
+        let at = format!("{}:{}", page.display(), n + 1);
+        if line.starts_with("```") {
+            in_sh = !in_sh && line.trim() == "```sh";
+            continue;
+        }
+        let mut candidates: Vec<&str> = Vec::new();
+        if in_sh {
+            candidates.push(line.trim());
+        } else {
+            // Inline code spans: every other piece between backticks.
+            candidates.extend(line.split('`').skip(1).step_by(2));
+        }
+        for c in candidates {
+            let rest = c
+                .strip_prefix("stormcharge ")
+                .or_else(|| c.strip_prefix("cargo run --release -- "));
+            let Some(rest) = rest else { continue };
+            // A shell comment ends the command.
+            let rest = rest.split(" #").next().unwrap();
+            let mut words = rest.split_whitespace();
+            let Some(sub) = words.next() else { continue };
+            let options = words
+                .filter(|w| w.starts_with("--") && w.len() > 2)
+                .map(|w| w.split('=').next().unwrap().to_string())
+                .collect();
+            shown.push((sub.to_string(), options, at.clone()));
+        }
+    }
+    shown
+}
+
+#[test]
+fn commands_shown_in_the_documentation_exist() {
+    // Every subcommand and option a page shows in a command is one the
+    // program has (its own `--help`; common practice: examples that run).
+    let mut pages = vec![
+        repo("README.md"),
+        repo("DEVELOPERS.md"),
+        repo("tools/README.md"),
+    ];
+    let mut docs: Vec<_> = std::fs::read_dir(repo("docs"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "md"))
+        .collect();
+    docs.sort();
+    pages.extend(docs);
+    let mut helps = std::collections::HashMap::new();
+    let mut problems = Vec::new();
+    let mut seen = 0;
+    for page in &pages {
+        for (sub, options, at) in commands_shown(page) {
+            seen += 1;
+            let help = helps.entry(sub.clone()).or_insert_with(|| {
+                let o = bin().args([sub.as_str(), "--help"]).output().unwrap();
+                o.status
+                    .success()
+                    .then(|| String::from_utf8_lossy(&o.stdout).into_owned())
+            });
+            match help {
+                None => problems.push(format!("{at}: no subcommand {sub:?}")),
+                Some(h) => {
+                    for opt in options {
+                        if !h.contains(&format!("{opt} ")) && !h.contains(&format!("{opt}\n")) {
+                            problems.push(format!("{at}: `{sub}` has no {opt}"));
+                        }
+                    }
+                }
+            }
+        }
+    }
+    assert!(seen >= 50, "only {seen} commands found");
+    assert!(problems.is_empty(), "{}", problems.join("\n"));
+}

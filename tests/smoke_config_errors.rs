@@ -635,3 +635,50 @@ fn a_report_into_a_missing_directory_is_refused_before_any_work() {
     assert_eq!(o.status.code(), Some(1), "{err}");
     assert!(err.contains("a directory of that name exists"), "{err}");
 }
+
+#[test]
+fn configuration_examples_in_the_documentation_are_valid() {
+    // Every ```toml block of README.md and docs/*.md is a configuration a
+    // reader may copy: `check` must accept it (common practice: examples
+    // that run). A block that names a file of the reader's own (a table of
+    // laboratory data) may fail on that file only. The README's example
+    // once kept a key that had moved (`electrostatics.column_radius`).
+    let mut pages = vec![repo("README.md"), repo("DEVELOPERS.md")];
+    let mut docs: Vec<PathBuf> = std::fs::read_dir(repo("docs"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "md"))
+        .collect();
+    docs.sort();
+    pages.extend(docs);
+    let mut checked = 0;
+    for page in pages {
+        let text = std::fs::read_to_string(&page).unwrap();
+        let mut rest = text.as_str();
+        while let Some(start) = rest.find("```toml\n") {
+            let body = &rest[start + 8..];
+            let end = body.find("```").unwrap();
+            let block = &body[..end];
+            rest = &body[end + 3..];
+            checked += 1;
+            let file = write(&format!("doc_example_{checked}.toml"), block);
+            let o = bin().arg("check").arg(&file).output().unwrap();
+            let err = stderr(&o);
+            assert!(
+                !err.contains("panicked"),
+                "{}: panic: {err}",
+                page.display()
+            );
+            if block.contains("table_file") {
+                assert!(
+                    o.status.success() || (err.contains("1 problem") && err.contains("table_file")),
+                    "{}: {err}",
+                    page.display()
+                );
+            } else {
+                assert!(o.status.success(), "{}:\n{block}\n{err}", page.display());
+            }
+        }
+    }
+    assert!(checked >= 2, "found {checked} examples");
+}
