@@ -682,3 +682,74 @@ fn configuration_examples_in_the_documentation_are_valid() {
     }
     assert!(checked >= 2, "found {checked} examples");
 }
+
+#[test]
+fn keys_named_in_the_documentation_exist() {
+    // Every `section.key` the pages, the shipped configurations and the
+    // code's comments name in a code span is a key of the reference
+    // `init --reference` prints (or a group of keys, such as
+    // `atmosphere.analytic`); a key that moved must not live on in the
+    // prose (common practice: documentation that matches the program).
+    let o = bin().args(["init", "--reference"]).output().unwrap();
+    assert!(o.status.success());
+    let reference = String::from_utf8_lossy(&o.stdout).into_owned();
+    let mut keys = std::collections::HashSet::new();
+    let mut section = String::new();
+    for line in reference.lines() {
+        let heading = line
+            .strip_prefix("### `[")
+            .or_else(|| line.strip_prefix("Keys of each `[["));
+        if let Some(h) = heading {
+            section = h.split(']').next().unwrap().to_string();
+        } else if let Some(row) = line.strip_prefix("| `") {
+            let key = row.split('`').next().unwrap();
+            keys.insert(format!("{section}.{key}"));
+        }
+    }
+    let sections: std::collections::HashSet<String> = keys
+        .iter()
+        .map(|k| k.split('.').next().unwrap().to_string())
+        .collect();
+    assert!(keys.len() > 100 && sections.len() > 10, "{keys:?}");
+    let mut files = vec![repo("README.md"), repo("DEVELOPERS.md")];
+    let mut dirs = vec![repo("docs"), repo("configs"), repo("model")];
+    while let Some(dir) = dirs.pop() {
+        for e in std::fs::read_dir(dir).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                dirs.push(p);
+            } else if p
+                .extension()
+                .is_some_and(|x| x == "md" || x == "toml" || x == "rs")
+            {
+                files.push(p);
+            }
+        }
+    }
+    let mut stale = Vec::new();
+    for f in &files {
+        let text = std::fs::read_to_string(f).unwrap();
+        for (n, line) in text.lines().enumerate() {
+            for span in line.split('`').skip(1).step_by(2) {
+                let span = span.trim().trim_start_matches("--set ").trim();
+                let name = span.split('=').next().unwrap().trim();
+                let is_path = name.contains('.')
+                    && name
+                        .chars()
+                        .all(|c| c.is_ascii_lowercase() || c == '_' || c == '.');
+                if !is_path || !sections.contains(name.split('.').next().unwrap()) {
+                    continue;
+                }
+                let group = format!("{name}.");
+                if !keys.contains(name) && !keys.iter().any(|k| k.starts_with(&group)) {
+                    stale.push(format!("{}:{}: {name}", f.display(), n + 1));
+                }
+            }
+        }
+    }
+    assert!(
+        stale.is_empty(),
+        "keys that do not exist:\n{}",
+        stale.join("\n")
+    );
+}
