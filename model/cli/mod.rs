@@ -593,6 +593,11 @@ fn cmd_run(
             }
             let area = exp.field_solver.column_area();
             match area {
+                // Without a ground flash there is nothing to count in C m-2
+                // ("0.0000e0 C m-2" read as a measurement).
+                _ if ng + pg == 0 => {
+                    println!("  charge lowered to ground: none (no ground flash)")
+                }
                 Some(a) => println!(
                     "  charge lowered to ground: {:.4e} C m-2 ({:.2} C in the column)",
                     summary.ground_charge,
