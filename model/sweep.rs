@@ -242,9 +242,19 @@ pub fn members(config: &Config, origin: &str) -> Result<(Vec<String>, Vec<Member
         SweepCombine::Zip => {
             let n = lists[0].len();
             if let Some(i) = lists.iter().position(|l| l.len() != n) {
-                return Err(err(
-                    format!("sweep.parameters[{}].values", i + 1),
-                    format!("zip needs lists of equal length ({n})"),
+                let values = |k: usize| if k == 1 { "value" } else { "values" };
+                let m = lists[i].len();
+                return Err(ConfigError::single(
+                    origin,
+                    ConfigIssue::new(
+                        format!("sweep.parameters[{}].values", i + 1),
+                        "sweep.combine = \"zip\" pairs the lists value by value",
+                    )
+                    .value(format!("a list of {m} {}", values(m)))
+                    .allowed(format!(
+                        "a list of {n} {}, as long as sweep.parameters[1].values",
+                        values(n)
+                    )),
                 ));
             }
             (0..n)

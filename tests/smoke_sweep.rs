@@ -231,7 +231,56 @@ values = [9.0]
         err.contains("already swept by sweep.parameters[1]"),
         "{err}"
     );
+    // The line of the second block's key (errors name the file line:
+    // the project's rule for configuration errors).
+    let text = std::fs::read_to_string(&cfg).unwrap();
+    let line = text
+        .lines()
+        .enumerate()
+        .filter(|(_, l)| l.trim() == "key = \"updraft.peak_speed\"")
+        .nth(1)
+        .unwrap()
+        .0
+        + 1;
+    assert!(err.contains(&format!("(line {line})")), "{err}");
     assert!(!scratch("twice").exists());
+}
+
+#[test]
+fn zipped_lists_of_different_lengths_are_refused_with_their_line() {
+    // combine = "zip" pairs the lists value by value: a shorter list is a
+    // usage error naming its key, its length, the length it needs and its
+    // line, exit 2, before anything runs.
+    let cfg = config_with_sweep(
+        r#"
+[sweep]
+combine = "zip"
+[[sweep.parameters]]
+key = "updraft.peak_speed"
+values = [8.0, 9.0]
+[[sweep.parameters]]
+key = "column.radius"
+values = [2000.0]
+"#,
+    );
+    let o = sweep(&cfg, "zip_lengths", &[]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    let text = std::fs::read_to_string(&cfg).unwrap();
+    let line = text
+        .lines()
+        .position(|l| l.trim() == "values = [2000.0]")
+        .unwrap()
+        + 1;
+    for part in [
+        "sweep.parameters[2].values",
+        "a list of 1 value",
+        "a list of 2 values",
+        &format!("(line {line})"),
+    ] {
+        assert!(err.contains(part), "missing {part:?} in {err}");
+    }
+    assert!(!scratch("zip_lengths").exists());
 }
 
 #[test]

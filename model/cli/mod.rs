@@ -1003,7 +1003,14 @@ fn cmd_sweep(
     }
     let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse_config_text(&text, &origin, &[])?;
-    let (keys, members) = crate::sweep::members(&resolved, &origin)?;
+    // The expansion's errors name keys of the text; give them their lines.
+    let (keys, members) = crate::sweep::members(&resolved, &origin).map_err(|mut e| {
+        for issue in e.issues.iter_mut().filter(|i| i.line.is_none()) {
+            let (file, line) = crate::setup::config::load::locate_key(&text, &issue.key, set);
+            (issue.file, issue.line) = (file, line);
+        }
+        e
+    })?;
     // The members' own base: the value lists, read once above, are not read
     // again for every member (a member empties them anyway).
     let text = text.without_sweep_values();
