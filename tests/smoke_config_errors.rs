@@ -753,3 +753,58 @@ fn keys_named_in_the_documentation_exist() {
         stale.join("\n")
     );
 }
+
+#[test]
+fn problems_found_while_setting_up_carry_their_line() {
+    // Checks made after the file is read (a sounding's rows, a layer's
+    // missing key, a table of points, the base file of an `include`) name
+    // the line that sets the key, or the line of the block that lacks it
+    // (the project's rule: errors name key, value, range and file line).
+    let cases: [(&str, &str, &[&str]); 4] = [
+        (
+            "setup_rows.toml",
+            "[atmosphere]\nprofile = \"sounding\"\n[atmosphere.sounding]\n\
+             columns = [\"height\", \"temperature\", \"dew_point\"]\n\
+             rows = [[0.0, 30.0], [1000.0, 20.0, 10.0]]\n",
+            &["atmosphere.sounding.rows", "expected 3", "(line 5)"],
+        ),
+        (
+            "setup_layer.toml",
+            "[grid]\ntop = 12000.0\n\n[[prescribed_charge.layers]]\nshape = \"gaussian\"\n\
+             center = 5000.0\ndensity = 1.0\n",
+            &["prescribed_charge.layers[1].thickness", "(line 4)"],
+        ),
+        (
+            "setup_points.toml",
+            "[updraft]\nshape = \"table\"\n\
+             profile_points = [[0.0, 0.0], [5000.0, 2.0], [3000.0, 1.0]]\n",
+            &["updraft.profile_points", "row 3", "(line 3)"],
+        ),
+        (
+            "setup_include.toml",
+            "# a base that is not there\n\ninclude = \"no_such_base.toml\"\n",
+            &["include", "no_such_base.toml", "(line 3)"],
+        ),
+    ];
+    for (name, text, expected) in cases {
+        let p = write(name, text);
+        let o = bin().args(["check"]).arg(&p).output().unwrap();
+        assert_config_error(&o, expected);
+    }
+    // A key given by --set has no line of the file.
+    let p = write(
+        "setup_set.toml",
+        "[updraft]\nshape = \"table\"\nprofile_points = [[0.0, 0.0], [5000.0, 2.0]]\n",
+    );
+    let o = bin()
+        .args([
+            "check",
+            "--set",
+            "updraft.profile_points=[[0.0, 0.0], [0.0, 1.0]]",
+        ])
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert_config_error(&o, &["updraft.profile_points"]);
+    assert!(!stderr(&o).contains("(line"), "{}", stderr(&o));
+}

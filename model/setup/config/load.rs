@@ -838,7 +838,14 @@ fn merge_includes(
     let Some(include) = table.remove("include") else {
         return Ok(alone());
     };
-    let issue = |msg: String| ConfigError::single(&origin, ConfigIssue::new("include", msg));
+    // The line of `include` in this file (only wanted for a message).
+    let line = || {
+        toml_edit::ImDocument::parse(text)
+            .ok()
+            .and_then(|d| key_line(&d, text, "include"))
+    };
+    let issue =
+        |msg: String| ConfigError::single(&origin, ConfigIssue::new("include", msg).line(line()));
     let Value::String(name) = include else {
         return Err(issue(
             "expected the quoted path of a base configuration".into(),
