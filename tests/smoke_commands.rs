@@ -1046,3 +1046,55 @@ fn commands_shown_in_the_documentation_exist() {
     assert!(seen >= 50, "only {seen} commands found");
     assert!(problems.is_empty(), "{}", problems.join("\n"));
 }
+
+#[test]
+fn run_and_converge_say_when_they_take_an_ensemble_as_its_base_storm() {
+    // An ensemble's file given to `run` or `converge` runs its base
+    // configuration only; a note on stderr says so and names the members
+    // the sweep would run (common practice: say what was not done). Not
+    // for a configuration without a sweep, nor under --quiet.
+    let ensemble = repo("configs/tripole_ensemble.toml");
+    let out = scratch("ensemble_base.nc");
+    let short = ["--set", "time.duration=60"];
+    let o = succeed(
+        bin()
+            .arg("run")
+            .arg(&ensemble)
+            .args(short)
+            .arg("-o")
+            .arg(&out),
+    );
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("has a [sweep] of 25 members"), "{err}");
+    assert!(err.contains("`run` runs its base configuration"), "{err}");
+    let o = succeed(
+        bin()
+            .arg("run")
+            .arg(&ensemble)
+            .args(short)
+            .arg("--quiet")
+            .arg("-o")
+            .arg(&out),
+    );
+    assert!(!String::from_utf8_lossy(&o.stderr).contains("[sweep]"));
+    let o = succeed(
+        bin()
+            .arg("run")
+            .arg(repo("configs/demo.toml"))
+            .args(short)
+            .arg("-o")
+            .arg(&out),
+    );
+    assert!(!String::from_utf8_lossy(&o.stderr).contains("[sweep]"));
+    let o = succeed(bin().arg("converge").arg(&ensemble).args(short).args([
+        "--refine",
+        "time",
+        "--threads",
+        "2",
+    ]));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("`converge` studies its base configuration"),
+        "{err}"
+    );
+}

@@ -376,6 +376,29 @@ fn read_config(path: &Path) -> Result<ConfigText, RunError> {
     crate::setup::config::load::resolve_include(&text, path, 0).map_err(RunError::Config)
 }
 
+/// The name a configuration's messages give it.
+fn origin_of(config: Option<&Path>) -> String {
+    config.map_or_else(
+        || "<embedded demo>".to_string(),
+        |p| p.display().to_string(),
+    )
+}
+
+/// Says on stderr that a configuration with a `[sweep]` is taken as its
+/// base storm (`what`: "`run` runs"): an ensemble's file given to `run` or
+/// `converge` does not run the ensemble, and nothing else would say so.
+fn note_sweep(config: &crate::setup::config::Config, origin: &str, what: &str) {
+    if config.sweep.parameters.is_empty() {
+        return;
+    }
+    let members = crate::sweep::members(config, origin)
+        .map(|(_, m)| format!(" of {} members", m.len()))
+        .unwrap_or_default();
+    eprintln!(
+        "stormcharge: note: {origin} has a [sweep]{members}; {what} its base configuration, without the swept values (`stormcharge sweep` runs the members)"
+    );
+}
+
 fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
     let (text, origin, dir) = match config {
         Some(path) => (
@@ -449,6 +472,9 @@ fn cmd_run(
         }
         None => {
             let exp = load(config.as_deref(), set)?;
+            if !quiet {
+                note_sweep(&exp.config, &origin_of(config.as_deref()), "`run` runs");
+            }
             let out = PathBuf::from(&exp.config.output.file);
             (exp, out)
         }
@@ -707,6 +733,9 @@ fn cmd_converge(
         Refine::Space => &[Refinement::Space],
         Refine::Both => &Refinement::BOTH,
     };
+    if let Ok(c) = crate::setup::config::parse_config_text(&text, &origin, set) {
+        note_sweep(&c, &origin, "`converge` studies");
+    }
     let report = crate::convergence::study(&text, &origin, &dir, set, levels, threads, which)?;
     print!("{}", report.text());
     let write = |path: &Path, body: String| crate::output::write_atomically(path, body.as_bytes());
