@@ -1007,18 +1007,7 @@ fn commands_shown(page: &std::path::Path) -> Vec<(String, Vec<String>, String)> 
 fn commands_shown_in_the_documentation_exist() {
     // Every subcommand and option a page shows in a command is one the
     // program has (its own `--help`; common practice: examples that run).
-    let mut pages = vec![
-        repo("README.md"),
-        repo("DEVELOPERS.md"),
-        repo("tools/README.md"),
-    ];
-    let mut docs: Vec<_> = std::fs::read_dir(repo("docs"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|x| x == "md"))
-        .collect();
-    docs.sort();
-    pages.extend(docs);
+    let pages = documentation_pages();
     let mut helps = std::collections::HashMap::new();
     let mut problems = Vec::new();
     let mut seen = 0;

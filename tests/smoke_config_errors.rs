@@ -643,14 +643,7 @@ fn configuration_examples_in_the_documentation_are_valid() {
     // that run). A block that names a file of the reader's own (a table of
     // laboratory data) may fail on that file only. The README's example
     // once kept a key that had moved (`electrostatics.column_radius`).
-    let mut pages = vec![repo("README.md"), repo("DEVELOPERS.md")];
-    let mut docs: Vec<PathBuf> = std::fs::read_dir(repo("docs"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|x| x == "md"))
-        .collect();
-    docs.sort();
-    pages.extend(docs);
+    let pages = documentation_pages();
     let mut checked = 0;
     for page in pages {
         let text = std::fs::read_to_string(&page).unwrap();
@@ -711,8 +704,8 @@ fn keys_named_in_the_documentation_exist() {
         .map(|k| k.split('.').next().unwrap().to_string())
         .collect();
     assert!(keys.len() > 100 && sections.len() > 10, "{keys:?}");
-    let mut files = vec![repo("README.md"), repo("DEVELOPERS.md")];
-    let mut dirs = vec![repo("docs"), repo("configs"), repo("model")];
+    let mut files = documentation_pages();
+    let mut dirs = vec![repo("configs"), repo("model")];
     while let Some(dir) = dirs.pop() {
         for e in std::fs::read_dir(dir).unwrap() {
             let p = e.unwrap().path();

@@ -51,6 +51,24 @@ pub fn repo(rel: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
 }
 
+/// The pages a reader follows: README.md, DEVELOPERS.md, tools/README.md
+/// and docs/*.md (in name order).
+pub fn documentation_pages() -> Vec<PathBuf> {
+    let mut pages = vec![
+        repo("README.md"),
+        repo("DEVELOPERS.md"),
+        repo("tools/README.md"),
+    ];
+    let mut docs: Vec<PathBuf> = std::fs::read_dir(repo("docs"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|x| x == "md"))
+        .collect();
+    docs.sort();
+    pages.extend(docs);
+    pages
+}
+
 /// Relative difference |a - b| / |b|.
 pub fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs()
