@@ -3,9 +3,10 @@
 convergence targets of docs/numerics.md ("Targets not met") in one table.
 
 Usage:
-    tools/convergence_check.py [--binary PATH] [--levels N] [CONFIG ...]
+    tools/convergence_check.py [--binary PATH] [--levels N] [--set KEY=VALUE ...] [CONFIG ...]
 
-Without CONFIG every configs/*.toml is checked (a sweep configuration is
+`--set` passes overrides to every `converge` (a variant of a storm, say
+`--set updraft.peak_speed=14`). Without CONFIG every configs/*.toml is checked (a sweep configuration is
 checked through its base storm, as `converge` runs it). Needs only the
 Python standard library and a built binary (default: target/release/
 stormcharge, else `stormcharge` on the PATH). Prints a Markdown table and,
@@ -60,11 +61,12 @@ def binary(given):
     sys.exit("no stormcharge binary: build it (cargo build --release) or give --binary")
 
 
-def converge(exe, config, levels):
+def converge(exe, config, levels, overrides):
     with tempfile.TemporaryDirectory() as tmp:
         out = pathlib.Path(tmp) / "report.json"
+        sets = [arg for o in overrides for arg in ("--set", o)]
         run = subprocess.run(
-            [exe, "converge", str(config), "--levels", str(levels), "--json", str(out)],
+            [exe, "converge", str(config), "--levels", str(levels), "--json", str(out)] + sets,
             capture_output=True,
             text=True,
         )
@@ -172,6 +174,7 @@ def main():
     ap.add_argument("configs", nargs="*")
     ap.add_argument("--binary")
     ap.add_argument("--levels", type=int, default=3)
+    ap.add_argument("--set", action="append", default=[], metavar="KEY=VALUE")
     args = ap.parse_args()
     exe = binary(args.binary)
     configs = [pathlib.Path(c) for c in args.configs] or sorted((root / "configs").glob("*.toml"))
@@ -184,7 +187,7 @@ def main():
     print("|" + "---|" * 11)
     notes = []
     for c in configs:
-        report, err = converge(exe, c, args.levels)
+        report, err = converge(exe, c, args.levels, args.set)
         if report is None:
             print(f"| {c.stem} | converge failed: {err.splitlines()[-1] if err else '?'} |")
             notes.append((c.stem, ["converge failed"]))
