@@ -716,8 +716,7 @@ fn profile_row(
         }
         differences.push(if den > 0.0 { num / den } else { 0.0 });
     }
-    let n = differences.len();
-    let orders = differences
+    let orders: Vec<f64> = differences
         .windows(2)
         .map(|d| {
             if d[1] > 0.0 && d[0] > 0.0 {
@@ -729,10 +728,9 @@ fn profile_row(
         .collect();
     let order = if differences.iter().all(|&d| d < 1e-12) {
         f64::INFINITY // identical to rounding at every level
-    } else if n >= 2 && differences[n - 1] > 0.0 {
-        (differences[n - 2] / differences[n - 1]).log2()
     } else {
-        f64::NAN
+        // The finest halving's (NaN where a difference is zero).
+        orders.last().copied().unwrap_or(f64::NAN)
     };
     let error_of_configured = if order == f64::INFINITY {
         differences[0]

@@ -400,15 +400,11 @@ fn note_sweep(config: &crate::setup::config::Config, origin: &str, what: &str) {
 }
 
 fn load(config: Option<&Path>, set: &[String]) -> Result<Experiment, RunError> {
-    let (text, origin, dir) = match config {
-        Some(path) => (
-            read_config(path)?,
-            path.display().to_string(),
-            crate::output::directory_of(path),
-        ),
+    let origin = origin_of(config);
+    let (text, dir) = match config {
+        Some(path) => (read_config(path)?, crate::output::directory_of(path)),
         None => (
             crate::setup::config::ConfigText::plain(DEMO_TOML),
-            "<embedded demo>".to_string(),
             Path::new("."),
         ),
     };
@@ -711,17 +707,13 @@ fn cmd_converge(
                 .allowed("3 to 6 (three levels give an order; each more doubles the cost)"),
         )));
     }
-    let (text, origin, dir) = match config {
+    let origin = origin_of(config);
+    let (text, dir) = match config {
         Some(path) => (
             read_config(path)?,
-            path.display().to_string(),
             crate::output::directory_of(path).to_path_buf(),
         ),
-        None => (
-            ConfigText::plain(DEMO_TOML),
-            "<embedded demo>".to_string(),
-            PathBuf::from("."),
-        ),
+        None => (ConfigText::plain(DEMO_TOML), PathBuf::from(".")),
     };
     use crate::convergence::Refinement;
     // The study can take hours: the report's files must be writable first.
@@ -1033,13 +1025,8 @@ fn cmd_sweep(
     let base_dir = crate::output::directory_of(config);
     let resolved = crate::setup::config::parse_config_text(&text, &origin, &[])?;
     // The expansion's errors name keys of the text; give them their lines.
-    let (keys, members) = crate::sweep::members(&resolved, &origin).map_err(|mut e| {
-        for issue in e.issues.iter_mut().filter(|i| i.line.is_none()) {
-            let (file, line) = crate::setup::config::load::locate_key(&text, &issue.key, set);
-            (issue.file, issue.line) = (file, line);
-        }
-        e
-    })?;
+    let (keys, members) = crate::sweep::members(&resolved, &origin)
+        .map_err(|e| crate::setup::config::load::with_lines(e, &text, set))?;
     // The members' own base: the value lists, read once above, are not read
     // again for every member (a member empties them anyway).
     let text = text.without_sweep_values();

@@ -289,38 +289,8 @@ impl Experiment {
         base_dir: &Path,
     ) -> Result<Self, ConfigError> {
         let config = crate::setup::config::parse_config_text(source, origin, overrides)?;
-        Experiment::new(config, base_dir, origin).map_err(|e| with_lines(e, source, overrides))
+        // Set-up checks name keys; the text gives their lines.
+        Experiment::new(config, base_dir, origin)
+            .map_err(|e| crate::setup::config::load::with_lines(e, source, overrides))
     }
-}
-
-/// Gives the problems the set-up finds (after the configuration was read:
-/// a sounding's rows, a layer's missing key, a table of points) the line
-/// that sets their key, or, for a key no file sets, the line of the
-/// nearest enclosing key or block that one does (the block of a layer
-/// that lacks `thickness`). A key given by `--set` keeps no line.
-fn with_lines(
-    mut e: ConfigError,
-    source: &crate::setup::config::ConfigText,
-    overrides: &[String],
-) -> ConfigError {
-    let overridden = |path: &str| {
-        overrides
-            .iter()
-            .any(|o| o.split_once('=').map(|(p, _)| p.trim()) == Some(path))
-    };
-    for issue in e.issues.iter_mut().filter(|i| i.line.is_none()) {
-        let mut path = issue.key.as_str();
-        while !overridden(path) {
-            let (file, line) = crate::setup::config::load::locate_key(source, path, overrides);
-            if line.is_some() {
-                (issue.file, issue.line) = (file, line);
-                break;
-            }
-            match path.rfind('.') {
-                Some(i) => path = &path[..i],
-                None => break,
-            }
-        }
-    }
-    e
 }

@@ -752,6 +752,50 @@ pub fn locate_key(
     }
 }
 
+/// Gives the issues of `e` that have no line the line that sets their key
+/// ([`locate_key`]'s answer), or, for a key no file sets, the line of the
+/// nearest enclosing key or block that one does (the block of a layer that
+/// lacks `thickness`). A key given by `--set` keeps none. For checks made
+/// after the configuration has been read (the experiment's set-up, the
+/// sweep's expansion), which name keys but not lines; the text is parsed
+/// once for all of them.
+pub fn with_lines(mut e: ConfigError, source: &ConfigText, overrides: &[String]) -> ConfigError {
+    let set: Vec<String> = overrides
+        .iter()
+        .filter_map(|o| parse_override(o).ok())
+        .map(|(p, _)| p)
+        .collect();
+    let parsed = std::cell::OnceCell::new();
+    let lines = || {
+        parsed
+            .get_or_init(|| {
+                toml_edit::ImDocument::parse(source.text.as_str())
+                    .ok()
+                    .map(|doc| KeyLines::new(source, doc))
+            })
+            .as_ref()
+    };
+    for issue in e.issues.iter_mut().filter(|i| i.line.is_none()) {
+        let mut path = issue.key.as_str();
+        while !set.iter().any(|p| p == path) {
+            let Some(lines) = lines() else { break };
+            if let Some(l) = lines.in_own(path) {
+                issue.line = Some(l);
+                break;
+            }
+            if let Some((file, l)) = lines.in_bases(path) {
+                (issue.file, issue.line) = (Some(file.to_string()), Some(l));
+                break;
+            }
+            match path.rfind('.') {
+                Some(i) => path = &path[..i],
+                None => break,
+            }
+        }
+    }
+    e
+}
+
 /// Line of a key in the source, found through toml_edit's spans. Path parts
 /// may carry a 1-based element index, `layers[2]`, for lists of tables.
 fn key_line(doc: &toml_edit::ImDocument<&str>, text: &str, path: &str) -> Option<usize> {
